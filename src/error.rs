@@ -1,0 +1,75 @@
+//! The library's error type. Messages are one line, without a trailing full stop, and name the
+//! value at fault and what was expected.
+
+use std::path::PathBuf;
+
+pub type Result<T, E = Error> = std::result::Result<T, E>;
+
+#[derive(Debug, thiserror::Error)]
+#[non_exhaustive]
+pub enum Error {
+    /// The user asked for something that does not fit the register or the rules.
+    #[error("{0}")]
+    Invalid(String),
+
+    /// A named thing is not in the register.
+    #[error("{what} {name:?} not found{hint}")]
+    NotFound {
+        what: &'static str,
+        name: String,
+        hint: String,
+    },
+
+    /// The database was written by a newer ohmtrail; it is left untouched.
+    #[error(
+        "database {path} is at schema version {found}, newer than this ohmtrail understands (version {supported}); it has been left untouched: use a newer ohmtrail"
+    )]
+    NewerSchema {
+        path: PathBuf,
+        found: i64,
+        supported: i64,
+    },
+
+    #[error("database {path}: {source}")]
+    Database {
+        path: PathBuf,
+        #[source]
+        source: rusqlite::Error,
+    },
+
+    #[error(transparent)]
+    Sql(#[from] rusqlite::Error),
+
+    #[error("{path}: {source}")]
+    Io {
+        path: PathBuf,
+        #[source]
+        source: std::io::Error,
+    },
+}
+
+impl Error {
+    pub fn invalid(msg: impl Into<String>) -> Error {
+        Error::Invalid(msg.into())
+    }
+
+    pub fn not_found(what: &'static str, name: impl Into<String>) -> Error {
+        Error::NotFound {
+            what,
+            name: name.into(),
+            hint: String::new(),
+        }
+    }
+
+    pub fn not_found_hint(
+        what: &'static str,
+        name: impl Into<String>,
+        hint: impl Into<String>,
+    ) -> Error {
+        Error::NotFound {
+            what,
+            name: name.into(),
+            hint: format!(": {}", hint.into()),
+        }
+    }
+}

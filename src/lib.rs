@@ -1,0 +1,18 @@
+//! ohmtrail: the test history of rented homes' fixed wiring, visit after visit.
+//!
+//! The library holds the whole domain; the `ohmtrail` binary only parses arguments and prints.
+//!
+//! - [`model`]: the asset register and readings as plain values.
+//! - [`limits`]: published limits (BS 7671, IEC 60228) with their sources; pure.
+//! - [`trend`]: drift, steps and projections over a series of readings; pure.
+//! - [`store`]: the SQLite history; the only module that talks SQL.
+//! - [`import`]: visit files in, with exact errors.
+
+pub mod error;
+pub mod import;
+pub mod limits;
+pub mod model;
+pub mod store;
+pub mod trend;
+
+pub use error::{Error, Result};

@@ -1,0 +1,525 @@
+//! The asset register and the readings taken on each visit, as plain values.
+//!
+//! This module knows nothing about SQL, files or terminals. Names follow the trade where the
+//! trade has one (R1+R2, Zs, Ze, IR, RCD); our own names otherwise.
+
+pub mod device;
+
+use std::fmt;
+use std::str::FromStr;
+
+use chrono::NaiveDate;
+use serde::{Deserialize, Serialize};
+
+pub use device::{BreakerStandard, Curve, Device, DeviceError, FuseStandard};
+
+/// A landlord or managing agent.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Client {
+    pub id: i64,
+    pub name: String,
+}
+
+/// A rented home, known by the contractor's own reference.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Property {
+    pub id: i64,
+    #[serde(rename = "property_ref")]
+    pub reference: String,
+    pub address: Option<String>,
+    pub client: Option<String>,
+    pub interval_months: u32,
+    pub notes: Option<String>,
+}
+
+/// Default inspection interval for a private rented home in England: five years
+/// (The Electrical Safety Standards in the Private Rented Sector (England) Regulations 2020, reg. 3).
+pub const DEFAULT_INTERVAL_MONTHS: u32 = 60;
+
+/// Earthing arrangement of the supply at a board.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, Serialize, Deserialize)]
+pub enum Earthing {
+    #[serde(rename = "TN-S")]
+    TnS,
+    #[serde(rename = "TN-C-S")]
+    TnCS,
+    #[serde(rename = "TT")]
+    Tt,
+}
+
+impl Earthing {
+    pub fn as_str(self) -> &'static str {
+        match self {
+            Earthing::TnS => "TN-S",
+            Earthing::TnCS => "TN-C-S",
+            Earthing::Tt => "TT",
+        }
+    }
+}
+
+impl fmt::Display for Earthing {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.write_str(self.as_str())
+    }
+}
+
+impl FromStr for Earthing {
+    type Err = String;
+    fn from_str(s: &str) -> Result<Self, String> {
+        let t: String = s
+            .trim()
+            .to_ascii_uppercase()
+            .chars()
+            .filter(|c| !c.is_whitespace())
+            .collect();
+        match t.as_str() {
+            "TN-S" | "TNS" => Ok(Earthing::TnS),
+            "TN-C-S" | "TNCS" | "PME" => Ok(Earthing::TnCS),
+            "TT" => Ok(Earthing::Tt),
+            _ => Err(format!(
+                "unknown earthing arrangement {s:?}: expected TN-S, TN-C-S or TT"
+            )),
+        }
+    }
+}
+
+/// A distribution board or consumer unit.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Board {
+    pub id: i64,
+    pub property_id: i64,
+    pub designation: String,
+    pub location: Option<String>,
+    /// `None` when fed from the origin; otherwise the designation of the board feeding it.
+    pub fed_from: Option<String>,
+    pub earthing: Option<Earthing>,
+    pub status: Status,
+}
+
+/// Ring final or radial circuit.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum CircuitKind {
+    Ring,
+    Radial,
+}
+
+impl CircuitKind {
+    pub fn as_str(self) -> &'static str {
+        match self {
+            CircuitKind::Ring => "ring",
+            CircuitKind::Radial => "radial",
+        }
+    }
+}
+
+impl FromStr for CircuitKind {
+    type Err = String;
+    fn from_str(s: &str) -> Result<Self, String> {
+        match s.trim().to_ascii_lowercase().as_str() {
+            "ring" | "yes" | "y" | "true" => Ok(CircuitKind::Ring),
+            "radial" | "no" | "n" | "false" => Ok(CircuitKind::Radial),
+            _ => Err(format!(
+                "unknown circuit kind {s:?}: expected ring or radial (yes or no)"
+            )),
+        }
+    }
+}
+
+/// Whether a board or circuit is still part of the installation.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Status {
+    InService,
+    Retired,
+}
+
+impl Status {
+    pub fn as_str(self) -> &'static str {
+        match self {
+            Status::InService => "in_service",
+            Status::Retired => "retired",
+        }
+    }
+}
+
+impl FromStr for Status {
+    type Err = String;
+    fn from_str(s: &str) -> Result<Self, String> {
+        match s {
+            "in_service" => Ok(Status::InService),
+            "retired" => Ok(Status::Retired),
+            _ => Err(format!("unknown status {s:?}")),
+        }
+    }
+}
+
+/// Maximum permitted conductor operating temperature, set by the cable's insulation.
+/// It decides how far a cold test reading sits below the tabulated (hot) limit.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Insulation {
+    /// 70 °C thermoplastic (PVC), the usual twin and earth.
+    Thermoplastic70,
+    /// 90 °C thermosetting (XLPE, LSF thermosetting).
+    Thermosetting90,
+}
+
+impl Insulation {
+    pub fn as_str(self) -> &'static str {
+        match self {
+            Insulation::Thermoplastic70 => "thermoplastic70",
+            Insulation::Thermosetting90 => "thermosetting90",
+        }
+    }
+}
+
+impl FromStr for Insulation {
+    type Err = String;
+    fn from_str(s: &str) -> Result<Self, String> {
+        match s.trim().to_ascii_lowercase().as_str() {
+            "thermoplastic70" | "70" | "pvc" | "thermoplastic" => Ok(Insulation::Thermoplastic70),
+            "thermosetting90" | "90" | "xlpe" | "thermosetting" => Ok(Insulation::Thermosetting90),
+            _ => Err(format!(
+                "unknown insulation {s:?}: expected thermoplastic70 (PVC) or thermosetting90 (XLPE)"
+            )),
+        }
+    }
+}
+
+/// Residual current device type (BS EN 61008 / 61009 / 62423 marking).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, Serialize, Deserialize)]
+pub enum RcdType {
+    AC,
+    A,
+    F,
+    B,
+    /// Time-delayed (selective) device.
+    S,
+}
+
+impl RcdType {
+    pub fn as_str(self) -> &'static str {
+        match self {
+            RcdType::AC => "AC",
+            RcdType::A => "A",
+            RcdType::F => "F",
+            RcdType::B => "B",
+            RcdType::S => "S",
+        }
+    }
+}
+
+impl FromStr for RcdType {
+    type Err = String;
+    fn from_str(s: &str) -> Result<Self, String> {
+        match s.trim().to_ascii_uppercase().as_str() {
+            "AC" => Ok(RcdType::AC),
+            "A" => Ok(RcdType::A),
+            "F" => Ok(RcdType::F),
+            "B" => Ok(RcdType::B),
+            "S" => Ok(RcdType::S),
+            _ => Err(format!(
+                "unknown RCD type {s:?}: expected AC, A, F, B or S (time-delayed)"
+            )),
+        }
+    }
+}
+
+/// RCD rated residual operating currents IΔn in mA that the tool accepts.
+pub const RCD_RATINGS_MA: [u16; 6] = [10, 30, 100, 300, 500, 1000];
+
+/// One final or distribution circuit on a board.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Circuit {
+    pub id: i64,
+    pub board_id: i64,
+    pub number: String,
+    pub description: Option<String>,
+    pub kind: CircuitKind,
+    pub live_mm2: Option<f64>,
+    pub cpc_mm2: Option<f64>,
+    pub length_m: Option<f64>,
+    pub device: Option<Device>,
+    pub rcd_ma: Option<u16>,
+    pub rcd_type: Option<RcdType>,
+    pub insulation: Option<Insulation>,
+    /// Maximum disconnection time in seconds when it is not the default for the circuit.
+    pub disconnect_s: Option<f64>,
+    pub status: Status,
+    /// The circuit this one replaced, so its history carries on.
+    pub replaces: Option<i64>,
+}
+
+/// A test instrument.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Instrument {
+    pub id: i64,
+    pub serial: String,
+    pub description: Option<String>,
+    pub calibration_due: Option<NaiveDate>,
+}
+
+/// Whether a visit's readings form part of the history yet.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum VisitState {
+    /// Readings are being taken on site; not yet part of the history.
+    Pending,
+    Complete,
+}
+
+/// One inspection and test visit to a property.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Visit {
+    pub id: i64,
+    pub property_id: i64,
+    pub date: NaiveDate,
+    pub inspector: Option<String>,
+    pub instrument: Option<String>,
+    pub ambient_c: Option<f64>,
+    /// External earth fault loop impedance at the origin, Ω.
+    pub ze_ohm: Option<f64>,
+    /// Prospective fault current at the origin, kA.
+    pub pfc_ka: Option<f64>,
+    pub state: VisitState,
+}
+
+/// An insulation resistance reading. An over-range reading (`>200`) is a lower bound only.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+pub struct Megohms {
+    pub value: f64,
+    /// True when the instrument showed over-range: the resistance is at least `value`.
+    pub over_range: bool,
+}
+
+impl fmt::Display for Megohms {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        if self.over_range {
+            write!(f, ">{}", self.value)
+        } else {
+            write!(f, "{}", self.value)
+        }
+    }
+}
+
+/// The readings for one circuit at one visit. Every quantity may be missing.
+#[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
+pub struct Readings {
+    pub r1r2_ohm: Option<f64>,
+    pub r2_ohm: Option<f64>,
+    pub r1rn_ohm: Option<f64>,
+    pub ring_r1_ohm: Option<f64>,
+    pub ring_rn_ohm: Option<f64>,
+    pub ring_r2_ohm: Option<f64>,
+    pub zs_ohm: Option<f64>,
+    pub ir_ll: Option<Megohms>,
+    pub ir_le: Option<Megohms>,
+    pub rcd_ms: Option<f64>,
+    pub rcd_5x_ms: Option<f64>,
+    /// Quantities recorded as a limitation (`LIM`), by their visit-file column name.
+    pub limitations: Vec<String>,
+    pub note: Option<String>,
+}
+
+/// A stored test record: readings tied to a circuit and a visit.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct TestRecord {
+    pub id: i64,
+    pub visit_id: i64,
+    pub circuit_id: i64,
+    pub readings: Readings,
+}
+
+/// What happened to a circuit, as a dated event. Later analysis treats each as a new baseline.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum ChangeKind {
+    DeviceChanged,
+    CableReplaced,
+    TerminationsRemade,
+    BoardReplaced,
+    CircuitReplaced,
+    Renumbered,
+    /// A register detail corrected (csa, ring/radial, length) without work on the circuit.
+    RegisterCorrected,
+    Retired,
+}
+
+impl ChangeKind {
+    pub const ALL: [ChangeKind; 8] = [
+        ChangeKind::DeviceChanged,
+        ChangeKind::CableReplaced,
+        ChangeKind::TerminationsRemade,
+        ChangeKind::BoardReplaced,
+        ChangeKind::CircuitReplaced,
+        ChangeKind::Renumbered,
+        ChangeKind::RegisterCorrected,
+        ChangeKind::Retired,
+    ];
+
+    pub fn as_str(self) -> &'static str {
+        match self {
+            ChangeKind::DeviceChanged => "device_changed",
+            ChangeKind::CableReplaced => "cable_replaced",
+            ChangeKind::TerminationsRemade => "terminations_remade",
+            ChangeKind::BoardReplaced => "board_replaced",
+            ChangeKind::CircuitReplaced => "circuit_replaced",
+            ChangeKind::Renumbered => "renumbered",
+            ChangeKind::RegisterCorrected => "register_corrected",
+            ChangeKind::Retired => "retired",
+        }
+    }
+
+    /// Whether readings before this event describe a different physical path, so a trend
+    /// must start again from the next reading.
+    pub fn resets_baseline(self) -> bool {
+        !matches!(self, ChangeKind::RegisterCorrected | ChangeKind::Retired)
+    }
+}
+
+impl FromStr for ChangeKind {
+    type Err = String;
+    fn from_str(s: &str) -> Result<Self, String> {
+        let t = s.trim().to_ascii_lowercase().replace(['-', ' '], "_");
+        ChangeKind::ALL
+            .into_iter()
+            .find(|k| k.as_str() == t)
+            .ok_or_else(|| {
+                format!(
+                    "unknown change kind {s:?}: expected one of {}",
+                    ChangeKind::ALL.map(|k| k.as_str()).join(", ")
+                )
+            })
+    }
+}
+
+/// A dated change to a circuit, with the register field it touched where there is one.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct CircuitChange {
+    pub id: i64,
+    pub circuit_id: i64,
+    pub date: NaiveDate,
+    pub kind: ChangeKind,
+    pub field: Option<String>,
+    pub old_value: Option<String>,
+    pub new_value: Option<String>,
+    pub note: Option<String>,
+}
+
+/// An observation code exactly as the inspector recorded it. The tool never assigns one.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, Serialize, Deserialize)]
+pub enum ObservationCode {
+    C1,
+    C2,
+    C3,
+    FI,
+}
+
+impl ObservationCode {
+    pub fn as_str(self) -> &'static str {
+        match self {
+            ObservationCode::C1 => "C1",
+            ObservationCode::C2 => "C2",
+            ObservationCode::C3 => "C3",
+            ObservationCode::FI => "FI",
+        }
+    }
+}
+
+impl FromStr for ObservationCode {
+    type Err = String;
+    fn from_str(s: &str) -> Result<Self, String> {
+        match s.trim().to_ascii_uppercase().as_str() {
+            "C1" => Ok(ObservationCode::C1),
+            "C2" => Ok(ObservationCode::C2),
+            "C3" => Ok(ObservationCode::C3),
+            "FI" => Ok(ObservationCode::FI),
+            _ => Err(format!(
+                "unknown observation code {s:?}: expected C1, C2, C3 or FI as recorded"
+            )),
+        }
+    }
+}
+
+/// An observation recorded at a visit.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Observation {
+    pub id: i64,
+    pub visit_id: i64,
+    pub board: Option<String>,
+    pub circuit: Option<String>,
+    pub code: ObservationCode,
+    pub text: String,
+}
+
+/// Check a cross-sectional area in mm², as the register stores it.
+pub fn validate_csa(what: &str, mm2: f64) -> Result<f64, String> {
+    if !mm2.is_finite() || mm2 <= 0.0 {
+        return Err(format!(
+            "{what} {mm2} mm² is not a conductor size: expected a positive size such as 1.5, 2.5 or 6"
+        ));
+    }
+    if mm2 > 1000.0 {
+        return Err(format!(
+            "{what} {mm2} mm² is out of range: expected at most 1000 mm²"
+        ));
+    }
+    Ok(mm2)
+}
+
+/// Check a circuit length in metres.
+pub fn validate_length(m: f64) -> Result<f64, String> {
+    if !m.is_finite() || m <= 0.0 {
+        return Err(format!(
+            "length {m} m is not a length: expected a positive number of metres"
+        ));
+    }
+    if m > 10_000.0 {
+        return Err(format!(
+            "length {m} m is out of range: expected at most 10000 m"
+        ));
+    }
+    Ok(m)
+}
+
+/// Check an RCD rated residual current.
+pub fn validate_rcd_ma(ma: u16) -> Result<u16, String> {
+    if RCD_RATINGS_MA.contains(&ma) {
+        Ok(ma)
+    } else {
+        Err(format!(
+            "{ma} mA is not a rated residual current: expected one of {}",
+            RCD_RATINGS_MA.map(|x| x.to_string()).join(", ")
+        ))
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn validation_refuses_nonsense() {
+        assert!(validate_csa("live", 0.0).is_err());
+        assert!(validate_csa("live", -2.5).is_err());
+        assert!(validate_csa("live", f64::NAN).is_err());
+        assert_eq!(validate_csa("live", 2.5), Ok(2.5));
+        assert!(validate_length(0.0).is_err());
+        assert!(validate_length(f64::INFINITY).is_err());
+        assert!(validate_rcd_ma(25).is_err());
+        assert_eq!(validate_rcd_ma(30), Ok(30));
+    }
+
+    #[test]
+    fn parses_register_words() {
+        assert_eq!("tn-c-s".parse::<Earthing>(), Ok(Earthing::TnCS));
+        assert_eq!("yes".parse::<CircuitKind>(), Ok(CircuitKind::Ring));
+        assert!("spur".parse::<CircuitKind>().is_err());
+        assert_eq!(
+            "terminations remade".parse::<ChangeKind>(),
+            Ok(ChangeKind::TerminationsRemade)
+        );
+        assert!("c4".parse::<ObservationCode>().is_err());
+    }
+}
