@@ -8,10 +8,12 @@
 //! - [`store`]: the SQLite history; the only module that talks SQL.
 //! - [`import`]: visit files in, with exact errors.
 
+pub mod demo;
 pub mod error;
 pub mod import;
 pub mod limits;
 pub mod model;
+pub mod report;
 pub mod store;
 pub mod trend;
 

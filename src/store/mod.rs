@@ -5,6 +5,9 @@
 //! when it is wrong.
 
 pub mod migrate;
+mod visits;
+
+pub use visits::{NewVisit, validate_readings};
 
 use std::path::{Path, PathBuf};
 use std::time::Duration;
@@ -188,11 +191,6 @@ impl Store {
 
     pub fn path(&self) -> &Path {
         &self.path
-    }
-
-    /// The raw connection, for sibling store modules only.
-    pub(crate) fn conn(&self) -> &Connection {
-        &self.conn
     }
 
     pub fn schema_version(&self) -> Result<i64> {

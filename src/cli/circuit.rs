@@ -1,0 +1,218 @@
+use std::io::Write;
+
+use anyhow::Result;
+use chrono::NaiveDate;
+use clap::{Args, Subcommand};
+
+use ohmtrail::model::{ChangeKind, CircuitKind, Device, Insulation, RcdType};
+use ohmtrail::store::CircuitDetails;
+
+use super::{Context, parse_date, today};
+
+/// Register details of a circuit. On `edit`, only the flags given change anything.
+#[derive(Args, Debug, Clone, Default)]
+pub struct Details {
+    #[arg(long)]
+    pub description: Option<String>,
+    /// ring or radial
+    #[arg(long, value_parser = |s: &str| s.parse::<CircuitKind>())]
+    pub kind: Option<CircuitKind>,
+    /// Line conductor csa in mm²
+    #[arg(long, value_name = "MM2")]
+    pub live: Option<f64>,
+    /// Circuit protective conductor csa in mm²
+    #[arg(long, value_name = "MM2")]
+    pub cpc: Option<f64>,
+    /// Route length in metres, if known
+    #[arg(long, value_name = "M")]
+    pub length: Option<f64>,
+    /// Protective device: B16, C32, D6, RCBO B20, BS 88-3 30A, BS 3036 15A, BS 1362 13A
+    #[arg(long, value_parser = |s: &str| s.parse::<Device>().map_err(|e| e.to_string()))]
+    pub device: Option<Device>,
+    /// RCD rated residual operating current IΔn in mA
+    #[arg(long, value_name = "MA")]
+    pub rcd: Option<u16>,
+    /// RCD type: AC, A, F, B, or S for time-delayed
+    #[arg(long, value_parser = |s: &str| s.parse::<RcdType>())]
+    pub rcd_type: Option<RcdType>,
+    /// Cable insulation: thermoplastic70 (PVC) or thermosetting90 (XLPE)
+    #[arg(long, value_parser = |s: &str| s.parse::<Insulation>())]
+    pub insulation: Option<Insulation>,
+    /// Maximum disconnection time in seconds, when not the default for the circuit
+    #[arg(long, value_name = "S")]
+    pub disconnect: Option<f64>,
+}
+
+impl Details {
+    fn to_store(&self) -> CircuitDetails {
+        CircuitDetails {
+            description: self.description.clone(),
+            kind: self.kind,
+            live_mm2: self.live,
+            cpc_mm2: self.cpc,
+            length_m: self.length,
+            device: self.device,
+            rcd_ma: self.rcd,
+            rcd_type: self.rcd_type,
+            insulation: self.insulation,
+            disconnect_s: self.disconnect,
+        }
+    }
+}
+
+/// Which circuit: property, board and circuit number.
+#[derive(Args, Debug, Clone)]
+pub struct Which {
+    /// The property's reference
+    pub property: String,
+    /// The board's designation
+    pub board: String,
+    /// The circuit number on that board
+    pub number: String,
+}
+
+#[derive(Subcommand, Debug)]
+pub enum Cmd {
+    /// Add a circuit to a board
+    Add {
+        #[command(flatten)]
+        which: Which,
+        #[command(flatten)]
+        details: Details,
+    },
+    /// Change a circuit's register details; each change is recorded with its date
+    Edit {
+        #[command(flatten)]
+        which: Which,
+        #[command(flatten)]
+        details: Details,
+        /// Date the change took effect [default: today]
+        #[arg(long, value_parser = parse_date)]
+        date: Option<NaiveDate>,
+        /// What was done: device_changed, cable_replaced, terminations_remade, register_corrected, ...
+        #[arg(long = "change", value_name = "KIND", value_parser = |s: &str| s.parse::<ChangeKind>())]
+        change: Option<ChangeKind>,
+        #[arg(long)]
+        note: Option<String>,
+    },
+    /// Take a circuit out of service; its history is kept
+    Retire {
+        #[command(flatten)]
+        which: Which,
+        #[arg(long, value_parser = parse_date)]
+        date: Option<NaiveDate>,
+        #[arg(long)]
+        note: Option<String>,
+    },
+    /// Replace a circuit by a new one (new board or number), keeping its history as lineage
+    Replace {
+        #[command(flatten)]
+        which: Which,
+        /// Board of the new circuit [default: the same board]
+        #[arg(long = "to-board", value_name = "BOARD")]
+        to_board: Option<String>,
+        /// Number of the new circuit [default: the same number]
+        #[arg(long = "to-number", value_name = "N")]
+        to_number: Option<String>,
+        #[command(flatten)]
+        details: Details,
+        #[arg(long, value_parser = parse_date)]
+        date: Option<NaiveDate>,
+        /// Why: circuit_replaced, board_replaced or renumbered [default: circuit_replaced,
+        /// or board_replaced when --to-board is given]
+        #[arg(long = "change", value_name = "KIND", value_parser = |s: &str| s.parse::<ChangeKind>())]
+        change: Option<ChangeKind>,
+        #[arg(long)]
+        note: Option<String>,
+    },
+}
+
+pub fn run(cmd: &Cmd, ctx: &Context, out: &mut dyn Write) -> Result<()> {
+    let store = ctx.open()?;
+    match cmd {
+        Cmd::Add { which, details } => {
+            let c = store.add_circuit(
+                &which.property,
+                &which.board,
+                &which.number,
+                &details.to_store(),
+            )?;
+            writeln!(
+                out,
+                "added circuit {}/{} at {}",
+                which.board, c.number, which.property
+            )?;
+        }
+        Cmd::Edit {
+            which,
+            details,
+            date,
+            change,
+            note,
+        } => {
+            let c = store.find_circuit(&which.property, &which.board, &which.number)?;
+            let changes = store.edit_circuit(
+                c.id,
+                &details.to_store(),
+                date.unwrap_or_else(today),
+                *change,
+                None,
+                note.as_deref(),
+            )?;
+            if changes.is_empty() {
+                writeln!(out, "nothing changed")?;
+            }
+            for ch in changes {
+                writeln!(
+                    out,
+                    "{} {}: {} -> {} ({}, from {})",
+                    which.board,
+                    which.number,
+                    ch.old_value.as_deref().unwrap_or("-"),
+                    ch.new_value.as_deref().unwrap_or("-"),
+                    ch.kind.as_str(),
+                    ch.date
+                )?;
+            }
+        }
+        Cmd::Retire { which, date, note } => {
+            let c = store.find_circuit(&which.property, &which.board, &which.number)?;
+            store.retire_circuit(c.id, date.unwrap_or_else(today), note.as_deref())?;
+            writeln!(out, "retired circuit {}/{}", which.board, which.number)?;
+        }
+        Cmd::Replace {
+            which,
+            to_board,
+            to_number,
+            details,
+            date,
+            change,
+            note,
+        } => {
+            let c = store.find_circuit(&which.property, &which.board, &which.number)?;
+            let kind = change.unwrap_or(if to_board.is_some() {
+                ChangeKind::BoardReplaced
+            } else {
+                ChangeKind::CircuitReplaced
+            });
+            let new = store.replace_circuit(
+                c.id,
+                to_board.as_deref(),
+                to_number.as_deref(),
+                &details.to_store(),
+                date.unwrap_or_else(today),
+                kind,
+                note.as_deref(),
+            )?;
+            writeln!(
+                out,
+                "circuit {}/{} replaced by {}/{}; its history carries on",
+                which.board,
+                which.number,
+                to_board.as_deref().unwrap_or(&which.board),
+                new.number
+            )?;
+        }
+    }
+    Ok(())
+}

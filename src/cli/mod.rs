@@ -1,0 +1,120 @@
+//! Argument parsing and printing. Each subcommand lives in its own file with a `run` that
+//! opens nothing it does not need; all computation is in the library.
+
+pub mod board;
+pub mod circuit;
+pub mod demo;
+pub mod init;
+pub mod instrument;
+pub mod output;
+pub mod property;
+pub mod visit;
+
+use std::io::Write;
+use std::path::PathBuf;
+
+use anyhow::{Context as _, Result};
+use chrono::NaiveDate;
+use clap::{Parser, Subcommand};
+
+use ohmtrail::store::Store;
+
+const CAUTION: &str = "Caution: ohmtrail's figures support, and never replace, the judgement of a competent, \
+licensed person inspecting and testing to BS 7671 or the local code. It assigns no condition codes.";
+
+/// Test history of rented homes' fixed wiring: see, visit after visit, which circuits are
+/// deteriorating before they fail a limit.
+#[derive(Parser, Debug)]
+#[command(name = "ohmtrail", version, about, after_help = CAUTION)]
+pub struct Cli {
+    /// Database file [default: ohmtrail.db in the platform data directory]
+    #[arg(long, global = true, env = "OHMTRAIL_DB", value_name = "PATH")]
+    pub db: Option<PathBuf>,
+
+    #[command(subcommand)]
+    pub command: Command,
+}
+
+#[derive(Subcommand, Debug)]
+pub enum Command {
+    /// Create the database, or bring its schema up to date, and print where it is
+    Init,
+    /// Add, list and show properties (rented homes)
+    #[command(subcommand)]
+    Property(property::Cmd),
+    /// Add boards (consumer units, distribution boards) to a property
+    #[command(subcommand)]
+    Board(board::Cmd),
+    /// Add, edit, retire and replace circuits on a board
+    #[command(subcommand)]
+    Circuit(circuit::Cmd),
+    /// Add and list test instruments and their calibration dates
+    #[command(subcommand)]
+    Instrument(instrument::Cmd),
+    /// List the visits in the history
+    #[command(subcommand)]
+    Visit(visit::Cmd),
+    /// Build an invented demo portfolio and write its trend report
+    Demo(demo::Args),
+}
+
+/// What every command may need: where the database is, and where to print.
+pub struct Context {
+    db: Option<PathBuf>,
+}
+
+impl Context {
+    pub fn new(db: Option<PathBuf>) -> Context {
+        Context { db }
+    }
+
+    /// The database path: `--db`, then `OHMTRAIL_DB`, then the platform data directory.
+    pub fn db_path(&self) -> Result<PathBuf> {
+        if let Some(p) = &self.db {
+            return Ok(p.clone());
+        }
+        let dirs = directories::ProjectDirs::from("", "", "ohmtrail").context(
+            "no home directory to keep the database in: pass --db PATH or set OHMTRAIL_DB",
+        )?;
+        Ok(dirs.data_dir().join("ohmtrail.db"))
+    }
+
+    /// Open the database, creating it on first use.
+    pub fn open(&self) -> Result<Store> {
+        let path = self.db_path()?;
+        Ok(Store::open(&path)?)
+    }
+}
+
+pub fn run(cli: Cli, out: &mut dyn Write) -> Result<()> {
+    let ctx = Context::new(cli.db);
+    match cli.command {
+        Command::Init => init::run(&ctx, out),
+        Command::Property(cmd) => property::run(&cmd, &ctx, out),
+        Command::Board(cmd) => board::run(&cmd, &ctx, out),
+        Command::Circuit(cmd) => circuit::run(&cmd, &ctx, out),
+        Command::Instrument(cmd) => instrument::run(&cmd, &ctx, out),
+        Command::Visit(cmd) => visit::run(&cmd, &ctx, out),
+        Command::Demo(args) => demo::run(&args, out),
+    }
+}
+
+/// Parse a date given on the command line: ISO 8601 or day-first (14/06/2025).
+pub fn parse_date(s: &str) -> std::result::Result<NaiveDate, String> {
+    let t = s.trim();
+    if let Ok(d) = NaiveDate::parse_from_str(t, "%Y-%m-%d") {
+        return Ok(d);
+    }
+    for f in ["%d/%m/%Y", "%d-%m-%Y"] {
+        if let Ok(d) = NaiveDate::parse_from_str(t, f) {
+            return Ok(d);
+        }
+    }
+    Err(format!(
+        "{s:?} is not a date: expected YYYY-MM-DD or DD/MM/YYYY"
+    ))
+}
+
+pub fn today() -> NaiveDate {
+    chrono::Local::now().date_naive()
+}

@@ -1,0 +1,390 @@
+//! Visits, their test records and observations.
+
+use chrono::NaiveDate;
+use rusqlite::{OptionalExtension, Row, params};
+
+use super::Store;
+use crate::error::{Error, Result};
+use crate::model::{
+    Megohms, Observation, ObservationCode, Readings, TestRecord, Visit, VisitState,
+};
+
+/// A visit to add to the history.
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct NewVisit {
+    pub date: Option<NaiveDate>,
+    pub inspector: Option<String>,
+    /// Serial of an instrument; created in the register on first sight.
+    pub instrument: Option<String>,
+    pub ambient_c: Option<f64>,
+    pub ze_ohm: Option<f64>,
+    pub pfc_ka: Option<f64>,
+}
+
+impl Store {
+    /// Add a visit. `state` decides whether it is part of the history yet.
+    pub fn add_visit(&self, property_id: i64, v: &NewVisit, state: VisitState) -> Result<Visit> {
+        let date = v
+            .date
+            .ok_or_else(|| Error::invalid("visit date is missing"))?;
+        if let Some(t) = v.ambient_c
+            && !(t.is_finite() && (-40.0..=60.0).contains(&t))
+        {
+            return Err(Error::invalid(format!(
+                "ambient temperature {t} °C is out of range: expected -40 to 60 °C"
+            )));
+        }
+        for (name, x) in [("Ze", v.ze_ohm), ("prospective fault current", v.pfc_ka)] {
+            if let Some(x) = x
+                && !(x.is_finite() && x >= 0.0)
+            {
+                return Err(Error::invalid(format!(
+                    "{name} {x} is not a reading: expected a number of zero or more"
+                )));
+            }
+        }
+        self.atomic(|s| {
+            if let Some(existing) = s.visit_on(property_id, date)? {
+                return Err(Error::invalid(format!(
+                    "property already has a visit on {date} ({})",
+                    match existing.state {
+                        VisitState::Pending => "pending",
+                        VisitState::Complete => "complete",
+                    }
+                )));
+            }
+            let instrument_id = match v.instrument.as_deref() {
+                None => None,
+                Some(serial) => Some(match s.instrument(serial)? {
+                    Some(i) => i.id,
+                    None => s.add_instrument(serial, None, None)?.id,
+                }),
+            };
+            s.conn.execute(
+                "INSERT INTO visit (property_id, date, inspector, instrument_id, ambient_c, ze_ohm, pfc_ka, state)
+                 VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8)",
+                params![
+                    property_id,
+                    date,
+                    v.inspector,
+                    instrument_id,
+                    v.ambient_c,
+                    v.ze_ohm,
+                    v.pfc_ka,
+                    state_str(state)
+                ],
+            )?;
+            s.visit_by_id(s.conn.last_insert_rowid())
+        })
+    }
+
+    const VISIT_COLS: &'static str = "v.id, v.property_id, v.date, v.inspector,
+        (SELECT i.serial FROM instrument i WHERE i.id = v.instrument_id),
+        v.ambient_c, v.ze_ohm, v.pfc_ka, v.state";
+
+    fn visit_from_row(r: &Row) -> rusqlite::Result<Visit> {
+        let state: String = r.get(8)?;
+        Ok(Visit {
+            id: r.get(0)?,
+            property_id: r.get(1)?,
+            date: r.get(2)?,
+            inspector: r.get(3)?,
+            instrument: r.get(4)?,
+            ambient_c: r.get(5)?,
+            ze_ohm: r.get(6)?,
+            pfc_ka: r.get(7)?,
+            state: if state == "pending" {
+                VisitState::Pending
+            } else {
+                VisitState::Complete
+            },
+        })
+    }
+
+    pub fn visit_by_id(&self, id: i64) -> Result<Visit> {
+        let sql = format!("SELECT {} FROM visit v WHERE v.id = ?1", Self::VISIT_COLS);
+        Ok(self.conn.query_row(&sql, [id], Self::visit_from_row)?)
+    }
+
+    /// The property's visit on a date, pending or complete.
+    pub fn visit_on(&self, property_id: i64, date: NaiveDate) -> Result<Option<Visit>> {
+        let sql = format!(
+            "SELECT {} FROM visit v WHERE v.property_id = ?1 AND v.date = ?2",
+            Self::VISIT_COLS
+        );
+        Ok(self
+            .conn
+            .query_row(&sql, params![property_id, date], Self::visit_from_row)
+            .optional()?)
+    }
+
+    /// A property's completed visits, oldest first.
+    pub fn property_visits(&self, property_id: i64) -> Result<Vec<Visit>> {
+        let sql = format!(
+            "SELECT {} FROM visit v WHERE v.property_id = ?1 AND v.state = 'complete' ORDER BY v.date",
+            Self::VISIT_COLS
+        );
+        let mut stmt = self.conn.prepare(&sql)?;
+        let rows = stmt.query_map([property_id], Self::visit_from_row)?;
+        Ok(rows.collect::<rusqlite::Result<_>>()?)
+    }
+
+    /// Mark a pending visit complete: from now on it is part of the history.
+    pub fn complete_visit(&self, visit_id: i64) -> Result<()> {
+        self.conn.execute(
+            "UPDATE visit SET state = 'complete' WHERE id = ?1",
+            [visit_id],
+        )?;
+        Ok(())
+    }
+
+    /// Remove a visit and everything recorded at it (test records, observations, changes).
+    pub fn delete_visit(&self, visit_id: i64) -> Result<()> {
+        self.conn
+            .execute("DELETE FROM visit WHERE id = ?1", [visit_id])?;
+        Ok(())
+    }
+
+    /// Record Ze (or Zdb for a sub-board) and fault current measured at a board.
+    pub fn set_board_test(
+        &self,
+        visit_id: i64,
+        board_id: i64,
+        ze_ohm: Option<f64>,
+        pfc_ka: Option<f64>,
+    ) -> Result<()> {
+        self.conn.execute(
+            "INSERT INTO board_test (visit_id, board_id, ze_ohm, pfc_ka) VALUES (?1, ?2, ?3, ?4)
+             ON CONFLICT (visit_id, board_id) DO UPDATE SET ze_ohm = excluded.ze_ohm, pfc_ka = excluded.pfc_ka",
+            params![visit_id, board_id, ze_ohm, pfc_ka],
+        )?;
+        Ok(())
+    }
+
+    /// Ze and fault current measured at a board at a visit.
+    pub fn board_test(
+        &self,
+        visit_id: i64,
+        board_id: i64,
+    ) -> Result<Option<(Option<f64>, Option<f64>)>> {
+        Ok(self
+            .conn
+            .query_row(
+                "SELECT ze_ohm, pfc_ka FROM board_test WHERE visit_id = ?1 AND board_id = ?2",
+                params![visit_id, board_id],
+                |r| Ok((r.get(0)?, r.get(1)?)),
+            )
+            .optional()?)
+    }
+
+    /// Write one circuit's readings at a visit, replacing any already there.
+    pub fn put_test_record(&self, visit_id: i64, circuit_id: i64, r: &Readings) -> Result<i64> {
+        validate_readings(r)?;
+        let (ll, ll_over) = split_mohm(r.ir_ll);
+        let (le, le_over) = split_mohm(r.ir_le);
+        self.conn.execute(
+            "INSERT INTO test_record (visit_id, circuit_id, r1r2_ohm, r2_ohm, r1rn_ohm, ring_r1_ohm,
+                 ring_rn_ohm, ring_r2_ohm, zs_ohm, ir_ll_mohm, ir_ll_over, ir_le_mohm, ir_le_over,
+                 rcd_ms, rcd_5x_ms, limitations, note)
+             VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11, ?12, ?13, ?14, ?15, ?16, ?17)
+             ON CONFLICT (visit_id, circuit_id) DO UPDATE SET
+                 r1r2_ohm = excluded.r1r2_ohm, r2_ohm = excluded.r2_ohm, r1rn_ohm = excluded.r1rn_ohm,
+                 ring_r1_ohm = excluded.ring_r1_ohm, ring_rn_ohm = excluded.ring_rn_ohm,
+                 ring_r2_ohm = excluded.ring_r2_ohm, zs_ohm = excluded.zs_ohm,
+                 ir_ll_mohm = excluded.ir_ll_mohm, ir_ll_over = excluded.ir_ll_over,
+                 ir_le_mohm = excluded.ir_le_mohm, ir_le_over = excluded.ir_le_over,
+                 rcd_ms = excluded.rcd_ms, rcd_5x_ms = excluded.rcd_5x_ms,
+                 limitations = excluded.limitations, note = excluded.note",
+            params![
+                visit_id,
+                circuit_id,
+                r.r1r2_ohm,
+                r.r2_ohm,
+                r.r1rn_ohm,
+                r.ring_r1_ohm,
+                r.ring_rn_ohm,
+                r.ring_r2_ohm,
+                r.zs_ohm,
+                ll,
+                ll_over,
+                le,
+                le_over,
+                r.rcd_ms,
+                r.rcd_5x_ms,
+                r.limitations.join(","),
+                r.note,
+            ],
+        )?;
+        Ok(self.conn.query_row(
+            "SELECT id FROM test_record WHERE visit_id = ?1 AND circuit_id = ?2",
+            params![visit_id, circuit_id],
+            |row| row.get(0),
+        )?)
+    }
+
+    const RECORD_COLS: &'static str = "id, visit_id, circuit_id, r1r2_ohm, r2_ohm, r1rn_ohm,
+        ring_r1_ohm, ring_rn_ohm, ring_r2_ohm, zs_ohm, ir_ll_mohm, ir_ll_over, ir_le_mohm,
+        ir_le_over, rcd_ms, rcd_5x_ms, limitations, note";
+
+    fn record_from_row(r: &Row) -> rusqlite::Result<TestRecord> {
+        Self::record_from_row_at(r, 0)
+    }
+
+    /// Decode a test record whose columns start at `o` in the row.
+    fn record_from_row_at(row: &Row, o: usize) -> rusqlite::Result<TestRecord> {
+        let r = At { row, o };
+        let mohm = |v: Option<f64>, over: bool| {
+            v.map(|value| Megohms {
+                value,
+                over_range: over,
+            })
+        };
+        let limitations: String = r.get(16)?;
+        Ok(TestRecord {
+            id: r.get(0)?,
+            visit_id: r.get(1)?,
+            circuit_id: r.get(2)?,
+            readings: Readings {
+                r1r2_ohm: r.get(3)?,
+                r2_ohm: r.get(4)?,
+                r1rn_ohm: r.get(5)?,
+                ring_r1_ohm: r.get(6)?,
+                ring_rn_ohm: r.get(7)?,
+                ring_r2_ohm: r.get(8)?,
+                zs_ohm: r.get(9)?,
+                ir_ll: mohm(r.get(10)?, r.get(11)?),
+                ir_le: mohm(r.get(12)?, r.get(13)?),
+                rcd_ms: r.get(14)?,
+                rcd_5x_ms: r.get(15)?,
+                limitations: limitations
+                    .split(',')
+                    .filter(|s| !s.is_empty())
+                    .map(String::from)
+                    .collect(),
+                note: r.get(17)?,
+            },
+        })
+    }
+
+    pub fn test_record(&self, visit_id: i64, circuit_id: i64) -> Result<Option<TestRecord>> {
+        let sql = format!(
+            "SELECT {} FROM test_record WHERE visit_id = ?1 AND circuit_id = ?2",
+            Self::RECORD_COLS
+        );
+        Ok(self
+            .conn
+            .query_row(&sql, params![visit_id, circuit_id], Self::record_from_row)
+            .optional()?)
+    }
+
+    /// Every test record of a circuit at completed visits, oldest visit first.
+    pub fn circuit_records(&self, circuit_id: i64) -> Result<Vec<(Visit, TestRecord)>> {
+        let sql = format!(
+            "SELECT {}, {} FROM test_record t JOIN visit v ON v.id = t.visit_id
+             WHERE t.circuit_id = ?1 AND v.state = 'complete' ORDER BY v.date",
+            Self::VISIT_COLS,
+            Self::RECORD_COLS
+                .split(',')
+                .map(|c| format!("t.{}", c.trim()))
+                .collect::<Vec<_>>()
+                .join(", ")
+        );
+        let mut stmt = self.conn.prepare(&sql)?;
+        let rows = stmt.query_map([circuit_id], |r| {
+            let visit = Self::visit_from_row(r)?;
+            let record = Self::record_from_row_at(r, 9)?;
+            Ok((visit, record))
+        })?;
+        Ok(rows.collect::<rusqlite::Result<_>>()?)
+    }
+
+    pub fn add_observation(
+        &self,
+        visit_id: i64,
+        board_id: Option<i64>,
+        circuit_id: Option<i64>,
+        code: ObservationCode,
+        text: &str,
+    ) -> Result<i64> {
+        self.conn.execute(
+            "INSERT INTO observation (visit_id, board_id, circuit_id, code, text) VALUES (?1, ?2, ?3, ?4, ?5)",
+            params![visit_id, board_id, circuit_id, code.as_str(), text],
+        )?;
+        Ok(self.conn.last_insert_rowid())
+    }
+
+    /// A visit's observations in the order they were recorded.
+    pub fn observations(&self, visit_id: i64) -> Result<Vec<Observation>> {
+        let mut stmt = self.conn.prepare(
+            "SELECT o.id, o.visit_id, b.designation, c.number, o.code, o.text
+             FROM observation o LEFT JOIN board b ON b.id = o.board_id
+             LEFT JOIN circuit c ON c.id = o.circuit_id
+             WHERE o.visit_id = ?1 ORDER BY o.id",
+        )?;
+        let rows = stmt.query_map([visit_id], |r| {
+            let code: String = r.get(4)?;
+            Ok(Observation {
+                id: r.get(0)?,
+                visit_id: r.get(1)?,
+                board: r.get(2)?,
+                circuit: r.get(3)?,
+                code: code.parse().unwrap_or(ObservationCode::FI),
+                text: r.get(5)?,
+            })
+        })?;
+        Ok(rows.collect::<rusqlite::Result<_>>()?)
+    }
+}
+
+fn state_str(s: VisitState) -> &'static str {
+    match s {
+        VisitState::Pending => "pending",
+        VisitState::Complete => "complete",
+    }
+}
+
+fn split_mohm(m: Option<Megohms>) -> (Option<f64>, bool) {
+    match m {
+        Some(m) => (Some(m.value), m.over_range),
+        None => (None, false),
+    }
+}
+
+/// Refuse readings that no instrument shows: negative, NaN or infinite.
+pub fn validate_readings(r: &Readings) -> Result<()> {
+    let all = [
+        ("r1r2_ohm", r.r1r2_ohm),
+        ("r2_ohm", r.r2_ohm),
+        ("r1rn_ohm", r.r1rn_ohm),
+        ("ring_r1_ohm", r.ring_r1_ohm),
+        ("ring_rn_ohm", r.ring_rn_ohm),
+        ("ring_r2_ohm", r.ring_r2_ohm),
+        ("zs_ohm", r.zs_ohm),
+        ("ir_ll_mohm", r.ir_ll.map(|m| m.value)),
+        ("ir_le_mohm", r.ir_le.map(|m| m.value)),
+        ("rcd_ms", r.rcd_ms),
+        ("rcd_5x_ms", r.rcd_5x_ms),
+    ];
+    for (name, v) in all {
+        if let Some(v) = v
+            && !(v.is_finite() && v >= 0.0)
+        {
+            return Err(Error::invalid(format!(
+                "{name} {v} is not a reading: expected a number of zero or more"
+            )));
+        }
+    }
+    Ok(())
+}
+
+/// A row read from a column offset, so a joined row can be split between two decoders.
+struct At<'a, 'b> {
+    row: &'a Row<'b>,
+    o: usize,
+}
+
+impl At<'_, '_> {
+    fn get<T: rusqlite::types::FromSql>(&self, i: usize) -> rusqlite::Result<T> {
+        self.row.get(i + self.o)
+    }
+}
