@@ -18,17 +18,17 @@ pub struct Details {
     #[arg(long, value_parser = |s: &str| s.parse::<CircuitKind>())]
     pub kind: Option<CircuitKind>,
     /// Line conductor csa in mm²
-    #[arg(long, value_name = "MM2")]
+    #[arg(long, value_name = "MM2", allow_negative_numbers = true)]
     pub live: Option<f64>,
     /// Circuit protective conductor csa in mm²
-    #[arg(long, value_name = "MM2")]
+    #[arg(long, value_name = "MM2", allow_negative_numbers = true)]
     pub cpc: Option<f64>,
     /// Route length in metres, if known
-    #[arg(long, value_name = "M")]
+    #[arg(long, value_name = "M", allow_negative_numbers = true)]
     pub length: Option<f64>,
     /// Protective device: B16, C32, D6, RCBO B20, BS 88-3 30A, BS 3036 15A, BS 1362 13A
-    #[arg(long, value_parser = |s: &str| s.parse::<Device>().map_err(|e| e.to_string()))]
-    pub device: Option<Device>,
+    #[arg(long)]
+    pub device: Option<String>,
     /// RCD rated residual operating current IΔn in mA
     #[arg(long, value_name = "MA")]
     pub rcd: Option<u16>,
@@ -39,24 +39,31 @@ pub struct Details {
     #[arg(long, value_parser = |s: &str| s.parse::<Insulation>())]
     pub insulation: Option<Insulation>,
     /// Maximum disconnection time in seconds, when not the default for the circuit
-    #[arg(long, value_name = "S")]
+    #[arg(long, value_name = "S", allow_negative_numbers = true)]
     pub disconnect: Option<f64>,
 }
 
 impl Details {
-    fn to_store(&self) -> CircuitDetails {
-        CircuitDetails {
+    /// The details as the store takes them. The device is parsed here rather than by clap so
+    /// that a wrong device is a domain error (exit 1) that lists what is known.
+    fn to_store(&self) -> Result<CircuitDetails> {
+        let device = self
+            .device
+            .as_deref()
+            .map(|d| d.parse::<Device>())
+            .transpose()?;
+        Ok(CircuitDetails {
             description: self.description.clone(),
             kind: self.kind,
             live_mm2: self.live,
             cpc_mm2: self.cpc,
             length_m: self.length,
-            device: self.device,
+            device,
             rcd_ma: self.rcd,
             rcd_type: self.rcd_type,
             insulation: self.insulation,
             disconnect_s: self.disconnect,
-        }
+        })
     }
 }
 
@@ -135,7 +142,7 @@ pub fn run(cmd: &Cmd, ctx: &Context, out: &mut dyn Write) -> Result<()> {
                 &which.property,
                 &which.board,
                 &which.number,
-                &details.to_store(),
+                &details.to_store()?,
             )?;
             writeln!(
                 out,
@@ -153,7 +160,7 @@ pub fn run(cmd: &Cmd, ctx: &Context, out: &mut dyn Write) -> Result<()> {
             let c = store.find_circuit(&which.property, &which.board, &which.number)?;
             let changes = store.edit_circuit(
                 c.id,
-                &details.to_store(),
+                &details.to_store()?,
                 date.unwrap_or_else(today),
                 *change,
                 None,
@@ -199,7 +206,7 @@ pub fn run(cmd: &Cmd, ctx: &Context, out: &mut dyn Write) -> Result<()> {
                 c.id,
                 to_board.as_deref(),
                 to_number.as_deref(),
-                &details.to_store(),
+                &details.to_store()?,
                 date.unwrap_or_else(today),
                 kind,
                 note.as_deref(),

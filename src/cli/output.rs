@@ -22,7 +22,8 @@ pub fn table(out: &mut dyn Write, header: &[&str], rows: Vec<Vec<String>>) -> Re
         t.add_row(r);
     }
     for line in t.to_string().lines() {
-        writeln!(out, "{}", line.trim_end())?;
+        // Drop the padding before the first column so the table starts at the margin.
+        writeln!(out, "{}", line.strip_prefix(' ').unwrap_or(line).trim_end())?;
     }
     Ok(())
 }

@@ -1,0 +1,326 @@
+//! The register commands, driven through the real binary on temporary databases.
+
+use assert_cmd::Command;
+use predicates::prelude::*;
+use tempfile::TempDir;
+
+struct Env {
+    dir: TempDir,
+}
+
+impl Env {
+    fn new() -> Env {
+        Env {
+            dir: tempfile::tempdir().unwrap(),
+        }
+    }
+
+    fn db(&self) -> std::path::PathBuf {
+        self.dir.path().join("t.db")
+    }
+
+    fn cmd(&self, args: &[&str]) -> assert_cmd::assert::Assert {
+        Command::cargo_bin("ohmtrail")
+            .unwrap()
+            .env_remove("OHMTRAIL_DB")
+            .arg("--db")
+            .arg(self.db())
+            .args(args)
+            .assert()
+    }
+
+    fn ok(&self, args: &[&str]) -> String {
+        let out = self.cmd(args).success().get_output().stdout.clone();
+        String::from_utf8(out).unwrap()
+    }
+
+    /// A property with one board, for the circuit tests.
+    fn with_board() -> Env {
+        let e = Env::new();
+        e.ok(&[
+            "property",
+            "add",
+            "P-1",
+            "--address",
+            "1 Example Row, Sampleton",
+            "--client",
+            "Agent (test)",
+        ]);
+        e.ok(&["board", "add", "P-1", "DB1", "--earthing", "TN-C-S"]);
+        e
+    }
+
+    fn circuits_json(&self) -> serde_json::Value {
+        let v: serde_json::Value =
+            serde_json::from_str(&self.ok(&["property", "show", "P-1", "--json"])).unwrap();
+        v["boards"][0]["circuits"].clone()
+    }
+
+    fn db_bytes(&self) -> Vec<u8> {
+        std::fs::read(self.db()).unwrap()
+    }
+}
+
+#[test]
+fn help_lists_every_command_with_a_description() {
+    let out = Command::cargo_bin("ohmtrail")
+        .unwrap()
+        .arg("--help")
+        .assert()
+        .success()
+        .get_output()
+        .stdout
+        .clone();
+    let text = String::from_utf8(out).unwrap();
+    for cmd in [
+        "init",
+        "property",
+        "board",
+        "circuit",
+        "instrument",
+        "visit",
+        "demo",
+    ] {
+        let line = text
+            .lines()
+            .find(|l| l.trim_start().starts_with(&format!("{cmd} ")))
+            .unwrap_or_else(|| panic!("{cmd} missing from --help:\n{text}"));
+        assert!(
+            line.split_whitespace().count() > 2,
+            "{cmd} has no description"
+        );
+    }
+    assert!(text.contains("BS 7671"), "the caution is part of --help");
+}
+
+#[test]
+fn init_creates_the_database_where_told() {
+    let e = Env::new();
+    let out = e.ok(&["init"]);
+    assert!(out.contains("schema version 1"), "{out}");
+    assert!(e.db().exists());
+
+    // The environment variable works as well as the flag.
+    let other = e.dir.path().join("nested/dir/env.db");
+    Command::cargo_bin("ohmtrail")
+        .unwrap()
+        .env("OHMTRAIL_DB", &other)
+        .arg("init")
+        .assert()
+        .success();
+    assert!(other.exists());
+}
+
+#[test]
+fn property_add_list_show() {
+    let e = Env::with_board();
+    e.ok(&[
+        "circuit", "add", "P-1", "DB1", "1", "--kind", "ring", "--live", "2.5", "--cpc", "1.5",
+        "--device", "B32", "--rcd", "30",
+    ]);
+    let list: serde_json::Value =
+        serde_json::from_str(&e.ok(&["property", "list", "--json"])).unwrap();
+    assert_eq!(list[0]["property_ref"], "P-1");
+    assert_eq!(list[0]["client"], "Agent (test)");
+    assert_eq!(list[0]["interval_months"], 60);
+    assert_eq!(list[0]["circuits"], 1);
+
+    let table = e.ok(&["property", "list"]);
+    assert!(table.lines().next().unwrap().starts_with("PROPERTY"));
+    assert!(table.contains("1 Example Row, Sampleton"));
+
+    let c = &e.circuits_json()[0];
+    assert_eq!(c["kind"], "ring");
+    assert_eq!(c["live_mm2"], 2.5);
+    assert_eq!(c["device"]["curve"], "B");
+    assert_eq!(c["device"]["rating_a"], 32);
+    let shown = e.ok(&["property", "show", "P-1"]);
+    assert!(shown.contains("B32"), "{shown}");
+    assert!(shown.contains("fed from the origin; TN-C-S"), "{shown}");
+}
+
+#[test]
+fn unknown_property_or_board_is_an_error_naming_it() {
+    let e = Env::with_board();
+    e.cmd(&["board", "add", "NOPE", "DB1"])
+        .code(1)
+        .stderr(predicate::str::contains("property \"NOPE\" not found"));
+    e.cmd(&["circuit", "add", "P-1", "DB9", "1"])
+        .code(1)
+        .stderr(
+            predicate::str::contains("board \"DB9\" not found")
+                .and(predicate::str::contains("has boards DB1")),
+        );
+    e.cmd(&["property", "show", "NOPE"]).code(1);
+}
+
+#[test]
+fn duplicate_circuit_number_is_refused_and_nothing_written() {
+    let e = Env::with_board();
+    e.ok(&["circuit", "add", "P-1", "DB1", "1", "--device", "B32"]);
+    let before = e.db_bytes();
+    e.cmd(&["circuit", "add", "P-1", "DB1", "1", "--device", "B16"])
+        .code(1)
+        .stderr(predicate::str::contains(
+            "already has a circuit 1 in service",
+        ));
+    assert_eq!(e.circuits_json().as_array().unwrap().len(), 1);
+    assert_eq!(e.circuits_json()[0]["device"]["rating_a"], 32);
+    drop(before);
+}
+
+#[test]
+fn bad_register_values_are_refused_with_what_was_expected() {
+    let e = Env::with_board();
+    let cases: [(&[&str], &str); 6] = [
+        (&["--live", "-2.5"], "is not a conductor size"),
+        (&["--cpc", "0"], "is not a conductor size"),
+        (&["--length", "0"], "is not a length"),
+        (&["--device", "B33"], "B33 is not a standard rating"),
+        (&["--device", "E32"], "unknown protective device \"E32\""),
+        (&["--rcd", "25"], "25 mA is not a rated residual current"),
+    ];
+    for (flags, message) in cases {
+        let mut args = vec!["circuit", "add", "P-1", "DB1", "7"];
+        args.extend_from_slice(flags);
+        let out = e.cmd(&args).failure().get_output().clone();
+        let stderr = String::from_utf8(out.stderr).unwrap();
+        assert!(stderr.contains(message), "{flags:?}: {stderr}");
+        assert_eq!(stderr.lines().count(), 1, "one line on stderr: {stderr}");
+        assert_eq!(out.status.code(), Some(1), "{flags:?}");
+    }
+    assert!(e.circuits_json().as_array().unwrap().is_empty());
+}
+
+#[test]
+fn usage_errors_exit_2_and_other_errors_exit_1() {
+    let e = Env::new();
+    e.cmd(&["property", "frobnicate"]).code(2);
+    e.cmd(&["property", "add"]).code(2);
+    e.cmd(&["property", "show", "X"])
+        .code(1)
+        .stderr(predicate::str::starts_with("ohmtrail: error: "));
+}
+
+#[test]
+fn edit_records_a_dated_change_and_replace_keeps_lineage() {
+    let e = Env::with_board();
+    e.ok(&["board", "add", "P-1", "DB2", "--fed-from", "DB1"]);
+    e.ok(&["circuit", "add", "P-1", "DB1", "3", "--device", "B32"]);
+    let out = e.ok(&[
+        "circuit",
+        "edit",
+        "P-1",
+        "DB1",
+        "3",
+        "--device",
+        "B20",
+        "--date",
+        "14/06/2025",
+    ]);
+    assert!(
+        out.contains("B32 -> B20 (device_changed, from 2025-06-14)"),
+        "{out}"
+    );
+    assert_eq!(
+        e.ok(&["circuit", "edit", "P-1", "DB1", "3", "--device", "B20"]),
+        "nothing changed\n"
+    );
+    let out = e.ok(&[
+        "circuit",
+        "replace",
+        "P-1",
+        "DB1",
+        "3",
+        "--to-board",
+        "DB2",
+        "--to-number",
+        "5",
+        "--date",
+        "2026-01-10",
+    ]);
+    assert!(out.contains("replaced by DB2/5"), "{out}");
+    let v: serde_json::Value =
+        serde_json::from_str(&e.ok(&["property", "show", "P-1", "--json"])).unwrap();
+    let old = &v["boards"][0]["circuits"][0];
+    let new = &v["boards"][1]["circuits"][0];
+    assert_eq!(old["status"], "retired");
+    assert_eq!(new["replaces"], old["id"]);
+    // The new circuit carries the old one's details unless told otherwise.
+    assert_eq!(new["device"]["rating_a"], 20);
+    e.cmd(&["circuit", "edit", "P-1", "DB1", "3", "--device", "B16"])
+        .code(1)
+        .stderr(predicate::str::contains("no circuit 3 in service"));
+}
+
+#[test]
+fn instruments_and_visits_list() {
+    let e = Env::new();
+    e.ok(&[
+        "instrument",
+        "add",
+        "SN-100",
+        "--description",
+        "multifunction tester",
+        "--calibration-due",
+        "2020-01-01",
+    ]);
+    let out = e.ok(&["instrument", "list"]);
+    assert!(out.contains("SN-100") && out.contains("lapsed"), "{out}");
+    let v: serde_json::Value =
+        serde_json::from_str(&e.ok(&["instrument", "list", "--json"])).unwrap();
+    assert_eq!(v[0]["calibration_due"], "2020-01-01");
+    let v: serde_json::Value = serde_json::from_str(&e.ok(&["visit", "list", "--json"])).unwrap();
+    assert_eq!(v, serde_json::json!([]));
+}
+
+#[test]
+fn a_database_from_a_newer_version_is_refused_and_left_untouched() {
+    let e = Env::new();
+    e.ok(&["init"]);
+    let conn = rusqlite::Connection::open(e.db()).unwrap();
+    conn.pragma_update(None, "journal_mode", "DELETE").unwrap();
+    conn.pragma_update(None, "user_version", 99).unwrap();
+    drop(conn);
+    let before = e.db_bytes();
+    e.cmd(&["property", "list"]).code(1).stderr(
+        predicate::str::contains("schema version 99")
+            .and(predicate::str::contains("left untouched")),
+    );
+    assert_eq!(
+        before,
+        e.db_bytes(),
+        "the newer database must be byte-identical"
+    );
+}
+
+#[test]
+fn demo_builds_a_database_and_reports() {
+    let e = Env::new();
+    let dir = e.dir.path().join("demo");
+    let out = Command::cargo_bin("ohmtrail")
+        .unwrap()
+        .args(["demo", "--dir"])
+        .arg(&dir)
+        .assert()
+        .success()
+        .get_output()
+        .stdout
+        .clone();
+    let out = String::from_utf8(out).unwrap();
+    assert!(out.contains("open first:"), "{out}");
+    let report = out
+        .lines()
+        .find_map(|l| l.strip_prefix("open first: "))
+        .unwrap();
+    let html = std::fs::read_to_string(report).unwrap();
+    assert!(html.contains("BS 7671"));
+    // Running it again starts from nothing and gives the same database contents.
+    Command::cargo_bin("ohmtrail")
+        .unwrap()
+        .args(["demo", "--dir"])
+        .arg(&dir)
+        .assert()
+        .success();
+    assert_eq!(html, std::fs::read_to_string(report).unwrap());
+}
