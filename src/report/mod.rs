@@ -3,6 +3,8 @@
 //! This first version tabulates each circuit's readings visit by visit; the trend charts and
 //! findings come with the trend engine.
 
+pub mod chart;
+
 use std::fmt::Write as _;
 
 use crate::error::Result;

@@ -4,9 +4,11 @@
 //! another process's import to finish. Register operations check their input and write nothing
 //! when it is wrong.
 
+mod history;
 pub mod migrate;
 mod visits;
 
+pub use history::PropertyHistory;
 pub use visits::{NewVisit, validate_readings};
 
 use std::path::{Path, PathBuf};

@@ -222,11 +222,12 @@ impl Store {
         )?)
     }
 
-    const RECORD_COLS: &'static str = "id, visit_id, circuit_id, r1r2_ohm, r2_ohm, r1rn_ohm,
+    pub(super) const RECORD_COLS: &'static str =
+        "id, visit_id, circuit_id, r1r2_ohm, r2_ohm, r1rn_ohm,
         ring_r1_ohm, ring_rn_ohm, ring_r2_ohm, zs_ohm, ir_ll_mohm, ir_ll_over, ir_le_mohm,
         ir_le_over, rcd_ms, rcd_5x_ms, limitations, note";
 
-    fn record_from_row(r: &Row) -> rusqlite::Result<TestRecord> {
+    pub(super) fn record_from_row(r: &Row) -> rusqlite::Result<TestRecord> {
         Self::record_from_row_at(r, 0)
     }
 
