@@ -30,6 +30,10 @@ pub enum Error {
         supported: i64,
     },
 
+    /// The database file is marked read-only.
+    #[error("database {path} is read-only and {why}: make it writable, or use a copy")]
+    ReadOnly { path: PathBuf, why: String },
+
     #[error("database {path}: {source}")]
     Database {
         path: PathBuf,

@@ -324,3 +324,20 @@ fn demo_builds_a_database_and_reports() {
         .success();
     assert_eq!(html, std::fs::read_to_string(report).unwrap());
 }
+
+#[test]
+fn a_read_only_database_can_be_read_but_not_written() {
+    let e = Env::with_board();
+    let mut perms = std::fs::metadata(e.db()).unwrap().permissions();
+    perms.set_readonly(true);
+    std::fs::set_permissions(e.db(), perms).unwrap();
+    let before = e.db_bytes();
+    assert!(e.ok(&["property", "list"]).contains("P-1"));
+    e.cmd(&["property", "add", "P-2"])
+        .code(1)
+        .stderr(predicate::str::contains("is read-only"));
+    e.cmd(&["circuit", "add", "P-1", "DB1", "1"])
+        .code(1)
+        .stderr(predicate::str::contains("is read-only"));
+    assert_eq!(before, e.db_bytes());
+}

@@ -30,6 +30,7 @@ pub const BUSY_TIMEOUT: Duration = Duration::from_secs(60);
 pub struct Store {
     conn: Connection,
     path: PathBuf,
+    read_only: bool,
 }
 
 /// A new property for the register.
@@ -146,23 +147,34 @@ impl Store {
             path: path.to_path_buf(),
             source,
         };
-        let conn = Connection::open_with_flags(
-            path,
+        // A file marked read-only is opened read-only even where the user could write it
+        // anyway (root), so that marking a database read-only protects it.
+        let read_only = std::fs::metadata(path)
+            .map(|m| m.permissions().readonly())
+            .unwrap_or(false);
+        let flags = if read_only {
+            OpenFlags::SQLITE_OPEN_READ_ONLY | OpenFlags::SQLITE_OPEN_NO_MUTEX
+        } else {
             OpenFlags::SQLITE_OPEN_READ_WRITE
                 | OpenFlags::SQLITE_OPEN_CREATE
-                | OpenFlags::SQLITE_OPEN_NO_MUTEX,
-        )
-        .map_err(db_err)?;
-        Store::setup(conn, path.to_path_buf())
+                | OpenFlags::SQLITE_OPEN_NO_MUTEX
+        };
+        let conn = Connection::open_with_flags(path, flags).map_err(db_err)?;
+        Store::setup(conn, path.to_path_buf(), read_only)
+    }
+
+    /// Whether this store was opened read-only (the file is marked read-only).
+    pub fn is_read_only(&self) -> bool {
+        self.read_only
     }
 
     /// A private database in memory, for tests and one-off computations.
     pub fn open_in_memory() -> Result<Store> {
         let conn = Connection::open_in_memory()?;
-        Store::setup(conn, PathBuf::from(":memory:"))
+        Store::setup(conn, PathBuf::from(":memory:"), false)
     }
 
-    fn setup(mut conn: Connection, path: PathBuf) -> Result<Store> {
+    fn setup(mut conn: Connection, path: PathBuf, read_only: bool) -> Result<Store> {
         let db_err = |source| Error::Database {
             path: path.clone(),
             source,
@@ -181,6 +193,21 @@ impl Store {
         }
         conn.pragma_update(None, "foreign_keys", true)
             .map_err(db_err)?;
+        if read_only {
+            if found < supported {
+                return Err(Error::ReadOnly {
+                    path,
+                    why: format!(
+                        "its schema (version {found}) needs upgrading to version {supported} first"
+                    ),
+                });
+            }
+            return Ok(Store {
+                conn,
+                path,
+                read_only,
+            });
+        }
         if path.as_os_str() != ":memory:" {
             conn.query_row("PRAGMA journal_mode = WAL", [], |_| Ok(()))
                 .map_err(db_err)?;
@@ -188,7 +215,11 @@ impl Store {
                 .map_err(db_err)?;
         }
         migrate::apply(&mut conn).map_err(db_err)?;
-        Ok(Store { conn, path })
+        Ok(Store {
+            conn,
+            path,
+            read_only,
+        })
     }
 
     pub fn path(&self) -> &Path {
@@ -217,6 +248,12 @@ impl Store {
                     Err(e)
                 }
             };
+        }
+        if self.read_only {
+            return Err(Error::ReadOnly {
+                path: self.path.clone(),
+                why: "this command writes to it".into(),
+            });
         }
         self.conn.execute_batch("BEGIN IMMEDIATE")?;
         match f(self) {
