@@ -19,7 +19,7 @@
 use chrono::NaiveDate;
 use serde::Serialize;
 
-use super::finding::{Finding, FindingKind, Projection, fmt_value};
+use super::finding::{Finding, FindingKind, Projection, fmt_fold, fmt_value};
 use super::project::{ProjectionInput, project, recommended_interval, years_between};
 use super::series::current_baseline;
 use super::stats::{least_squares, median, median_intercept, theil_sen};
@@ -393,21 +393,23 @@ fn step_finding(
     };
     let sentence = match (q, q.scale()) {
         (Quantity::Ze, _) => format!(
-            "Ze {verb} from {} to {} between the visits of {} and {}, beyond what the earlier readings explain; a rise in Ze is a supply or earthing matter to report to the network operator.",
+            "Ze {verb} from {} to {} between the visits of {} and {}, {} more than the earlier readings predicted (noise floor {}); a rise in Ze is a supply or earthing matter to report to the network operator.",
             fmt_value(q, from.value, from.censored),
             fmt_value(q, to.value, to.censored),
             from.date,
             to.date,
+            fmt_value(q, unexplained, false),
+            fmt_value(q, floor, false),
         ),
         (_, Scale::Log10) => format!(
-            "{} {verb} from {} to {} between the visits of {} and {}, {} {:.0}-fold fall that the earlier readings do not explain (noise floor a factor of {:.1}).",
+            "{} {verb} from {} to {} between the visits of {} and {}, {} {} fall that the earlier readings do not explain (noise floor a factor of {:.1}).",
             q.label(),
             fmt_value(q, from.value, from.censored),
             fmt_value(q, to.value, to.censored),
             from.date,
             to.date,
             if from.censored { "at least a" } else { "a" },
-            10f64.powf(unexplained),
+            fmt_fold(10f64.powf(unexplained)),
             10f64.powf(floor),
         ),
         _ => format!(
@@ -464,10 +466,10 @@ fn drift(w: &Work<'_>, adjusted: &[f64], floor: &super::NoiseFloor) -> Option<Fi
             fmt_value(q, f, false),
         ),
         (_, Scale::Log10) => format!(
-            "{} has {verb} {} {:.1}-fold over {years:.1} years (from {} to {}), beyond the noise floor of a factor of {:.1}.",
+            "{} has {verb} {} {} over {years:.1} years (from {} to {}), beyond the noise floor of a factor of {:.1}.",
             q.label(),
             if first.censored { "at least" } else { "about" },
-            10f64.powf(change),
+            fmt_fold(10f64.powf(change)),
             fmt_value(q, first.value, first.censored),
             fmt_value(q, last.value, last.censored),
             10f64.powf(f),

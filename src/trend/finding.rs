@@ -164,19 +164,30 @@ pub fn rank(findings: &mut [Finding]) {
     findings.sort_by(compare_urgency);
 }
 
-/// A reading in words: `0.52 Ω`, `2.0 MΩ`, `more than 200 MΩ`, `28 ms`.
+/// A reading or amount in words: `0.52 Ω`, `0.055 Ω`, `2.0 MΩ`, `more than 200 MΩ`, `28 ms`.
 pub(crate) fn fmt_value(q: Quantity, v: f64, censored: bool) -> String {
     let n = match q.unit() {
         "MΩ" if v >= 100.0 => format!("{v:.0}"),
         "MΩ" if v >= 1.0 => format!("{v:.1}"),
         "ms" => format!("{v:.0}"),
         _ if v >= 10.0 => format!("{v:.1}"),
+        // Floors and yearly slopes are often a few hundredths: keep a third place for them.
+        _ if v.abs() < 0.1 => format!("{v:.3}"),
         _ => format!("{v:.2}"),
     };
     if censored {
         format!("more than {n} {}", q.unit())
     } else {
         format!("{n} {}", q.unit())
+    }
+}
+
+/// A ratio in words: `12.5-fold`, `100-fold`.
+pub(crate) fn fmt_fold(ratio: f64) -> String {
+    if ratio >= 10.0 {
+        format!("{ratio:.0}-fold")
+    } else {
+        format!("{ratio:.1}-fold")
     }
 }
 
@@ -232,10 +243,13 @@ mod tests {
     #[test]
     fn values_in_words() {
         assert_eq!(fmt_value(Quantity::R1r2, 0.524, false), "0.52 Ω");
+        assert_eq!(fmt_value(Quantity::R1r2, 0.0551, false), "0.055 Ω");
         assert_eq!(fmt_value(Quantity::IrLe, 200.0, true), "more than 200 MΩ");
         assert_eq!(fmt_value(Quantity::IrLe, 2.0, false), "2.0 MΩ");
         assert_eq!(fmt_value(Quantity::IrLe, 0.4, false), "0.40 MΩ");
         assert_eq!(fmt_value(Quantity::Rcd, 28.4, false), "28 ms");
         assert_eq!(fmt_value(Quantity::Zs, 150.0, false), "150.0 Ω");
+        assert_eq!(fmt_fold(100.0), "100-fold");
+        assert_eq!(fmt_fold(2.54), "2.5-fold");
     }
 }

@@ -185,7 +185,7 @@ fn insulation_falling_from_over_range_to_two_megohms() {
     );
     let r = analyse(&two, FAR(), &cfg()).unwrap();
     assert_eq!(kinds(&r), vec![FindingKind::Drift]);
-    assert!(r.findings[0].sentence.contains("at least 100.0-fold"));
+    assert!(r.findings[0].sentence.contains("at least 100-fold"));
 
     // Censored readings only: no trend, nothing to report.
     let flat = Series::new(
