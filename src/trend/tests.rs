@@ -513,3 +513,70 @@ fn report_serialises_with_stable_keys() {
     assert_eq!(v["points"][0]["date"], "2012-03-01");
     assert!(v["findings"][0]["projection"].is_null());
 }
+
+mod properties {
+    use super::*;
+    use proptest::prelude::*;
+
+    fn dates(gaps: &[u32]) -> Vec<NaiveDate> {
+        let mut day = d(2000, 1, 1);
+        gaps.iter()
+            .map(|g| {
+                day += chrono::Duration::days(i64::from(*g));
+                day
+            })
+            .collect()
+    }
+
+    proptest! {
+        // Readings that never get worse give no step, drift or projection, whatever their
+        // spacing: a sign error in any detector would show here.
+        #[test]
+        fn readings_that_only_improve_are_never_flagged(
+            start in 0.1f64..5.0,
+            falls in proptest::collection::vec(0.0f64..0.5, 1..8),
+            gaps in proptest::collection::vec(30u32..3000, 8),
+        ) {
+            let ds = dates(&gaps);
+            let mut v = start;
+            let mut pts = vec![Point::raw(ds[0], v)];
+            for (i, f) in falls.iter().enumerate() {
+                v *= 1.0 - f;
+                pts.push(Point::raw(ds[i + 1], v));
+            }
+            let zs = Series::new(Quantity::Zs, pts.clone()).with_limit(Limit::max(start * 2.0));
+            let r = analyse(&zs, d(2100, 1, 1), &cfg()).unwrap();
+            prop_assert!(r.findings.is_empty(), "{:#?}", r.findings);
+
+            // The mirror image for insulation resistance: only rising.
+            let ir: Vec<Point> = pts.iter().map(|p| Point::raw(p.date, 10.0 / p.value)).collect();
+            let ir = Series::new(Quantity::IrLe, ir).with_limit(Limit::min(0.5));
+            let r = analyse(&ir, d(2100, 1, 1), &cfg()).unwrap();
+            prop_assert!(r.findings.is_empty(), "{:#?}", r.findings);
+        }
+
+        // Analysis does not panic on any finite, valid input.
+        #[test]
+        fn any_valid_series_is_analysed(
+            values in proptest::collection::vec((0.001f64..1000.0, any::<bool>()), 0..10),
+            gaps in proptest::collection::vec(1u32..5000, 10),
+            limit in 0.01f64..100.0,
+            reset in proptest::option::of(0usize..10),
+        ) {
+            let ds = dates(&gaps);
+            let pts: Vec<Point> = values
+                .iter()
+                .zip(&ds)
+                .map(|(&(v, c), &date)| if c { Point::over_range(date, v) } else { Point::raw(date, v) })
+                .collect();
+            for (q, l) in [(Quantity::R1r2, Limit::max(limit)), (Quantity::IrLl, Limit::min(limit))] {
+                let mut s = Series::new(q, pts.clone()).with_limit(l);
+                if let Some(i) = reset {
+                    s = s.with_reset(ds[i]);
+                }
+                let r = analyse(&s, d(2040, 1, 1), &cfg()).unwrap();
+                prop_assert!(r.findings.iter().all(|f| !f.sentence.is_empty()));
+            }
+        }
+    }
+}
