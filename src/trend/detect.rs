@@ -1,0 +1,616 @@
+//! The analysis of one series: limit check, steps, drift, Ze rise and projection; and the
+//! neutral divergence check over a pair of series.
+//!
+//! Only the current baseline is analysed: points on or after the latest register reset.
+//! Earlier baselines belong to wiring that has since been repaired or replaced, so the fall at
+//! a repair is neither a step nor an improvement, and a new baseline's first reading is not a
+//! step.
+//!
+//! Changes are judged on a working scale: the value itself, or log10 of it for insulation
+//! resistance. Only worsening counts (a rise, or a fall for IR); a reading that improves
+//! without a recorded repair is shown in the series but not flagged.
+//!
+//! Censored readings (over-range, a lower bound) are never used as values. A pair of readings
+//! is used only where the bound understates the worsening: for IR, a fall from `>200` to 2 is
+//! a fall of at least 200 → 2; for a maximum-limited quantity, a rise to an over-range reading
+//! is a rise of at least the bound. Two censored readings say nothing. Least squares, and so
+//! the projection, use uncensored readings only.
+
+use chrono::NaiveDate;
+use serde::Serialize;
+
+use super::finding::{Finding, FindingKind, Projection, fmt_fold, fmt_value};
+use super::project::{ProjectionInput, project, recommended_interval, years_between};
+use super::series::current_baseline;
+use super::stats::{least_squares, median, median_intercept, theil_sen};
+use super::{LimitKind, Point, Quantity, Scale, Series, TrendConfig, TrendError, Worse};
+
+/// Slopes of the current baseline, in the working scale per year (decades per year for IR).
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct Fit {
+    /// Uncensored points fitted.
+    pub n: usize,
+    pub least_squares_per_year: f64,
+    /// From three uncensored points on.
+    pub theil_sen_per_year: Option<f64>,
+    /// `None` with two points.
+    pub residual_se: Option<f64>,
+    /// The slope's standard error used for the projection: from the residuals, but never less
+    /// than the noise floor allows (see [`analyse`]).
+    pub slope_se_per_year: f64,
+}
+
+/// Everything known about one series after analysis.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct SeriesReport {
+    pub quantity: Quantity,
+    pub label: &'static str,
+    pub unit: &'static str,
+    pub scale: Scale,
+    /// All points, sorted by date, including those before the current baseline.
+    pub points: Vec<Point>,
+    /// The latest register reset, if any.
+    pub reset: Option<NaiveDate>,
+    /// Date of the first point of the current baseline.
+    pub baseline_start: Option<NaiveDate>,
+    pub baseline_len: usize,
+    /// Baseline points of a temperature-sensitive quantity with no ambient recorded, so not
+    /// normalised to 20 °C.
+    pub not_normalised: usize,
+    pub fit: Option<Fit>,
+    /// The fitted line's crossing of the limit, whether or not it falls before the next due
+    /// inspection.
+    pub projection: Option<Projection>,
+    /// Most urgent first.
+    pub findings: Vec<Finding>,
+    /// Why there is no trend, when there is none.
+    pub note: Option<String>,
+}
+
+/// The baseline in the working scale, x in years from the baseline's first point.
+struct Work<'a> {
+    q: Quantity,
+    pts: &'a [Point],
+    x: Vec<f64>,
+    y: Vec<f64>,
+    censored: Vec<bool>,
+    sign: f64,
+}
+
+fn to_work(q: Quantity, v: f64) -> f64 {
+    match q.scale() {
+        Scale::Linear => v,
+        Scale::Log10 => v.log10(),
+    }
+}
+
+fn from_work(q: Quantity, w: f64) -> f64 {
+    match q.scale() {
+        Scale::Linear => w,
+        Scale::Log10 => 10f64.powf(w),
+    }
+}
+
+impl<'a> Work<'a> {
+    fn new(q: Quantity, pts: &'a [Point]) -> Work<'a> {
+        let start = pts.first().map(|p| p.date);
+        Work {
+            q,
+            pts,
+            x: pts
+                .iter()
+                .map(|p| start.map_or(0.0, |s| years_between(s, p.date)))
+                .collect(),
+            y: pts.iter().map(|p| to_work(q, p.value)).collect(),
+            censored: pts.iter().map(|p| p.censored).collect(),
+            sign: match q.worse() {
+                Worse::Higher => 1.0,
+                Worse::Lower => -1.0,
+            },
+        }
+    }
+
+    /// The worsening from reading `a` to reading `b` (values `ya`, `yb`), at least; `None`
+    /// when censoring leaves it unknown.
+    fn worsening_at_least(&self, (ya, ca): (f64, bool), (yb, cb): (f64, bool)) -> Option<f64> {
+        let w = self.sign * (yb - ya);
+        match (ca, cb) {
+            (false, false) => Some(w),
+            // A fall from a lower bound: the true fall is larger.
+            (true, false) if self.sign < 0.0 && w > 0.0 => Some(w),
+            // A rise to a lower bound: the true rise is larger.
+            (false, true) if self.sign > 0.0 && w > 0.0 => Some(w),
+            _ => None,
+        }
+    }
+
+    /// Median of the usable pairwise slopes of `y` (Theil–Sen, censor-aware).
+    fn robust_slope(&self, y: &[f64]) -> Option<f64> {
+        let mut slopes = Vec::new();
+        for i in 0..y.len() {
+            for j in i + 1..y.len() {
+                let dx = self.x[j] - self.x[i];
+                if dx <= 0.0 {
+                    continue;
+                }
+                let pair = ((y[i], self.censored[i]), (y[j], self.censored[j]));
+                let usable = match (self.censored[i], self.censored[j]) {
+                    (false, false) => true,
+                    _ => self.worsening_at_least(pair.0, pair.1).is_some(),
+                };
+                if usable {
+                    slopes.push((y[j] - y[i]) / dx);
+                }
+            }
+        }
+        median(&mut slopes)
+    }
+
+    fn uncensored(&self) -> (Vec<f64>, Vec<f64>) {
+        let mut xs = Vec::new();
+        let mut ys = Vec::new();
+        for i in 0..self.y.len() {
+            if !self.censored[i] {
+                xs.push(self.x[i]);
+                ys.push(self.y[i]);
+            }
+        }
+        (xs, ys)
+    }
+}
+
+/// Analyses one series against the next due inspection date.
+///
+/// - Limit check on the last reading, from one visit on. A censored reading (a lower bound)
+///   fails a maximum only when the bound is past it, and never fails a minimum.
+/// - Steps, from the third point of the baseline on: the jump from the previous reading must
+///   exceed the noise floor, and so must its excess over what the earlier readings predict
+///   (their robust line when it is worsening, otherwise the previous reading). A found step is taken out of the later readings before going on, so one loose
+///   termination is one step, not a step and a drift.
+/// - Drift, from two points on: the robust slope times the baseline's span, against the
+///   floor at the first reading.
+/// - For Ze, steps and drift are reported as a Ze rise.
+/// - Projection: the least-squares line over uncensored readings. The slope's standard error
+///   is the residuals' (n ≥ 3), but the residual spread is taken as at least half the noise
+///   floor, so a few readings that happen to fall on a line do not give a falsely narrow
+///   range. Reasoned: a change beyond the floor between two readings is then beyond about
+///   1.4 standard deviations of their difference.
+/// - Approaching when the fitted line reaches the limit before `next_due` and its change over
+///   the baseline exceeds the floor (a slope within the noise projects nothing). The
+///   recommended interval is the whole months from the last visit to the earliest crossing.
+pub fn analyse(
+    series: &Series,
+    next_due: NaiveDate,
+    cfg: &TrendConfig,
+) -> Result<SeriesReport, TrendError> {
+    cfg.validate()?;
+    let q = series.quantity;
+    let points = series.sorted_points()?;
+    let reset = series.last_reset();
+    let base = current_baseline(&points, reset);
+    let mut report = SeriesReport {
+        quantity: q,
+        label: q.label(),
+        unit: q.unit(),
+        scale: q.scale(),
+        points: points.clone(),
+        reset,
+        baseline_start: base.first().map(|p| p.date),
+        baseline_len: base.len(),
+        not_normalised: if q.temperature_sensitive() {
+            base.iter()
+                .filter(|p| p.ambient_c.is_none() && !p.censored)
+                .count()
+        } else {
+            0
+        },
+        fit: None,
+        projection: None,
+        findings: Vec::new(),
+        note: None,
+    };
+    let Some(last) = base.last().copied() else {
+        report.note = Some(match (points.is_empty(), reset) {
+            (true, _) | (false, None) => "no readings".to_string(),
+            (false, Some(r)) => format!("no reading since the baseline was reset on {r}"),
+        });
+        return Ok(report);
+    };
+    let floor = cfg.floor_for(q);
+    let w = Work::new(q, base);
+
+    let mut findings = Vec::new();
+    let exceeds = limit_check(series, &last);
+    let exceeded = exceeds.is_some();
+    findings.extend(exceeds);
+
+    if base.len() < 2 {
+        report.note = Some("one visit in this baseline: no trend yet".to_string());
+    }
+
+    let adjusted = steps(&w, floor, &mut findings);
+    findings.extend(drift(&w, &adjusted, floor));
+
+    let (ux, uy) = w.uncensored();
+    if let Some(ls) = least_squares(&ux, &uy) {
+        let sigma_floor = floor.at(ls.y_mean) / 2.0;
+        let sigma = ls.residual_se.unwrap_or(0.0).max(sigma_floor);
+        let slope_se = sigma / ls.sxx.sqrt();
+        report.fit = Some(Fit {
+            n: ls.n,
+            least_squares_per_year: ls.slope,
+            theil_sen_per_year: (ls.n >= 3).then(|| theil_sen(&ux, &uy)).flatten(),
+            residual_se: ls.residual_se,
+            slope_se_per_year: slope_se,
+        });
+        if let Some(limit) = series.limit {
+            let x_last = *w.x.last().unwrap_or(&0.0);
+            let inp = ProjectionInput {
+                fit: &ls,
+                slope_se,
+                k: cfg.projection_k,
+                limit_work: to_work(q, limit.value),
+                limit: limit.value,
+                worse: q.worse(),
+                start: base[0].date,
+                x_last,
+                horizon_years: cfg.horizon_years,
+            };
+            report.projection = project(&inp);
+            let span = ux.last().unwrap_or(&0.0) - ux.first().unwrap_or(&0.0);
+            let beyond_noise = w.sign * ls.slope * span > floor.at(uy[0]);
+            if let Some(p) = report.projection
+                && !exceeded
+                && beyond_noise
+                && p.date < next_due
+            {
+                findings.push(approaching(q, &last, limit.value, &p, next_due));
+            }
+        }
+    } else if base.len() >= 2 {
+        report.note = Some("fewer than two uncensored readings: no fitted slope".to_string());
+    }
+
+    let margin = series
+        .limit
+        .map(|l| margin_used(l.kind, l.value, last.value));
+    for f in &mut findings {
+        f.last_value = last.value;
+        f.last_censored = last.censored;
+        f.limit = series.limit;
+        f.margin_used = margin;
+    }
+    super::finding::rank(&mut findings);
+    report.findings = findings;
+    Ok(report)
+}
+
+fn margin_used(kind: LimitKind, limit: f64, value: f64) -> f64 {
+    match kind {
+        LimitKind::Max => value / limit,
+        LimitKind::Min => limit / value,
+    }
+}
+
+fn limit_check(series: &Series, last: &Point) -> Option<Finding> {
+    let q = series.quantity;
+    let limit = series.limit?;
+    let past = match limit.kind {
+        // A lower bound above a maximum is past it; one below says nothing.
+        LimitKind::Max => last.value > limit.value,
+        // A lower bound can never show a reading below a minimum.
+        LimitKind::Min => !last.censored && last.value < limit.value,
+    };
+    if !past {
+        return None;
+    }
+    let (word, side) = match limit.kind {
+        LimitKind::Max => ("maximum", "above"),
+        LimitKind::Min => ("minimum", "below"),
+    };
+    let sentence = format!(
+        "{} at the last visit ({}) was {}, {side} the {word} of {}.",
+        q.label(),
+        last.date,
+        fmt_value(q, last.value, last.censored),
+        fmt_value(q, limit.value, false),
+    );
+    let mut f = Finding::new(FindingKind::Exceeds, q, last.date, sentence);
+    f.to_value = Some(last.value);
+    Some(f)
+}
+
+/// Finds steps, pushing a finding for each, and returns the working values with every found
+/// step taken out of the readings after it.
+fn steps(w: &Work<'_>, floor: &super::NoiseFloor, out: &mut Vec<Finding>) -> Vec<f64> {
+    let q = w.q;
+    let mut adj = w.y.clone();
+    for i in 2..adj.len() {
+        let prev = i - 1;
+        let Some(jump) =
+            w.worsening_at_least((adj[prev], w.censored[prev]), (adj[i], w.censored[i]))
+        else {
+            continue;
+        };
+        let f = floor.at(w.y[prev]);
+        if jump <= f {
+            continue;
+        }
+        let predicted = predict(w, &adj[..i], w.x[i]);
+        let unexplained = w.sign * (adj[i] - predicted);
+        if unexplained <= f {
+            continue;
+        }
+        let (from, to) = (&w.pts[prev], &w.pts[i]);
+        let shift = adj[i] - predicted;
+        for v in &mut adj[i..] {
+            *v -= shift;
+        }
+        out.push(step_finding(
+            q,
+            from,
+            to,
+            from_work(q, predicted),
+            unexplained,
+            f,
+        ));
+    }
+    adj
+}
+
+/// What the readings before `x` predict at `x`: their robust line when it is worsening and
+/// none of them is censored, else the last of them. An improving earlier line is not carried
+/// forward, since a noisy fall would otherwise make the next ordinary reading look like a step.
+fn predict(w: &Work<'_>, earlier: &[f64], x: f64) -> f64 {
+    let last = earlier[earlier.len() - 1];
+    if w.censored[..earlier.len()].iter().any(|&c| c) {
+        return last;
+    }
+    let xs = &w.x[..earlier.len()];
+    let Some(b) = theil_sen(xs, earlier) else {
+        return last;
+    };
+    if w.sign * b <= 0.0 {
+        return last;
+    }
+    match median_intercept(xs, earlier, b) {
+        Some(a) => a + b * x,
+        None => last,
+    }
+}
+
+fn step_finding(
+    q: Quantity,
+    from: &Point,
+    to: &Point,
+    predicted: f64,
+    unexplained: f64,
+    floor: f64,
+) -> Finding {
+    let verb = match q.worse() {
+        Worse::Higher => "rose",
+        Worse::Lower => "fell",
+    };
+    let sentence = match (q, q.scale()) {
+        (Quantity::Ze, _) => format!(
+            "Ze {verb} from {} to {} between the visits of {} and {}, {} more than the earlier readings predicted (noise floor {}); a rise in Ze is a supply or earthing matter to report to the network operator.",
+            fmt_value(q, from.value, from.censored),
+            fmt_value(q, to.value, to.censored),
+            from.date,
+            to.date,
+            fmt_value(q, unexplained, false),
+            fmt_value(q, floor, false),
+        ),
+        (_, Scale::Log10) => format!(
+            "{} {verb} from {} to {} between the visits of {} and {}, {} {} fall that the earlier readings do not explain (noise floor a factor of {:.1}).",
+            q.label(),
+            fmt_value(q, from.value, from.censored),
+            fmt_value(q, to.value, to.censored),
+            from.date,
+            to.date,
+            if from.censored { "at least a" } else { "a" },
+            fmt_fold(10f64.powf(unexplained)),
+            10f64.powf(floor),
+        ),
+        _ => format!(
+            "{} {verb} from {} to {} between the visits of {} and {}, {} more than the earlier readings predicted (about {}, noise floor {}); a sudden rise like this often means a termination working loose.",
+            q.label(),
+            fmt_value(q, from.value, from.censored),
+            fmt_value(q, to.value, to.censored),
+            from.date,
+            to.date,
+            fmt_value(q, unexplained, false),
+            fmt_value(q, predicted, false),
+            fmt_value(q, floor, false),
+        ),
+    };
+    let kind = if q == Quantity::Ze {
+        FindingKind::ZeRise
+    } else {
+        FindingKind::Step
+    };
+    let mut f = Finding::new(kind, q, to.date, sentence);
+    f.from_date = Some(from.date);
+    f.from_value = Some(from.value);
+    f.to_value = Some(to.value);
+    f.change = Some(unexplained);
+    f.floor = Some(floor);
+    f
+}
+
+fn drift(w: &Work<'_>, adjusted: &[f64], floor: &super::NoiseFloor) -> Option<Finding> {
+    let q = w.q;
+    let n = adjusted.len();
+    if n < 2 {
+        return None;
+    }
+    let slope = w.robust_slope(adjusted)?;
+    let years = w.x[n - 1] - w.x[0];
+    let change = w.sign * slope * years;
+    let f = floor.at(adjusted[0]);
+    if change <= f {
+        return None;
+    }
+    let (first, last) = (&w.pts[0], &w.pts[n - 1]);
+    let verb = match q.worse() {
+        Worse::Higher => "risen",
+        Worse::Lower => "fallen",
+    };
+    let sentence = match (q, q.scale()) {
+        (Quantity::Ze, _) => format!(
+            "Ze has {verb} by {} over {years:.1} years ({} a year, from {} to {}), beyond the noise floor of {}; a rise in Ze is a supply or earthing matter to report to the network operator.",
+            fmt_value(q, change, false),
+            fmt_value(q, slope, false),
+            fmt_value(q, first.value, first.censored),
+            fmt_value(q, last.value, last.censored),
+            fmt_value(q, f, false),
+        ),
+        (_, Scale::Log10) => format!(
+            "{} has {verb} {} {} over {years:.1} years (from {} to {}), beyond the noise floor of a factor of {:.1}.",
+            q.label(),
+            if first.censored { "at least" } else { "about" },
+            fmt_fold(10f64.powf(change)),
+            fmt_value(q, first.value, first.censored),
+            fmt_value(q, last.value, last.censored),
+            10f64.powf(f),
+        ),
+        _ => format!(
+            "{} has {verb} by {} over {years:.1} years ({} a year, from {} to {}), beyond the noise floor of {}.",
+            q.label(),
+            fmt_value(q, change, false),
+            fmt_value(q, slope, false),
+            fmt_value(q, first.value, first.censored),
+            fmt_value(q, last.value, last.censored),
+            fmt_value(q, f, false),
+        ),
+    };
+    let kind = if q == Quantity::Ze {
+        FindingKind::ZeRise
+    } else {
+        FindingKind::Drift
+    };
+    let mut out = Finding::new(kind, q, last.date, sentence);
+    out.from_date = Some(first.date);
+    out.from_value = Some(first.value);
+    out.to_value = Some(last.value);
+    out.change = Some(change);
+    out.floor = Some(f);
+    out.slope_per_year = Some(slope);
+    Some(out)
+}
+
+fn approaching(
+    q: Quantity,
+    last: &Point,
+    limit: f64,
+    p: &Projection,
+    next_due: NaiveDate,
+) -> Finding {
+    let months = recommended_interval(last.date, p.earliest, next_due);
+    let word = match q.worse() {
+        Worse::Higher => "maximum",
+        Worse::Lower => "minimum",
+    };
+    let latest = p
+        .latest
+        .map_or("later".to_string(), |d| d.format("%Y-%m").to_string());
+    let sentence = format!(
+        "{} is projected to reach its {word} of {} around {} (between {} and {}), before the next inspection due {next_due}; an interval of {months} months would re-test before the earliest projected crossing.",
+        q.label(),
+        fmt_value(q, limit, false),
+        p.date.format("%Y-%m"),
+        p.earliest.format("%Y-%m"),
+        latest,
+    );
+    let mut f = Finding::new(FindingKind::Approaching, q, last.date, sentence);
+    f.to_value = Some(last.value);
+    f.slope_per_year = Some(p.slope_per_year);
+    f.projection = Some(*p);
+    f.recommended_interval_months = Some(months);
+    f
+}
+
+/// R1+Rn rising relative to R1+R2 beyond what the conductor sizes predict.
+///
+/// `expected_ratio` is R1+Rn / R1+R2 for sound conductors, from their cross-sectional areas
+/// (for 2.5/1.5 cable (7.41 + 7.41) / (7.41 + 12.10) = 0.76 from IEC 60228). At each visit
+/// where both were read in both current baselines, the excess is `R1+Rn − ratio × R1+R2`.
+/// A sound circuit keeps its excess near a constant; a neutral working loose raises it while
+/// R1+R2 stays. Flagged when the last excess is above the median of the earlier ones by more
+/// than the noise floor at the first R1+Rn reading. A constant offset from the first visit
+/// (a different route, an approximate ratio) is not flagged: only a rise is.
+pub fn neutral_divergence(
+    r1r2: &Series,
+    r1rn: &Series,
+    expected_ratio: f64,
+    cfg: &TrendConfig,
+) -> Result<Option<Finding>, TrendError> {
+    cfg.validate()?;
+    for (s, want) in [(r1r2, Quantity::R1r2), (r1rn, Quantity::R1rn)] {
+        if s.quantity != want {
+            return Err(TrendError::WrongQuantity {
+                expected: want,
+                found: s.quantity,
+            });
+        }
+    }
+    if !expected_ratio.is_finite() || expected_ratio <= 0.0 {
+        return Err(TrendError::BadRatio {
+            value: expected_ratio,
+        });
+    }
+    let a = r1r2.sorted_points()?;
+    let b = r1rn.sorted_points()?;
+    let reset = r1r2.last_reset().max(r1rn.last_reset());
+    let (a, b) = (current_baseline(&a, reset), current_baseline(&b, reset));
+    let pairs: Vec<(&Point, &Point)> = b
+        .iter()
+        .filter(|p| !p.censored)
+        .filter_map(|pn| {
+            a.iter()
+                .find(|p2| p2.date == pn.date && !p2.censored)
+                .map(|p2| (p2, pn))
+        })
+        .collect();
+    let Some(((last2, lastn), earlier)) = pairs.split_last() else {
+        return Ok(None);
+    };
+    if earlier.is_empty() {
+        return Ok(None);
+    }
+    let excess = |p2: &Point, pn: &Point| pn.value - expected_ratio * p2.value;
+    let mut before: Vec<f64> = earlier.iter().map(|(p2, pn)| excess(p2, pn)).collect();
+    let Some(base_excess) = median(&mut before) else {
+        return Ok(None);
+    };
+    let rise = excess(last2, lastn) - base_excess;
+    let (first2, firstn) = earlier[0];
+    let floor = cfg.floor_for(Quantity::R1rn).at(firstn.value);
+    if rise <= floor {
+        return Ok(None);
+    }
+    let q = Quantity::R1rn;
+    let sentence = format!(
+        "R1+Rn rose from {} to {} between {} and {} while R1+R2 went from {} to {}: {} more than the conductor sizes predict (R1+Rn ≈ {:.2} × R1+R2, noise floor {}), which points to the neutral path.",
+        fmt_value(q, firstn.value, false),
+        fmt_value(q, lastn.value, false),
+        firstn.date,
+        lastn.date,
+        fmt_value(q, first2.value, false),
+        fmt_value(q, last2.value, false),
+        fmt_value(q, rise, false),
+        expected_ratio,
+        fmt_value(q, floor, false),
+    );
+    let mut f = Finding::new(FindingKind::NeutralDivergence, q, lastn.date, sentence);
+    f.from_date = Some(firstn.date);
+    f.from_value = Some(firstn.value);
+    f.to_value = Some(lastn.value);
+    let last = b.last().unwrap_or(lastn);
+    f.last_value = last.value;
+    f.last_censored = last.censored;
+    f.change = Some(rise);
+    f.floor = Some(floor);
+    f.limit = r1rn.limit;
+    Ok(Some(f))
+}
