@@ -34,6 +34,14 @@ impl MeasuredRule {
         MeasuredRule::RuleOfThumb80,
     ];
 
+    /// The rule in words for people.
+    pub fn words(self) -> &'static str {
+        match self {
+            MeasuredRule::RuleOfThumb80 => "80 % rule",
+            MeasuredRule::TemperatureCorrected => "temperature corrected",
+        }
+    }
+
     /// The word stored in a database's settings.
     pub fn as_str(self) -> &'static str {
         match self {
