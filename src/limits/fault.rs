@@ -181,8 +181,10 @@ pub fn evaluate_fault_paths(inputs: &FaultPathInputs) -> Result<FaultPathReport,
         (None, Some(e), Some(r)) => Some((e + r, format!("Ze + R1+R2 = {e:.2} + {r:.2}"))),
         _ => None,
     };
+    // On TT, Ze runs through the installation's electrode, so Ze + R1+Rn is not the
+    // line–neutral loop.
     let ln_z = match (ze, r1rn) {
-        (Some(e), Some(r)) => Some((e + r, format!("Ze + R1+Rn = {e:.2} + {r:.2}"))),
+        (Some(e), Some(r)) if !tt => Some((e + r, format!("Ze + R1+Rn = {e:.2} + {r:.2}"))),
         _ => None,
     };
     if earth_z.is_none() && ln_z.is_none() {
@@ -194,7 +196,11 @@ pub fn evaluate_fault_paths(inputs: &FaultPathInputs) -> Result<FaultPathReport,
         notes.push("earth fault path not judged: it needs Ze and R1+R2, or a measured Zs".into());
     }
     if ln_z.is_none() {
-        notes.push("line–neutral path not judged: it needs Ze and R1+Rn".into());
+        notes.push(if tt {
+            "line–neutral path not judged: on TT, Ze includes the earth electrode, so Ze + R1+Rn is not the line–neutral loop".into()
+        } else {
+            "line–neutral path not judged: it needs Ze and R1+Rn".into()
+        });
     }
 
     let time = inputs.disconnection.as_str();
@@ -502,11 +508,12 @@ mod tests {
         assert_eq!(e.limit_ohm, 1667.0);
         assert_eq!(e.outcome, PathOutcome::Within);
         assert!((e.used_pct - 85.6 / 1667.0 * 100.0).abs() < 1e-9);
-        // The line–neutral path is not seen by the RCD: still the device's limit.
-        // 85 + 0.5 Ω is far over 2.73 Ω.
-        assert_eq!(
-            r.line_neutral.unwrap().outcome,
-            PathOutcome::OverTabulatedLimit
+        // Ze on TT includes the electrode, so Ze + R1+Rn is not the line–neutral loop.
+        assert_eq!(r.line_neutral, None);
+        assert!(
+            r.notes
+                .iter()
+                .any(|n| n.contains("includes the earth electrode"))
         );
         // A TT Ze includes the electrode, so the 21 Ω typical figure is not compared.
         assert!(!r.notes.iter().any(|n| n.contains("advisory")));
