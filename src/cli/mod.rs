@@ -2,10 +2,12 @@
 //! opens nothing it does not need; all computation is in the library.
 
 pub mod board;
+pub mod check;
 pub mod circuit;
 pub mod demo;
 pub mod init;
 pub mod instrument;
+pub mod limits;
 pub mod output;
 pub mod property;
 pub mod visit;
@@ -54,6 +56,10 @@ pub enum Command {
     /// List the visits in the history
     #[command(subcommand)]
     Visit(visit::Cmd),
+    /// Show the published limits for a protective device, with their sources
+    Limits(limits::Args),
+    /// Judge one set of readings through the limits engine, to see what it concludes
+    Check(check::Args),
     /// Build an invented demo portfolio and write its trend report
     Demo(demo::Args),
 }
@@ -95,6 +101,8 @@ pub fn run(cli: Cli, out: &mut dyn Write) -> Result<()> {
         Command::Circuit(cmd) => circuit::run(&cmd, &ctx, out),
         Command::Instrument(cmd) => instrument::run(&cmd, &ctx, out),
         Command::Visit(cmd) => visit::run(&cmd, &ctx, out),
+        Command::Limits(args) => limits::run(&args, out),
+        Command::Check(args) => check::run(&args, out),
         Command::Demo(args) => demo::run(&args, out),
     }
 }

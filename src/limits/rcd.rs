@@ -1,0 +1,279 @@
+//! RCD operating times (BS EN 61008-1 / 61009-1) and which test is judged.
+//!
+//! Since BS 7671:2018+A2:2022 Regulation 643.8 the test at 5 × IΔn is the required one; a
+//! 1 × IΔn result is still accepted and judged when it is all there is.
+
+use std::fmt;
+
+use serde::{Deserialize, Serialize};
+
+use super::LimitsError;
+use super::source::{Source, SourceStatus};
+use crate::model::RcdType;
+
+/// General (non-delayed) or time-delayed (type S) operation.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum RcdTiming {
+    General,
+    Delayed,
+}
+
+impl RcdTiming {
+    /// Type S is delayed; every other marking is general.
+    pub fn of(rcd_type: RcdType) -> RcdTiming {
+        if rcd_type == RcdType::S {
+            RcdTiming::Delayed
+        } else {
+            RcdTiming::General
+        }
+    }
+}
+
+/// The test current as a multiple of IΔn.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum RcdTest {
+    AtRated,
+    AtTwice,
+    AtFive,
+}
+
+impl RcdTest {
+    pub fn as_str(self) -> &'static str {
+        match self {
+            RcdTest::AtRated => "1 × IΔn",
+            RcdTest::AtTwice => "2 × IΔn",
+            RcdTest::AtFive => "5 × IΔn",
+        }
+    }
+}
+
+impl fmt::Display for RcdTest {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.write_str(self.as_str())
+    }
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct RcdMax {
+    pub timing: RcdTiming,
+    pub test: RcdTest,
+    pub max_ms: f64,
+    pub source: Source,
+}
+
+/// Maximum operating time: general 300 / 150 / 40 ms, type S 500 / 200 / 150 ms at 1, 2, 5 × IΔn.
+pub fn rcd_max_ms(timing: RcdTiming, test: RcdTest) -> RcdMax {
+    let max_ms = match (timing, test) {
+        (RcdTiming::General, RcdTest::AtRated) => 300.0,
+        (RcdTiming::General, RcdTest::AtTwice) => 150.0,
+        (RcdTiming::General, RcdTest::AtFive) => 40.0,
+        (RcdTiming::Delayed, RcdTest::AtRated) => 500.0,
+        (RcdTiming::Delayed, RcdTest::AtTwice) => 200.0,
+        (RcdTiming::Delayed, RcdTest::AtFive) => 150.0,
+    };
+    let kind = match timing {
+        RcdTiming::General => "general (non-delayed) type",
+        RcdTiming::Delayed => "type S (time-delayed)",
+    };
+    RcdMax {
+        timing,
+        test,
+        max_ms,
+        source: Source::new("BS EN 61008-1 / BS EN 61009-1", SourceStatus::Published, "")
+            .with_rule(format!("{kind}: at most {max_ms} ms at {test}")),
+    }
+}
+
+/// RCD results for one circuit.
+#[derive(Debug, Clone, Copy, Default, PartialEq, Serialize, Deserialize)]
+pub struct RcdReadings {
+    pub rcd_type: Option<RcdType>,
+    pub at_rated_ms: Option<f64>,
+    pub at_five_ms: Option<f64>,
+}
+
+/// One test result against its maximum.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct RcdTestResult {
+    pub time_ms: f64,
+    pub max: RcdMax,
+    pub within: bool,
+    pub text: String,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct RcdJudgement {
+    pub timing: RcdTiming,
+    /// True when the type was not recorded and the stricter general times were used.
+    pub timing_assumed: bool,
+    /// The test the judgement rests on: 5 × IΔn when recorded (Reg 643.8), else 1 × IΔn.
+    pub judged: RcdTest,
+    pub result: RcdTestResult,
+    /// The other test when both were recorded, judged too but not the basis.
+    pub also: Option<RcdTestResult>,
+    pub notes: Vec<String>,
+    pub source: Source,
+}
+
+fn check_ms(what: &'static str, v: f64) -> Result<f64, LimitsError> {
+    if v.is_finite() && (0.0..=10_000.0).contains(&v) {
+        Ok(v)
+    } else {
+        Err(LimitsError::BadValue {
+            what,
+            value: v,
+            expected: "a trip time in milliseconds from 0 to 10000",
+        })
+    }
+}
+
+fn result(timing: RcdTiming, test: RcdTest, ms: f64) -> RcdTestResult {
+    let max = rcd_max_ms(timing, test);
+    let within = ms <= max.max_ms;
+    let text = if within {
+        format!("{ms} ms at {test} is within {} ms", max.max_ms)
+    } else {
+        format!(
+            "{ms} ms at {test} is over {} ms: the RCD may be too slow to give the protection expected of it",
+            max.max_ms
+        )
+    };
+    RcdTestResult {
+        time_ms: ms,
+        max,
+        within,
+        text,
+    }
+}
+
+/// Judge recorded RCD times, preferring the 5 × IΔn test.
+pub fn judge_rcd(r: &RcdReadings) -> Result<RcdJudgement, LimitsError> {
+    let rated = r
+        .at_rated_ms
+        .map(|v| check_ms("RCD time at 1 × IΔn", v))
+        .transpose()?;
+    let five = r
+        .at_five_ms
+        .map(|v| check_ms("RCD time at 5 × IΔn", v))
+        .transpose()?;
+    let (timing, timing_assumed) = match r.rcd_type {
+        Some(t) => (RcdTiming::of(t), false),
+        None => (RcdTiming::General, true),
+    };
+    let mut notes = Vec::new();
+    if timing_assumed {
+        notes.push(
+            "RCD type not recorded: the stricter general (non-delayed) times are used".to_string(),
+        );
+    }
+    let (judged, res, also) = match (five, rated) {
+        (Some(f), rated) => (
+            RcdTest::AtFive,
+            result(timing, RcdTest::AtFive, f),
+            rated.map(|x| result(timing, RcdTest::AtRated, x)),
+        ),
+        (None, Some(x)) => {
+            notes.push("only the 1 × IΔn test was recorded; BS 7671:2018+A2:2022 Reg 643.8 requires the 5 × IΔn test".to_string());
+            (RcdTest::AtRated, result(timing, RcdTest::AtRated, x), None)
+        }
+        (None, None) => return Err(LimitsError::NothingToJudge("no RCD trip time recorded")),
+    };
+    // Minimum non-actuating time for type S at 1 × IΔn, 130 ms (from memory).
+    if timing == RcdTiming::Delayed && rated.is_some_and(|x| x < 130.0) {
+        notes.push("a type S RCD tripped at 1 × IΔn in under 130 ms, its minimum non-actuating time (from memory): check the device is type S".to_string());
+    }
+    Ok(RcdJudgement {
+        timing,
+        timing_assumed,
+        judged,
+        result: res,
+        also,
+        notes,
+        source: Source::new(
+            "BS 7671:2018+A2:2022 Regulation 643.8",
+            SourceStatus::Published,
+            "the test at 5 × IΔn is the required one; 1 × IΔn is accepted when it is the only one recorded",
+        ),
+    })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn maximum_times() {
+        // BS EN 61008-1 / 61009-1 (reference): general 300 / 150 / 40 ms; type S 500 / 200 / 150 ms.
+        use RcdTest::*;
+        use RcdTiming::*;
+        for (timing, test, want) in [
+            (General, AtRated, 300.0),
+            (General, AtTwice, 150.0),
+            (General, AtFive, 40.0),
+            (Delayed, AtRated, 500.0),
+            (Delayed, AtTwice, 200.0),
+            (Delayed, AtFive, 150.0),
+        ] {
+            assert_eq!(rcd_max_ms(timing, test).max_ms, want);
+        }
+        assert_eq!(RcdTiming::of(RcdType::S), Delayed);
+        assert_eq!(RcdTiming::of(RcdType::A), General);
+    }
+
+    #[test]
+    fn five_times_is_preferred_and_named() {
+        // Invented readings: type A, 1 × 350 ms (over 300) but 5 × 18 ms (within 40).
+        // Reg 643.8: the 5 × test is the one judged; the 1 × result is shown as well.
+        let j = judge_rcd(&RcdReadings {
+            rcd_type: Some(RcdType::A),
+            at_rated_ms: Some(350.0),
+            at_five_ms: Some(18.0),
+        })
+        .unwrap();
+        assert_eq!(j.judged, RcdTest::AtFive);
+        assert!(j.result.within);
+        assert!(!j.also.as_ref().unwrap().within);
+        // Only 1 ×: judged, with a note.
+        let j = judge_rcd(&RcdReadings {
+            rcd_type: Some(RcdType::AC),
+            at_rated_ms: Some(250.0),
+            at_five_ms: None,
+        })
+        .unwrap();
+        assert_eq!(j.judged, RcdTest::AtRated);
+        assert!(j.result.within);
+        assert!(j.notes[0].contains("643.8"));
+    }
+
+    #[test]
+    fn type_s_gets_the_delayed_times() {
+        // Invented type S: 5 × 120 ms is within 150 ms; a general device would be over 40 ms.
+        let s = RcdReadings {
+            rcd_type: Some(RcdType::S),
+            at_rated_ms: None,
+            at_five_ms: Some(120.0),
+        };
+        assert!(judge_rcd(&s).unwrap().result.within);
+        let unknown = RcdReadings {
+            rcd_type: None,
+            ..s
+        };
+        let j = judge_rcd(&unknown).unwrap();
+        assert!(!j.result.within);
+        assert!(j.timing_assumed);
+    }
+
+    #[test]
+    fn refuses_nothing_and_nonsense() {
+        assert!(judge_rcd(&RcdReadings::default()).is_err());
+        assert!(
+            judge_rcd(&RcdReadings {
+                at_five_ms: Some(-3.0),
+                ..RcdReadings::default()
+            })
+            .is_err()
+        );
+    }
+}
