@@ -236,7 +236,7 @@ pub fn build(store: &Store) -> Result<DemoSummary> {
                             value: 200.0,
                             over_range: true,
                         }),
-                        rcd_5x_ms: c.rcd_ma.map(|_| rng.random_range(14.0_f64..24.0).round()),
+                        rcd_5x_ms: c.rcd_ma.map(|_| rng.random_range(17.0_f64..20.0).round()),
                         ..Default::default()
                     };
                     s.put_test_record(visit.id, *id, &readings)?;

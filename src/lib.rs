@@ -8,6 +8,7 @@
 //! - [`store`]: the SQLite history; the only module that talks SQL.
 //! - [`import`]: visit files in, with exact errors.
 
+pub mod analysis;
 pub mod demo;
 pub mod error;
 pub mod import;

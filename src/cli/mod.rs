@@ -5,11 +5,13 @@ pub mod board;
 pub mod check;
 pub mod circuit;
 pub mod demo;
+pub mod flags;
 pub mod init;
 pub mod instrument;
 pub mod limits;
 pub mod output;
 pub mod property;
+pub mod trend;
 pub mod visit;
 
 use std::io::Write;
@@ -21,7 +23,7 @@ use clap::{Parser, Subcommand};
 
 use ohmtrail::store::Store;
 
-const CAUTION: &str = "Caution: ohmtrail's figures support, and never replace, the judgement of a competent, \
+pub const CAUTION: &str = "Caution: ohmtrail's figures support, and never replace, the judgement of a competent, \
 licensed person inspecting and testing to BS 7671 or the local code. It assigns no condition codes.";
 
 /// Test history of rented homes' fixed wiring: see, visit after visit, which circuits are
@@ -56,6 +58,10 @@ pub enum Command {
     /// List the visits in the history
     #[command(subcommand)]
     Visit(visit::Cmd),
+    /// The portfolio worklist: circuits past, approaching or moving toward their limits, most urgent first
+    Flags(flags::Args),
+    /// Every series of a property's circuits with its points, slopes and findings
+    Trend(trend::Args),
     /// Show the published limits for a protective device, with their sources
     Limits(limits::Args),
     /// Judge one set of readings through the limits engine, to see what it concludes
@@ -101,6 +107,8 @@ pub fn run(cli: Cli, out: &mut dyn Write) -> Result<()> {
         Command::Circuit(cmd) => circuit::run(&cmd, &ctx, out),
         Command::Instrument(cmd) => instrument::run(&cmd, &ctx, out),
         Command::Visit(cmd) => visit::run(&cmd, &ctx, out),
+        Command::Flags(args) => flags::run(&args, &ctx, out),
+        Command::Trend(args) => trend::run(&args, &ctx, out),
         Command::Limits(args) => limits::run(&args, out),
         Command::Check(args) => check::run(&args, out),
         Command::Demo(args) => demo::run(&args, out),

@@ -413,7 +413,7 @@ fn step_finding(
             10f64.powf(floor),
         ),
         _ => format!(
-            "{} {verb} from {} to {} between the visits of {} and {}, {} more than the earlier readings predicted (about {}, noise floor {}); a sudden rise like this often means a termination working loose.",
+            "{} {verb} from {} to {} between the visits of {} and {}, {} more than the earlier readings predicted (about {}, noise floor {}); {}.",
             q.label(),
             fmt_value(q, from.value, from.censored),
             fmt_value(q, to.value, to.censored),
@@ -422,6 +422,7 @@ fn step_finding(
             fmt_value(q, unexplained, false),
             fmt_value(q, predicted, false),
             fmt_value(q, floor, false),
+            step_meaning(q),
         ),
     };
     let kind = if q == Quantity::Ze {
@@ -514,8 +515,18 @@ fn approaching(
     let latest = p
         .latest
         .map_or("later".to_string(), |d| d.format("%Y-%m").to_string());
+    let advice = if p.earliest <= last.date {
+        "the earliest projected crossing is already past, so it should be re-tested promptly"
+            .to_string()
+    } else if months <= 1 {
+        "a re-test within a month would come before the earliest projected crossing".to_string()
+    } else {
+        format!(
+            "an interval of {months} months would re-test before the earliest projected crossing"
+        )
+    };
     let sentence = format!(
-        "{} is projected to reach its {word} of {} around {} (between {} and {}), before the next inspection due {next_due}; an interval of {months} months would re-test before the earliest projected crossing.",
+        "{} is projected to reach its {word} of {} around {} (between {} and {}), before the next inspection due {next_due}; {advice}.",
         q.label(),
         fmt_value(q, limit, false),
         p.date.format("%Y-%m"),
@@ -534,10 +545,11 @@ fn approaching(
 ///
 /// `expected_ratio` is R1+Rn / R1+R2 for sound conductors, from their cross-sectional areas
 /// (for 2.5/1.5 cable (7.41 + 7.41) / (7.41 + 12.10) = 0.76 from IEC 60228). At each visit
-/// where both were read in both current baselines, the excess is `R1+Rn − ratio × R1+R2`.
-/// A sound circuit keeps its excess near a constant; a neutral working loose raises it while
-/// R1+R2 stays. Flagged when the last excess is above the median of the earlier ones by more
-/// than the noise floor at the first R1+Rn reading. A constant offset from the first visit
+/// where both were read in both current baselines, two excesses are formed: `R1+Rn − ratio ×
+/// R1+R2` (steady when both loops scale together) and `R1+Rn − R1+R2` = Rn − R2 (steady when
+/// only the shared line conductor changes). A neutral working loose raises both while R1+R2
+/// stays. Flagged when the smaller of the two rises, last excess over the median of the earlier
+/// ones, is more than the noise floor at the first R1+Rn reading. A constant offset from the first visit
 /// (a different route, an approximate ratio) is not flagged: only a rise is.
 pub fn neutral_divergence(
     r1r2: &Series,
@@ -578,12 +590,24 @@ pub fn neutral_divergence(
     if earlier.is_empty() {
         return Ok(None);
     }
-    let excess = |p2: &Point, pn: &Point| pn.value - expected_ratio * p2.value;
-    let mut before: Vec<f64> = earlier.iter().map(|(p2, pn)| excess(p2, pn)).collect();
-    let Some(base_excess) = median(&mut before) else {
+    // Two views of the same question, and the neutral is blamed only when both agree:
+    // - against the csa ratio, R1+Rn − ratio × R1+R2 stays put when both loops scale together
+    //   (a longer route, a warmer cable);
+    // - the gap R1+Rn − R1+R2 is Rn − R2: a fault on the shared line conductor raises both
+    //   loops alike and cancels there, where the ratio view would leak (1 − ratio) of it.
+    // A neutral working loose raises both views by the same amount.
+    let rise_of = |excess: &dyn Fn(&Point, &Point) -> f64| -> Option<f64> {
+        let mut before: Vec<f64> = earlier.iter().map(|(p2, pn)| excess(p2, pn)).collect();
+        let base = median(&mut before)?;
+        Some(excess(last2, lastn) - base)
+    };
+    let (Some(by_ratio), Some(by_gap)) = (
+        rise_of(&|p2, pn| pn.value - expected_ratio * p2.value),
+        rise_of(&|p2, pn| pn.value - p2.value),
+    ) else {
         return Ok(None);
     };
-    let rise = excess(last2, lastn) - base_excess;
+    let rise = by_ratio.min(by_gap);
     let (first2, firstn) = earlier[0];
     let floor = cfg.floor_for(Quantity::R1rn).at(firstn.value);
     if rise <= floor {
@@ -591,7 +615,7 @@ pub fn neutral_divergence(
     }
     let q = Quantity::R1rn;
     let sentence = format!(
-        "R1+Rn rose from {} to {} between {} and {} while R1+R2 went from {} to {}: {} more than the conductor sizes predict (R1+Rn ≈ {:.2} × R1+R2, noise floor {}), which points to the neutral path.",
+        "R1+Rn rose from {} to {} between {} and {} while R1+R2 went from {} to {}: R1+Rn gained {} more than R1+R2 (noise floor {}; for sound conductors of these sizes R1+Rn ≈ {:.2} × R1+R2), which points to the neutral path.",
         fmt_value(q, firstn.value, false),
         fmt_value(q, lastn.value, false),
         firstn.date,
@@ -599,8 +623,8 @@ pub fn neutral_divergence(
         fmt_value(q, first2.value, false),
         fmt_value(q, last2.value, false),
         fmt_value(q, rise, false),
-        expected_ratio,
         fmt_value(q, floor, false),
+        expected_ratio,
     );
     let mut f = Finding::new(FindingKind::NeutralDivergence, q, lastn.date, sentence);
     f.from_date = Some(firstn.date);
@@ -613,4 +637,20 @@ pub fn neutral_divergence(
     f.floor = Some(floor);
     f.limit = r1rn.limit;
     Ok(Some(f))
+}
+
+/// What a sudden rise in a quantity usually means on site, in words.
+fn step_meaning(q: Quantity) -> &'static str {
+    match q {
+        Quantity::Rcd => {
+            "an RCD that has become slower to operate should be tested again and its condition checked"
+        }
+        Quantity::R1rn => {
+            "a sudden rise like this often means a line or neutral termination working loose"
+        }
+        Quantity::R2 => {
+            "a sudden rise like this often means a protective conductor connection working loose"
+        }
+        _ => "a sudden rise like this often means a termination working loose",
+    }
 }

@@ -1,0 +1,344 @@
+//! A property's history judged and trended: the glue between the stored history, the limits
+//! engine and the trend engine.
+//!
+//! [`analyse`] is pure: it takes a [`PropertyHistory`] (loaded by the store) and settings, and
+//! returns every circuit's series, findings and flags. [`worklist`] walks the portfolio one
+//! property at a time, so memory stays bounded by the largest property.
+
+mod series;
+pub mod settings;
+
+use std::collections::HashMap;
+
+use chrono::{Months, NaiveDate};
+use serde::Serialize;
+
+use crate::error::Result;
+use crate::limits::{self, DisconnectionChoice, FaultPathReport, RingCheck, Source, ZsLimit};
+use crate::model::{Board, Circuit, Device, Observation, Property, Readings, Visit};
+use crate::store::{PropertyHistory, Store};
+use crate::trend::{self, Finding, FindingKind, SeriesReport, Severity};
+
+pub use settings::Settings;
+
+/// One entry of the worklist: a reading against a limit, or a change, on one circuit.
+/// The field names are a contract (see the README's `flags` schema).
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Flag {
+    pub property_ref: String,
+    pub board: String,
+    /// `None` for a supply (Ze) flag, which belongs to the board's origin.
+    pub circuit: Option<String>,
+    pub description: Option<String>,
+    /// One of `ze`, `zs`, `r1r2`, `r1rn`, `r2`, `ring`, `ir_ll`, `ir_le`, `rcd`.
+    pub quantity: &'static str,
+    /// `exceeds`, `approaching` or `changed`.
+    pub severity: &'static str,
+    /// What was found: `exceeds`, `approaching`, `step`, `drift`, `neutral_divergence`, `ze_rise`,
+    /// `ring_check`.
+    pub kind: &'static str,
+    /// One sentence with the figures.
+    pub reason: String,
+    pub last_value: f64,
+    pub last_date: NaiveDate,
+    pub limit: Option<f64>,
+    pub projected_date: Option<NaiveDate>,
+    pub projected_earliest: Option<NaiveDate>,
+    pub limit_source: Option<String>,
+    /// Share of the limit used by the last reading, in per cent.
+    pub margin_used_pct: Option<f64>,
+    pub recommended_interval_months: Option<u32>,
+    #[serde(skip)]
+    finding: Finding,
+}
+
+impl Flag {
+    /// The trend finding behind the flag, for ranking.
+    pub fn finding(&self) -> &Finding {
+        &self.finding
+    }
+}
+
+/// A series of one quantity on one circuit (or origin), with the limit it was judged against.
+#[derive(Debug, Clone, Serialize)]
+pub struct SeriesAnalysis {
+    pub quantity: &'static str,
+    pub label: String,
+    /// How the points were formed, e.g. "Ze + R1+R2 (Zs not measured)".
+    pub basis: Option<String>,
+    pub limit: Option<f64>,
+    /// What the limit is, in words, e.g. "measured-value maximum Zs at 20 °C".
+    pub limit_words: Option<String>,
+    pub limit_source: Option<Source>,
+    /// Register events on this circuit's lineage: (date, what).
+    pub events: Vec<(NaiveDate, String)>,
+    pub report: SeriesReport,
+}
+
+/// One circuit in service, with its lineage merged into one history.
+#[derive(Debug, Clone, Serialize)]
+pub struct CircuitAnalysis {
+    pub board: String,
+    pub circuit: Circuit,
+    /// Where the history came from, oldest first: "CU1/4", then "DB2/7".
+    pub lineage: Vec<String>,
+    pub disconnection: Option<DisconnectionChoice>,
+    pub zs_limit: Option<ZsLimit>,
+    /// The last visit's readings through both fault paths.
+    pub fault_paths: Option<FaultPathReport>,
+    pub ring_check: Option<RingCheck>,
+    pub last_visit: Option<NaiveDate>,
+    pub last_readings: Option<Readings>,
+    pub series: Vec<SeriesAnalysis>,
+    pub flags: Vec<Flag>,
+    /// Why something could not be judged (a limit not tabulated, a device not recorded).
+    pub notes: Vec<String>,
+}
+
+/// A visit as the report lists it.
+#[derive(Debug, Clone, Serialize)]
+pub struct VisitInfo {
+    #[serde(flatten)]
+    pub visit: Visit,
+    /// `Some(true)` when the instrument was within calibration on the visit date.
+    pub instrument_in_calibration: Option<bool>,
+    pub observations: Vec<Observation>,
+}
+
+/// How many circuits are in each state (a circuit counts once, at its worst).
+#[derive(Debug, Clone, Copy, Default, PartialEq, Eq, Serialize)]
+pub struct Counts {
+    pub exceeds: usize,
+    pub approaching: usize,
+    pub changed: usize,
+    pub circuits: usize,
+}
+
+/// Everything ohmtrail concludes about one property.
+#[derive(Debug, Clone, Serialize)]
+pub struct PropertyAnalysis {
+    pub property: Property,
+    pub boards: Vec<Board>,
+    pub visits: Vec<VisitInfo>,
+    pub last_visit: Option<NaiveDate>,
+    /// Last visit plus the property's interval.
+    pub next_due: Option<NaiveDate>,
+    /// The next inspection ohmtrail recommends: earlier than `next_due` when a projection
+    /// reaches a limit before it.
+    pub recommended_next: Option<NaiveDate>,
+    pub recommended_interval_months: Option<u32>,
+    /// Ze at the origin, visit by visit.
+    pub supply: Option<SeriesAnalysis>,
+    pub circuits: Vec<CircuitAnalysis>,
+    /// Every flag on the property, most urgent first.
+    pub flags: Vec<Flag>,
+    pub counts: Counts,
+    /// Visits with no ambient temperature: their readings are compared as taken.
+    pub visits_without_ambient: Vec<NaiveDate>,
+    pub settings: Settings,
+}
+
+/// Severity as the JSON contract spells it.
+pub fn severity_key(s: Severity) -> &'static str {
+    match s {
+        Severity::Exceeds => "exceeds",
+        Severity::Approaching => "approaching",
+        Severity::Changed => "changed",
+    }
+}
+
+fn kind_key(k: FindingKind) -> &'static str {
+    match k {
+        FindingKind::Step => "step",
+        FindingKind::Drift => "drift",
+        FindingKind::NeutralDivergence => "neutral_divergence",
+        FindingKind::ZeRise => "ze_rise",
+        FindingKind::Exceeds => "exceeds",
+        FindingKind::Approaching => "approaching",
+    }
+}
+
+/// Add whole months to a date, clamping to the month's end.
+pub fn add_months(d: NaiveDate, months: u32) -> NaiveDate {
+    d.checked_add_months(Months::new(months)).unwrap_or(d)
+}
+
+/// Judge and trend one property's history.
+pub fn analyse(h: &PropertyHistory, settings: &Settings) -> PropertyAnalysis {
+    let last_visit = h.visits.last().map(|v| v.date);
+    let next_due = last_visit.map(|d| add_months(d, h.property.interval_months));
+    // With no visit yet nothing is due from the history; trends need a date to project to.
+    let horizon = next_due.unwrap_or(settings.today);
+
+    let boards_by_id: HashMap<i64, &Board> = h.boards.iter().map(|b| (b.id, b)).collect();
+    let origin = h
+        .boards
+        .iter()
+        .find(|b| b.fed_from.is_none() && b.status == crate::model::Status::InService)
+        .or_else(|| h.boards.first());
+
+    let supply = series::supply_series(h, origin, horizon, settings);
+
+    let mut circuits = Vec::new();
+    for c in h
+        .circuits
+        .iter()
+        .filter(|c| c.status == crate::model::Status::InService)
+    {
+        let board = boards_by_id.get(&c.board_id).copied();
+        circuits.push(series::circuit_analysis(h, c, board, horizon, settings));
+    }
+
+    let mut flags: Vec<Flag> = Vec::new();
+    if let (Some(s), Some(o)) = (&supply, origin) {
+        for f in &s.report.findings {
+            flags.push(make_flag(&h.property, &o.designation, None, None, s, f));
+        }
+    }
+    let mut counts = Counts {
+        circuits: circuits.len(),
+        ..Default::default()
+    };
+    for c in &circuits {
+        match c.flags.iter().map(|f| f.finding.severity).max() {
+            Some(Severity::Exceeds) => counts.exceeds += 1,
+            Some(Severity::Approaching) => counts.approaching += 1,
+            Some(Severity::Changed) => counts.changed += 1,
+            None => {}
+        }
+        flags.extend(c.flags.iter().cloned());
+    }
+    rank_flags(&mut flags);
+
+    let recommended_interval_months = flags
+        .iter()
+        .filter_map(|f| f.recommended_interval_months)
+        .min();
+    let recommended_next = match (last_visit, recommended_interval_months) {
+        (Some(l), Some(m)) => Some(add_months(l, m.max(1))),
+        _ => next_due,
+    };
+
+    let visits = h
+        .visits
+        .iter()
+        .map(|v| VisitInfo {
+            visit: v.clone(),
+            instrument_in_calibration: v.instrument.as_ref().and_then(|serial| {
+                h.calibration
+                    .iter()
+                    .find(|(s, _)| s == serial)
+                    .and_then(|(_, due)| due.map(|due| v.date <= due))
+            }),
+            observations: h
+                .observations
+                .iter()
+                .filter(|o| o.visit_id == v.id)
+                .cloned()
+                .collect(),
+        })
+        .collect();
+
+    PropertyAnalysis {
+        property: h.property.clone(),
+        boards: h.boards.clone(),
+        visits,
+        last_visit,
+        next_due,
+        recommended_next,
+        recommended_interval_months,
+        supply,
+        circuits,
+        flags,
+        counts,
+        visits_without_ambient: h
+            .visits
+            .iter()
+            .filter(|v| v.ambient_c.is_none())
+            .map(|v| v.date)
+            .collect(),
+        settings: settings.clone(),
+    }
+}
+
+/// Sort flags most urgent first: exceeds, then approaching, then changed.
+pub fn rank_flags(flags: &mut [Flag]) {
+    flags.sort_by(|a, b| {
+        trend::compare_urgency(&a.finding, &b.finding)
+            .then_with(|| a.property_ref.cmp(&b.property_ref))
+            .then_with(|| a.board.cmp(&b.board))
+            .then_with(|| a.circuit.cmp(&b.circuit))
+    });
+}
+
+fn make_flag(
+    property: &Property,
+    board: &str,
+    circuit: Option<&Circuit>,
+    _device: Option<&Device>,
+    s: &SeriesAnalysis,
+    f: &Finding,
+) -> Flag {
+    let limit = f.limit.map(|l| l.value).or(s.limit);
+    Flag {
+        property_ref: property.reference.clone(),
+        board: board.to_string(),
+        circuit: circuit.map(|c| c.number.clone()),
+        description: circuit.and_then(|c| c.description.clone()),
+        quantity: s.quantity,
+        severity: severity_key(f.severity),
+        kind: kind_key(f.kind),
+        reason: f.sentence.clone(),
+        last_value: f.last_value,
+        last_date: f.date,
+        limit,
+        projected_date: f.projection.map(|p| p.date),
+        projected_earliest: f.projection.map(|p| p.earliest),
+        limit_source: limit.and(s.limit_source.as_ref()).map(source_text),
+        margin_used_pct: f.margin_used.map(|m| (m * 1000.0).round() / 10.0),
+        recommended_interval_months: f.recommended_interval_months,
+        finding: f.clone(),
+    }
+}
+
+/// A source as one line of text: citation, then its status.
+pub fn source_text(s: &Source) -> String {
+    format!("{} ({})", s.citation, s.status.as_str())
+}
+
+/// Which properties the worklist covers.
+#[derive(Debug, Clone, Default)]
+pub struct WorklistFilter {
+    pub property: Option<String>,
+}
+
+/// The portfolio worklist: every flag, most urgent first, one property in memory at a time.
+pub fn worklist(store: &Store, settings: &Settings, filter: &WorklistFilter) -> Result<Vec<Flag>> {
+    let ids = match &filter.property {
+        Some(r) => vec![store.property(r)?.id],
+        None => store.property_ids()?,
+    };
+    let mut flags = Vec::new();
+    for id in ids {
+        let history = store.history(id)?;
+        let analysis = analyse(&history, settings);
+        flags.extend(analysis.flags);
+    }
+    rank_flags(&mut flags);
+    Ok(flags)
+}
+
+/// Load and analyse one property by reference.
+pub fn analyse_property(
+    store: &Store,
+    reference: &str,
+    settings: &Settings,
+) -> Result<PropertyAnalysis> {
+    let p = store.property(reference)?;
+    Ok(analyse(&store.history(p.id)?, settings))
+}
+
+/// Turn a limits error into a note; analysis carries on without that limit.
+fn note_limits_error(notes: &mut Vec<String>, what: &str, e: &limits::LimitsError) {
+    notes.push(format!("{what}: {e}"));
+}

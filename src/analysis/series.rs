@@ -1,0 +1,713 @@
+//! Building each circuit's series from the history, with the limit each is judged against.
+
+use std::collections::{HashMap, HashSet};
+
+use chrono::NaiveDate;
+
+use super::{CircuitAnalysis, Flag, SeriesAnalysis, Settings, make_flag, note_limits_error};
+use crate::limits::{
+    self, CircuitFacts, CircuitUse, FaultPathInputs, IrCircuit, MeasuredRule, RcdTest, RcdTiming,
+    RingReadings, RingTolerance, Source, SourceStatus, TestConditions,
+};
+use crate::model::{
+    Board, ChangeKind, Circuit, CircuitKind, Earthing, Megohms, Readings, TestRecord, Visit,
+};
+use crate::store::PropertyHistory;
+use crate::trend::{self, Finding, FindingKind, Limit, Point, Quantity, RingLeg, Series, Severity};
+
+/// One reading of the lineage: the visit and the circuit's readings at it.
+struct Row<'a> {
+    visit: &'a Visit,
+    readings: &'a Readings,
+    /// Ze at the circuit's board at that visit (Zdb for a sub-board), else at the origin.
+    ze: Option<f64>,
+}
+
+/// A resistance reading as a point: normalised to 20 °C when the ambient is known.
+fn resistance_point(date: NaiveDate, raw: f64, ambient: Option<f64>) -> Option<Point> {
+    if !raw.is_finite() || raw < 0.0 {
+        return None;
+    }
+    Some(
+        match ambient.and_then(|t| limits::to_r20(raw, t).ok().map(|v| (t, v))) {
+            Some((t, v)) => Point::normalised(date, raw, v, t),
+            None => Point::raw(date, raw),
+        },
+    )
+}
+
+fn ir_point(date: NaiveDate, m: Megohms) -> Option<Point> {
+    if !m.value.is_finite() || m.value <= 0.0 {
+        return None;
+    }
+    Some(if m.over_range {
+        Point::over_range(date, m.value)
+    } else {
+        Point::raw(date, m.value)
+    })
+}
+
+/// The supply: Ze at the origin, visit by visit, against the typical declared maximum.
+pub(super) fn supply_series(
+    h: &PropertyHistory,
+    origin: Option<&Board>,
+    horizon: NaiveDate,
+    settings: &Settings,
+) -> Option<SeriesAnalysis> {
+    let origin_id = origin.map(|b| b.id);
+    let points: Vec<Point> = h
+        .visits
+        .iter()
+        .filter_map(|v| {
+            let at_board = origin_id.and_then(|id| {
+                h.board_tests
+                    .iter()
+                    .find(|t| t.0 == v.id && t.1 == id)
+                    .and_then(|t| t.2)
+            });
+            at_board
+                .or(v.ze_ohm)
+                .filter(|z| z.is_finite() && *z >= 0.0)
+                .map(|z| Point::raw(v.date, z))
+        })
+        .collect();
+    if points.is_empty() {
+        return None;
+    }
+    let advisory = origin.and_then(|b| b.earthing).map(limits::typical_max_ze);
+    let mut series = Series::new(Quantity::Ze, points);
+    // The declared maximum is advice, not a limit: it is shown, and a rise is reported, but it
+    // is not the basis of an "exceeds".
+    let report = trend::analyse(&series, horizon, &settings.trend).ok()?;
+    series.limit = None;
+    let mut report = report;
+    if let (Some(a), Some(last)) = (&advisory, report.points.last())
+        && let Some(note) = a.note_for(last.value)
+    {
+        let mut f = Finding::new(
+            FindingKind::ZeRise,
+            Quantity::Ze,
+            last.date,
+            format!("{note}: tell the network operator and check the main earthing and bonding"),
+        );
+        f.last_value = last.value;
+        f.limit = Some(Limit::max(a.typical_max_ze_ohm));
+        if !report
+            .findings
+            .iter()
+            .any(|x| x.kind == FindingKind::ZeRise)
+        {
+            report.findings.push(f);
+        }
+    }
+    for f in &mut report.findings {
+        if f.kind == FindingKind::ZeRise && !f.sentence.contains("network operator") {
+            f.sentence = format!(
+                "{}; a rising Ze is a supply or earthing matter to report to the network operator",
+                f.sentence.trim_end_matches('.')
+            );
+        }
+    }
+    Some(SeriesAnalysis {
+        quantity: "ze",
+        label: "Ze at the origin".into(),
+        basis: Some("as measured; Ze is not corrected for temperature".into()),
+        limit: advisory.as_ref().map(|a| a.typical_max_ze_ohm),
+        limit_words: advisory
+            .as_ref()
+            .map(|a| format!("typical maximum declared for {} (advisory)", a.earthing)),
+        limit_source: advisory.map(|a| a.source),
+        events: Vec::new(),
+        report,
+    })
+}
+
+/// The lineage of a circuit: the circuits it replaced, oldest first, then itself.
+fn lineage<'a>(c: &'a Circuit, by_id: &HashMap<i64, &'a Circuit>) -> Vec<&'a Circuit> {
+    let mut chain = vec![c];
+    let mut seen = HashSet::from([c.id]);
+    while let Some(prev) = chain.last().and_then(|x| x.replaces) {
+        match by_id.get(&prev) {
+            Some(p) if seen.insert(p.id) => chain.push(p),
+            _ => break,
+        }
+    }
+    chain.reverse();
+    chain
+}
+
+fn event_words(
+    kind: ChangeKind,
+    field: Option<&str>,
+    old: Option<&str>,
+    new: Option<&str>,
+) -> String {
+    let what = kind.as_str().replace('_', " ");
+    match (field, old, new) {
+        (Some(f), Some(o), Some(n)) if f != "circuit" => format!("{what}: {f} {o} → {n}"),
+        (_, Some(o), Some(n)) => format!("{what}: {o} → {n}"),
+        _ => what,
+    }
+}
+
+pub(super) fn circuit_analysis(
+    h: &PropertyHistory,
+    c: &Circuit,
+    board: Option<&Board>,
+    horizon: NaiveDate,
+    settings: &Settings,
+) -> CircuitAnalysis {
+    let by_id: HashMap<i64, &Circuit> = h.circuits.iter().map(|x| (x.id, x)).collect();
+    let boards: HashMap<i64, &Board> = h.boards.iter().map(|b| (b.id, b)).collect();
+    let chain = lineage(c, &by_id);
+    let chain_ids: HashSet<i64> = chain.iter().map(|x| x.id).collect();
+    let board_name = board.map(|b| b.designation.clone()).unwrap_or_default();
+    let lineage_labels = chain
+        .iter()
+        .map(|x| {
+            let b = boards
+                .get(&x.board_id)
+                .map(|b| b.designation.as_str())
+                .unwrap_or("?");
+            format!("{b}/{}", x.number)
+        })
+        .collect();
+
+    let visits: HashMap<i64, &Visit> = h.visits.iter().map(|v| (v.id, v)).collect();
+    let mut rows: Vec<(Row, &TestRecord)> = h
+        .records
+        .iter()
+        .filter(|r| chain_ids.contains(&r.circuit_id))
+        .filter_map(|r| {
+            let visit = visits.get(&r.visit_id)?;
+            let ze_board = h
+                .board_tests
+                .iter()
+                .find(|t| {
+                    t.0 == r.visit_id
+                        && t.1 == by_id.get(&r.circuit_id).map(|x| x.board_id).unwrap_or(-1)
+                })
+                .and_then(|t| t.2);
+            Some((
+                Row {
+                    visit,
+                    readings: &r.readings,
+                    ze: ze_board.or(visit.ze_ohm),
+                },
+                r,
+            ))
+        })
+        .collect();
+    rows.sort_by_key(|(row, r)| (row.visit.date, r.circuit_id == c.id));
+    // Two lineage circuits read at one visit (should not happen): keep the later circuit's.
+    rows.dedup_by(|later, earlier| {
+        if later.0.visit.date == earlier.0.visit.date {
+            std::mem::swap(later, earlier);
+            true
+        } else {
+            false
+        }
+    });
+    let rows: Vec<Row> = rows.into_iter().map(|(row, _)| row).collect();
+
+    let mut events = Vec::new();
+    let mut resets = Vec::new();
+    for ch in h
+        .changes
+        .iter()
+        .filter(|x| chain_ids.contains(&x.circuit_id))
+    {
+        if ch.kind == ChangeKind::Retired {
+            continue;
+        }
+        events.push((
+            ch.date,
+            event_words(
+                ch.kind,
+                ch.field.as_deref(),
+                ch.old_value.as_deref(),
+                ch.new_value.as_deref(),
+            ),
+        ));
+        if ch.kind.resets_baseline() {
+            resets.push(ch.date);
+        }
+    }
+
+    let mut notes = Vec::new();
+    let earthing = board.and_then(|b| b.earthing);
+    let tt = earthing == Some(Earthing::Tt);
+
+    let disconnection = match limits::default_disconnection(&CircuitFacts {
+        circuit_use: (c.kind == CircuitKind::Ring).then_some(CircuitUse::Sockets),
+        rating_a: c.device.map(|d| d.rating_a()),
+        recorded_s: c.disconnect_s,
+        earthing,
+    }) {
+        Ok(d) => Some(d),
+        Err(e) => {
+            note_limits_error(&mut notes, "disconnection time", &e);
+            None
+        }
+    };
+
+    let zs_limit = match (c.device, &disconnection) {
+        (Some(d), Some(t)) if !tt => match limits::max_zs(&d, t.time) {
+            Ok(z) => Some(z),
+            Err(e) => {
+                note_limits_error(&mut notes, "maximum Zs", &e);
+                None
+            }
+        },
+        (None, _) => {
+            notes.push(
+                "protective device not recorded: Zs and R1+Rn are not judged against a limit"
+                    .into(),
+            );
+            None
+        }
+        _ => None,
+    };
+
+    // The Zs limit the series are compared with: readings are normalised to 20 °C, so the
+    // measured-value limit is taken at 20 °C.
+    let (loop_limit, loop_words, loop_source): (Option<f64>, Option<String>, Option<Source>) = if tt
+    {
+        match c.rcd_ma.map(limits::tt_rcd_zs_max) {
+            Some(Ok(l)) => (
+                Some(l.zs_max_ohm),
+                Some(format!(
+                    "maximum Zs for a TT circuit with a {} mA RCD (50 V / IΔn)",
+                    l.rcd_ma
+                )),
+                Some(l.source),
+            ),
+            Some(Err(e)) => {
+                note_limits_error(&mut notes, "TT limit", &e);
+                (None, None, None)
+            }
+            None => {
+                notes.push(
+                    "TT circuit without an RCD recorded: earth fault loop not judged here".into(),
+                );
+                (None, None, None)
+            }
+        }
+    } else if let Some(z) = &zs_limit {
+        match limits::measured_limit(
+            z.zs_max_ohm,
+            settings.limits.measured_rule,
+            &TestConditions {
+                temp_c: Some(20.0),
+                insulation: c.insulation,
+            },
+        ) {
+            Ok(m) => (
+                Some(m.limit_ohm),
+                Some(match settings.limits.measured_rule {
+                    MeasuredRule::TemperatureCorrected => format!(
+                        "measured-value maximum Zs for {} at 20 °C ({} tabulated)",
+                        z.device_text, z.zs_max_ohm
+                    ),
+                    MeasuredRule::RuleOfThumb80 => format!(
+                        "80 % of the tabulated {} Ω for {}",
+                        z.zs_max_ohm, z.device_text
+                    ),
+                }),
+                Some(Source {
+                    citation: format!("{}; {}", z.source.citation, m.source.citation).into(),
+                    status: if m.source.status == SourceStatus::Published {
+                        z.source.status
+                    } else {
+                        m.source.status
+                    },
+                    rule: m.source.rule.clone(),
+                }),
+            ),
+            Err(e) => {
+                note_limits_error(&mut notes, "measured-value limit", &e);
+                (None, None, None)
+            }
+        }
+    } else {
+        (None, None, None)
+    };
+
+    let last_ze = rows.iter().rev().find_map(|r| r.ze);
+
+    let resistance = |get: &dyn Fn(&Readings) -> Option<f64>| -> Vec<Point> {
+        rows.iter()
+            .filter_map(|r| {
+                get(r.readings).and_then(|v| resistance_point(r.visit.date, v, r.visit.ambient_c))
+            })
+            .collect()
+    };
+
+    let mut out: Vec<SeriesAnalysis> = Vec::new();
+    let mut run = |quantity: Quantity,
+                   key: &'static str,
+                   label: &str,
+                   basis: Option<String>,
+                   points: Vec<Point>,
+                   limit: Option<Limit>,
+                   limit_words: Option<String>,
+                   source: Option<Source>,
+                   notes: &mut Vec<String>| {
+        if points.is_empty() {
+            return;
+        }
+        let mut s = Series::new(quantity, points);
+        s.baseline_resets = resets.clone();
+        s.limit = limit;
+        match trend::analyse(&s, horizon, &settings.trend) {
+            Ok(report) => out.push(SeriesAnalysis {
+                quantity: key,
+                label: label.to_string(),
+                basis,
+                limit: limit.map(|l| l.value),
+                limit_words,
+                limit_source: source,
+                events: events.clone(),
+                report,
+            }),
+            Err(e) => notes.push(format!("{label}: not analysed: {e}")),
+        }
+    };
+
+    // Zs: measured where it was, otherwise Ze + R1+R2. Only the circuit's own part is
+    // corrected for temperature; Ze is the supply's.
+    let mut derived = 0;
+    let zs_points: Vec<Point> = rows
+        .iter()
+        .filter_map(|r| {
+            let amb = r.visit.ambient_c;
+            let r1r2 = r.readings.r1r2_ohm;
+            let (raw, circuit_raw, ze) = match (r.readings.zs_ohm, r.ze, r1r2) {
+                (Some(zs), ze, r12) => {
+                    let part = r12.or(ze.map(|z| (zs - z).max(0.0))).unwrap_or(zs);
+                    (zs, part, zs - part)
+                }
+                (None, Some(ze), Some(r12)) => {
+                    derived += 1;
+                    (ze + r12, r12, ze)
+                }
+                _ => return None,
+            };
+            let p = resistance_point(r.visit.date, circuit_raw, amb)?;
+            Some(match p.ambient_c {
+                Some(t) => Point::normalised(r.visit.date, raw, ze + p.value, t),
+                None => Point::raw(r.visit.date, raw),
+            })
+        })
+        .collect();
+    let zs_basis = if derived == 0 {
+        "measured Zs".to_string()
+    } else if derived == zs_points.len() {
+        "Ze + R1+R2 (Zs not measured)".to_string()
+    } else {
+        format!("measured Zs; Ze + R1+R2 at {derived} visit(s) where Zs was not measured")
+    };
+    run(
+        Quantity::Zs,
+        "zs",
+        "Zs",
+        Some(format!(
+            "{zs_basis}; circuit part corrected to 20 °C where the ambient was recorded"
+        )),
+        zs_points,
+        loop_limit.map(Limit::max),
+        loop_words.clone(),
+        loop_source.clone(),
+        &mut notes,
+    );
+    run(
+        Quantity::R1r2,
+        "r1r2",
+        "R1+R2",
+        Some("corrected to 20 °C where the ambient was recorded".into()),
+        resistance(&|r| r.r1r2_ohm),
+        None,
+        None,
+        None,
+        &mut notes,
+    );
+    run(
+        Quantity::R2,
+        "r2",
+        "R2",
+        Some("corrected to 20 °C where the ambient was recorded".into()),
+        resistance(&|r| r.r2_ohm),
+        None,
+        None,
+        None,
+        &mut notes,
+    );
+    // The line–neutral loop Ze + R1+Rn is judged against the same device limit: the limit on
+    // R1+Rn alone is that limit less the latest Ze.
+    let rn_limit = match (loop_limit, last_ze) {
+        (Some(l), Some(z)) if !tt && l > z => Some(((l - z) * 100.0).floor() / 100.0),
+        _ => None,
+    };
+    run(
+        Quantity::R1rn,
+        "r1rn",
+        "R1+Rn",
+        Some("corrected to 20 °C where the ambient was recorded".into()),
+        resistance(&|r| r.r1rn_ohm),
+        rn_limit.map(Limit::max),
+        rn_limit.map(|l| {
+            format!(
+                "line–neutral loop: {} less the latest Ze {:.2} Ω = {l:.2} Ω",
+                loop_words.clone().unwrap_or_default(),
+                last_ze.unwrap_or_default()
+            )
+        }),
+        loop_source.clone(),
+        &mut notes,
+    );
+    for (leg, label, get) in [
+        (
+            RingLeg::R1,
+            "ring r1",
+            (|r: &Readings| r.ring_r1_ohm) as fn(&Readings) -> Option<f64>,
+        ),
+        (RingLeg::Rn, "ring rn", |r: &Readings| r.ring_rn_ohm),
+        (RingLeg::R2, "ring r2", |r: &Readings| r.ring_r2_ohm),
+    ] {
+        run(
+            Quantity::Ring(leg),
+            "ring",
+            label,
+            Some("end-to-end, corrected to 20 °C where the ambient was recorded".into()),
+            resistance(&get),
+            None,
+            None,
+            None,
+            &mut notes,
+        );
+    }
+    let ir_min = limits::ir_minimum(IrCircuit::UpTo500V);
+    for (q, key, label, get) in [
+        (
+            Quantity::IrLl,
+            "ir_ll",
+            "IR L–L",
+            (|r: &Readings| r.ir_ll) as fn(&Readings) -> Option<Megohms>,
+        ),
+        (Quantity::IrLe, "ir_le", "IR L–E", |r: &Readings| r.ir_le),
+    ] {
+        let points = rows
+            .iter()
+            .filter_map(|r| get(r.readings).and_then(|m| ir_point(r.visit.date, m)))
+            .collect();
+        run(
+            q,
+            key,
+            label,
+            Some("as measured; over-range readings are lower bounds".into()),
+            points,
+            Some(Limit::min(ir_min.minimum_mohm)),
+            Some(format!(
+                "minimum for a circuit up to 500 V, {} V test",
+                ir_min.test_voltage_v
+            )),
+            Some(ir_min.source.clone()),
+            &mut notes,
+        );
+    }
+    // RCD: the 5 × IΔn test where any was recorded (the required one since A2:2022), otherwise 1 × IΔn.
+    let five: Vec<Point> = rows
+        .iter()
+        .filter_map(|r| r.readings.rcd_5x_ms.map(|v| Point::raw(r.visit.date, v)))
+        .collect();
+    let (rcd_points, test) = if five.is_empty() {
+        (
+            rows.iter()
+                .filter_map(|r| r.readings.rcd_ms.map(|v| Point::raw(r.visit.date, v)))
+                .collect(),
+            RcdTest::AtRated,
+        )
+    } else {
+        (five, RcdTest::AtFive)
+    };
+    let timing = RcdTiming::of(c.rcd_type.unwrap_or(crate::model::RcdType::A));
+    let rcd_max = limits::rcd_max_ms(timing, test);
+    run(
+        Quantity::Rcd,
+        "rcd",
+        &format!("RCD trip time at {}", test.as_str()),
+        Some(format!("as measured at {}", test.as_str())),
+        rcd_points,
+        Some(Limit::max(rcd_max.max_ms)),
+        Some(format!(
+            "maximum for a {} RCD at {}",
+            if timing == RcdTiming::Delayed {
+                "time-delayed (S)"
+            } else {
+                "general"
+            },
+            test.as_str()
+        )),
+        Some(rcd_max.source.clone()),
+        &mut notes,
+    );
+
+    let last = rows.last();
+    let mut findings: Vec<(usize, Finding)> = Vec::new();
+    let has_r1r2 = out.iter().any(|s| s.quantity == "r1r2");
+    for (i, s) in out.iter().enumerate() {
+        for f in &s.report.findings {
+            // Zs changes are told by the R1+R2 and Ze series; Zs keeps its limit findings.
+            if s.quantity == "zs" && has_r1r2 && f.severity == Severity::Changed {
+                continue;
+            }
+            findings.push((i, f.clone()));
+        }
+    }
+
+    // Neutral divergence needs the conductor sizes to know the expected ratio.
+    if let (Some(i12), Some(i1n)) = (
+        out.iter().position(|s| s.quantity == "r1r2"),
+        out.iter().position(|s| s.quantity == "r1rn"),
+    ) {
+        match expected_rn_ratio(c) {
+            Some(ratio) => {
+                let mk = |s: &SeriesAnalysis, q| {
+                    let mut x = Series::new(q, s.report.points.clone());
+                    x.baseline_resets = resets.clone();
+                    x
+                };
+                if let Ok(Some(f)) = trend::neutral_divergence(
+                    &mk(&out[i12], Quantity::R1r2),
+                    &mk(&out[i1n], Quantity::R1rn),
+                    ratio,
+                    &settings.trend,
+                ) {
+                    // The divergence says it better than a bare R1+Rn step or drift.
+                    findings.retain(|(j, g)| {
+                        !(*j == i1n && matches!(g.kind, FindingKind::Step | FindingKind::Drift))
+                    });
+                    findings.push((i1n, f));
+                }
+            }
+            None => {
+                notes.push("conductor sizes not recorded: R1+Rn is not compared with R1+R2".into())
+            }
+        }
+    }
+
+    // The ring relations at the last visit where the ends were read.
+    let mut ring_check = None;
+    if c.kind == CircuitKind::Ring
+        && let Some(r) = rows
+            .iter()
+            .rev()
+            .find(|r| r.readings.ring_r1_ohm.is_some() && r.readings.ring_rn_ohm.is_some())
+    {
+        let rr = RingReadings {
+            r1_ohm: r.readings.ring_r1_ohm.unwrap_or_default(),
+            rn_ohm: r.readings.ring_rn_ohm.unwrap_or_default(),
+            r2_ohm: r.readings.ring_r2_ohm,
+            live_mm2: c.live_mm2,
+            cpc_mm2: c.cpc_mm2,
+            r1r2_ohm: r.readings.r1r2_ohm,
+            r1rn_ohm: r.readings.r1rn_ohm,
+        };
+        match limits::check_ring(&rr, &RingTolerance::default()) {
+            Ok(check) => {
+                if let Some(i) = out.iter().position(|s| s.quantity == "ring")
+                    && last.is_some_and(|l| l.visit.date == r.visit.date)
+                {
+                    for rf in &check.findings {
+                        let mut f = Finding::new(
+                            FindingKind::Exceeds,
+                            Quantity::Ring(RingLeg::R1),
+                            r.visit.date,
+                            rf.text.clone(),
+                        );
+                        f.last_value = rr.r1_ohm;
+                        findings.push((i, f));
+                    }
+                }
+                ring_check = Some(check);
+            }
+            Err(e) => note_limits_error(&mut notes, "ring check", &e),
+        }
+    }
+
+    let fault_paths = match (c.device, &disconnection, last) {
+        (Some(device), Some(t), Some(l)) => {
+            let mut inputs = FaultPathInputs::new(device, t.time);
+            inputs.earthing = earthing;
+            inputs.rcd_ma = c.rcd_ma;
+            inputs.ze_ohm = l.ze;
+            inputs.r1r2_ohm = l.readings.r1r2_ohm;
+            inputs.r1rn_ohm = l.readings.r1rn_ohm;
+            inputs.zs_ohm = l.readings.zs_ohm;
+            inputs.conditions = TestConditions {
+                temp_c: l.visit.ambient_c,
+                insulation: c.insulation,
+            };
+            inputs.rule = settings.limits.measured_rule;
+            limits::evaluate_fault_paths(&inputs).ok()
+        }
+        _ => None,
+    };
+
+    let property = &h.property;
+    let mut flags: Vec<Flag> = findings
+        .iter()
+        .map(|(i, f)| {
+            let mut flag = make_flag(
+                property,
+                &board_name,
+                Some(c),
+                c.device.as_ref(),
+                &out[*i],
+                f,
+            );
+            if out[*i].quantity == "ring"
+                && f.kind == FindingKind::Exceeds
+                && f.projection.is_none()
+                && f.limit.is_none()
+            {
+                flag.kind = "ring_check";
+                flag.limit = Some(RingTolerance::default().ends_ohm);
+                flag.limit_source = ring_check.as_ref().map(|rc| super::source_text(&rc.source));
+            }
+            flag
+        })
+        .collect();
+    // The worklist keeps one flag per quantity and kind: the latest step, not every step.
+    flags.sort_by(|a, b| {
+        (a.quantity, a.kind)
+            .cmp(&(b.quantity, b.kind))
+            .then(b.last_date.cmp(&a.last_date))
+    });
+    flags.dedup_by(|later, earlier| {
+        later.quantity == earlier.quantity && later.kind == earlier.kind
+    });
+    super::rank_flags(&mut flags);
+
+    CircuitAnalysis {
+        board: board_name,
+        circuit: c.clone(),
+        lineage: lineage_labels,
+        disconnection,
+        zs_limit,
+        fault_paths,
+        ring_check,
+        last_visit: last.map(|l| l.visit.date),
+        last_readings: last.map(|l| l.readings.clone()),
+        series: out,
+        flags,
+        notes,
+    }
+}
+
+/// R1+Rn / R1+R2 for sound copper conductors of the recorded sizes (IEC 60228 resistances).
+fn expected_rn_ratio(c: &Circuit) -> Option<f64> {
+    let live = limits::copper_mohm_per_m(c.live_mm2?).ok()?.mohm_per_m;
+    let cpc = limits::copper_mohm_per_m(c.cpc_mm2?).ok()?.mohm_per_m;
+    Some((live + live) / (live + cpc))
+}

@@ -1,0 +1,78 @@
+use std::io::Write;
+
+use anyhow::Result;
+use clap::Args as ClapArgs;
+
+use ohmtrail::analysis::{Settings, WorklistFilter, worklist};
+
+use super::output::{json, table};
+use super::{CAUTION, Context, today};
+
+#[derive(ClapArgs, Debug)]
+pub struct Args {
+    /// Only this property
+    #[arg(long)]
+    pub property: Option<String>,
+    /// Print the worklist as a JSON array (schema in the README)
+    #[arg(long)]
+    pub json: bool,
+}
+
+pub fn run(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
+    let store = ctx.open()?;
+    let settings = Settings::load(&store, today())?;
+    let flags = worklist(
+        &store,
+        &settings,
+        &WorklistFilter {
+            property: args.property.clone(),
+        },
+    )?;
+    if args.json {
+        return json(out, &flags);
+    }
+    if flags.is_empty() {
+        writeln!(
+            out,
+            "nothing to report: no circuit exceeds, approaches or has moved beyond the noise floor"
+        )?;
+        writeln!(out, "{CAUTION}")?;
+        return Ok(());
+    }
+    let rows = flags
+        .iter()
+        .enumerate()
+        .map(|(i, f)| {
+            vec![
+                (i + 1).to_string(),
+                f.severity.to_string(),
+                f.property_ref.clone(),
+                match &f.circuit {
+                    Some(c) => format!("{}/{c}", f.board),
+                    None => format!("{} origin", f.board),
+                },
+                f.quantity.to_string(),
+                f.projected_date
+                    .map(|d| d.to_string())
+                    .unwrap_or_else(|| "-".into()),
+                f.reason.clone(),
+            ]
+        })
+        .collect();
+    table(
+        out,
+        &[
+            "#",
+            "SEVERITY",
+            "PROPERTY",
+            "CIRCUIT",
+            "QUANTITY",
+            "PROJECTED",
+            "REASON",
+        ],
+        rows,
+    )?;
+    writeln!(out)?;
+    writeln!(out, "{CAUTION}")?;
+    Ok(())
+}
