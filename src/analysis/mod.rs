@@ -7,6 +7,8 @@
 
 mod series;
 pub mod settings;
+#[cfg(test)]
+mod tests;
 
 use std::collections::HashMap;
 

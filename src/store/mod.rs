@@ -288,6 +288,12 @@ impl Store {
         Ok(())
     }
 
+    pub fn delete_setting(&self, key: &str) -> Result<()> {
+        self.conn
+            .execute("DELETE FROM setting WHERE key = ?1", [key])?;
+        Ok(())
+    }
+
     // ----- clients and properties -----
 
     /// The client's id, creating the client on first sight.
