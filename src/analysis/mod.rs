@@ -316,15 +316,16 @@ pub struct WorklistFilter {
 
 /// The portfolio worklist: every flag, most urgent first, one property in memory at a time.
 pub fn worklist(store: &Store, settings: &Settings, filter: &WorklistFilter) -> Result<Vec<Flag>> {
-    let ids = match &filter.property {
-        Some(r) => vec![store.property(r)?.id],
-        None => store.property_ids()?,
-    };
     let mut flags = Vec::new();
-    for id in ids {
-        let history = store.history(id)?;
-        let analysis = analyse(&history, settings);
-        flags.extend(analysis.flags);
+    match &filter.property {
+        Some(r) => {
+            let id = store.property(r)?.id;
+            flags.extend(analyse(&store.history(id)?, settings).flags);
+        }
+        None => store.for_each_history(|h| {
+            flags.extend(analyse(&h, settings).flags);
+            Ok(())
+        })?,
     }
     rank_flags(&mut flags);
     Ok(flags)

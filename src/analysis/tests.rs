@@ -332,3 +332,26 @@ fn a_missing_ambient_is_said() {
     let a = analyse_property(&s, "T-1", &settings()).unwrap();
     assert_eq!(a.visits_without_ambient, vec![d(2020, 5, 1)]);
 }
+
+#[test]
+fn the_streamed_portfolio_matches_property_by_property() {
+    let s = Store::open_in_memory().unwrap();
+    crate::demo::build(&s).unwrap();
+    let all = flags_of(&s);
+    assert!(!all.is_empty());
+    let mut one_by_one = Vec::new();
+    for p in s.list_properties().unwrap() {
+        one_by_one.extend(
+            worklist(
+                &s,
+                &settings(),
+                &WorklistFilter {
+                    property: Some(p.property_ref),
+                },
+            )
+            .unwrap(),
+        );
+    }
+    rank_flags(&mut one_by_one);
+    assert_eq!(all, one_by_one);
+}

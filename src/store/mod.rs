@@ -453,10 +453,10 @@ impl Store {
         })
     }
 
-    const BOARD_COLS: &'static str = "b.id, b.property_id, b.designation, b.location,
+    pub(super) const BOARD_COLS: &'static str = "b.id, b.property_id, b.designation, b.location,
         (SELECT f.designation FROM board f WHERE f.id = b.fed_from_board_id), b.earthing, b.status";
 
-    fn board_from_row(r: &Row) -> rusqlite::Result<Board> {
+    pub(super) fn board_from_row(r: &Row) -> rusqlite::Result<Board> {
         let earthing: Option<String> = r.get(5)?;
         let status: String = r.get(6)?;
         Ok(Board {
@@ -515,10 +515,11 @@ impl Store {
 
     // ----- circuits -----
 
-    const CIRCUIT_COLS: &'static str = "id, board_id, number, description, kind, live_mm2, cpc_mm2,
+    pub(super) const CIRCUIT_COLS: &'static str =
+        "id, board_id, number, description, kind, live_mm2, cpc_mm2,
         length_m, device, rcd_ma, rcd_type, insulation, disconnect_s, status, replaces_circuit_id";
 
-    fn circuit_from_row(r: &Row) -> rusqlite::Result<Circuit> {
+    pub(super) fn circuit_from_row(r: &Row) -> rusqlite::Result<Circuit> {
         let kind: String = r.get(4)?;
         let device: Option<String> = r.get(8)?;
         let rcd_type: Option<String> = r.get(10)?;

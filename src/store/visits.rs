@@ -78,11 +78,11 @@ impl Store {
         })
     }
 
-    const VISIT_COLS: &'static str = "v.id, v.property_id, v.date, v.inspector,
+    pub(super) const VISIT_COLS: &'static str = "v.id, v.property_id, v.date, v.inspector,
         (SELECT i.serial FROM instrument i WHERE i.id = v.instrument_id),
         v.ambient_c, v.ze_ohm, v.pfc_ka, v.state";
 
-    fn visit_from_row(r: &Row) -> rusqlite::Result<Visit> {
+    pub(super) fn visit_from_row(r: &Row) -> rusqlite::Result<Visit> {
         let state: String = r.get(8)?;
         Ok(Visit {
             id: r.get(0)?,
