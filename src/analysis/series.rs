@@ -678,15 +678,24 @@ pub(super) fn circuit_analysis(
             flag
         })
         .collect();
-    // The worklist keeps one flag per quantity and kind: the latest step, not every step.
+    // The worklist keeps one flag per quantity: the most severe, and among changes the most
+    // telling (a step before a divergence before a drift), the latest first. The report still
+    // shows every finding under its series.
+    let telling = |k: &str| match k {
+        "exceeds" | "ring_check" => 0,
+        "approaching" => 1,
+        "step" => 2,
+        "neutral_divergence" => 3,
+        "ze_rise" => 4,
+        _ => 5,
+    };
     flags.sort_by(|a, b| {
-        (a.quantity, a.kind)
-            .cmp(&(b.quantity, b.kind))
+        a.quantity
+            .cmp(b.quantity)
+            .then(telling(a.kind).cmp(&telling(b.kind)))
             .then(b.last_date.cmp(&a.last_date))
     });
-    flags.dedup_by(|later, earlier| {
-        later.quantity == earlier.quantity && later.kind == earlier.kind
-    });
+    flags.dedup_by(|later, earlier| later.quantity == earlier.quantity);
     super::rank_flags(&mut flags);
 
     CircuitAnalysis {

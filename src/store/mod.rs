@@ -470,6 +470,31 @@ impl Store {
         })
     }
 
+    /// Take a board out of service (replaced or removed). Its circuits must be retired or
+    /// replaced first, so that no circuit in service hangs off a retired board.
+    pub fn retire_board(&self, property_id: i64, designation: &str) -> Result<()> {
+        self.atomic(|s| {
+            let b = s.board_opt(property_id, designation)?.ok_or_else(|| {
+                Error::not_found("board", designation)
+            })?;
+            let in_service = s
+                .circuits(b.id)?
+                .into_iter()
+                .filter(|c| c.status == Status::InService)
+                .count();
+            if in_service > 0 {
+                return Err(Error::invalid(format!(
+                    "board {designation:?} still has {in_service} circuit(s) in service: retire or replace them first"
+                )));
+            }
+            s.conn.execute(
+                "UPDATE board SET status = 'retired' WHERE id = ?1",
+                [b.id],
+            )?;
+            Ok(())
+        })
+    }
+
     pub fn board_opt(&self, property_id: i64, designation: &str) -> Result<Option<Board>> {
         let sql = format!(
             "SELECT {} FROM board b WHERE b.property_id = ?1 AND b.designation = ?2",
