@@ -173,6 +173,14 @@ struct DemoBoard {
     circuits: Vec<DemoCircuit>,
 }
 
+/// An observation recorded at a visit (by index), optionally on (board, circuit).
+type DemoObservation = (
+    usize,
+    ObservationCode,
+    Option<(&'static str, &'static str)>,
+    &'static str,
+);
+
 struct DemoHome {
     reference: &'static str,
     address: &'static str,
@@ -183,12 +191,7 @@ struct DemoHome {
     /// Ze at the origin at each visit before noise.
     ze: fn(usize) -> f64,
     events: Vec<(usize, Event)>,
-    observations: &'static [(
-        usize,
-        ObservationCode,
-        Option<(&'static str, &'static str)>,
-        &'static str,
-    )],
+    observations: &'static [DemoObservation],
     /// Visits whose ambient temperature was not written down.
     no_ambient: &'static [usize],
 }
