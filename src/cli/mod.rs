@@ -4,6 +4,8 @@
 pub mod board;
 pub mod circuit;
 pub mod demo;
+pub mod export;
+pub mod import;
 pub mod init;
 pub mod instrument;
 pub mod output;
@@ -56,6 +58,10 @@ pub enum Command {
     Visit(visit::Cmd),
     /// Build an invented demo portfolio and write its trend report
     Demo(demo::Args),
+    /// Import visit or observation files (CSV): all rows or nothing, with exact errors
+    Import(import::Args),
+    /// Export test records and observations as CSV or JSON, in the format import reads
+    Export(export::Args),
 }
 
 /// What every command may need: where the database is, and where to print.
@@ -96,6 +102,8 @@ pub fn run(cli: Cli, out: &mut dyn Write) -> Result<()> {
         Command::Instrument(cmd) => instrument::run(&cmd, &ctx, out),
         Command::Visit(cmd) => visit::run(&cmd, &ctx, out),
         Command::Demo(args) => demo::run(&args, out),
+        Command::Import(args) => import::run(&args, &ctx, out),
+        Command::Export(args) => export::run(&args, &ctx, out),
     }
 }
 

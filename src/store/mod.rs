@@ -4,9 +4,13 @@
 //! another process's import to finish. Register operations check their input and write nothing
 //! when it is wrong.
 
+mod ingest;
 pub mod migrate;
 mod visits;
 
+pub use ingest::{
+    ExportObservation, ExportRecord, IngestBoard, IngestChange, IngestProperty, IngestVisit,
+};
 pub use visits::{NewVisit, validate_readings};
 
 use std::path::{Path, PathBuf};
