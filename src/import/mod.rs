@@ -7,10 +7,12 @@
 pub mod cell;
 pub mod row;
 
-use std::collections::{HashMap, HashSet};
+use std::cell::RefCell;
+use std::collections::{HashMap, HashSet, VecDeque};
 use std::fs::File;
-use std::io::{BufRead, BufReader};
+use std::io::{BufRead, BufReader, Read};
 use std::path::{Path, PathBuf};
+use std::rc::Rc;
 
 use chrono::NaiveDate;
 use serde::Serialize;
@@ -890,6 +892,54 @@ fn sniff_delimiter(head: &[u8]) -> u8 {
     }
 }
 
+/// Notes the byte offset of every newline the CSV reader reads, and whether it ends an empty
+/// line, so that a record's physical line can be told from its byte offset whatever the line
+/// endings (CRLF included) and however many blank lines the reader skipped.
+struct NewlineTap<R> {
+    inner: R,
+    offset: u64,
+    line_has_text: bool,
+    newlines: Rc<RefCell<VecDeque<(u64, bool)>>>,
+}
+
+impl<R: Read> Read for NewlineTap<R> {
+    fn read(&mut self, buf: &mut [u8]) -> std::io::Result<usize> {
+        let n = self.inner.read(buf)?;
+        let mut q = self.newlines.borrow_mut();
+        for (i, b) in buf[..n].iter().enumerate() {
+            match *b {
+                b'\n' => {
+                    q.push_back((self.offset + i as u64, !self.line_has_text));
+                    self.line_has_text = false;
+                }
+                b'\r' => {}
+                _ => self.line_has_text = true,
+            }
+        }
+        self.offset += n as u64;
+        Ok(n)
+    }
+}
+
+/// Turns record start offsets, which only grow, into 1-based line numbers. The reader reports
+/// a record as starting where the previous one ended: on the LF of a CRLF, or before the blank
+/// lines it skipped; those newlines are counted too.
+struct Lines {
+    newlines: Rc<RefCell<VecDeque<(u64, bool)>>>,
+    passed: u64,
+}
+
+impl Lines {
+    fn at(&mut self, byte: u64) -> u64 {
+        let mut q = self.newlines.borrow_mut();
+        while q.front().is_some_and(|&(nl, blank)| nl <= byte || blank) {
+            q.pop_front();
+            self.passed += 1;
+        }
+        self.passed + 1
+    }
+}
+
 /// Where rejected rows go: `visits.csv` → `visits.rejected.csv`, beside it.
 pub fn sidecar_path(path: &Path) -> PathBuf {
     let stem = path
@@ -916,6 +966,17 @@ pub fn import_file(
     let size = file.metadata().map(|m| m.len()).unwrap_or(0);
     let mut reader = BufReader::with_capacity(1 << 16, file);
     let delimiter = sniff_delimiter(reader.fill_buf().map_err(io_err)?);
+    let newlines = Rc::new(RefCell::new(VecDeque::new()));
+    let mut lines = Lines {
+        newlines: newlines.clone(),
+        passed: 0,
+    };
+    let reader = NewlineTap {
+        inner: reader,
+        offset: 0,
+        line_has_text: false,
+        newlines,
+    };
     let mut csv = csv::ReaderBuilder::new()
         .has_headers(false)
         .flexible(true)
@@ -945,7 +1006,7 @@ pub fn import_file(
         );
         return Ok(summary);
     }
-    let header_line = record.position().map(|p| p.line()).unwrap_or(1);
+    let header_line = lines.at(record.position().map(|p| p.byte()).unwrap_or(0));
     let mut names = Vec::with_capacity(record.len());
     let mut header_raw: Vec<Vec<u8>> = Vec::with_capacity(record.len());
     for (i, f) in record.iter().enumerate() {
@@ -1006,7 +1067,7 @@ pub fn import_file(
             if !csv.read_byte_record(&mut record).map_err(csv_err)? {
                 break;
             }
-            let line = record.position().map(|p| p.line()).unwrap_or(0);
+            let line = lines.at(record.position().map(|p| p.byte()).unwrap_or(0));
             last_line = line;
             let fields: Vec<&[u8]> = record.iter().collect();
             if row::is_blank(&fields) {

@@ -78,6 +78,7 @@ pub fn parse_header(names: &[&str], ignore_unknown: bool) -> Result<Header, Vec<
         FileKind::Observations => (&Column::OBSERVATION, &Column::OBSERVATION_REQUIRED),
     };
     let mut errors = Vec::new();
+    let mut suggested: Vec<&str> = Vec::new();
     let mut columns: Vec<Option<Column>> = Vec::with_capacity(names.len());
     for (i, raw) in names.iter().enumerate() {
         let n = i + 1;
@@ -105,7 +106,10 @@ pub fn parse_header(names: &[&str], ignore_unknown: bool) -> Result<Header, Vec<
             }
             None if !ignore_unknown => {
                 let hint = match suggest(raw, allowed) {
-                    Some(s) => format!("did you mean {s}?"),
+                    Some(s) => {
+                        suggested.push(s);
+                        format!("did you mean {s}?")
+                    }
                     None => format!(
                         "expected one of {}",
                         allowed
@@ -131,7 +135,8 @@ pub fn parse_header(names: &[&str], ignore_unknown: bool) -> Result<Header, Vec<
         }
     }
     for r in required {
-        if !columns.contains(&Some(*r)) {
+        // A misspelt required column is already reported, with the right name.
+        if !columns.contains(&Some(*r)) && !suggested.contains(&r.name()) {
             let what = match kind {
                 FileKind::Visits => "a visit file",
                 FileKind::Observations => "an observation file",
@@ -234,6 +239,7 @@ fn cells(
     header: &Header,
     fields: &[&[u8]],
     opts: &ParseOptions,
+    optional: &[Column],
 ) -> Result<Vec<(Column, Cell)>, Vec<FieldError>> {
     if fields.len() != header.len() {
         let column = fields.len().min(header.len()) + 1;
@@ -268,6 +274,9 @@ fn cells(
         };
         match parse_cell(col, text, opts) {
             Ok(c) => out.push((col, c)),
+            Err(CellError::MissingKey | CellError::MarkAsKey(_)) if optional.contains(&col) => {
+                out.push((col, Cell::Missing))
+            }
             Err(e) => errors.push(cell_error(i + 1, col, &e)),
         }
     }
@@ -288,7 +297,7 @@ pub fn parse_visit_row(
     fields: &[&[u8]],
     opts: &ParseOptions,
 ) -> Result<VisitRow, Vec<FieldError>> {
-    let cells = cells(header, fields, opts)?;
+    let cells = cells(header, fields, opts, &[])?;
     let mut row = VisitRow {
         property_ref: String::new(),
         address: None,
@@ -394,7 +403,8 @@ pub fn parse_observation_row(
     fields: &[&[u8]],
     opts: &ParseOptions,
 ) -> Result<ObservationRow, Vec<FieldError>> {
-    let cells = cells(header, fields, opts)?;
+    // An observation may be about the whole installation or a whole board.
+    let cells = cells(header, fields, opts, &[Column::Board, Column::Circuit])?;
     let mut row = ObservationRow {
         property_ref: String::new(),
         visit_date: NaiveDate::MIN,
@@ -479,8 +489,11 @@ mod tests {
         );
         assert_eq!(e[1].column, 5);
         assert_eq!(e[1].message, "duplicated column: already given as column 2");
+        // The misspelt visit_date is reported once, not again as missing.
+        assert_eq!(e.len(), 2);
+        let e = parse_header(&["property_ref", "board", "circuit"], false).unwrap_err();
         assert!(
-            e[2].message
+            e[0].message
                 .starts_with("missing required column visit_date")
         );
         let h = parse_header(
