@@ -190,6 +190,35 @@ pub fn register_texts(d: &CircuitDetails) -> [Option<String>; 7] {
     ]
 }
 
+/// Whether every register field the row gives equals the register's.
+fn register_agrees(d: &CircuitDetails, r: &RowRegister) -> bool {
+    fn same<T: PartialEq>(row: &Option<T>, reg: &Option<T>) -> bool {
+        row.is_none() || row == reg
+    }
+    same(&r.description, &d.description)
+        && same(&r.kind, &d.kind)
+        && same(&r.device, &d.device)
+        && same(&r.rcd_ma, &d.rcd_ma)
+        && same(&r.live_mm2, &d.live_mm2)
+        && same(&r.cpc_mm2, &d.cpc_mm2)
+        && same(&r.length_m, &d.length_m)
+}
+
+/// Set one register field from its change-log text.
+fn apply_text(d: &mut CircuitDetails, field: &str, v: Option<&str>) {
+    let num = |v: Option<&str>| v.and_then(|t| t.parse().ok());
+    match field {
+        "description" => d.description = v.map(String::from),
+        "kind" => d.kind = v.and_then(|t| t.parse().ok()),
+        "device" => d.device = v.and_then(|t| t.parse().ok()),
+        "rcd_ma" => d.rcd_ma = v.and_then(|t| t.parse().ok()),
+        "live_mm2" => d.live_mm2 = num(v),
+        "cpc_mm2" => d.cpc_mm2 = num(v),
+        "length_m" => d.length_m = num(v),
+        _ => {}
+    }
+}
+
 fn row_register_details(r: &RowRegister) -> CircuitDetails {
     CircuitDetails {
         description: r.description.clone(),
@@ -320,6 +349,8 @@ fn conflict(what: &str, stored: &Option<String>, file: &Option<String>) -> Strin
 
 struct CircuitState {
     id: i64,
+    /// The register now, typed for the common case of a row that agrees with it.
+    details: CircuitDetails,
     current: [Option<String>; 7],
     changes: Vec<IngestChange>,
     latest: Option<NaiveDate>,
@@ -333,6 +364,8 @@ struct BoardState {
 
 struct VisitState {
     v: IngestVisit,
+    /// Ze stored at each board at this visit, as far as this import knows.
+    ze: HashMap<i64, Option<f64>>,
     /// Created by this import, so it holds only records this import wrote.
     created: bool,
     written: HashSet<i64>,
@@ -413,6 +446,7 @@ fn visit_state<'a>(
         let state = match s.ingest_visit(p.id, date)? {
             Some(v) => VisitState {
                 v,
+                ze: HashMap::new(),
                 created: false,
                 written: HashSet::new(),
             },
@@ -425,6 +459,7 @@ fn visit_state<'a>(
                         id,
                         ..wanted.clone()
                     },
+                    ze: HashMap::new(),
                     created: true,
                     written: HashSet::new(),
                 }
@@ -448,7 +483,7 @@ impl Importer<'_> {
         let replace = self.opts.replace;
         let mut eff = Effect::default();
         let date = row.visit_date;
-        let where_ = format!("{} {}/{}", row.property_ref, row.board, row.circuit);
+        let where_ = || format!("{} {}/{}", row.property_ref, row.board, row.circuit);
 
         // The visit's own fields, resolved before borrowing the property's state.
         let instrument_id = match &row.instrument {
@@ -533,12 +568,12 @@ impl Importer<'_> {
 
         // Circuit, and whether the row disagrees with the register as it stood on the date.
         let row_details = row_register_details(&row.register);
-        let row_texts = register_texts(&row_details);
         if !b.circuits.contains_key(&row.circuit) {
             let state = match s.ingest_circuit(board_id, &row.circuit)? {
                 Some((id, details)) => CircuitState {
                     id,
                     current: register_texts(&details),
+                    details,
                     changes: s.ingest_changes(id)?,
                     latest: s.ingest_latest_record(id)?,
                 },
@@ -546,17 +581,12 @@ impl Importer<'_> {
                     let id = s.ingest_insert_circuit(board_id, &row.circuit, &row_details)?;
                     eff.circuits += 1;
                     eff.wrote = true;
-                    let mut current = row_texts.clone();
-                    current[1] = Some(
-                        row_details
-                            .kind
-                            .unwrap_or(crate::model::CircuitKind::Radial)
-                            .as_str()
-                            .into(),
-                    );
+                    let mut details = row_details.clone();
+                    details.kind = Some(details.kind.unwrap_or(crate::model::CircuitKind::Radial));
                     CircuitState {
                         id,
-                        current,
+                        current: register_texts(&details),
+                        details,
                         changes: Vec::new(),
                         latest: None,
                     }
@@ -566,10 +596,22 @@ impl Importer<'_> {
         }
         let c = b.circuits.get_mut(&row.circuit).expect("just inserted");
         let circuit_id = c.id;
-        let then = register_at(&c.current, &c.changes, date);
         let mut differing = Vec::new();
         let mut faults = Vec::new();
+        // Most rows agree with a register that never changed: no text to build.
+        let agrees = c.changes.is_empty() && register_agrees(&c.details, &row.register);
+        let (then, row_texts) = if agrees {
+            (Default::default(), Default::default())
+        } else {
+            (
+                register_at(&c.current, &c.changes, date),
+                register_texts(&row_details),
+            )
+        };
         for (i, (col, field)) in REGISTER.iter().enumerate() {
+            if agrees {
+                break;
+            }
             let Some(new) = &row_texts[i] else { continue };
             if then[i].as_ref() == Some(new) {
                 continue;
@@ -584,7 +626,8 @@ impl Importer<'_> {
                 faults.push(Fault {
                     column: Some(*col),
                     message: format!(
-                        "{where_} on {date} has {new:?} but the register has {} and a later visit ({later}) is already recorded: import visit files oldest first, or record the change with `ohmtrail circuit edit`",
+                        "{} on {date} has {new:?} but the register has {} and a later visit ({later}) is already recorded: import visit files oldest first, or record the change with `ohmtrail circuit edit`",
+                        where_(),
                         shown(&then[i])
                     ),
                 });
@@ -667,7 +710,20 @@ impl Importer<'_> {
 
         // Ze at this board.
         if let Some(ze) = row.ze_ohm {
-            let stored = s.ingest_board_ze(visit_id, board_id)?.flatten();
+            let v = self
+                .cache
+                .properties
+                .get_mut(&row.property_ref)
+                .and_then(|p| p.visits.get_mut(&date));
+            let known = v.as_ref().and_then(|v| {
+                v.ze.get(&board_id)
+                    .copied()
+                    .or(if v.created { Some(None) } else { None })
+            });
+            let stored = match known {
+                Some(z) => z,
+                None => s.ingest_board_ze(visit_id, board_id)?.flatten(),
+            };
             if stored != Some(ze) {
                 if stored.is_none() || replace {
                     s.ingest_set_board_ze(visit_id, board_id, ze)?;
@@ -682,6 +738,14 @@ impl Importer<'_> {
                         ),
                     );
                 }
+            }
+            if let Some(v) = self
+                .cache
+                .properties
+                .get_mut(&row.property_ref)
+                .and_then(|p| p.visits.get_mut(&date))
+            {
+                v.ze.insert(board_id, Some(ze));
             }
         }
 
@@ -706,6 +770,7 @@ impl Importer<'_> {
                     && let Some(i) = REGISTER.iter().position(|(_, f)| *f == field)
                 {
                     c.current[i] = ch.new_value.clone();
+                    apply_text(&mut c.details, field, ch.new_value.as_deref());
                     c.changes.push(IngestChange {
                         date,
                         field: ch.field.clone(),
@@ -773,7 +838,7 @@ impl Importer<'_> {
                             .map(|c| Fault {
                                 column: Some(*c),
                                 message: conflict(
-                                    &format!("the stored record for {where_} on {date}"),
+                                    &format!("the stored record for {} on {date}", where_()),
                                     &reading_text(&stored, *c),
                                     &reading_text(&row.readings, *c),
                                 ),
@@ -1053,6 +1118,7 @@ pub fn import_file(
     };
     summary.kind = Some(header.kind);
 
+    store.ingest_prepare()?;
     let mut sidecar: Option<csv::Writer<File>> = None;
     let sidecar_file = sidecar_path(path);
     let mut importer = Importer {

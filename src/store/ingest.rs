@@ -70,8 +70,15 @@ pub struct ExportObservation {
     pub text: String,
 }
 
-const RECORD_VALUES: &str = "r1r2_ohm, r2_ohm, r1rn_ohm, ring_r1_ohm, ring_rn_ohm, ring_r2_ohm,
-    zs_ohm, ir_ll_mohm, ir_ll_over, ir_le_mohm, ir_le_over, rcd_ms, rcd_5x_ms, limitations, note";
+/// The value columns of a test record, as a literal so that statements can be built with
+/// `concat!` once instead of formatted on every row.
+macro_rules! record_values {
+    () => {
+        "r1r2_ohm, r2_ohm, r1rn_ohm, ring_r1_ohm, ring_rn_ohm, ring_r2_ohm,
+    zs_ohm, ir_ll_mohm, ir_ll_over, ir_le_mohm, ir_le_over, rcd_ms, rcd_5x_ms, limitations, note"
+    };
+}
+const RECORD_VALUES: &str = record_values!();
 
 /// Decode the [`RECORD_VALUES`] columns starting at `o`.
 fn readings_at(r: &Row, o: usize) -> rusqlite::Result<Readings> {
@@ -104,6 +111,14 @@ fn readings_at(r: &Row, o: usize) -> rusqlite::Result<Readings> {
 }
 
 impl Store {
+    /// Make room for every statement an import caches, so none is prepared twice, and give
+    /// the page cache enough memory that index pages stay in it during a large file.
+    pub fn ingest_prepare(&self) -> Result<()> {
+        self.conn.set_prepared_statement_cache_capacity(64);
+        self.conn.pragma_update(None, "cache_size", -8_192)?;
+        Ok(())
+    }
+
     pub fn ingest_property(&self, reference: &str) -> Result<Option<IngestProperty>> {
         let mut st = self
             .conn
@@ -322,10 +337,11 @@ impl Store {
     }
 
     pub fn ingest_record(&self, visit_id: i64, circuit_id: i64) -> Result<Option<Readings>> {
-        let sql = format!(
-            "SELECT {RECORD_VALUES} FROM test_record WHERE visit_id = ?1 AND circuit_id = ?2"
-        );
-        let mut st = self.conn.prepare_cached(&sql)?;
+        let mut st = self.conn.prepare_cached(concat!(
+            "SELECT ",
+            record_values!(),
+            " FROM test_record WHERE visit_id = ?1 AND circuit_id = ?2"
+        ))?;
         Ok(st
             .query_row(params![visit_id, circuit_id], |r| readings_at(r, 0))
             .optional()?)
@@ -334,9 +350,10 @@ impl Store {
     /// Write a test record, replacing one already stored for the circuit at the visit.
     pub fn ingest_put_record(&self, visit_id: i64, circuit_id: i64, r: &Readings) -> Result<()> {
         super::validate_readings(r)?;
-        let mut st = self.conn.prepare_cached(&format!(
-            "INSERT OR REPLACE INTO test_record (visit_id, circuit_id, {RECORD_VALUES})
-             VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11, ?12, ?13, ?14, ?15, ?16, ?17)"
+        let mut st = self.conn.prepare_cached(concat!(
+            "INSERT OR REPLACE INTO test_record (visit_id, circuit_id, ",
+            record_values!(),
+            ") VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11, ?12, ?13, ?14, ?15, ?16, ?17)"
         ))?;
         let split = |m: Option<Megohms>| match m {
             Some(m) => (Some(m.value), m.over_range),
