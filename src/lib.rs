@@ -7,10 +7,12 @@
 //! - [`trend`]: drift, steps and projections over a series of readings; pure.
 //! - [`store`]: the SQLite history; the only module that talks SQL.
 //! - [`import`]: visit files in, with exact errors.
+//! - [`export`]: the same format out again.
 
 pub mod analysis;
 pub mod demo;
 pub mod error;
+pub mod export;
 pub mod import;
 pub mod limits;
 pub mod model;

@@ -5,7 +5,9 @@ pub mod board;
 pub mod check;
 pub mod circuit;
 pub mod demo;
+pub mod export;
 pub mod flags;
+pub mod import;
 pub mod init;
 pub mod instrument;
 pub mod limits;
@@ -72,6 +74,10 @@ pub enum Command {
     Check(check::Args),
     /// Build an invented demo portfolio and write its trend report
     Demo(demo::Args),
+    /// Import visit or observation files (CSV): all rows or nothing, with exact errors
+    Import(import::Args),
+    /// Export test records and observations as CSV or JSON, in the format import reads
+    Export(export::Args),
 }
 
 /// What every command may need: where the database is, and where to print.
@@ -117,6 +123,8 @@ pub fn run(cli: Cli, out: &mut dyn Write) -> Result<()> {
         Command::Limits(args) => limits::run(&args, out),
         Command::Check(args) => check::run(&args, out),
         Command::Demo(args) => demo::run(&args, out),
+        Command::Import(args) => import::run(&args, &ctx, out),
+        Command::Export(args) => export::run(&args, &ctx, out),
     }
 }
 

@@ -5,10 +5,14 @@
 //! when it is wrong.
 
 mod history;
+mod ingest;
 pub mod migrate;
 mod visits;
 
 pub use history::PropertyHistory;
+pub use ingest::{
+    ExportObservation, ExportRecord, IngestBoard, IngestChange, IngestProperty, IngestVisit,
+};
 pub use visits::{NewVisit, validate_readings};
 
 use std::path::{Path, PathBuf};
