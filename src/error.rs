@@ -34,6 +34,21 @@ pub enum Error {
     #[error("database {path} is read-only and {why}: make it writable, or use a copy")]
     ReadOnly { path: PathBuf, why: String },
 
+    /// The database could not grow: the disk, or a size cap, is full.
+    #[error(
+        "database {path} is full (database or disk is full): free some disk space, then try again"
+    )]
+    Full { path: PathBuf },
+
+    /// A file stopped part-way for a failure that is not the file's fault; it was rolled back.
+    #[error("{file}: stopped at line {line}, nothing from this file was written: {source}")]
+    FileAborted {
+        file: PathBuf,
+        line: u64,
+        #[source]
+        source: Box<Error>,
+    },
+
     #[error("database {path}: {source}")]
     Database {
         path: PathBuf,

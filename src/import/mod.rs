@@ -146,19 +146,44 @@ struct Fault {
     message: String,
 }
 
-struct Faults(Vec<Fault>);
+/// Why a row was not applied.
+enum Faults {
+    /// Faults in the row itself: reported at its line, and the rest of the file is still read.
+    Row(Vec<Fault>),
+    /// The database itself failed (full, I/O, locked). SQLite may already have rolled the
+    /// transaction back, so nothing more may be written: the whole file stops.
+    Fatal(Error),
+}
 
 impl From<Error> for Faults {
     fn from(e: Error) -> Faults {
-        Faults(vec![Fault {
+        if is_fatal(&e) {
+            return Faults::Fatal(e);
+        }
+        Faults::Row(vec![Fault {
             column: None,
             message: e.to_string(),
         }])
     }
 }
 
+/// Whether an error is the database failing rather than the row being wrong. A constraint
+/// failure is about the row; any other SQLite failure (full, I/O, busy, corrupt) is not, and
+/// after some of them SQLite has rolled back the whole transaction.
+fn is_fatal(e: &Error) -> bool {
+    match e {
+        Error::Invalid(_) | Error::NotFound { .. } => false,
+        Error::Sql(rusqlite::Error::SqliteFailure(f, _))
+        | Error::Database {
+            source: rusqlite::Error::SqliteFailure(f, _),
+            ..
+        } => f.code != rusqlite::ErrorCode::ConstraintViolation,
+        _ => true,
+    }
+}
+
 fn fault<T>(column: Column, message: String) -> std::result::Result<T, Faults> {
-    Err(Faults(vec![Fault {
+    Err(Faults::Row(vec![Fault {
         column: Some(column),
         message,
     }]))
@@ -636,7 +661,7 @@ impl Importer<'_> {
             }
         }
         if !faults.is_empty() {
-            return Err(Faults(faults));
+            return Err(Faults::Row(faults));
         }
 
         // Visit.
@@ -690,7 +715,7 @@ impl Importer<'_> {
                 dirty = true;
             }
             if !faults.is_empty() {
-                return Err(Faults(faults));
+                return Err(Faults::Row(faults));
             }
             if dirty {
                 let instrument_id = match &next.instrument {
@@ -832,7 +857,7 @@ impl Importer<'_> {
                     eff.replaced += 1;
                     eff.wrote = true;
                 } else {
-                    return Err(Faults(
+                    return Err(Faults::Row(
                         differ
                             .iter()
                             .map(|c| Fault {
@@ -1128,6 +1153,8 @@ pub fn import_file(
         cache: Cache::default(),
     };
     let mut last_line = header_line;
+    // Set when the file is rolled back for its rows' faults, not for a database failure.
+    let mut refused = false;
     let outcome = store.atomic(|s| {
         loop {
             if !csv.read_byte_record(&mut record).map_err(csv_err)? {
@@ -1146,12 +1173,12 @@ pub fn import_file(
             }
             let result = match header.kind {
                 FileKind::Visits => match parse_visit_row(&header, &fields, &opts.parse) {
-                    Ok(r) => run_row(s, opts, &header, |_| importer.apply_visit(&r, line)),
+                    Ok(r) => run_row(s, opts, &header, |_| importer.apply_visit(&r, line))?,
                     Err(e) => Err(field_errors(e)),
                 },
                 FileKind::Observations => {
                     match parse_observation_row(&header, &fields, &opts.parse) {
-                        Ok(r) => run_row(s, opts, &header, |_| importer.apply_observation(&r)),
+                        Ok(r) => run_row(s, opts, &header, |_| importer.apply_observation(&r))?,
                         Err(e) => Err(field_errors(e)),
                     }
                 }
@@ -1204,6 +1231,7 @@ pub fn import_file(
             );
         }
         if summary.errors_total > 0 && !opts.skip_invalid || summary.rows == 0 {
+            refused = true;
             return Err(Error::invalid("rolled back"));
         }
         Ok(())
@@ -1218,7 +1246,7 @@ pub fn import_file(
     }
     match outcome {
         Ok(()) => Ok(summary),
-        Err(_) if summary.errors_total > 0 => {
+        Err(_) if refused => {
             // Everything from this file was rolled back.
             summary.written = false;
             summary.properties_created = 0;
@@ -1231,43 +1259,59 @@ pub fn import_file(
             summary.changes.clear();
             Ok(summary)
         }
-        Err(e) => Err(e),
+        Err(source) => {
+            // A sidecar of rejected rows means nothing once the file is rolled back.
+            if let Some(p) = &summary.sidecar {
+                let _ = std::fs::remove_file(p);
+            }
+            Err(Error::FileAborted {
+                file: path.to_path_buf(),
+                line: last_line,
+                source: Box::new(source),
+            })
+        }
     }
 }
 
 /// Apply a row; with `skip_invalid` inside a savepoint so a refused row leaves no trace.
+/// The outer `Err` is a database failure that must stop the whole file.
 fn run_row(
     s: &Store,
     opts: &ImportOptions,
     header: &Header,
     apply: impl FnOnce(&Store) -> RowResult<Effect>,
-) -> std::result::Result<Effect, Located> {
+) -> Result<std::result::Result<Effect, Located>> {
     let result = if opts.skip_invalid {
         let mut faults = None;
         let r = s.atomic(|s| match apply(s) {
             Ok(e) => Ok(e),
-            Err(f) => {
+            Err(Faults::Fatal(e)) => Err(e),
+            Err(Faults::Row(f)) => {
                 faults = Some(f);
                 Err(Error::invalid("row refused"))
             }
         });
         match (r, faults) {
             (Ok(e), _) => Ok(e),
-            (Err(_), Some(f)) => Err(f),
+            (Err(_), Some(f)) => Err(Faults::Row(f)),
             (Err(e), None) => Err(Faults::from(e)),
         }
     } else {
         apply(s)
     };
+    let list = match result {
+        Ok(e) => return Ok(Ok(e)),
+        Err(Faults::Fatal(e)) => return Err(e),
+        Err(Faults::Row(list)) => list,
+    };
     // A fault about no particular column points at the first.
-    result.map_err(|Faults(list)| {
-        list.into_iter()
-            .map(|f| {
-                let at = f.column.and_then(|c| header.position(c)).unwrap_or(1);
-                (at, f.column.map(|c| c.name().to_string()), f.message)
-            })
-            .collect()
-    })
+    Ok(Err(list
+        .into_iter()
+        .map(|f| {
+            let at = f.column.and_then(|c| header.position(c)).unwrap_or(1);
+            (at, f.column.map(|c| c.name().to_string()), f.message)
+        })
+        .collect()))
 }
 
 type Located = Vec<(usize, Option<String>, String)>;

@@ -31,6 +31,28 @@ use crate::model::{
 /// How long a writer waits for another process's transaction before giving up.
 pub const BUSY_TIMEOUT: Duration = Duration::from_secs(60);
 
+/// Test hook, not a setting: caps the database at this many pages (`PRAGMA max_page_count`)
+/// so that tests can fill the "disk" without filling the machine's.
+pub const MAX_PAGE_COUNT_ENV: &str = "OHMTRAIL_MAX_PAGE_COUNT";
+
+/// Apply [`MAX_PAGE_COUNT_ENV`] when it is set. SQLite keeps a cap below the current size at
+/// the current size, so the database can never shrink because of it.
+fn limit_pages_for_tests(conn: &Connection, path: &Path) -> Result<()> {
+    let Ok(text) = std::env::var(MAX_PAGE_COUNT_ENV) else {
+        return Ok(());
+    };
+    let pages: u32 = text.trim().parse().map_err(|_| {
+        Error::invalid(format!(
+            "{MAX_PAGE_COUNT_ENV}={text:?} is not a page count: expected a whole number of pages"
+        ))
+    })?;
+    conn.query_row(&format!("PRAGMA max_page_count = {pages}"), [], |_| Ok(()))
+        .map_err(|source| Error::Database {
+            path: path.to_path_buf(),
+            source,
+        })
+}
+
 pub struct Store {
     conn: Connection,
     path: PathBuf,
@@ -164,6 +186,9 @@ impl Store {
                 | OpenFlags::SQLITE_OPEN_NO_MUTEX
         };
         let conn = Connection::open_with_flags(path, flags).map_err(db_err)?;
+        if !read_only {
+            limit_pages_for_tests(&conn, path)?;
+        }
         Store::setup(conn, path.to_path_buf(), read_only)
     }
 
@@ -240,17 +265,26 @@ impl Store {
     pub fn atomic<T>(&self, f: impl FnOnce(&Store) -> Result<T>) -> Result<T> {
         if !self.conn.is_autocommit() {
             // Already inside a transaction: nest with a savepoint.
-            self.conn.execute_batch("SAVEPOINT nested")?;
+            self.conn
+                .execute_batch("SAVEPOINT nested")
+                .map_err(|e| self.explain(e.into()))?;
             return match f(self) {
                 Ok(v) => {
-                    self.conn.execute_batch("RELEASE nested")?;
+                    self.conn
+                        .execute_batch("RELEASE nested")
+                        .map_err(|e| self.explain(e.into()))?;
                     Ok(v)
                 }
-                Err(e) => {
-                    self.conn
-                        .execute_batch("ROLLBACK TO nested; RELEASE nested")?;
-                    Err(e)
-                }
+                Err(e) => match self
+                    .conn
+                    .execute_batch("ROLLBACK TO nested; RELEASE nested")
+                {
+                    Ok(()) => Err(self.explain(e)),
+                    // SQLite rolled the whole transaction back itself (a full disk, an I/O
+                    // error): the first error says why.
+                    Err(_) if self.conn.is_autocommit() => Err(self.explain(e)),
+                    Err(r) => Err(self.explain(r.into())),
+                },
             };
         }
         if self.read_only {
@@ -259,16 +293,44 @@ impl Store {
                 why: "this command writes to it".into(),
             });
         }
-        self.conn.execute_batch("BEGIN IMMEDIATE")?;
+        self.conn
+            .execute_batch("BEGIN IMMEDIATE")
+            .map_err(|e| self.explain(e.into()))?;
         match f(self) {
             Ok(v) => {
-                self.conn.execute_batch("COMMIT")?;
+                if let Err(e) = self.conn.execute_batch("COMMIT") {
+                    let _ = self.conn.execute_batch("ROLLBACK");
+                    return Err(self.explain(e.into()));
+                }
                 Ok(v)
             }
             Err(e) => {
+                // Fails harmlessly when SQLite has already rolled back (a full disk).
                 let _ = self.conn.execute_batch("ROLLBACK");
-                Err(e)
+                Err(self.explain(e))
             }
+        }
+    }
+
+    /// Name the database in an error that is the database's own failure rather than the
+    /// input's, and say plainly when it is full.
+    fn explain(&self, e: Error) -> Error {
+        let Error::Sql(source) = e else { return e };
+        match &source {
+            rusqlite::Error::SqliteFailure(f, _) if f.code == rusqlite::ErrorCode::DiskFull => {
+                Error::Full {
+                    path: self.path.clone(),
+                }
+            }
+            rusqlite::Error::SqliteFailure(f, _)
+                if f.code != rusqlite::ErrorCode::ConstraintViolation =>
+            {
+                Error::Database {
+                    path: self.path.clone(),
+                    source,
+                }
+            }
+            _ => Error::Sql(source),
         }
     }
 
