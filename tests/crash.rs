@@ -81,15 +81,25 @@ fn counts(conn: &Connection, prefix: &str) -> [i64; 6] {
     let q = |sql: &str| -> i64 { conn.query_row(sql, [&like], |r| r.get(0)).unwrap() };
     [
         q("SELECT count(*) FROM property WHERE ref LIKE ?1"),
-        q("SELECT count(*) FROM board b JOIN property p ON p.id = b.property_id WHERE p.ref LIKE ?1"),
-        q("SELECT count(*) FROM circuit c JOIN board b ON b.id = c.board_id
-           JOIN property p ON p.id = b.property_id WHERE p.ref LIKE ?1"),
-        q("SELECT count(*) FROM visit v JOIN property p ON p.id = v.property_id WHERE p.ref LIKE ?1"),
-        q("SELECT count(*) FROM test_record t JOIN visit v ON v.id = t.visit_id
-           JOIN property p ON p.id = v.property_id WHERE p.ref LIKE ?1"),
-        q("SELECT count(*) FROM circuit_change x JOIN circuit c ON c.id = x.circuit_id
+        q(
+            "SELECT count(*) FROM board b JOIN property p ON p.id = b.property_id WHERE p.ref LIKE ?1",
+        ),
+        q(
+            "SELECT count(*) FROM circuit c JOIN board b ON b.id = c.board_id
+           JOIN property p ON p.id = b.property_id WHERE p.ref LIKE ?1",
+        ),
+        q(
+            "SELECT count(*) FROM visit v JOIN property p ON p.id = v.property_id WHERE p.ref LIKE ?1",
+        ),
+        q(
+            "SELECT count(*) FROM test_record t JOIN visit v ON v.id = t.visit_id
+           JOIN property p ON p.id = v.property_id WHERE p.ref LIKE ?1",
+        ),
+        q(
+            "SELECT count(*) FROM circuit_change x JOIN circuit c ON c.id = x.circuit_id
            JOIN board b ON b.id = c.board_id JOIN property p ON p.id = b.property_id
-           WHERE p.ref LIKE ?1"),
+           WHERE p.ref LIKE ?1",
+        ),
     ]
 }
 
@@ -109,7 +119,10 @@ fn check(db: &Path, prefixes: &[String], seed: u64) -> Vec<bool> {
     let integrity: String = conn
         .query_row("PRAGMA integrity_check", [], |r| r.get(0))
         .unwrap();
-    assert_eq!(integrity, "ok", "integrity_check after a kill (seed {seed})");
+    assert_eq!(
+        integrity, "ok",
+        "integrity_check after a kill (seed {seed})"
+    );
     let mut stmt = conn.prepare("PRAGMA foreign_key_check").unwrap();
     let dangling = stmt.query_map([], |_| Ok(())).unwrap().count();
     assert_eq!(dangling, 0, "foreign_key_check after a kill (seed {seed})");
