@@ -34,6 +34,12 @@ pub enum Error {
     #[error("database {path} is read-only and {why}: make it writable, or use a copy")]
     ReadOnly { path: PathBuf, why: String },
 
+    /// The file is not a SQLite database at all.
+    #[error(
+        "{path} is not an ohmtrail database (SQLite: file is not a database): check the --db path"
+    )]
+    NotADatabase { path: PathBuf },
+
     /// The database could not grow: the disk, or a size cap, is full.
     #[error(
         "database {path} is full (database or disk is full): free some disk space, then try again"

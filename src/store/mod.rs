@@ -169,9 +169,32 @@ impl Store {
                 source,
             })?;
         }
-        let db_err = |source| Error::Database {
+        let place_err = |why: String| Error::Io {
             path: path.to_path_buf(),
-            source,
+            source: std::io::Error::other(why),
+        };
+        if path.is_dir() {
+            return Err(place_err(
+                "is a directory, not a database file: give the path of a file".into(),
+            ));
+        }
+        if let Some(dir) = path.parent()
+            && !dir.as_os_str().is_empty()
+            && !dir.is_dir()
+        {
+            return Err(place_err(format!(
+                "cannot hold a database: {} is a file, not a directory",
+                dir.display()
+            )));
+        }
+        let db_err = |source: rusqlite::Error| match source.sqlite_error_code() {
+            Some(rusqlite::ErrorCode::NotADatabase) => Error::NotADatabase {
+                path: path.to_path_buf(),
+            },
+            _ => Error::Database {
+                path: path.to_path_buf(),
+                source,
+            },
         };
         // A file marked read-only is opened read-only even where the user could write it
         // anyway (root), so that marking a database read-only protects it.
@@ -204,9 +227,14 @@ impl Store {
     }
 
     fn setup(mut conn: Connection, path: PathBuf, read_only: bool) -> Result<Store> {
-        let db_err = |source| Error::Database {
-            path: path.clone(),
-            source,
+        // SQLite reads the file only at the first statement, so a file that is not a
+        // database is found here.
+        let db_err = |source: rusqlite::Error| match source.sqlite_error_code() {
+            Some(rusqlite::ErrorCode::NotADatabase) => Error::NotADatabase { path: path.clone() },
+            _ => Error::Database {
+                path: path.clone(),
+                source,
+            },
         };
         conn.busy_timeout(BUSY_TIMEOUT).map_err(db_err)?;
         // Read the version before anything that writes (journal_mode=WAL writes the header),

@@ -1,0 +1,316 @@
+//! A hostile environment: a database from a newer version, a read-only database, a full disk
+//! (simulated with the `OHMTRAIL_MAX_PAGE_COUNT` test hook, which sets SQLite's
+//! `PRAGMA max_page_count`), output paths that cannot be written, files that are not
+//! databases. Each must give one clear line on stderr, exit 1, and leave everything as it was.
+//! The data is invented.
+
+use std::path::{Path, PathBuf};
+
+use assert_cmd::Command;
+use ohmtrail::store::Store;
+use rusqlite::Connection;
+use tempfile::TempDir;
+
+const HEADER: &str = "property_ref,board,circuit,visit_date,device,r1r2_ohm,zs_ohm,ir_le_mohm,note";
+
+/// A visit file of `n` invented properties, 10 circuits and 2 visits each.
+fn visits(path: &Path, prefix: &str, n: usize) {
+    let mut s = format!("{HEADER}\n");
+    for p in 0..n {
+        for date in ["2021-03-01", "2024-03-01"] {
+            for c in 1..=10 {
+                s.push_str(&format!(
+                    "{prefix}-{p:04},DB1,{c},{date},B16,0.{c}5,0.{c}9,>200,note for circuit {c} of {p}\n"
+                ));
+            }
+        }
+    }
+    std::fs::write(path, s).unwrap();
+}
+
+fn bin(db: &Path) -> Command {
+    let mut c = Command::cargo_bin("ohmtrail").unwrap();
+    c.env_remove("OHMTRAIL_DB")
+        .env_remove("OHMTRAIL_MAX_PAGE_COUNT")
+        .arg("--db")
+        .arg(db);
+    c
+}
+
+/// Run and expect failure with exit 1 and one line on stderr containing every `needle`.
+fn refused(cmd: &mut Command, needles: &[&str]) -> String {
+    let out = cmd.output().unwrap();
+    let stderr = String::from_utf8_lossy(&out.stderr).into_owned();
+    assert_eq!(out.status.code(), Some(1), "exit status; stderr: {stderr}");
+    assert_eq!(stderr.lines().count(), 1, "one line on stderr: {stderr}");
+    assert!(stderr.starts_with("ohmtrail: error: "), "{stderr}");
+    for n in needles {
+        assert!(stderr.contains(n), "{n:?} missing from: {stderr}");
+    }
+    assert!(
+        !stderr.trim_end().ends_with('.'),
+        "no trailing full stop: {stderr}"
+    );
+    stderr
+}
+
+/// Everything an import could change: row counts and a full export.
+fn dump(db: &Path) -> String {
+    let store = Store::open(db).unwrap();
+    let mut out = format!("{:?}\n", store.row_counts().unwrap());
+    let mut v = Vec::new();
+    let mut o = Vec::new();
+    ohmtrail::export::export_csv(&store, None, &mut v, Some(&mut o)).unwrap();
+    out.push_str(&String::from_utf8(v).unwrap());
+    out.push_str(&String::from_utf8(o).unwrap());
+    out
+}
+
+fn integrity(db: &Path) -> String {
+    Connection::open(db)
+        .unwrap()
+        .query_row("PRAGMA integrity_check", [], |r| r.get(0))
+        .unwrap()
+}
+
+fn pages(db: &Path) -> i64 {
+    Connection::open(db)
+        .unwrap()
+        .query_row("PRAGMA page_count", [], |r| r.get(0))
+        .unwrap()
+}
+
+/// A database holding one small file's records, and that file.
+fn seeded(dir: &TempDir) -> (PathBuf, PathBuf) {
+    let db = dir.path().join("t.db");
+    let a = dir.path().join("a.csv");
+    visits(&a, "A", 5);
+    bin(&db).arg("import").arg(&a).assert().success();
+    (db, a)
+}
+
+#[test]
+fn a_newer_database_is_refused_by_every_command_and_left_untouched() {
+    let dir = TempDir::new().unwrap();
+    let (db, a) = seeded(&dir);
+    let conn = Connection::open(&db).unwrap();
+    conn.pragma_update(None, "journal_mode", "DELETE").unwrap();
+    conn.pragma_update(None, "user_version", 99).unwrap();
+    drop(conn);
+    let before = std::fs::read(&db).unwrap();
+    let b = dir.path().join("b.csv");
+    visits(&b, "B", 2);
+    let out = dir.path().join("out.csv");
+    let commands: [&[&str]; 7] = [
+        &["import", b.to_str().unwrap()],
+        &["import", a.to_str().unwrap()],
+        &["flags"],
+        &["flags", "--json"],
+        &["trend", "A-0000"],
+        &["export"],
+        &["export", "-o", out.to_str().unwrap()],
+    ];
+    for args in commands {
+        refused(
+            bin(&db).args(args),
+            &["schema version 99", "left untouched", db.to_str().unwrap()],
+        );
+        assert_eq!(before, std::fs::read(&db).unwrap(), "{args:?} changed it");
+    }
+    assert!(!out.exists(), "no export file from a refused database");
+    assert!(!PathBuf::from(format!("{}-wal", db.display())).exists());
+}
+
+#[test]
+fn a_read_only_database_refuses_an_import_and_keeps_its_bytes() {
+    let dir = TempDir::new().unwrap();
+    let (db, _) = seeded(&dir);
+    let before_dump = dump(&db);
+    let mut perms = std::fs::metadata(&db).unwrap().permissions();
+    perms.set_readonly(true);
+    std::fs::set_permissions(&db, perms.clone()).unwrap();
+    let before = std::fs::read(&db).unwrap();
+    let b = dir.path().join("b.csv");
+    visits(&b, "B", 3);
+    refused(
+        bin(&db).arg("import").arg(&b),
+        &["is read-only", db.to_str().unwrap()],
+    );
+    assert_eq!(before, std::fs::read(&db).unwrap());
+    // Reading still works: it is the write that is refused.
+    bin(&db).arg("flags").assert().success();
+    bin(&db).arg("export").assert().success();
+    assert_eq!(before, std::fs::read(&db).unwrap());
+    #[allow(clippy::permissions_set_readonly_false)]
+    perms.set_readonly(false);
+    std::fs::set_permissions(&db, perms).unwrap();
+    assert_eq!(before_dump, dump(&db));
+}
+
+#[test]
+fn a_full_disk_stops_the_import_whole_and_the_database_stays_sound() {
+    let dir = TempDir::new().unwrap();
+    let (db, _) = seeded(&dir);
+    let before = dump(&db);
+    let cap = (pages(&db) + 4).to_string();
+    let b = dir.path().join("b.csv");
+    visits(&b, "B", 300);
+    for extra in [&[][..], &["--skip-invalid"][..], &["--replace"][..]] {
+        refused(
+            bin(&db)
+                .env("OHMTRAIL_MAX_PAGE_COUNT", &cap)
+                .arg("import")
+                .args(extra)
+                .arg(&b),
+            &[
+                "database or disk is full",
+                b.to_str().unwrap(),
+                db.to_str().unwrap(),
+                "nothing from this file was written",
+            ],
+        );
+        assert_eq!(integrity(&db), "ok", "{extra:?}");
+        assert_eq!(before, dump(&db), "{extra:?}: nothing half-written");
+        assert!(
+            !dir.path().join("b.rejected.csv").exists(),
+            "no sidecar from a rolled-back file"
+        );
+    }
+    // With room again the same file imports whole.
+    bin(&db).arg("import").arg(&b).assert().success();
+    assert_eq!(integrity(&db), "ok");
+    let store = Store::open(&db).unwrap();
+    let counts = store.row_counts().unwrap();
+    let records = counts.iter().find(|(t, _)| *t == "test_record").unwrap().1;
+    assert_eq!(records, (5 + 300) * 20);
+}
+
+#[test]
+fn a_full_disk_during_a_register_command_is_a_clear_error() {
+    let dir = TempDir::new().unwrap();
+    let (db, _) = seeded(&dir);
+    let before = dump(&db);
+    let cap = pages(&db).to_string();
+    // Long notes, so the new property cannot fit in the free space of existing pages.
+    let notes = "n".repeat(20_000);
+    refused(
+        bin(&db)
+            .env("OHMTRAIL_MAX_PAGE_COUNT", &cap)
+            .args(["property", "add", "FULL-1", "--notes", &notes]),
+        &["database or disk is full", db.to_str().unwrap()],
+    );
+    assert_eq!(integrity(&db), "ok");
+    assert_eq!(before, dump(&db));
+}
+
+#[test]
+fn the_test_hook_refuses_a_value_that_is_not_a_page_count() {
+    let dir = TempDir::new().unwrap();
+    let (db, a) = seeded(&dir);
+    refused(
+        bin(&db)
+            .env("OHMTRAIL_MAX_PAGE_COUNT", "lots")
+            .arg("import")
+            .arg(&a),
+        &["OHMTRAIL_MAX_PAGE_COUNT", "\"lots\"", "whole number"],
+    );
+}
+
+#[test]
+fn export_to_a_path_that_cannot_be_written_is_a_clear_error() {
+    let dir = TempDir::new().unwrap();
+    let (db, _) = seeded(&dir);
+    let before = std::fs::read(&db).unwrap();
+    // Root may write anywhere, so a regular file stands in for the directory.
+    let blocker = dir.path().join("file.txt");
+    std::fs::write(&blocker, "not a directory\n").unwrap();
+    let under_file = blocker.join("out.csv");
+    let missing = dir.path().join("no/such/dir/out.csv");
+    let a_dir = dir.path().join("a-directory");
+    std::fs::create_dir(&a_dir).unwrap();
+    let cases: [(&Path, &str, &str); 4] = [
+        (&under_file, "csv", "Not a directory"),
+        (&under_file, "json", "Not a directory"),
+        (&missing, "csv", "No such file or directory"),
+        (&a_dir, "csv", "Is a directory"),
+    ];
+    for (path, format, why) in cases {
+        refused(
+            bin(&db)
+                .args(["export", "--format", format, "-o"])
+                .arg(path),
+            &["cannot write", path.to_str().unwrap(), why],
+        );
+    }
+    assert_eq!(
+        std::fs::read_to_string(&blocker).unwrap(),
+        "not a directory\n"
+    );
+    assert!(!dir.path().join("no").exists());
+    assert_eq!(std::fs::read_dir(&a_dir).unwrap().count(), 0);
+    assert_eq!(before, std::fs::read(&db).unwrap());
+}
+
+#[test]
+fn demo_into_a_directory_that_cannot_be_made_is_a_clear_error() {
+    let dir = TempDir::new().unwrap();
+    let blocker = dir.path().join("file.txt");
+    std::fs::write(&blocker, "not a directory\n").unwrap();
+    let target = blocker.join("demo");
+    let mut cmd = Command::cargo_bin("ohmtrail").unwrap();
+    cmd.env_remove("OHMTRAIL_DB")
+        .args(["demo", "--dir"])
+        .arg(&target);
+    refused(
+        &mut cmd,
+        &["cannot create the demo directory", target.to_str().unwrap()],
+    );
+    assert_eq!(
+        std::fs::read_to_string(&blocker).unwrap(),
+        "not a directory\n"
+    );
+}
+
+#[test]
+fn a_database_path_that_cannot_hold_a_database_is_a_clear_error() {
+    let dir = TempDir::new().unwrap();
+    let blocker = dir.path().join("file.txt");
+    std::fs::write(&blocker, "not a directory\n").unwrap();
+    let under_file = blocker.join("t.db");
+    refused(
+        bin(&under_file).args(["property", "list"]),
+        &[under_file.to_str().unwrap(), "is a file, not a directory"],
+    );
+    let a_dir = dir.path().join("dir.db");
+    std::fs::create_dir(&a_dir).unwrap();
+    refused(
+        bin(&a_dir).arg("flags"),
+        &[a_dir.to_str().unwrap(), "is a directory"],
+    );
+    assert_eq!(
+        std::fs::read_to_string(&blocker).unwrap(),
+        "not a directory\n"
+    );
+    assert_eq!(std::fs::read_dir(&a_dir).unwrap().count(), 0);
+}
+
+#[test]
+fn a_file_that_is_not_a_database_is_refused_and_left_as_it_was() {
+    let dir = TempDir::new().unwrap();
+    let junk = dir.path().join("junk.db");
+    let bytes: Vec<u8> = (0..4096u32).map(|i| (i * 7 + 3) as u8).collect();
+    std::fs::write(&junk, &bytes).unwrap();
+    let a = dir.path().join("a.csv");
+    visits(&a, "A", 1);
+    for args in [
+        &["import", a.to_str().unwrap()][..],
+        &["flags"][..],
+        &["init"][..],
+    ] {
+        refused(
+            bin(&junk).args(args),
+            &[junk.to_str().unwrap(), "not an ohmtrail database"],
+        );
+        assert_eq!(bytes, std::fs::read(&junk).unwrap(), "{args:?}");
+    }
+}
