@@ -574,4 +574,164 @@ mod tests {
             "not UTF-8 text (byte 0xE9 at offset 3 in the cell): save the file as UTF-8"
         );
     }
+
+    mod properties {
+        use super::*;
+        use crate::import::cell::format_number;
+        use proptest::prelude::*;
+
+        const COLUMNS: [&str; 10] = [
+            "property_ref",
+            "board",
+            "circuit",
+            "visit_date",
+            "device",
+            "r1r2_ohm",
+            "zs_ohm",
+            "ir_le_mohm",
+            "rcd_ms",
+            "note",
+        ];
+
+        /// One valid row's text, and the values it must read as.
+        #[derive(Debug, Clone)]
+        struct Written {
+            fields: Vec<String>,
+            date: NaiveDate,
+            r1r2: Option<f64>,
+            zs_lim: bool,
+            ir: (f64, bool),
+            rcd: f64,
+        }
+
+        fn written() -> impl Strategy<Value = Written> {
+            (
+                "[A-Z]{1,3}-[0-9]{1,4}",
+                "DB[0-9]",
+                "[0-9]{1,2}",
+                0i64..20_000,
+                prop::sample::select(vec!["B6", "B16", "C32", "D6"]),
+                prop::option::of(0.0f64..100.0),
+                any::<bool>(),
+                (0.0f64..2000.0, any::<bool>()),
+                0.0f64..500.0,
+                any::<bool>(),
+            )
+                .prop_map(|(p, b, c, days, dev, r1r2, zs_lim, ir, rcd, uk)| {
+                    let date =
+                        NaiveDate::from_ymd_opt(1970, 1, 1).unwrap() + chrono::Duration::days(days);
+                    let date_text = if uk {
+                        date.format("%d/%m/%Y").to_string()
+                    } else {
+                        date.to_string()
+                    };
+                    let fields = vec![
+                        p,
+                        b,
+                        c,
+                        date_text,
+                        dev.to_string(),
+                        r1r2.map(format_number).unwrap_or_else(|| "N/A".into()),
+                        if zs_lim {
+                            "LIM".into()
+                        } else {
+                            "0.5 Ω".into()
+                        },
+                        format!("{}{} MΩ", if ir.1 { ">" } else { "" }, format_number(ir.0)),
+                        format!("{}ms", format_number(rcd)),
+                        "checked, ok".into(),
+                    ];
+                    Written {
+                        fields,
+                        date,
+                        r1r2,
+                        zs_lim,
+                        ir,
+                        rcd,
+                    }
+                })
+        }
+
+        fn read(order: &[usize], w: &Written) -> Result<VisitRow, Vec<FieldError>> {
+            let names: Vec<&str> = order.iter().map(|i| COLUMNS[*i]).collect();
+            let header = parse_header(&names, false).unwrap();
+            let fields: Vec<&[u8]> = order.iter().map(|i| w.fields[*i].as_bytes()).collect();
+            parse_visit_row(&header, &fields, &opts())
+        }
+
+        proptest! {
+            #[test]
+            fn a_valid_row_reads_as_written(w in written()) {
+                let order: Vec<usize> = (0..COLUMNS.len()).collect();
+                let row = read(&order, &w).unwrap();
+                prop_assert_eq!(&row.property_ref, &w.fields[0]);
+                prop_assert_eq!(row.visit_date, w.date);
+                prop_assert_eq!(row.readings.r1r2_ohm, w.r1r2);
+                prop_assert_eq!(row.readings.zs_ohm, if w.zs_lim { None } else { Some(0.5) });
+                prop_assert_eq!(row.readings.limitations.is_empty(), !w.zs_lim);
+                prop_assert_eq!(
+                    row.readings.ir_le,
+                    Some(Megohms { value: w.ir.0, over_range: w.ir.1 })
+                );
+                prop_assert_eq!(row.readings.rcd_ms, Some(w.rcd));
+                prop_assert_eq!(row.readings.note.as_deref(), Some("checked, ok"));
+            }
+
+            #[test]
+            fn column_order_does_not_change_a_row(
+                w in written(),
+                order in Just((0..COLUMNS.len()).collect::<Vec<usize>>()).prop_shuffle(),
+            ) {
+                let straight: Vec<usize> = (0..COLUMNS.len()).collect();
+                prop_assert_eq!(read(&order, &w), read(&straight, &w));
+            }
+
+            #[test]
+            fn a_ragged_row_is_refused_at_the_first_missing_or_extra_field(
+                w in written(),
+                n in 0usize..20,
+            ) {
+                prop_assume!(n != COLUMNS.len());
+                let header = parse_header(&COLUMNS, false).unwrap();
+                let fields: Vec<&[u8]> =
+                    (0..n).map(|i| w.fields.get(i).map_or(&b"x"[..], |f| f.as_bytes())).collect();
+                let e = parse_visit_row(&header, &fields, &opts()).unwrap_err();
+                prop_assert_eq!(e.len(), 1);
+                prop_assert_eq!(e[0].column, n.min(COLUMNS.len()) + 1);
+            }
+
+            #[test]
+            fn any_bytes_give_a_row_or_located_one_line_errors(
+                fields in prop::collection::vec(prop::collection::vec(any::<u8>(), 0..12), 10),
+            ) {
+                let header = parse_header(&COLUMNS, false).unwrap();
+                let refs: Vec<&[u8]> = fields.iter().map(Vec::as_slice).collect();
+                if let Err(e) = parse_visit_row(&header, &refs, &opts()) {
+                    prop_assert!(!e.is_empty());
+                    for f in e {
+                        prop_assert!((1..=COLUMNS.len()).contains(&f.column));
+                        prop_assert_eq!(f.name.as_deref(), Some(COLUMNS[f.column - 1]));
+                        prop_assert!(!f.message.contains(['\n', '\r']), "{:?}", f.message);
+                    }
+                }
+            }
+
+            #[test]
+            fn an_observation_row_never_panics_and_keeps_its_text(
+                text in "[ -~]{1,40}",
+                fields in prop::collection::vec(prop::collection::vec(any::<u8>(), 0..8), 5),
+            ) {
+                let names = ["property_ref", "visit_date", "code", "text", "circuit"];
+                let header = parse_header(&names, false).unwrap();
+                let refs: Vec<&[u8]> = fields.iter().map(Vec::as_slice).collect();
+                let _ = parse_observation_row(&header, &refs, &opts());
+                let ok: Vec<&[u8]> =
+                    vec![b"S1", b"2025-06-14", b"C3", text.as_bytes(), b""];
+                match parse_observation_row(&header, &ok, &opts()) {
+                    Ok(row) => prop_assert_eq!(row.text, crate::import::cell::unescape(&text)),
+                    Err(e) => prop_assert!(text.trim().is_empty() || matches!(text.trim(), "-" | "NA" | "na" | "N/A" | "n/a" | "Na" | "nA"), "{:?}", e),
+                }
+            }
+        }
+    }
 }
