@@ -6,9 +6,11 @@
 
 mod history;
 pub mod migrate;
+mod pending;
 mod visits;
 
 pub use history::PropertyHistory;
+pub use pending::Abandoned;
 pub use visits::{NewVisit, validate_readings};
 
 use std::path::{Path, PathBuf};
