@@ -7,6 +7,7 @@
 //! - [`trend`]: drift, steps and projections over a series of readings; pure.
 //! - [`store`]: the SQLite history; the only module that talks SQL.
 //! - [`import`]: visit files in, with exact errors.
+//! - [`onsite`]: the visit brief and the live comparison while testing; pure.
 
 pub mod analysis;
 pub mod demo;
@@ -14,6 +15,7 @@ pub mod error;
 pub mod import;
 pub mod limits;
 pub mod model;
+pub mod onsite;
 pub mod report;
 pub mod store;
 pub mod trend;
