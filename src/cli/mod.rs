@@ -2,6 +2,7 @@
 //! opens nothing it does not need; all computation is in the library.
 
 pub mod board;
+pub mod brief;
 pub mod check;
 pub mod circuit;
 pub mod demo;
@@ -11,6 +12,7 @@ pub mod instrument;
 pub mod limits;
 pub mod output;
 pub mod property;
+pub mod record;
 pub mod trend;
 pub mod visit;
 
@@ -68,6 +70,10 @@ pub enum Command {
     Check(check::Args),
     /// Build an invented demo portfolio and write its trend report
     Demo(demo::Args),
+    /// The brief for a coming visit: what each circuit should read on the day, and what to test first
+    Brief(brief::Args),
+    /// Take readings on site into a pending visit, each compared at once with what was expected
+    Record(record::Args),
 }
 
 /// What every command may need: where the database is, and where to print.
@@ -112,6 +118,8 @@ pub fn run(cli: Cli, out: &mut dyn Write) -> Result<()> {
         Command::Limits(args) => limits::run(&args, out),
         Command::Check(args) => check::run(&args, out),
         Command::Demo(args) => demo::run(&args, out),
+        Command::Brief(args) => brief::run(&args, &ctx, out),
+        Command::Record(args) => record::run(&args, &ctx, out),
     }
 }
 
