@@ -381,7 +381,7 @@ pub fn parse_entry(field: Field, text: &str) -> Result<Entry, EntryError> {
 pub fn fmt_in(unit: Unit, v: f64) -> String {
     match unit {
         Unit::Ohm => format!("{v:.2} Ω"),
-        Unit::Ms => format!("{v:.0} ms"),
+        Unit::Ms => format!("{} ms", ms(v)),
         Unit::Megohm => format!("{} MΩ", sig3(v)),
     }
 }
@@ -390,8 +390,22 @@ pub fn fmt_in(unit: Unit, v: f64) -> String {
 pub fn fmt_num(unit: Unit, v: f64) -> String {
     match unit {
         Unit::Ohm => format!("{v:.2}"),
-        Unit::Ms => format!("{v:.0}"),
+        Unit::Ms => ms(v),
         Unit::Megohm => sig3(v),
+    }
+}
+
+/// A value rounded as it is shown, so a verdict agrees with the figures on the screen.
+pub fn as_shown(unit: Unit, v: f64) -> f64 {
+    fmt_num(unit, v).parse().unwrap_or(v)
+}
+
+/// Whole milliseconds, or tenths when the value has them.
+fn ms(v: f64) -> String {
+    if (v - v.round()).abs() < 0.05 {
+        format!("{v:.0}")
+    } else {
+        format!("{v:.1}")
     }
 }
 

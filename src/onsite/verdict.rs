@@ -4,7 +4,7 @@
 use serde::Serialize;
 
 use super::brief::{Expectation, LimitAt};
-use super::entry::{Entry, Field, Unit, fmt_in};
+use super::entry::{Entry, Field, Unit, as_shown, fmt_in};
 use crate::trend::LimitKind;
 
 /// Which way the verdict went.
@@ -198,7 +198,13 @@ pub fn judge(e: &Expectation, entry: &Entry) -> Judgement {
         );
     };
     let insulation = f.is_insulation();
-    if let Some(lo) = b.low
+    // Judge against the band as printed: a reading equal to a shown end is within.
+    let (low, high) = (
+        b.low.map(|x| as_shown(u, x)),
+        b.high.map(|x| as_shown(u, x)),
+    );
+    let v = as_shown(u, v);
+    if let Some(lo) = low
         && v < lo - 1e-9
     {
         if over {
@@ -224,7 +230,7 @@ pub fn judge(e: &Expectation, entry: &Entry) -> Judgement {
             format!("OUTSIDE THE BAND: {f} {shown} is {by} ({expected}); {means}{within_limit}"),
         );
     }
-    if let Some(hi) = b.high
+    if let Some(hi) = high
         && v > hi + 1e-9
     {
         return j(
@@ -305,6 +311,17 @@ mod tests {
             "{}",
             x.sentence
         );
+
+        // A reading equal to the band's end as shown is within, though the end is 0.5349.
+        let shown = Expectation {
+            band: Some(Band {
+                low: Some(0.43),
+                high: Some(0.5349),
+            }),
+            ..e.clone()
+        };
+        assert_eq!(judge(&shown, &Entry::Value(0.53)).verdict, Verdict::Within);
+        assert_eq!(judge(&shown, &Entry::Value(0.54)).verdict, Verdict::Worse);
 
         let lower = judge(&e, &Entry::Value(0.30));
         assert_eq!(lower.verdict, Verdict::Better);
