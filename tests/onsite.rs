@@ -479,3 +479,29 @@ fn bad_input_at_the_prompt_re_asks_and_stores_nothing_wrong() {
     assert_eq!(r.r1rn_ohm, Some(0.9));
     assert_eq!(r.zs_ohm, None);
 }
+
+#[test]
+fn record_refuses_what_cannot_be_a_visit() {
+    let e = Env::new();
+    e.ok(&["property", "add", "P-0"], "");
+    e.cmd(&["record", "P-0", "--date", "2025-01-01"], "")
+        .failure()
+        .stderr(predicates::str::contains("P-0 has no boards"));
+    e.ok(&["board", "add", "P-0", "CU"], "");
+    e.cmd(&["record", "P-0", "--date", "2999-01-01"], "")
+        .failure()
+        .stderr(predicates::str::contains("is in the future"));
+    e.cmd(&["record", "P-0", "--temp", "90"], "")
+        .failure()
+        .stderr(predicates::str::contains("out of range"));
+    e.cmd(&["record", "P-0", "--resume"], "")
+        .failure()
+        .stderr(predicates::str::contains("no pending visit to resume"));
+    e.cmd(&["record", "NOPE"], "")
+        .failure()
+        .stderr(predicates::str::contains("property \"NOPE\" not found"));
+    // Nothing was started by any of these.
+    let s = e.store();
+    let p = s.property("P-0").unwrap();
+    assert!(s.pending_visit(p.id).unwrap().is_none());
+}

@@ -99,6 +99,13 @@ pub fn run(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
             bail!("{r} has no pending visit to resume: start one with `ohmtrail record {r}`")
         }
         (None, false) => {
+            if !store
+                .boards(property.id)?
+                .iter()
+                .any(|b| b.status == ohmtrail::model::Status::InService)
+            {
+                bail!("{r} has no boards: add one with `ohmtrail board add {r} DESIGNATION`");
+            }
             let date = args.date.unwrap_or_else(today);
             if date > today() {
                 bail!("visit date {date} is in the future: expected today or earlier");
@@ -186,6 +193,9 @@ fn load_progress(store: &Store, visit_id: i64) -> Result<Progress> {
     }
     Ok(p)
 }
+
+/// Board readings have no place for a limitation yet, so say so rather than pretend.
+const ZE_LIM: &str = "LIM is not stored for a board reading: nothing stored; note the limitation on the paper record";
 
 /// Print a prompt and read one line; `None` at the end of input (Ctrl-D).
 fn ask(input: &mut dyn BufRead, out: &mut dyn Write, prompt: &str) -> Result<Option<String>> {
@@ -316,7 +326,11 @@ fn run_prompts(
                 if let Entry::Value(v) = entry {
                     store.set_board_test(visit.id, bd.board_id, Some(v), None)?;
                 }
-                say(out, &bd.ze, &entry)?;
+                if entry == Entry::Limitation {
+                    writeln!(out, "   {ZE_LIM}")?;
+                } else {
+                    say(out, &bd.ze, &entry)?;
+                }
             }
             Step::Fitted {
                 board: bi,
@@ -647,7 +661,11 @@ fn apply_line(
             } else {
                 Applied::Nothing
             };
-            writeln!(out, "{at} ze_ohm: {}", judge(&board.ze, &entry).sentence)?;
+            if entry == Entry::Limitation {
+                writeln!(out, "{at} ze_ohm: {ZE_LIM}")?;
+            } else {
+                writeln!(out, "{at} ze_ohm: {}", judge(&board.ze, &entry).sentence)?;
+            }
             Ok(stored)
         }
         (LineWhat::Value(f), Some(c)) => {
