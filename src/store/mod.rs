@@ -7,12 +7,14 @@
 mod history;
 mod ingest;
 pub mod migrate;
+mod pending;
 mod visits;
 
 pub use history::PropertyHistory;
 pub use ingest::{
     ExportObservation, ExportRecord, IngestBoard, IngestChange, IngestProperty, IngestVisit,
 };
+pub use pending::Abandoned;
 pub use visits::{NewVisit, validate_readings};
 
 use std::path::{Path, PathBuf};
