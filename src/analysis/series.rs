@@ -211,7 +211,13 @@ pub(super) fn circuit_analysis(
 
     let mut rows: Vec<(Row, i64)> = chain
         .iter()
-        .flat_map(|x| idx.records.get(&x.id).into_iter().flatten().map(move |r| (x, r)))
+        .flat_map(|x| {
+            idx.records
+                .get(&x.id)
+                .into_iter()
+                .flatten()
+                .map(move |r| (x, r))
+        })
         .filter_map(|(x, r)| {
             let visit = idx.visits.get(&r.visit_id)?;
             let ze_board = idx.board_ze.get(&(r.visit_id, x.board_id)).copied();

@@ -14,8 +14,8 @@ pub mod instrument;
 pub mod limits;
 pub mod output;
 pub mod property;
-pub mod settings;
 pub mod record;
+pub mod settings;
 pub mod trend;
 pub mod visit;
 

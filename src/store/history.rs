@@ -123,7 +123,9 @@ fn queries() -> Queries {
         changes: "SELECT ch.id, ch.circuit_id, ch.date, ch.kind, ch.field, ch.old_value, ch.new_value,
                     ch.note, b.property_id
              FROM circuit_change ch JOIN circuit c ON c.id = ch.circuit_id JOIN board b ON b.id = c.board_id
-             WHERE ?1 IS NULL OR b.property_id = ?1
+             LEFT JOIN visit pv ON pv.id = ch.visit_id
+             -- A change made during a visit still being recorded is not history yet.
+             WHERE (ch.visit_id IS NULL OR pv.state = 'complete') AND (?1 IS NULL OR b.property_id = ?1)
              ORDER BY b.property_id, ch.date, ch.id",
         observations: "SELECT o.id, o.visit_id, b.designation, c.number, o.code, o.text, v.property_id
              FROM visit v JOIN observation o ON o.visit_id = v.id
