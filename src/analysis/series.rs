@@ -621,6 +621,8 @@ pub(super) fn circuit_analysis(
                     findings.retain(|(j, g)| {
                         !(*j == i1n && matches!(g.kind, FindingKind::Step | FindingKind::Drift))
                     });
+                    // The series view shows it beside R1+Rn's own findings.
+                    out[i1n].report.findings.push(f.clone());
                     findings.push((i1n, f));
                 }
             }
