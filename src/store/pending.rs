@@ -5,7 +5,7 @@ use rusqlite::{OptionalExtension, params};
 
 use super::Store;
 use crate::error::{Error, Result};
-use crate::model::{ChangeKind, CircuitChange, Readings, TestRecord, Visit, VisitState};
+use crate::model::{CircuitChange, Readings, TestRecord, Visit, VisitState};
 
 /// A board reading at a visit: (board id, Ze or Zdb in Ω, prospective fault current in kA).
 pub type BoardReading = (i64, Option<f64>, Option<f64>);
@@ -55,23 +55,11 @@ impl Store {
 
     /// Circuit changes recorded at one visit, oldest first.
     pub fn visit_changes(&self, visit_id: i64) -> Result<Vec<CircuitChange>> {
-        let mut stmt = self.conn.prepare(
-            "SELECT id, circuit_id, date, kind, field, old_value, new_value, note
-             FROM circuit_change WHERE visit_id = ?1 ORDER BY id",
-        )?;
-        let rows = stmt.query_map([visit_id], |r| {
-            let kind: String = r.get(3)?;
-            Ok(CircuitChange {
-                id: r.get(0)?,
-                circuit_id: r.get(1)?,
-                date: r.get(2)?,
-                kind: kind.parse().unwrap_or(ChangeKind::RegisterCorrected),
-                field: r.get(4)?,
-                old_value: r.get(5)?,
-                new_value: r.get(6)?,
-                note: r.get(7)?,
-            })
-        })?;
+        let mut stmt = self.conn.prepare(&format!(
+            "SELECT {} FROM circuit_change WHERE visit_id = ?1 ORDER BY id",
+            super::CHANGE_COLS
+        ))?;
+        let rows = stmt.query_map([visit_id], super::change_from_row)?;
         Ok(rows.collect::<rusqlite::Result<_>>()?)
     }
 
