@@ -11,6 +11,7 @@ pub mod instrument;
 pub mod limits;
 pub mod output;
 pub mod property;
+pub mod report;
 pub mod trend;
 pub mod visit;
 
@@ -62,6 +63,8 @@ pub enum Command {
     Flags(flags::Args),
     /// Every series of a property's circuits with its points, slopes and findings
     Trend(trend::Args),
+    /// Write a property's trend report (HTML or JSON), or the portfolio index with --portfolio
+    Report(report::Args),
     /// Show the published limits for a protective device, with their sources
     Limits(limits::Args),
     /// Judge one set of readings through the limits engine, to see what it concludes
@@ -109,6 +112,7 @@ pub fn run(cli: Cli, out: &mut dyn Write) -> Result<()> {
         Command::Visit(cmd) => visit::run(&cmd, &ctx, out),
         Command::Flags(args) => flags::run(&args, &ctx, out),
         Command::Trend(args) => trend::run(&args, &ctx, out),
+        Command::Report(args) => report::run(&args, &ctx, out),
         Command::Limits(args) => limits::run(&args, out),
         Command::Check(args) => check::run(&args, out),
         Command::Demo(args) => demo::run(&args, out),
