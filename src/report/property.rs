@@ -109,7 +109,19 @@ fn masthead(o: &mut String, r: &PropertyReport) {
         },
     );
     fact(o, "Last visit", time_or(h.last_visit, "none yet"));
-    fact(o, "Next inspection due", time_or(h.next_due, "not known"));
+    fact(
+        o,
+        "Routine inspection due",
+        time_or(h.next_due, "not known"),
+    );
+    let s = &r.summary;
+    let recommended = match s.next_inspection {
+        Some(d) if s.next_inspection_overdue => format!("{} (now due)", time(d)),
+        Some(d) if s.next_inspection_shortened => format!("{} (brought forward)", time(d)),
+        Some(d) => time(d),
+        None => "arrange one".into(),
+    };
+    fact(o, "Next inspection recommended", recommended);
     fact(o, "Report made", time(r.generated));
     fact(o, "ohmtrail", esc(r.ohmtrail_version));
     o.push_str("</dl>\n</header>\n");
