@@ -1,1 +1,1279 @@
-//! Visit files in: parsing cells and rows with exact positions for every error.
+//! Visit files in: every row checked, one transaction per file, exact errors.
+//!
+//! [`cell`] and [`row`] read text into values and know nothing else; this module decides what
+//! each row means for the history (new, unchanged, a conflict, a register change) and asks
+//! [`crate::store`] to write it.
+
+pub mod cell;
+pub mod row;
+
+use std::cell::RefCell;
+use std::collections::{HashMap, HashSet, VecDeque};
+use std::fs::File;
+use std::io::{BufRead, BufReader, Read};
+use std::path::{Path, PathBuf};
+use std::rc::Rc;
+
+use chrono::NaiveDate;
+use serde::Serialize;
+
+pub use cell::{
+    Cell, CellError, Column, ParseOptions, escape, format_number, parse_cell, unescape,
+};
+pub use row::{
+    FieldError, FileKind, Header, ObservationRow, RowRegister, VisitRow, parse_header,
+    parse_observation_row, parse_visit_row,
+};
+
+use crate::error::{Error, Result};
+use crate::model::{Megohms, Readings};
+use crate::store::{CircuitDetails, IngestChange, IngestVisit, Store, fmt_num};
+
+/// At most this many errors are printed; the rest are counted.
+pub const ERROR_CAP: usize = 100;
+
+/// How a file is imported.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct ImportOptions {
+    pub parse: ParseOptions,
+    /// Write the valid rows and put the rejected ones in a sidecar file.
+    pub skip_invalid: bool,
+    /// Overwrite stored values that the file contradicts, instead of refusing.
+    pub replace: bool,
+    /// Ignore columns this tool does not know, instead of refusing the file.
+    pub ignore_unknown: bool,
+}
+
+impl ImportOptions {
+    /// Strict defaults: decimal point, every row valid, no overwriting, no unknown columns.
+    pub fn new(today: NaiveDate) -> ImportOptions {
+        ImportOptions {
+            parse: ParseOptions {
+                decimal_comma: false,
+                today,
+            },
+            skip_invalid: false,
+            replace: false,
+            ignore_unknown: false,
+        }
+    }
+}
+
+/// A register change that a row recorded.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct RegisterChange {
+    pub line: u64,
+    pub property_ref: String,
+    pub board: String,
+    pub circuit: String,
+    pub date: NaiveDate,
+    pub kind: String,
+    pub field: String,
+    pub old_value: Option<String>,
+    pub new_value: Option<String>,
+}
+
+/// What an import did, for people and for scripts.
+#[derive(Debug, Clone, Default, PartialEq, Serialize)]
+pub struct Summary {
+    pub file: String,
+    pub kind: Option<FileKind>,
+    pub rows: u64,
+    pub blank_rows: u64,
+    pub properties_created: u64,
+    pub boards_created: u64,
+    pub circuits_created: u64,
+    pub visits_created: u64,
+    pub test_records_written: u64,
+    pub test_records_replaced: u64,
+    pub test_records_unchanged: u64,
+    pub observations_written: u64,
+    pub observations_unchanged: u64,
+    pub changes: Vec<RegisterChange>,
+    pub rows_rejected: u64,
+    /// `FILE:LINE:COLUMN: message`, at most [`ERROR_CAP`] of them.
+    pub errors: Vec<String>,
+    pub errors_total: u64,
+    /// Where the rejected rows went, with `skip_invalid`.
+    pub sidecar: Option<PathBuf>,
+    /// Whether anything was written to the database.
+    pub written: bool,
+}
+
+impl Summary {
+    /// Whether the file was refused as a whole: errors without `skip_invalid`.
+    pub fn failed(&self) -> bool {
+        self.errors_total > 0 && self.rows_rejected == 0
+    }
+
+    fn add(&mut self, e: &Effect) {
+        self.properties_created += e.properties;
+        self.boards_created += e.boards;
+        self.circuits_created += e.circuits;
+        self.visits_created += e.visits;
+        self.test_records_written += e.written;
+        self.test_records_replaced += e.replaced;
+        self.test_records_unchanged += e.unchanged;
+        self.observations_written += e.observations;
+        self.observations_unchanged += e.observations_unchanged;
+        self.changes.extend(e.changes.iter().cloned());
+        if e.wrote {
+            self.written = true;
+        }
+    }
+}
+
+/// What one row did; added to the summary only when the row is kept.
+#[derive(Debug, Default)]
+struct Effect {
+    properties: u64,
+    boards: u64,
+    circuits: u64,
+    visits: u64,
+    written: u64,
+    replaced: u64,
+    unchanged: u64,
+    observations: u64,
+    observations_unchanged: u64,
+    changes: Vec<RegisterChange>,
+    wrote: bool,
+}
+
+/// A fault found while applying a row: the column it concerns, if one, and why.
+#[derive(Debug, Clone)]
+struct Fault {
+    column: Option<Column>,
+    message: String,
+}
+
+struct Faults(Vec<Fault>);
+
+impl From<Error> for Faults {
+    fn from(e: Error) -> Faults {
+        Faults(vec![Fault {
+            column: None,
+            message: e.to_string(),
+        }])
+    }
+}
+
+fn fault<T>(column: Column, message: String) -> std::result::Result<T, Faults> {
+    Err(Faults(vec![Fault {
+        column: Some(column),
+        message,
+    }]))
+}
+
+type RowResult<T> = std::result::Result<T, Faults>;
+
+/// The register fields a row may carry, with the change-log field name for each.
+const REGISTER: [(Column, &str); 7] = [
+    (Column::Description, "description"),
+    (Column::Ring, "kind"),
+    (Column::Device, "device"),
+    (Column::RcdMa, "rcd_ma"),
+    (Column::LiveMm2, "live_mm2"),
+    (Column::CpcMm2, "cpc_mm2"),
+    (Column::LengthM, "length_m"),
+];
+
+/// Register details as the change log writes them, in [`REGISTER`] order.
+pub fn register_texts(d: &CircuitDetails) -> [Option<String>; 7] {
+    [
+        d.description.clone(),
+        d.kind.map(|k| k.as_str().to_string()),
+        d.device.map(|x| x.to_string()),
+        d.rcd_ma.map(|x| x.to_string()),
+        d.live_mm2.map(fmt_num),
+        d.cpc_mm2.map(fmt_num),
+        d.length_m.map(fmt_num),
+    ]
+}
+
+/// Whether every register field the row gives equals the register's.
+fn register_agrees(d: &CircuitDetails, r: &RowRegister) -> bool {
+    fn same<T: PartialEq>(row: &Option<T>, reg: &Option<T>) -> bool {
+        row.is_none() || row == reg
+    }
+    same(&r.description, &d.description)
+        && same(&r.kind, &d.kind)
+        && same(&r.device, &d.device)
+        && same(&r.rcd_ma, &d.rcd_ma)
+        && same(&r.live_mm2, &d.live_mm2)
+        && same(&r.cpc_mm2, &d.cpc_mm2)
+        && same(&r.length_m, &d.length_m)
+}
+
+/// Set one register field from its change-log text.
+fn apply_text(d: &mut CircuitDetails, field: &str, v: Option<&str>) {
+    let num = |v: Option<&str>| v.and_then(|t| t.parse().ok());
+    match field {
+        "description" => d.description = v.map(String::from),
+        "kind" => d.kind = v.and_then(|t| t.parse().ok()),
+        "device" => d.device = v.and_then(|t| t.parse().ok()),
+        "rcd_ma" => d.rcd_ma = v.and_then(|t| t.parse().ok()),
+        "live_mm2" => d.live_mm2 = num(v),
+        "cpc_mm2" => d.cpc_mm2 = num(v),
+        "length_m" => d.length_m = num(v),
+        _ => {}
+    }
+}
+
+fn row_register_details(r: &RowRegister) -> CircuitDetails {
+    CircuitDetails {
+        description: r.description.clone(),
+        kind: r.kind,
+        live_mm2: r.live_mm2,
+        cpc_mm2: r.cpc_mm2,
+        length_m: r.length_m,
+        device: r.device,
+        rcd_ma: r.rcd_ma,
+        ..Default::default()
+    }
+}
+
+/// A register field's value at `date`: the value before the first later change, else now.
+pub fn register_at(
+    current: &[Option<String>; 7],
+    changes: &[IngestChange],
+    date: NaiveDate,
+) -> [Option<String>; 7] {
+    let mut out = current.clone();
+    for (i, (_, field)) in REGISTER.iter().enumerate() {
+        if let Some(c) = changes
+            .iter()
+            .find(|c| c.date > date && c.field.as_deref() == Some(field))
+        {
+            out[i] = c.old_value.clone();
+        }
+    }
+    out
+}
+
+/// Reading columns stored in a test record, in export order.
+pub const READING_COLUMNS: [Column; 13] = [
+    Column::ZeOhm,
+    Column::RingR1Ohm,
+    Column::RingRnOhm,
+    Column::RingR2Ohm,
+    Column::R1r2Ohm,
+    Column::R2Ohm,
+    Column::R1rnOhm,
+    Column::ZsOhm,
+    Column::IrLlMohm,
+    Column::IrLeMohm,
+    Column::RcdMs,
+    Column::Rcd5xMs,
+    Column::Note,
+];
+
+/// A reading's cell text as export writes it (`LIM` for a limitation), or `None`.
+/// For `ze_ohm` only the limitation lives in the record; its value is a board test.
+pub fn reading_text(r: &Readings, c: Column) -> Option<String> {
+    if r.limitations.iter().any(|l| l == c.name()) {
+        return Some("LIM".to_string());
+    }
+    let num = |v: Option<f64>| v.map(format_number);
+    let mohm = |m: Option<Megohms>| {
+        m.map(|m| {
+            if m.over_range {
+                format!(">{}", format_number(m.value))
+            } else {
+                format_number(m.value)
+            }
+        })
+    };
+    match c {
+        Column::RingR1Ohm => num(r.ring_r1_ohm),
+        Column::RingRnOhm => num(r.ring_rn_ohm),
+        Column::RingR2Ohm => num(r.ring_r2_ohm),
+        Column::R1r2Ohm => num(r.r1r2_ohm),
+        Column::R2Ohm => num(r.r2_ohm),
+        Column::R1rnOhm => num(r.r1rn_ohm),
+        Column::ZsOhm => num(r.zs_ohm),
+        Column::IrLlMohm => mohm(r.ir_ll),
+        Column::IrLeMohm => mohm(r.ir_le),
+        Column::RcdMs => num(r.rcd_ms),
+        Column::Rcd5xMs => num(r.rcd_5x_ms),
+        Column::Note => r.note.clone(),
+        _ => None,
+    }
+}
+
+/// Copy one reading column (value and limitation mark) from `src` into `dst`.
+fn copy_reading(dst: &mut Readings, src: &Readings, c: Column) {
+    match c {
+        Column::RingR1Ohm => dst.ring_r1_ohm = src.ring_r1_ohm,
+        Column::RingRnOhm => dst.ring_rn_ohm = src.ring_rn_ohm,
+        Column::RingR2Ohm => dst.ring_r2_ohm = src.ring_r2_ohm,
+        Column::R1r2Ohm => dst.r1r2_ohm = src.r1r2_ohm,
+        Column::R2Ohm => dst.r2_ohm = src.r2_ohm,
+        Column::R1rnOhm => dst.r1rn_ohm = src.r1rn_ohm,
+        Column::ZsOhm => dst.zs_ohm = src.zs_ohm,
+        Column::IrLlMohm => dst.ir_ll = src.ir_ll,
+        Column::IrLeMohm => dst.ir_le = src.ir_le,
+        Column::RcdMs => dst.rcd_ms = src.rcd_ms,
+        Column::Rcd5xMs => dst.rcd_5x_ms = src.rcd_5x_ms,
+        Column::Note => dst.note = src.note.clone(),
+        _ => {}
+    }
+    dst.limitations.retain(|l| l != c.name());
+    if src.limitations.iter().any(|l| l == c.name()) {
+        dst.limitations.push(c.name().to_string());
+    }
+    let mut cols: Vec<Column> = dst
+        .limitations
+        .iter()
+        .filter_map(|l| Column::from_name(l))
+        .collect();
+    cols.sort();
+    dst.limitations = cols.iter().map(|c| c.name().to_string()).collect();
+}
+
+fn shown(v: &Option<String>) -> String {
+    match v {
+        Some(t) => format!("{t:?}"),
+        None => "not recorded".to_string(),
+    }
+}
+
+fn conflict(what: &str, stored: &Option<String>, file: &Option<String>) -> String {
+    format!(
+        "conflicts with {what}: stored {}, file {} (pass --replace to overwrite)",
+        shown(stored),
+        shown(file)
+    )
+}
+
+// ----- the per-file cache of what rows refer to -----
+
+struct CircuitState {
+    id: i64,
+    /// The register now, typed for the common case of a row that agrees with it.
+    details: CircuitDetails,
+    current: [Option<String>; 7],
+    changes: Vec<IngestChange>,
+    latest: Option<NaiveDate>,
+}
+
+struct BoardState {
+    id: i64,
+    earthing: Option<String>,
+    circuits: HashMap<String, CircuitState>,
+}
+
+struct VisitState {
+    v: IngestVisit,
+    /// Ze stored at each board at this visit, as far as this import knows.
+    ze: HashMap<i64, Option<f64>>,
+    /// Created by this import, so it holds only records this import wrote.
+    created: bool,
+    written: HashSet<i64>,
+}
+
+struct PropertyState {
+    id: i64,
+    address: Option<String>,
+    boards: HashMap<String, BoardState>,
+    visits: HashMap<NaiveDate, VisitState>,
+}
+
+/// Keeps recently used properties so most rows need no lookup. Bounded, so memory does not
+/// grow with the file; a property dropped from it is read again from the database.
+#[derive(Default)]
+struct Cache {
+    properties: HashMap<String, PropertyState>,
+    instruments: HashMap<String, i64>,
+}
+
+const CACHE_PROPERTIES: usize = 2_000;
+
+impl Cache {
+    fn property(
+        &mut self,
+        s: &Store,
+        reference: &str,
+        address: Option<&str>,
+        eff: &mut Effect,
+    ) -> RowResult<&mut PropertyState> {
+        if self.properties.len() >= CACHE_PROPERTIES && !self.properties.contains_key(reference) {
+            self.properties.clear();
+        }
+        if !self.properties.contains_key(reference) {
+            let state = match s.ingest_property(reference)? {
+                Some(p) => PropertyState {
+                    id: p.id,
+                    address: p.address,
+                    boards: HashMap::new(),
+                    visits: HashMap::new(),
+                },
+                None => {
+                    let id = s.ingest_insert_property(reference, address)?;
+                    eff.properties += 1;
+                    eff.wrote = true;
+                    PropertyState {
+                        id,
+                        address: address.map(String::from),
+                        boards: HashMap::new(),
+                        visits: HashMap::new(),
+                    }
+                }
+            };
+            self.properties.insert(reference.to_string(), state);
+        }
+        Ok(self.properties.get_mut(reference).expect("just inserted"))
+    }
+
+    fn instrument(&mut self, s: &Store, serial: &str) -> Result<i64> {
+        if let Some(id) = self.instruments.get(serial) {
+            return Ok(*id);
+        }
+        let id = s.ingest_instrument(serial)?;
+        self.instruments.insert(serial.to_string(), id);
+        Ok(id)
+    }
+}
+
+fn visit_state<'a>(
+    s: &Store,
+    p: &'a mut PropertyState,
+    date: NaiveDate,
+    wanted: &IngestVisit,
+    instrument_id: Option<i64>,
+    eff: &mut Effect,
+) -> Result<&'a mut VisitState> {
+    if !p.visits.contains_key(&date) {
+        let state = match s.ingest_visit(p.id, date)? {
+            Some(v) => VisitState {
+                v,
+                ze: HashMap::new(),
+                created: false,
+                written: HashSet::new(),
+            },
+            None => {
+                let id = s.ingest_insert_visit(p.id, date, wanted, instrument_id)?;
+                eff.visits += 1;
+                eff.wrote = true;
+                VisitState {
+                    v: IngestVisit {
+                        id,
+                        ..wanted.clone()
+                    },
+                    ze: HashMap::new(),
+                    created: true,
+                    written: HashSet::new(),
+                }
+            }
+        };
+        p.visits.insert(date, state);
+    }
+    Ok(p.visits.get_mut(&date).expect("just inserted"))
+}
+
+struct Importer<'a> {
+    store: &'a Store,
+    opts: &'a ImportOptions,
+    header: &'a Header,
+    cache: Cache,
+}
+
+impl Importer<'_> {
+    fn apply_visit(&mut self, row: &VisitRow, line: u64) -> RowResult<Effect> {
+        let s = self.store;
+        let replace = self.opts.replace;
+        let mut eff = Effect::default();
+        let date = row.visit_date;
+        let where_ = || format!("{} {}/{}", row.property_ref, row.board, row.circuit);
+
+        // The visit's own fields, resolved before borrowing the property's state.
+        let instrument_id = match &row.instrument {
+            Some(serial) => Some(self.cache.instrument(s, serial)?),
+            None => None,
+        };
+        let wanted = IngestVisit {
+            id: 0,
+            inspector: row.inspector.clone(),
+            instrument: row.instrument.clone(),
+            ambient_c: row.ambient_c,
+        };
+
+        let p = self
+            .cache
+            .property(s, &row.property_ref, row.address.as_deref(), &mut eff)?;
+        if let Some(a) = &row.address
+            && p.address.as_ref() != Some(a)
+        {
+            if p.address.is_none() || replace {
+                s.ingest_set_address(p.id, a)?;
+                p.address = Some(a.clone());
+                eff.wrote = true;
+            } else {
+                return fault(
+                    Column::Address,
+                    conflict(
+                        &format!("the address of property {}", row.property_ref),
+                        &p.address,
+                        &row.address,
+                    ),
+                );
+            }
+        }
+        let property_id = p.id;
+
+        // Board.
+        if !p.boards.contains_key(&row.board) {
+            let state = match s.ingest_board(property_id, &row.board)? {
+                Some(b) => BoardState {
+                    id: b.id,
+                    earthing: b.earthing,
+                    circuits: HashMap::new(),
+                },
+                None => {
+                    let e = row.earthing.map(|e| e.as_str());
+                    let id = s.ingest_insert_board(property_id, &row.board, e)?;
+                    eff.boards += 1;
+                    eff.wrote = true;
+                    BoardState {
+                        id,
+                        earthing: e.map(String::from),
+                        circuits: HashMap::new(),
+                    }
+                }
+            };
+            p.boards.insert(row.board.clone(), state);
+        }
+        let b = p.boards.get_mut(&row.board).expect("just inserted");
+        if let Some(e) = row.earthing.map(|e| e.as_str().to_string())
+            && b.earthing.as_ref() != Some(&e)
+        {
+            if b.earthing.is_none() || replace {
+                s.ingest_set_earthing(b.id, &e)?;
+                b.earthing = Some(e);
+                eff.wrote = true;
+            } else {
+                return fault(
+                    Column::Earthing,
+                    conflict(
+                        &format!(
+                            "the earthing of board {} at {}",
+                            row.board, row.property_ref
+                        ),
+                        &b.earthing,
+                        &Some(e),
+                    ),
+                );
+            }
+        }
+        let board_id = b.id;
+
+        // Circuit, and whether the row disagrees with the register as it stood on the date.
+        let row_details = row_register_details(&row.register);
+        if !b.circuits.contains_key(&row.circuit) {
+            let state = match s.ingest_circuit(board_id, &row.circuit)? {
+                Some((id, details)) => CircuitState {
+                    id,
+                    current: register_texts(&details),
+                    details,
+                    changes: s.ingest_changes(id)?,
+                    latest: s.ingest_latest_record(id)?,
+                },
+                None => {
+                    let id = s.ingest_insert_circuit(board_id, &row.circuit, &row_details)?;
+                    eff.circuits += 1;
+                    eff.wrote = true;
+                    let mut details = row_details.clone();
+                    details.kind = Some(details.kind.unwrap_or(crate::model::CircuitKind::Radial));
+                    CircuitState {
+                        id,
+                        current: register_texts(&details),
+                        details,
+                        changes: Vec::new(),
+                        latest: None,
+                    }
+                }
+            };
+            b.circuits.insert(row.circuit.clone(), state);
+        }
+        let c = b.circuits.get_mut(&row.circuit).expect("just inserted");
+        let circuit_id = c.id;
+        let mut differing = Vec::new();
+        let mut faults = Vec::new();
+        // Most rows agree with a register that never changed: no text to build.
+        let agrees = c.changes.is_empty() && register_agrees(&c.details, &row.register);
+        let (then, row_texts) = if agrees {
+            (Default::default(), Default::default())
+        } else {
+            (
+                register_at(&c.current, &c.changes, date),
+                register_texts(&row_details),
+            )
+        };
+        for (i, (col, field)) in REGISTER.iter().enumerate() {
+            if agrees {
+                break;
+            }
+            let Some(new) = &row_texts[i] else { continue };
+            if then[i].as_ref() == Some(new) {
+                continue;
+            }
+            let later_change = c
+                .changes
+                .iter()
+                .find(|ch| ch.date > date && ch.field.as_deref() == Some(field))
+                .map(|ch| ch.date);
+            let later = later_change.or(c.latest.filter(|d| *d > date));
+            if let Some(later) = later {
+                faults.push(Fault {
+                    column: Some(*col),
+                    message: format!(
+                        "{} on {date} has {new:?} but the register has {} and a later visit ({later}) is already recorded: import visit files oldest first, or record the change with `ohmtrail circuit edit`",
+                        where_(),
+                        shown(&then[i])
+                    ),
+                });
+            } else {
+                differing.push(i);
+            }
+        }
+        if !faults.is_empty() {
+            return Err(Faults(faults));
+        }
+
+        // Visit.
+        let v = visit_state(s, p, date, &wanted, instrument_id, &mut eff)?;
+        let visit_id = v.v.id;
+        if !v.created {
+            let mut next = v.v.clone();
+            let mut faults = Vec::new();
+            let mut check = |col: Column, stored: Option<String>, file: Option<String>| {
+                if file.is_some() && stored != file {
+                    if stored.is_none() || replace {
+                        true
+                    } else {
+                        faults.push(Fault {
+                            column: Some(col),
+                            message: conflict(
+                                &format!("the visit to {} on {date}", row.property_ref),
+                                &stored,
+                                &file,
+                            ),
+                        });
+                        false
+                    }
+                } else {
+                    false
+                }
+            };
+            let mut dirty = false;
+            if check(
+                Column::Inspector,
+                v.v.inspector.clone(),
+                row.inspector.clone(),
+            ) {
+                next.inspector = row.inspector.clone();
+                dirty = true;
+            }
+            if check(
+                Column::Instrument,
+                v.v.instrument.clone(),
+                row.instrument.clone(),
+            ) {
+                next.instrument = row.instrument.clone();
+                dirty = true;
+            }
+            if check(
+                Column::AmbientC,
+                v.v.ambient_c.map(format_number),
+                row.ambient_c.map(format_number),
+            ) {
+                next.ambient_c = row.ambient_c;
+                dirty = true;
+            }
+            if !faults.is_empty() {
+                return Err(Faults(faults));
+            }
+            if dirty {
+                let instrument_id = match &next.instrument {
+                    Some(serial) => Some(self.cache.instrument(s, serial)?),
+                    None => None,
+                };
+                s.ingest_update_visit(&next, instrument_id)?;
+                eff.wrote = true;
+                // The cache borrow ended above; look the visit up again to keep it current.
+                if let Some(p) = self.cache.properties.get_mut(&row.property_ref)
+                    && let Some(v) = p.visits.get_mut(&date)
+                {
+                    v.v = next;
+                }
+            }
+        }
+
+        // Ze at this board.
+        if let Some(ze) = row.ze_ohm {
+            let v = self
+                .cache
+                .properties
+                .get_mut(&row.property_ref)
+                .and_then(|p| p.visits.get_mut(&date));
+            let known = v.as_ref().and_then(|v| {
+                v.ze.get(&board_id)
+                    .copied()
+                    .or(if v.created { Some(None) } else { None })
+            });
+            let stored = match known {
+                Some(z) => z,
+                None => s.ingest_board_ze(visit_id, board_id)?.flatten(),
+            };
+            if stored != Some(ze) {
+                if stored.is_none() || replace {
+                    s.ingest_set_board_ze(visit_id, board_id, ze)?;
+                    eff.wrote = true;
+                } else {
+                    return fault(
+                        Column::ZeOhm,
+                        conflict(
+                            &format!("Ze at board {} on {date}", row.board),
+                            &stored.map(format_number),
+                            &Some(format_number(ze)),
+                        ),
+                    );
+                }
+            }
+            if let Some(v) = self
+                .cache
+                .properties
+                .get_mut(&row.property_ref)
+                .and_then(|p| p.visits.get_mut(&date))
+            {
+                v.ze.insert(board_id, Some(ze));
+            }
+        }
+
+        // Register changes, effective from this visit.
+        if !differing.is_empty() {
+            let mut d = CircuitDetails::default();
+            for i in &differing {
+                match REGISTER[*i].0 {
+                    Column::Description => d.description = row_details.description.clone(),
+                    Column::Ring => d.kind = row_details.kind,
+                    Column::Device => d.device = row_details.device,
+                    Column::RcdMa => d.rcd_ma = row_details.rcd_ma,
+                    Column::LiveMm2 => d.live_mm2 = row_details.live_mm2,
+                    Column::CpcMm2 => d.cpc_mm2 = row_details.cpc_mm2,
+                    _ => d.length_m = row_details.length_m,
+                }
+            }
+            let made = s.edit_circuit(circuit_id, &d, date, None, Some(visit_id), None)?;
+            let mut c = self.circuit_state(&row.property_ref, &row.board, &row.circuit);
+            for ch in made {
+                if let (Some(c), Some(field)) = (c.as_deref_mut(), ch.field.as_deref())
+                    && let Some(i) = REGISTER.iter().position(|(_, f)| *f == field)
+                {
+                    c.current[i] = ch.new_value.clone();
+                    apply_text(&mut c.details, field, ch.new_value.as_deref());
+                    c.changes.push(IngestChange {
+                        date,
+                        field: ch.field.clone(),
+                        old_value: ch.old_value.clone(),
+                    });
+                }
+                eff.changes.push(RegisterChange {
+                    line,
+                    property_ref: row.property_ref.clone(),
+                    board: row.board.clone(),
+                    circuit: row.circuit.clone(),
+                    date,
+                    kind: ch.kind.as_str().to_string(),
+                    field: ch.field.unwrap_or_default(),
+                    old_value: ch.old_value,
+                    new_value: ch.new_value,
+                });
+            }
+            eff.wrote = true;
+        }
+
+        // The test record.
+        let fresh = self
+            .cache
+            .properties
+            .get(&row.property_ref)
+            .and_then(|p| p.visits.get(&date))
+            .is_some_and(|v| v.created && !v.written.contains(&circuit_id));
+        let stored = if fresh {
+            None
+        } else {
+            s.ingest_record(visit_id, circuit_id)?
+        };
+        match stored {
+            None => {
+                s.ingest_put_record(visit_id, circuit_id, &row.readings)?;
+                eff.written += 1;
+                eff.wrote = true;
+            }
+            Some(stored) => {
+                let present: Vec<Column> = READING_COLUMNS
+                    .iter()
+                    .copied()
+                    .filter(|c| self.header.has(*c))
+                    .collect();
+                let differ: Vec<Column> = present
+                    .iter()
+                    .copied()
+                    .filter(|c| reading_text(&stored, *c) != reading_text(&row.readings, *c))
+                    .collect();
+                if differ.is_empty() {
+                    eff.unchanged += 1;
+                } else if replace {
+                    let mut merged = stored.clone();
+                    for c in &present {
+                        copy_reading(&mut merged, &row.readings, *c);
+                    }
+                    s.ingest_put_record(visit_id, circuit_id, &merged)?;
+                    eff.replaced += 1;
+                    eff.wrote = true;
+                } else {
+                    return Err(Faults(
+                        differ
+                            .iter()
+                            .map(|c| Fault {
+                                column: Some(*c),
+                                message: conflict(
+                                    &format!("the stored record for {} on {date}", where_()),
+                                    &reading_text(&stored, *c),
+                                    &reading_text(&row.readings, *c),
+                                ),
+                            })
+                            .collect(),
+                    ));
+                }
+            }
+        }
+        if let Some(p) = self.cache.properties.get_mut(&row.property_ref) {
+            if let Some(v) = p.visits.get_mut(&date) {
+                v.written.insert(circuit_id);
+            }
+            if let Some(c) = p
+                .boards
+                .get_mut(&row.board)
+                .and_then(|b| b.circuits.get_mut(&row.circuit))
+            {
+                c.latest = c.latest.max(Some(date));
+            }
+        }
+        Ok(eff)
+    }
+
+    fn circuit_state(&mut self, p: &str, b: &str, c: &str) -> Option<&mut CircuitState> {
+        self.cache
+            .properties
+            .get_mut(p)?
+            .boards
+            .get_mut(b)?
+            .circuits
+            .get_mut(c)
+    }
+
+    fn apply_observation(&mut self, row: &ObservationRow) -> RowResult<Effect> {
+        let s = self.store;
+        let mut eff = Effect::default();
+        let p = self.cache.property(s, &row.property_ref, None, &mut eff)?;
+        let property_id = p.id;
+        let blank = IngestVisit {
+            id: 0,
+            inspector: None,
+            instrument: None,
+            ambient_c: None,
+        };
+        let visit_id = visit_state(s, p, row.visit_date, &blank, None, &mut eff)?
+            .v
+            .id;
+        let mut board_id = None;
+        let mut circuit_id = None;
+        if let Some(board) = &row.board {
+            let Some(b) = s.ingest_board(property_id, board)? else {
+                return fault(
+                    Column::Board,
+                    format!(
+                        "board {board:?} not found at property {}: import its visit file first",
+                        row.property_ref
+                    ),
+                );
+            };
+            board_id = Some(b.id);
+            if let Some(number) = &row.circuit {
+                let Some((id, _)) = s.ingest_circuit(b.id, number)? else {
+                    return fault(
+                        Column::Circuit,
+                        format!(
+                            "circuit {number:?} not found in service on board {board} at property {}: import its visit file first",
+                            row.property_ref
+                        ),
+                    );
+                };
+                circuit_id = Some(id);
+            }
+        }
+        let code = row.code.as_str();
+        if s.ingest_has_observation(visit_id, board_id, circuit_id, code, &row.text)? {
+            eff.observations_unchanged += 1;
+        } else {
+            s.add_observation(visit_id, board_id, circuit_id, row.code, &row.text)?;
+            eff.observations += 1;
+            eff.wrote = true;
+        }
+        Ok(eff)
+    }
+}
+
+/// Collects `FILE:LINE:COLUMN: message` lines up to the cap, and counts the rest.
+struct Errors<'a> {
+    file: &'a str,
+    summary: &'a mut Summary,
+}
+
+impl Errors<'_> {
+    fn push(&mut self, line: u64, column: usize, name: Option<&str>, message: &str) -> String {
+        let text = match name {
+            Some(n) => format!("{}:{line}:{column}: {n}: {message}", self.file),
+            None => format!("{}:{line}:{column}: {message}", self.file),
+        };
+        self.summary.errors_total += 1;
+        if self.summary.errors.len() < ERROR_CAP {
+            self.summary.errors.push(text.clone());
+        }
+        text
+    }
+}
+
+/// The field separator: a semicolon when the header line has more of them than commas, as
+/// spreadsheets write when numbers use a decimal comma.
+fn sniff_delimiter(head: &[u8]) -> u8 {
+    let line = head.split(|b| *b == b'\n').next().unwrap_or(head);
+    let count = |c: u8| line.iter().filter(|b| **b == c).count();
+    if count(b';') > count(b',') {
+        b';'
+    } else {
+        b','
+    }
+}
+
+/// Notes the byte offset of every newline the CSV reader reads, and whether it ends an empty
+/// line, so that a record's physical line can be told from its byte offset whatever the line
+/// endings (CRLF included) and however many blank lines the reader skipped.
+struct NewlineTap<R> {
+    inner: R,
+    offset: u64,
+    line_has_text: bool,
+    newlines: Rc<RefCell<VecDeque<(u64, bool)>>>,
+}
+
+impl<R: Read> Read for NewlineTap<R> {
+    fn read(&mut self, buf: &mut [u8]) -> std::io::Result<usize> {
+        let n = self.inner.read(buf)?;
+        let mut q = self.newlines.borrow_mut();
+        for (i, b) in buf[..n].iter().enumerate() {
+            match *b {
+                b'\n' => {
+                    q.push_back((self.offset + i as u64, !self.line_has_text));
+                    self.line_has_text = false;
+                }
+                b'\r' => {}
+                _ => self.line_has_text = true,
+            }
+        }
+        self.offset += n as u64;
+        Ok(n)
+    }
+}
+
+/// Turns record start offsets, which only grow, into 1-based line numbers. The reader reports
+/// a record as starting where the previous one ended: on the LF of a CRLF, or before the blank
+/// lines it skipped; those newlines are counted too.
+struct Lines {
+    newlines: Rc<RefCell<VecDeque<(u64, bool)>>>,
+    passed: u64,
+}
+
+impl Lines {
+    fn at(&mut self, byte: u64) -> u64 {
+        let mut q = self.newlines.borrow_mut();
+        while q.front().is_some_and(|&(nl, blank)| nl <= byte || blank) {
+            q.pop_front();
+            self.passed += 1;
+        }
+        self.passed + 1
+    }
+}
+
+/// Where rejected rows go: `visits.csv` → `visits.rejected.csv`, beside it.
+pub fn sidecar_path(path: &Path) -> PathBuf {
+    let stem = path
+        .file_stem()
+        .map(|s| s.to_string_lossy().into_owned())
+        .unwrap_or_else(|| "import".into());
+    path.with_file_name(format!("{stem}.rejected.csv"))
+}
+
+/// Import one visit or observation file into the store, in one transaction. Row faults are
+/// in the summary (nothing is written when there is any, unless `skip_invalid`); an `Err` is
+/// a file or database failure. `progress` is called now and then with (bytes read, file size).
+pub fn import_file(
+    store: &Store,
+    path: &Path,
+    opts: &ImportOptions,
+    progress: &mut dyn FnMut(u64, u64),
+) -> Result<Summary> {
+    let io_err = |source| Error::Io {
+        path: path.to_path_buf(),
+        source,
+    };
+    let file = File::open(path).map_err(io_err)?;
+    let size = file.metadata().map(|m| m.len()).unwrap_or(0);
+    let mut reader = BufReader::with_capacity(1 << 16, file);
+    let delimiter = sniff_delimiter(reader.fill_buf().map_err(io_err)?);
+    let newlines = Rc::new(RefCell::new(VecDeque::new()));
+    let mut lines = Lines {
+        newlines: newlines.clone(),
+        passed: 0,
+    };
+    let reader = NewlineTap {
+        inner: reader,
+        offset: 0,
+        line_has_text: false,
+        newlines,
+    };
+    let mut csv = csv::ReaderBuilder::new()
+        .has_headers(false)
+        .flexible(true)
+        .delimiter(delimiter)
+        .from_reader(reader);
+    let name = path.display().to_string();
+    let mut summary = Summary {
+        file: name.clone(),
+        ..Default::default()
+    };
+    let csv_err = |e: csv::Error| Error::Io {
+        path: path.to_path_buf(),
+        source: std::io::Error::other(e),
+    };
+
+    let mut record = csv::ByteRecord::new();
+    if !csv.read_byte_record(&mut record).map_err(csv_err)? {
+        Errors {
+            file: &name,
+            summary: &mut summary,
+        }
+        .push(
+            1,
+            1,
+            None,
+            "the file is empty: expected a header row naming property_ref, board, circuit and visit_date (or property_ref, visit_date, code and text for observations)",
+        );
+        return Ok(summary);
+    }
+    let header_line = lines.at(record.position().map(|p| p.byte()).unwrap_or(0));
+    let mut names = Vec::with_capacity(record.len());
+    let mut header_raw: Vec<Vec<u8>> = Vec::with_capacity(record.len());
+    for (i, f) in record.iter().enumerate() {
+        // A byte-order mark is how some spreadsheets say "UTF-8"; it is not part of the name.
+        let f = if i == 0 {
+            f.strip_prefix(b"\xEF\xBB\xBF").unwrap_or(f)
+        } else {
+            f
+        };
+        header_raw.push(f.to_vec());
+        match std::str::from_utf8(f) {
+            Ok(t) => names.push(t.to_string()),
+            Err(_) => {
+                Errors {
+                    file: &name,
+                    summary: &mut summary,
+                }
+                .push(
+                    header_line,
+                    i + 1,
+                    None,
+                    "column name is not UTF-8 text: save the file as UTF-8",
+                );
+                names.push(String::new());
+            }
+        }
+    }
+    if summary.errors_total > 0 {
+        return Ok(summary);
+    }
+    let name_refs: Vec<&str> = names.iter().map(String::as_str).collect();
+    let header = match parse_header(&name_refs, opts.ignore_unknown) {
+        Ok(h) => h,
+        Err(faults) => {
+            let mut errs = Errors {
+                file: &name,
+                summary: &mut summary,
+            };
+            for f in faults {
+                errs.push(header_line, f.column, f.name.as_deref(), &f.message);
+            }
+            return Ok(summary);
+        }
+    };
+    summary.kind = Some(header.kind);
+
+    store.ingest_prepare()?;
+    let mut sidecar: Option<csv::Writer<File>> = None;
+    let sidecar_file = sidecar_path(path);
+    let mut importer = Importer {
+        store,
+        opts,
+        header: &header,
+        cache: Cache::default(),
+    };
+    let mut last_line = header_line;
+    let outcome = store.atomic(|s| {
+        loop {
+            if !csv.read_byte_record(&mut record).map_err(csv_err)? {
+                break;
+            }
+            let line = lines.at(record.position().map(|p| p.byte()).unwrap_or(0));
+            last_line = line;
+            let fields: Vec<&[u8]> = record.iter().collect();
+            if row::is_blank(&fields) {
+                summary.blank_rows += 1;
+                continue;
+            }
+            summary.rows += 1;
+            if summary.rows.is_multiple_of(4096) {
+                progress(record.position().map(|p| p.byte()).unwrap_or(0), size);
+            }
+            let result = match header.kind {
+                FileKind::Visits => match parse_visit_row(&header, &fields, &opts.parse) {
+                    Ok(r) => run_row(s, opts, &header, |_| importer.apply_visit(&r, line)),
+                    Err(e) => Err(field_errors(e)),
+                },
+                FileKind::Observations => {
+                    match parse_observation_row(&header, &fields, &opts.parse) {
+                        Ok(r) => run_row(s, opts, &header, |_| importer.apply_observation(&r)),
+                        Err(e) => Err(field_errors(e)),
+                    }
+                }
+            };
+            match result {
+                Ok(eff) => summary.add(&eff),
+                Err(faults) => {
+                    // What the cache knew may have been rolled back with the row.
+                    importer.cache = Cache::default();
+                    let mut errs = Errors {
+                        file: &name,
+                        summary: &mut summary,
+                    };
+                    let reasons: Vec<String> = faults
+                        .iter()
+                        .map(|(col, n, msg)| errs.push(line, *col, n.as_deref(), msg))
+                        .collect();
+                    if opts.skip_invalid {
+                        summary.rows_rejected += 1;
+                        if sidecar.is_none() {
+                            let f = File::create(&sidecar_file).map_err(|source| Error::Io {
+                                path: sidecar_file.clone(),
+                                source,
+                            })?;
+                            let mut w = csv::Writer::from_writer(f);
+                            let mut head = csv::ByteRecord::from(header_raw.clone());
+                            head.push_field(b"reason");
+                            w.write_byte_record(&head).map_err(csv_err)?;
+                            sidecar = Some(w);
+                        }
+                        if let Some(w) = sidecar.as_mut() {
+                            let mut out = record.clone();
+                            out.push_field(reasons.join("; ").as_bytes());
+                            w.write_byte_record(&out).map_err(csv_err)?;
+                        }
+                    }
+                }
+            }
+        }
+        if summary.rows == 0 {
+            Errors {
+                file: &name,
+                summary: &mut summary,
+            }
+            .push(
+                last_line + 1,
+                1,
+                None,
+                "no rows under the header: nothing to import",
+            );
+        }
+        if summary.errors_total > 0 && !opts.skip_invalid || summary.rows == 0 {
+            return Err(Error::invalid("rolled back"));
+        }
+        Ok(())
+    });
+    progress(size, size);
+    if let Some(mut w) = sidecar {
+        w.flush().map_err(|source| Error::Io {
+            path: sidecar_file.clone(),
+            source,
+        })?;
+        summary.sidecar = Some(sidecar_file);
+    }
+    match outcome {
+        Ok(()) => Ok(summary),
+        Err(_) if summary.errors_total > 0 => {
+            // Everything from this file was rolled back.
+            summary.written = false;
+            summary.properties_created = 0;
+            summary.boards_created = 0;
+            summary.circuits_created = 0;
+            summary.visits_created = 0;
+            summary.test_records_written = 0;
+            summary.test_records_replaced = 0;
+            summary.observations_written = 0;
+            summary.changes.clear();
+            Ok(summary)
+        }
+        Err(e) => Err(e),
+    }
+}
+
+/// Apply a row; with `skip_invalid` inside a savepoint so a refused row leaves no trace.
+fn run_row(
+    s: &Store,
+    opts: &ImportOptions,
+    header: &Header,
+    apply: impl FnOnce(&Store) -> RowResult<Effect>,
+) -> std::result::Result<Effect, Located> {
+    let result = if opts.skip_invalid {
+        let mut faults = None;
+        let r = s.atomic(|s| match apply(s) {
+            Ok(e) => Ok(e),
+            Err(f) => {
+                faults = Some(f);
+                Err(Error::invalid("row refused"))
+            }
+        });
+        match (r, faults) {
+            (Ok(e), _) => Ok(e),
+            (Err(_), Some(f)) => Err(f),
+            (Err(e), None) => Err(Faults::from(e)),
+        }
+    } else {
+        apply(s)
+    };
+    // A fault about no particular column points at the first.
+    result.map_err(|Faults(list)| {
+        list.into_iter()
+            .map(|f| {
+                let at = f.column.and_then(|c| header.position(c)).unwrap_or(1);
+                (at, f.column.map(|c| c.name().to_string()), f.message)
+            })
+            .collect()
+    })
+}
+
+type Located = Vec<(usize, Option<String>, String)>;
+
+fn field_errors(e: Vec<FieldError>) -> Located {
+    e.into_iter()
+        .map(|f| (f.column, f.name, f.message))
+        .collect()
+}

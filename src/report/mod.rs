@@ -8,6 +8,7 @@
 //! File naming: a property's report is `report-REF.html` (REF made safe for file names by
 //! [`html::file_stem`]); the portfolio index links to those names in its own folder.
 
+pub mod brief;
 pub mod chart;
 mod css;
 pub mod html;

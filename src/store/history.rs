@@ -1,8 +1,15 @@
 //! A property's whole history in one value, for the pure analysis to work on.
+//!
+//! [`Store::for_each_history`] streams the portfolio: one ordered query per table, merged by
+//! property, so memory holds one property at a time and no query runs per property.
 
-use rusqlite::params;
+use std::collections::HashMap;
+use std::iter::Peekable;
 
-use super::Store;
+use chrono::NaiveDate;
+use rusqlite::{Row, Statement};
+
+use super::{Store, change_from_row, observation_from_row};
 use crate::error::Result;
 use crate::model::{Board, Circuit, CircuitChange, Observation, Property, TestRecord, Visit};
 
@@ -15,7 +22,7 @@ pub struct PropertyHistory {
     pub circuits: Vec<Circuit>,
     /// Completed visits, oldest first.
     pub visits: Vec<Visit>,
-    /// Test records at completed visits.
+    /// Test records at completed visits, by visit date.
     pub records: Vec<TestRecord>,
     /// Ze and fault current per board per visit: (visit_id, board_id, ze_ohm, pfc_ka).
     pub board_tests: Vec<(i64, i64, Option<f64>, Option<f64>)>,
@@ -23,7 +30,118 @@ pub struct PropertyHistory {
     pub changes: Vec<CircuitChange>,
     pub observations: Vec<Observation>,
     /// Calibration due date per instrument serial used at these visits.
-    pub calibration: Vec<(String, Option<chrono::NaiveDate>)>,
+    pub calibration: Vec<(String, Option<NaiveDate>)>,
+}
+
+fn qualified(cols: &str, alias: &str) -> String {
+    cols.split(',')
+        .map(|c| {
+            let c = c.trim();
+            if c.contains('(') || c.contains('.') {
+                c.to_string()
+            } else {
+                format!("{alias}.{c}")
+            }
+        })
+        .collect::<Vec<_>>()
+        .join(", ")
+}
+
+/// The SQL of each stream. Every query takes `?1` (one property id, or NULL for all) and
+/// puts the property id in the column named at `pid`.
+struct Queries {
+    properties: String,
+    boards: String,
+    circuits: String,
+    visits: String,
+    records: String,
+    board_tests: &'static str,
+    changes: &'static str,
+    observations: &'static str,
+}
+
+fn queries() -> Queries {
+    Queries {
+        properties: "SELECT p.id, p.ref, p.address, c.name, p.interval_months, p.notes
+             FROM property p LEFT JOIN client c ON c.id = p.client_id
+             WHERE ?1 IS NULL OR p.id = ?1 ORDER BY p.id"
+            .into(),
+        boards: format!(
+            "SELECT {} FROM board b WHERE ?1 IS NULL OR b.property_id = ?1 ORDER BY b.property_id, b.id",
+            Store::BOARD_COLS
+        ),
+        circuits: format!(
+            "SELECT {}, b.property_id FROM circuit c JOIN board b ON b.id = c.board_id
+             WHERE ?1 IS NULL OR b.property_id = ?1
+             ORDER BY b.property_id, b.id, c.status = 'retired', CAST(c.number AS INTEGER), c.number, c.id",
+            qualified(Store::CIRCUIT_COLS, "c")
+        ),
+        visits: format!(
+            "SELECT {} FROM visit v WHERE v.state = 'complete' AND (?1 IS NULL OR v.property_id = ?1)
+             ORDER BY v.property_id, v.date",
+            Store::VISIT_COLS
+        ),
+        records: format!(
+            "SELECT {}, v.property_id FROM visit v JOIN test_record t ON t.visit_id = v.id
+             WHERE v.state = 'complete' AND (?1 IS NULL OR v.property_id = ?1)
+             ORDER BY v.property_id, v.date, t.circuit_id",
+            qualified(Store::RECORD_COLS, "t")
+        ),
+        board_tests: "SELECT bt.visit_id, bt.board_id, bt.ze_ohm, bt.pfc_ka, v.property_id
+             FROM visit v JOIN board_test bt ON bt.visit_id = v.id
+             WHERE v.state = 'complete' AND (?1 IS NULL OR v.property_id = ?1)
+             ORDER BY v.property_id",
+        changes: "SELECT ch.id, ch.circuit_id, ch.date, ch.kind, ch.field, ch.old_value, ch.new_value,
+                    ch.note, b.property_id
+             FROM circuit_change ch JOIN circuit c ON c.id = ch.circuit_id JOIN board b ON b.id = c.board_id
+             LEFT JOIN visit pv ON pv.id = ch.visit_id
+             -- A change made during a visit still being recorded is not history yet.
+             WHERE (ch.visit_id IS NULL OR pv.state = 'complete') AND (?1 IS NULL OR b.property_id = ?1)
+             ORDER BY b.property_id, ch.date, ch.id",
+        observations: "SELECT o.id, o.visit_id, b.designation, c.number, o.code, o.text, v.property_id
+             FROM visit v JOIN observation o ON o.visit_id = v.id
+             LEFT JOIN board b ON b.id = o.board_id LEFT JOIN circuit c ON c.id = o.circuit_id
+             WHERE v.state = 'complete' AND (?1 IS NULL OR v.property_id = ?1)
+             ORDER BY v.property_id, o.id",
+    }
+}
+
+type Stream<'s, T> = Peekable<Box<dyn Iterator<Item = rusqlite::Result<(i64, T)>> + 's>>;
+
+fn stream<'s, T: 's>(
+    stmt: &'s mut Statement<'_>,
+    filter: Option<i64>,
+    pid: usize,
+    decode: fn(&Row) -> rusqlite::Result<T>,
+) -> rusqlite::Result<Stream<'s, T>> {
+    let rows = stmt.query_map([filter], move |r| Ok((r.get::<_, i64>(pid)?, decode(r)?)))?;
+    let boxed: Box<dyn Iterator<Item = rusqlite::Result<(i64, T)>> + 's> = Box::new(rows);
+    Ok(boxed.peekable())
+}
+
+/// Take every leading item of `s` that belongs to property `id`.
+fn take<T>(s: &mut Stream<'_, T>, id: i64) -> Result<Vec<T>> {
+    let mut out = Vec::new();
+    loop {
+        match s.peek() {
+            Some(Ok((pid, _))) if *pid < id => {
+                // Rows of a property the outer stream does not have (cannot happen with
+                // foreign keys on); skip them rather than stall.
+                s.next();
+            }
+            Some(Ok((pid, _))) if *pid == id => {
+                if let Some(Ok((_, v))) = s.next() {
+                    out.push(v);
+                }
+            }
+            Some(Err(_)) => {
+                if let Some(Err(e)) = s.next() {
+                    return Err(e.into());
+                }
+            }
+            _ => return Ok(out),
+        }
+    }
 }
 
 impl Store {
@@ -36,74 +154,87 @@ impl Store {
         Ok(ids.collect::<rusqlite::Result<_>>()?)
     }
 
-    /// Load one property's history with a handful of indexed queries.
+    /// Load one property's history.
     pub fn history(&self, property_id: i64) -> Result<PropertyHistory> {
-        let reference: String = self.conn.query_row(
-            "SELECT ref FROM property WHERE id = ?1",
-            [property_id],
-            |r| r.get(0),
-        )?;
-        let property = self.property(&reference)?;
-        let boards = self.boards(property_id)?;
-        let mut circuits = Vec::new();
-        for b in &boards {
-            circuits.extend(self.circuits(b.id)?);
+        let mut found = None;
+        self.histories(Some(property_id), |h| {
+            found = Some(h);
+            Ok(())
+        })?;
+        found.ok_or_else(|| crate::Error::not_found("property", property_id.to_string()))
+    }
+
+    /// Call `f` with each property's history in turn, in property-id order. One ordered query
+    /// per table, merged as they stream, so only one property is in memory at a time.
+    pub fn for_each_history(&self, f: impl FnMut(PropertyHistory) -> Result<()>) -> Result<()> {
+        self.histories(None, f)
+    }
+
+    fn histories(
+        &self,
+        filter: Option<i64>,
+        mut f: impl FnMut(PropertyHistory) -> Result<()>,
+    ) -> Result<()> {
+        let q = queries();
+        let calibration: HashMap<String, Option<NaiveDate>> = self
+            .instruments()?
+            .into_iter()
+            .map(|i| (i.serial, i.calibration_due))
+            .collect();
+
+        let mut st_p = self.conn.prepare(&q.properties)?;
+        let mut st_b = self.conn.prepare(&q.boards)?;
+        let mut st_c = self.conn.prepare(&q.circuits)?;
+        let mut st_v = self.conn.prepare(&q.visits)?;
+        let mut st_r = self.conn.prepare(&q.records)?;
+        let mut st_t = self.conn.prepare(q.board_tests)?;
+        let mut st_ch = self.conn.prepare(q.changes)?;
+        let mut st_o = self.conn.prepare(q.observations)?;
+
+        let properties = st_p.query_map([filter], |r| {
+            Ok(Property {
+                id: r.get(0)?,
+                reference: r.get(1)?,
+                address: r.get(2)?,
+                client: r.get(3)?,
+                interval_months: r.get(4)?,
+                notes: r.get(5)?,
+            })
+        })?;
+        let mut boards = stream(&mut st_b, filter, 1, Store::board_from_row)?;
+        let mut circuits = stream(&mut st_c, filter, 15, Store::circuit_from_row)?;
+        let mut visits = stream(&mut st_v, filter, 1, Store::visit_from_row)?;
+        let mut records = stream(&mut st_r, filter, 18, Store::record_from_row)?;
+        let mut tests = stream(&mut st_t, filter, 4, |r| {
+            Ok((r.get(0)?, r.get(1)?, r.get(2)?, r.get(3)?))
+        })?;
+        let mut changes = stream(&mut st_ch, filter, 8, change_from_row)?;
+        let mut observations = stream(&mut st_o, filter, 6, observation_from_row)?;
+
+        for property in properties {
+            let property = property?;
+            let id = property.id;
+            let visits = take(&mut visits, id)?;
+            let mut used: Vec<(String, Option<NaiveDate>)> = Vec::new();
+            for v in &visits {
+                if let Some(s) = &v.instrument
+                    && !used.iter().any(|(u, _)| u == s)
+                {
+                    used.push((s.clone(), calibration.get(s).copied().flatten()));
+                }
+            }
+            f(PropertyHistory {
+                property,
+                boards: take(&mut boards, id)?,
+                circuits: take(&mut circuits, id)?,
+                records: take(&mut records, id)?,
+                board_tests: take(&mut tests, id)?,
+                changes: take(&mut changes, id)?,
+                observations: take(&mut observations, id)?,
+                visits,
+                calibration: used,
+            })?;
         }
-        let visits = self.property_visits(property_id)?;
-
-        let sql = format!(
-            "SELECT {} FROM test_record t JOIN visit v ON v.id = t.visit_id
-             WHERE v.property_id = ?1 AND v.state = 'complete' ORDER BY v.date, t.circuit_id",
-            Self::RECORD_COLS
-                .split(',')
-                .map(|c| format!("t.{}", c.trim()))
-                .collect::<Vec<_>>()
-                .join(", ")
-        );
-        let mut stmt = self.conn.prepare_cached(&sql)?;
-        let records = stmt
-            .query_map([property_id], Self::record_from_row)?
-            .collect::<rusqlite::Result<Vec<_>>>()?;
-
-        let mut stmt = self.conn.prepare_cached(
-            "SELECT bt.visit_id, bt.board_id, bt.ze_ohm, bt.pfc_ka FROM board_test bt
-             JOIN visit v ON v.id = bt.visit_id WHERE v.property_id = ?1 AND v.state = 'complete'",
-        )?;
-        let board_tests = stmt
-            .query_map([property_id], |r| {
-                Ok((r.get(0)?, r.get(1)?, r.get(2)?, r.get(3)?))
-            })?
-            .collect::<rusqlite::Result<Vec<_>>>()?;
-
-        let mut changes = Vec::new();
-        for c in &circuits {
-            changes.extend(self.changes(c.id)?);
-        }
-        changes.sort_by_key(|c| (c.date, c.id));
-
-        let mut observations = Vec::new();
-        for v in &visits {
-            observations.extend(self.observations(v.id)?);
-        }
-
-        let mut stmt = self.conn.prepare_cached(
-            "SELECT DISTINCT i.serial, i.calibration_due FROM instrument i
-             JOIN visit v ON v.instrument_id = i.id WHERE v.property_id = ?1",
-        )?;
-        let calibration = stmt
-            .query_map(params![property_id], |r| Ok((r.get(0)?, r.get(1)?)))?
-            .collect::<rusqlite::Result<Vec<_>>>()?;
-
-        Ok(PropertyHistory {
-            property,
-            boards,
-            circuits,
-            visits,
-            records,
-            board_tests,
-            changes,
-            observations,
-            calibration,
-        })
+        Ok(())
     }
 }

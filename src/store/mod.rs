@@ -5,10 +5,16 @@
 //! when it is wrong.
 
 mod history;
+mod ingest;
 pub mod migrate;
+mod pending;
 mod visits;
 
 pub use history::PropertyHistory;
+pub use ingest::{
+    ExportObservation, ExportRecord, IngestBoard, IngestChange, IngestProperty, IngestVisit,
+};
+pub use pending::Abandoned;
 pub use visits::{NewVisit, validate_readings};
 
 use std::path::{Path, PathBuf};
@@ -288,6 +294,12 @@ impl Store {
         Ok(())
     }
 
+    pub fn delete_setting(&self, key: &str) -> Result<()> {
+        self.conn
+            .execute("DELETE FROM setting WHERE key = ?1", [key])?;
+        Ok(())
+    }
+
     // ----- clients and properties -----
 
     /// The client's id, creating the client on first sight.
@@ -447,10 +459,10 @@ impl Store {
         })
     }
 
-    const BOARD_COLS: &'static str = "b.id, b.property_id, b.designation, b.location,
+    pub(super) const BOARD_COLS: &'static str = "b.id, b.property_id, b.designation, b.location,
         (SELECT f.designation FROM board f WHERE f.id = b.fed_from_board_id), b.earthing, b.status";
 
-    fn board_from_row(r: &Row) -> rusqlite::Result<Board> {
+    pub(super) fn board_from_row(r: &Row) -> rusqlite::Result<Board> {
         let earthing: Option<String> = r.get(5)?;
         let status: String = r.get(6)?;
         Ok(Board {
@@ -461,6 +473,31 @@ impl Store {
             fed_from: r.get(4)?,
             earthing: earthing.and_then(|e| e.parse().ok()),
             status: status.parse().unwrap_or(Status::InService),
+        })
+    }
+
+    /// Take a board out of service (replaced or removed). Its circuits must be retired or
+    /// replaced first, so that no circuit in service hangs off a retired board.
+    pub fn retire_board(&self, property_id: i64, designation: &str) -> Result<()> {
+        self.atomic(|s| {
+            let b = s.board_opt(property_id, designation)?.ok_or_else(|| {
+                Error::not_found("board", designation)
+            })?;
+            let in_service = s
+                .circuits(b.id)?
+                .into_iter()
+                .filter(|c| c.status == Status::InService)
+                .count();
+            if in_service > 0 {
+                return Err(Error::invalid(format!(
+                    "board {designation:?} still has {in_service} circuit(s) in service: retire or replace them first"
+                )));
+            }
+            s.conn.execute(
+                "UPDATE board SET status = 'retired' WHERE id = ?1",
+                [b.id],
+            )?;
+            Ok(())
         })
     }
 
@@ -509,10 +546,11 @@ impl Store {
 
     // ----- circuits -----
 
-    const CIRCUIT_COLS: &'static str = "id, board_id, number, description, kind, live_mm2, cpc_mm2,
+    pub(super) const CIRCUIT_COLS: &'static str =
+        "id, board_id, number, description, kind, live_mm2, cpc_mm2,
         length_m, device, rcd_ma, rcd_type, insulation, disconnect_s, status, replaces_circuit_id";
 
-    fn circuit_from_row(r: &Row) -> rusqlite::Result<Circuit> {
+    pub(super) fn circuit_from_row(r: &Row) -> rusqlite::Result<Circuit> {
         let kind: String = r.get(4)?;
         let device: Option<String> = r.get(8)?;
         let rcd_type: Option<String> = r.get(10)?;
@@ -807,23 +845,10 @@ impl Store {
 
     /// Every change recorded on a circuit, oldest first.
     pub fn changes(&self, circuit_id: i64) -> Result<Vec<CircuitChange>> {
-        let mut stmt = self.conn.prepare(
-            "SELECT id, circuit_id, date, kind, field, old_value, new_value, note
-             FROM circuit_change WHERE circuit_id = ?1 ORDER BY date, id",
-        )?;
-        let rows = stmt.query_map([circuit_id], |r| {
-            let kind: String = r.get(3)?;
-            Ok(CircuitChange {
-                id: r.get(0)?,
-                circuit_id: r.get(1)?,
-                date: r.get(2)?,
-                kind: kind.parse().unwrap_or(ChangeKind::RegisterCorrected),
-                field: r.get(4)?,
-                old_value: r.get(5)?,
-                new_value: r.get(6)?,
-                note: r.get(7)?,
-            })
-        })?;
+        let mut stmt = self.conn.prepare(&format!(
+            "SELECT {CHANGE_COLS} FROM circuit_change WHERE circuit_id = ?1 ORDER BY date, id"
+        ))?;
+        let rows = stmt.query_map([circuit_id], change_from_row)?;
         Ok(rows.collect::<rusqlite::Result<_>>()?)
     }
 
@@ -1047,6 +1072,38 @@ impl Store {
         })?;
         Ok(rows.collect::<rusqlite::Result<_>>()?)
     }
+}
+
+/// The columns [`change_from_row`] reads, in order.
+pub(crate) const CHANGE_COLS: &str =
+    "id, circuit_id, date, kind, field, old_value, new_value, note";
+
+/// Decode a circuit change from the first eight columns of a row ([`CHANGE_COLS`]).
+pub(crate) fn change_from_row(r: &Row) -> rusqlite::Result<CircuitChange> {
+    let kind: String = r.get(3)?;
+    Ok(CircuitChange {
+        id: r.get(0)?,
+        circuit_id: r.get(1)?,
+        date: r.get(2)?,
+        kind: kind.parse().unwrap_or(ChangeKind::RegisterCorrected),
+        field: r.get(4)?,
+        old_value: r.get(5)?,
+        new_value: r.get(6)?,
+        note: r.get(7)?,
+    })
+}
+
+/// Decode an observation from (id, visit_id, board designation, circuit number, code, text).
+pub(crate) fn observation_from_row(r: &Row) -> rusqlite::Result<crate::model::Observation> {
+    let code: String = r.get(4)?;
+    Ok(crate::model::Observation {
+        id: r.get(0)?,
+        visit_id: r.get(1)?,
+        board: r.get(2)?,
+        circuit: r.get(3)?,
+        code: code.parse().unwrap_or(crate::model::ObservationCode::FI),
+        text: r.get(5)?,
+    })
 }
 
 /// Shortest decimal text of a number, as the register shows it (2.5, not 2.5000).

@@ -78,11 +78,11 @@ impl Store {
         })
     }
 
-    const VISIT_COLS: &'static str = "v.id, v.property_id, v.date, v.inspector,
+    pub(super) const VISIT_COLS: &'static str = "v.id, v.property_id, v.date, v.inspector,
         (SELECT i.serial FROM instrument i WHERE i.id = v.instrument_id),
         v.ambient_c, v.ze_ohm, v.pfc_ka, v.state";
 
-    fn visit_from_row(r: &Row) -> rusqlite::Result<Visit> {
+    pub(super) fn visit_from_row(r: &Row) -> rusqlite::Result<Visit> {
         let state: String = r.get(8)?;
         Ok(Visit {
             id: r.get(0)?,
@@ -322,17 +322,7 @@ impl Store {
              LEFT JOIN circuit c ON c.id = o.circuit_id
              WHERE o.visit_id = ?1 ORDER BY o.id",
         )?;
-        let rows = stmt.query_map([visit_id], |r| {
-            let code: String = r.get(4)?;
-            Ok(Observation {
-                id: r.get(0)?,
-                visit_id: r.get(1)?,
-                board: r.get(2)?,
-                circuit: r.get(3)?,
-                code: code.parse().unwrap_or(ObservationCode::FI),
-                text: r.get(5)?,
-            })
-        })?;
+        let rows = stmt.query_map([visit_id], super::observation_from_row)?;
         Ok(rows.collect::<rusqlite::Result<_>>()?)
     }
 }

@@ -1,0 +1,98 @@
+use std::fs::File;
+use std::io::{BufWriter, Write};
+use std::path::{Path, PathBuf};
+
+use anyhow::{Context as _, Result};
+use clap::{Args as ClapArgs, ValueEnum};
+
+use ohmtrail::export::{export_csv, export_json, observation_count};
+
+use super::Context;
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum Format {
+    Csv,
+    Json,
+}
+
+/// Export test records (and observations) in the visit-file format import reads
+#[derive(ClapArgs, Debug)]
+pub struct Args {
+    /// Only this property
+    #[arg(long, value_name = "REF")]
+    pub property: Option<String>,
+    /// Write to FILE instead of stdout; with CSV, observations go to FILE's stem + .observations.csv
+    #[arg(short = 'o', long = "output", value_name = "FILE")]
+    pub output: Option<PathBuf>,
+    #[arg(long, value_enum, default_value = "csv")]
+    pub format: Format,
+}
+
+/// `visits.csv` → `visits.observations.csv`, beside it.
+fn observations_path(p: &Path) -> PathBuf {
+    let stem = p
+        .file_stem()
+        .map(|s| s.to_string_lossy().into_owned())
+        .unwrap_or_else(|| "export".into());
+    p.with_file_name(format!("{stem}.observations.csv"))
+}
+
+fn create(p: &Path) -> Result<BufWriter<File>> {
+    Ok(BufWriter::new(File::create(p).with_context(|| {
+        format!("cannot write {}", p.display())
+    })?))
+}
+
+pub fn run(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
+    let store = ctx.open()?;
+    let property = args.property.as_deref();
+    match (args.format, &args.output) {
+        (Format::Json, None) => {
+            export_json(&store, property, out)?;
+        }
+        (Format::Json, Some(p)) => {
+            let mut w = create(p)?;
+            let n = export_json(&store, property, &mut w)?;
+            w.flush()?;
+            eprintln!(
+                "wrote {} test records and {} observations to {}",
+                n.test_records,
+                n.observations,
+                p.display()
+            );
+        }
+        (Format::Csv, None) => {
+            let n = export_csv(&store, property, out, None)?;
+            let obs = observation_count(&store, property)?;
+            if obs > 0 {
+                eprintln!(
+                    "{} test records written; {obs} observations not written: pass -o FILE to write them beside the visit file",
+                    n.test_records
+                );
+            }
+        }
+        (Format::Csv, Some(p)) => {
+            let mut w = create(p)?;
+            let obs_path = observations_path(p);
+            let has_obs = observation_count(&store, property)? > 0;
+            let n = if has_obs {
+                let mut o = create(&obs_path)?;
+                let n = export_csv(&store, property, &mut w, Some(&mut o))?;
+                o.flush()?;
+                n
+            } else {
+                export_csv(&store, property, &mut w, None)?
+            };
+            w.flush()?;
+            eprintln!("wrote {} test records to {}", n.test_records, p.display());
+            if has_obs {
+                eprintln!(
+                    "wrote {} observations to {}",
+                    n.observations,
+                    obs_path.display()
+                );
+            }
+        }
+    }
+    Ok(())
+}

@@ -1,0 +1,79 @@
+use std::io::Write;
+
+use anyhow::Result;
+use clap::Subcommand;
+
+use ohmtrail::analysis::Settings;
+use ohmtrail::analysis::settings::KEYS;
+
+use super::output::{json, table};
+use super::{Context, today};
+
+#[derive(Subcommand, Debug)]
+pub enum Cmd {
+    /// Show every setting with its value in this database and its default
+    Show {
+        #[arg(long)]
+        json: bool,
+    },
+    /// Store a setting in this database (the measured-value rule, a noise floor)
+    Set {
+        key: String,
+        #[arg(allow_negative_numbers = true)]
+        value: String,
+    },
+    /// Go back to the built-in default for a setting
+    Reset { key: String },
+}
+
+pub fn run(cmd: &Cmd, ctx: &Context, out: &mut dyn Write) -> Result<()> {
+    let store = ctx.open()?;
+    match cmd {
+        Cmd::Show { json: as_json } => {
+            let s = Settings::load(&store, today())?;
+            let rows: Vec<(String, String, String, String)> = KEYS
+                .iter()
+                .map(|k| {
+                    (
+                        k.key.to_string(),
+                        s.value(k.key).unwrap_or_default(),
+                        (k.default)(),
+                        k.help.to_string(),
+                    )
+                })
+                .collect();
+            if *as_json {
+                let v: Vec<_> = rows
+                    .iter()
+                    .map(|(k, v, d, h)| {
+                        serde_json::json!({"key": k, "value": v, "default": d, "help": h})
+                    })
+                    .collect();
+                return json(out, &v);
+            }
+            table(
+                out,
+                &["KEY", "VALUE", "DEFAULT", "MEANING"],
+                rows.into_iter()
+                    .map(|(k, v, d, h)| vec![k, v, d, h])
+                    .collect(),
+            )?;
+        }
+        Cmd::Set { key, value } => {
+            // Check the value against the rules before storing it.
+            let mut s = Settings::load(&store, today())?;
+            s.apply(key, value)?;
+            store.set_setting(key, value.trim())?;
+            writeln!(out, "{key} = {}", value.trim())?;
+        }
+        Cmd::Reset { key } => {
+            if !KEYS.iter().any(|k| k.key == key) {
+                let mut s = Settings::load(&store, today())?;
+                s.apply(key, "")?;
+            }
+            store.delete_setting(key)?;
+            writeln!(out, "{key} reset to its default")?;
+        }
+    }
+    Ok(())
+}

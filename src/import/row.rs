@@ -1,0 +1,577 @@
+//! A header and the rows under it, read into typed values. Pure, like [`super::cell`].
+
+use chrono::NaiveDate;
+
+use super::cell::{Cell, CellError, Column, ParseOptions, parse_cell};
+use crate::model::{CircuitKind, Device, Earthing, Megohms, ObservationCode, Readings};
+
+/// The two kinds of file, told apart by their header.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum FileKind {
+    /// One row per circuit per visit.
+    Visits,
+    /// One row per observation: the header has a `code` column.
+    Observations,
+}
+
+/// A refused field: its 1-based column number, the column's name where known, and why.
+#[derive(Debug, Clone, PartialEq)]
+pub struct FieldError {
+    pub column: usize,
+    pub name: Option<String>,
+    pub message: String,
+}
+
+impl FieldError {
+    fn new(column: usize, name: Option<&str>, message: impl Into<String>) -> FieldError {
+        FieldError {
+            column,
+            name: name.map(String::from),
+            message: message.into(),
+        }
+    }
+}
+
+/// The columns of a file, in file order. `None` marks an unknown column being ignored.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Header {
+    pub kind: FileKind,
+    pub columns: Vec<Option<Column>>,
+}
+
+impl Header {
+    /// The 1-based position of a column, if the file has it.
+    pub fn position(&self, c: Column) -> Option<usize> {
+        self.columns
+            .iter()
+            .position(|x| *x == Some(c))
+            .map(|i| i + 1)
+    }
+
+    pub fn has(&self, c: Column) -> bool {
+        self.position(c).is_some()
+    }
+
+    pub fn len(&self) -> usize {
+        self.columns.len()
+    }
+
+    pub fn is_empty(&self) -> bool {
+        self.columns.is_empty()
+    }
+}
+
+/// Read a header row. Names are case-insensitive and may be in any order; an unknown name is
+/// an error (probably a typo) unless `ignore_unknown`.
+pub fn parse_header(names: &[&str], ignore_unknown: bool) -> Result<Header, Vec<FieldError>> {
+    let kind = if names
+        .iter()
+        .any(|n| Column::from_name(n) == Some(Column::Code))
+    {
+        FileKind::Observations
+    } else {
+        FileKind::Visits
+    };
+    let (allowed, required): (&[Column], &[Column]) = match kind {
+        FileKind::Visits => (&Column::VISIT, &Column::VISIT_REQUIRED),
+        FileKind::Observations => (&Column::OBSERVATION, &Column::OBSERVATION_REQUIRED),
+    };
+    let mut errors = Vec::new();
+    let mut suggested: Vec<&str> = Vec::new();
+    let mut columns: Vec<Option<Column>> = Vec::with_capacity(names.len());
+    for (i, raw) in names.iter().enumerate() {
+        let n = i + 1;
+        match Column::from_name(raw) {
+            Some(c) if allowed.contains(&c) => {
+                if let Some(first) = columns.iter().position(|x| *x == Some(c)) {
+                    errors.push(FieldError::new(
+                        n,
+                        Some(c.name()),
+                        format!("duplicated column: already given as column {}", first + 1),
+                    ));
+                }
+                columns.push(Some(c));
+            }
+            Some(c) if !ignore_unknown => {
+                errors.push(FieldError::new(
+                    n,
+                    None,
+                    format!(
+                        "column {} does not belong in an observation file (it has a code column): split readings and observations into two files, or pass --ignore-unknown",
+                        c.name()
+                    ),
+                ));
+                columns.push(None);
+            }
+            None if !ignore_unknown => {
+                let hint = match suggest(raw, allowed) {
+                    Some(s) => {
+                        suggested.push(s);
+                        format!("did you mean {s}?")
+                    }
+                    None => format!(
+                        "expected one of {}",
+                        allowed
+                            .iter()
+                            .map(|c| c.name())
+                            .collect::<Vec<_>>()
+                            .join(", ")
+                    ),
+                };
+                let what = if raw.trim().is_empty() {
+                    "unnamed column".to_string()
+                } else {
+                    format!("unknown column {raw:?}")
+                };
+                errors.push(FieldError::new(
+                    n,
+                    None,
+                    format!("{what}: {hint} (or pass --ignore-unknown)"),
+                ));
+                columns.push(None);
+            }
+            _ => columns.push(None),
+        }
+    }
+    for r in required {
+        // A misspelt required column is already reported, with the right name.
+        if !columns.contains(&Some(*r)) && !suggested.contains(&r.name()) {
+            let what = match kind {
+                FileKind::Visits => "a visit file",
+                FileKind::Observations => "an observation file",
+            };
+            errors.push(FieldError::new(
+                1,
+                None,
+                format!("missing required column {}: {what} needs {}", r.name(), {
+                    required
+                        .iter()
+                        .map(|c| c.name())
+                        .collect::<Vec<_>>()
+                        .join(", ")
+                }),
+            ));
+        }
+    }
+    if errors.is_empty() {
+        Ok(Header { kind, columns })
+    } else {
+        Err(errors)
+    }
+}
+
+/// The nearest known column name to a mistyped one, if it is close.
+fn suggest(raw: &str, allowed: &[Column]) -> Option<&'static str> {
+    let n = raw
+        .trim()
+        .to_ascii_lowercase()
+        .replace([' ', '-', '+'], "_");
+    allowed
+        .iter()
+        .map(|c| (edit_distance(&n, c.name()), c.name()))
+        .filter(|(d, _)| *d <= 3)
+        .min()
+        .map(|(_, name)| name)
+}
+
+fn edit_distance(a: &str, b: &str) -> usize {
+    let b: Vec<char> = b.chars().collect();
+    let mut prev: Vec<usize> = (0..=b.len()).collect();
+    for (i, ca) in a.chars().enumerate() {
+        let mut cur = vec![i + 1];
+        for (j, cb) in b.iter().enumerate() {
+            let sub = prev[j] + usize::from(ca != *cb);
+            cur.push(sub.min(prev[j + 1] + 1).min(cur[j] + 1));
+        }
+        prev = cur;
+    }
+    prev[b.len()]
+}
+
+/// A circuit's register details as one row gives them; `None` where the row does not say.
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct RowRegister {
+    pub description: Option<String>,
+    pub kind: Option<CircuitKind>,
+    pub device: Option<Device>,
+    pub rcd_ma: Option<u16>,
+    pub live_mm2: Option<f64>,
+    pub cpc_mm2: Option<f64>,
+    pub length_m: Option<f64>,
+}
+
+/// One row of a visit file.
+#[derive(Debug, Clone, PartialEq)]
+pub struct VisitRow {
+    pub property_ref: String,
+    pub address: Option<String>,
+    pub board: String,
+    pub earthing: Option<Earthing>,
+    pub circuit: String,
+    pub register: RowRegister,
+    pub visit_date: NaiveDate,
+    pub inspector: Option<String>,
+    pub instrument: Option<String>,
+    pub ambient_c: Option<f64>,
+    pub ze_ohm: Option<f64>,
+    pub readings: Readings,
+}
+
+/// One row of an observation file.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ObservationRow {
+    pub property_ref: String,
+    pub visit_date: NaiveDate,
+    pub board: Option<String>,
+    pub circuit: Option<String>,
+    pub code: ObservationCode,
+    pub text: String,
+}
+
+/// Whether every field of a row is blank: spreadsheets leave such rows at the end.
+pub fn is_blank(fields: &[&[u8]]) -> bool {
+    fields.iter().all(|f| f.iter().all(u8::is_ascii_whitespace))
+}
+
+/// Decode and parse each field; `Err` holds every fault in the row.
+fn cells(
+    header: &Header,
+    fields: &[&[u8]],
+    opts: &ParseOptions,
+    optional: &[Column],
+) -> Result<Vec<(Column, Cell)>, Vec<FieldError>> {
+    if fields.len() != header.len() {
+        let column = fields.len().min(header.len()) + 1;
+        return Err(vec![FieldError::new(
+            column,
+            None,
+            format!(
+                "row has {} fields but the header has {}: check for a missing or extra comma, or quote a value that contains one",
+                fields.len(),
+                header.len()
+            ),
+        )]);
+    }
+    let mut out = Vec::with_capacity(fields.len());
+    let mut errors = Vec::new();
+    for (i, (col, bytes)) in header.columns.iter().zip(fields).enumerate() {
+        let Some(col) = *col else { continue };
+        let text = match std::str::from_utf8(bytes) {
+            Ok(t) => t,
+            Err(e) => {
+                let at = e.valid_up_to();
+                errors.push(FieldError::new(
+                    i + 1,
+                    Some(col.name()),
+                    format!(
+                        "not UTF-8 text (byte 0x{:02X} at offset {at} in the cell): save the file as UTF-8",
+                        bytes[at]
+                    ),
+                ));
+                continue;
+            }
+        };
+        match parse_cell(col, text, opts) {
+            Ok(c) => out.push((col, c)),
+            Err(CellError::MissingKey | CellError::MarkAsKey(_)) if optional.contains(&col) => {
+                out.push((col, Cell::Missing))
+            }
+            Err(e) => errors.push(cell_error(i + 1, col, &e)),
+        }
+    }
+    if errors.is_empty() {
+        Ok(out)
+    } else {
+        Err(errors)
+    }
+}
+
+fn cell_error(column: usize, col: Column, e: &CellError) -> FieldError {
+    FieldError::new(column, Some(col.name()), e.to_string())
+}
+
+/// Read one row of a visit file.
+pub fn parse_visit_row(
+    header: &Header,
+    fields: &[&[u8]],
+    opts: &ParseOptions,
+) -> Result<VisitRow, Vec<FieldError>> {
+    let cells = cells(header, fields, opts, &[])?;
+    let mut row = VisitRow {
+        property_ref: String::new(),
+        address: None,
+        board: String::new(),
+        earthing: None,
+        circuit: String::new(),
+        register: RowRegister::default(),
+        visit_date: NaiveDate::MIN,
+        inspector: None,
+        instrument: None,
+        ambient_c: None,
+        ze_ohm: None,
+        readings: Readings::default(),
+    };
+    let mut limitations: Vec<Column> = Vec::new();
+    for (col, cell) in cells {
+        if cell == Cell::Limitation {
+            limitations.push(col);
+            continue;
+        }
+        let text = || match &cell {
+            Cell::Text(t) => Some(t.clone()),
+            _ => None,
+        };
+        let num = match cell {
+            Cell::Number(v) => Some(v),
+            _ => None,
+        };
+        let mohm = match cell {
+            Cell::Number(v) => Some(Megohms {
+                value: v,
+                over_range: false,
+            }),
+            Cell::OverRange(v) => Some(Megohms {
+                value: v,
+                over_range: true,
+            }),
+            _ => None,
+        };
+        let r = &mut row.readings;
+        match col {
+            Column::PropertyRef => row.property_ref = text().unwrap_or_default(),
+            Column::Board => row.board = text().unwrap_or_default(),
+            Column::Circuit => row.circuit = text().unwrap_or_default(),
+            Column::Address => row.address = text(),
+            Column::Description => row.register.description = text(),
+            Column::Inspector => row.inspector = text(),
+            Column::Instrument => row.instrument = text().map(|t| t.trim().to_string()),
+            Column::Note => r.note = text(),
+            Column::VisitDate => {
+                if let Cell::Date(d) = cell {
+                    row.visit_date = d;
+                }
+            }
+            Column::Earthing => {
+                if let Cell::Earthing(e) = cell {
+                    row.earthing = Some(e);
+                }
+            }
+            Column::Ring => {
+                if let Cell::Ring(k) = cell {
+                    row.register.kind = Some(k);
+                }
+            }
+            Column::Device => {
+                if let Cell::Device(d) = cell {
+                    row.register.device = Some(d);
+                }
+            }
+            Column::RcdMa => {
+                if let Cell::RcdMa(v) = cell {
+                    row.register.rcd_ma = Some(v);
+                }
+            }
+            Column::LiveMm2 => row.register.live_mm2 = num,
+            Column::CpcMm2 => row.register.cpc_mm2 = num,
+            Column::LengthM => row.register.length_m = num,
+            Column::AmbientC => row.ambient_c = num,
+            Column::ZeOhm => row.ze_ohm = num,
+            Column::RingR1Ohm => r.ring_r1_ohm = num,
+            Column::RingRnOhm => r.ring_rn_ohm = num,
+            Column::RingR2Ohm => r.ring_r2_ohm = num,
+            Column::R1r2Ohm => r.r1r2_ohm = num,
+            Column::R2Ohm => r.r2_ohm = num,
+            Column::R1rnOhm => r.r1rn_ohm = num,
+            Column::ZsOhm => r.zs_ohm = num,
+            Column::IrLlMohm => r.ir_ll = mohm,
+            Column::IrLeMohm => r.ir_le = mohm,
+            Column::RcdMs => r.rcd_ms = num,
+            Column::Rcd5xMs => r.rcd_5x_ms = num,
+            Column::Code | Column::Text => {}
+        }
+    }
+    // Canonical order, so the same limitations compare equal whatever the column order.
+    limitations.sort();
+    row.readings.limitations = limitations.iter().map(|c| c.name().to_string()).collect();
+    Ok(row)
+}
+
+/// Read one row of an observation file.
+pub fn parse_observation_row(
+    header: &Header,
+    fields: &[&[u8]],
+    opts: &ParseOptions,
+) -> Result<ObservationRow, Vec<FieldError>> {
+    // An observation may be about the whole installation or a whole board.
+    let cells = cells(header, fields, opts, &[Column::Board, Column::Circuit])?;
+    let mut row = ObservationRow {
+        property_ref: String::new(),
+        visit_date: NaiveDate::MIN,
+        board: None,
+        circuit: None,
+        code: ObservationCode::FI,
+        text: String::new(),
+    };
+    let mut errors = Vec::new();
+    for (col, cell) in cells {
+        match (col, cell) {
+            (Column::PropertyRef, Cell::Text(t)) => row.property_ref = t,
+            (Column::VisitDate, Cell::Date(d)) => row.visit_date = d,
+            (Column::Board, Cell::Text(t)) => row.board = Some(t),
+            (Column::Circuit, Cell::Text(t)) => row.circuit = Some(t),
+            (Column::Code, Cell::Code(c)) => row.code = c,
+            (Column::Code, Cell::Missing) => errors.push(FieldError::new(
+                header.position(Column::Code).unwrap_or(1),
+                Some("code"),
+                "missing: expected C1, C2, C3 or FI as recorded",
+            )),
+            (Column::Text, Cell::Text(t)) => row.text = t,
+            (Column::Text, Cell::Missing) => errors.push(FieldError::new(
+                header.position(Column::Text).unwrap_or(1),
+                Some("text"),
+                "missing: every observation needs its text",
+            )),
+            _ => {}
+        }
+    }
+    if row.circuit.is_some() && row.board.is_none() {
+        errors.push(FieldError::new(
+            header.position(Column::Circuit).unwrap_or(1),
+            Some("circuit"),
+            "a circuit needs its board: fill in the board column",
+        ));
+    }
+    if errors.is_empty() {
+        Ok(row)
+    } else {
+        Err(errors)
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn opts() -> ParseOptions {
+        ParseOptions {
+            decimal_comma: false,
+            today: NaiveDate::from_ymd_opt(2025, 7, 1).unwrap(),
+        }
+    }
+
+    fn bytes<'a>(v: &'a [&'a str]) -> Vec<&'a [u8]> {
+        v.iter().map(|s| s.as_bytes()).collect()
+    }
+
+    #[test]
+    fn header_any_order_any_case() {
+        let h = parse_header(
+            &["Visit_Date", " CIRCUIT ", "board", "property_ref", "zs_ohm"],
+            false,
+        )
+        .unwrap();
+        assert_eq!(h.kind, FileKind::Visits);
+        assert_eq!(h.position(Column::Circuit), Some(2));
+    }
+
+    #[test]
+    fn header_faults() {
+        let e = parse_header(
+            &["property_ref", "board", "circuit", "visit date", "board"],
+            false,
+        )
+        .unwrap_err();
+        assert_eq!(e[0].column, 4);
+        assert_eq!(
+            e[0].message,
+            "unknown column \"visit date\": did you mean visit_date? (or pass --ignore-unknown)"
+        );
+        assert_eq!(e[1].column, 5);
+        assert_eq!(e[1].message, "duplicated column: already given as column 2");
+        // The misspelt visit_date is reported once, not again as missing.
+        assert_eq!(e.len(), 2);
+        let e = parse_header(&["property_ref", "board", "circuit"], false).unwrap_err();
+        assert!(
+            e[0].message
+                .starts_with("missing required column visit_date")
+        );
+        let h = parse_header(
+            &["property_ref", "board", "circuit", "visit_date", "colour"],
+            true,
+        )
+        .unwrap();
+        assert_eq!(h.columns[4], None);
+    }
+
+    #[test]
+    fn observation_header_is_told_apart() {
+        let h = parse_header(&["property_ref", "visit_date", "code", "text"], false).unwrap();
+        assert_eq!(h.kind, FileKind::Observations);
+    }
+
+    #[test]
+    fn a_row_reads_into_values() {
+        let h = parse_header(
+            &[
+                "property_ref",
+                "board",
+                "circuit",
+                "visit_date",
+                "device",
+                "ir_le_mohm",
+                "zs_ohm",
+                "r1r2_ohm",
+            ],
+            false,
+        )
+        .unwrap();
+        let row = parse_visit_row(
+            &h,
+            &bytes(&["S1", "DB1", "3", "14/06/2025", "B32", ">200", "LIM", "0.4"]),
+            &opts(),
+        )
+        .unwrap();
+        assert_eq!(row.register.device.unwrap().to_string(), "B32");
+        assert_eq!(
+            row.readings.ir_le,
+            Some(Megohms {
+                value: 200.0,
+                over_range: true
+            })
+        );
+        assert_eq!(row.readings.limitations, vec!["zs_ohm".to_string()]);
+        assert_eq!(row.readings.r1r2_ohm, Some(0.4));
+    }
+
+    #[test]
+    fn every_fault_in_a_row_is_reported() {
+        let h = parse_header(
+            &["property_ref", "board", "circuit", "visit_date", "zs_ohm"],
+            false,
+        )
+        .unwrap();
+        let e =
+            parse_visit_row(&h, &bytes(&["S1", "", "3", "2025-13-01", "-1"]), &opts()).unwrap_err();
+        let cols: Vec<usize> = e.iter().map(|f| f.column).collect();
+        assert_eq!(cols, vec![2, 4, 5]);
+        let ragged = parse_visit_row(&h, &bytes(&["S1", "DB1"]), &opts()).unwrap_err();
+        assert_eq!(ragged[0].column, 3);
+    }
+
+    #[test]
+    fn non_utf8_names_the_byte() {
+        let h = parse_header(
+            &["property_ref", "board", "circuit", "visit_date", "note"],
+            false,
+        )
+        .unwrap();
+        let fields: Vec<&[u8]> = vec![b"S1", b"DB1", b"1", b"2025-01-01", b"caf\xe9"];
+        let e = parse_visit_row(&h, &fields, &opts()).unwrap_err();
+        assert_eq!(e[0].column, 5);
+        assert_eq!(
+            e[0].message,
+            "not UTF-8 text (byte 0xE9 at offset 3 in the cell): save the file as UTF-8"
+        );
+    }
+}

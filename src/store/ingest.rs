@@ -1,0 +1,543 @@
+//! The SQL that bulk import and export need: small lookups and inserts through cached
+//! statements, so a file of many thousand rows costs one prepare per statement, not per row.
+
+use std::collections::HashMap;
+
+use chrono::NaiveDate;
+use rusqlite::{OptionalExtension, Row, params};
+
+use super::{CircuitDetails, Store};
+use crate::error::Result;
+use crate::model::{Megohms, Readings};
+
+/// A property as import compares it.
+#[derive(Debug, Clone, PartialEq)]
+pub struct IngestProperty {
+    pub id: i64,
+    pub address: Option<String>,
+}
+
+/// A board as import compares it.
+#[derive(Debug, Clone, PartialEq)]
+pub struct IngestBoard {
+    pub id: i64,
+    pub earthing: Option<String>,
+}
+
+/// A visit's own fields as import compares them.
+#[derive(Debug, Clone, PartialEq)]
+pub struct IngestVisit {
+    pub id: i64,
+    pub inspector: Option<String>,
+    pub instrument: Option<String>,
+    pub ambient_c: Option<f64>,
+}
+
+/// A recorded change as import needs it to know the register at an earlier date.
+#[derive(Debug, Clone, PartialEq)]
+pub struct IngestChange {
+    pub date: NaiveDate,
+    pub field: Option<String>,
+    pub old_value: Option<String>,
+}
+
+/// One test record with everything export writes beside it.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ExportRecord {
+    pub property_ref: String,
+    pub address: Option<String>,
+    pub board: String,
+    pub earthing: Option<String>,
+    pub circuit_id: i64,
+    pub circuit: String,
+    pub details: CircuitDetails,
+    pub visit_date: NaiveDate,
+    pub inspector: Option<String>,
+    pub instrument: Option<String>,
+    pub ambient_c: Option<f64>,
+    pub ze_ohm: Option<f64>,
+    pub readings: Readings,
+}
+
+/// One observation as export writes it.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct ExportObservation {
+    pub property_ref: String,
+    pub visit_date: NaiveDate,
+    pub board: Option<String>,
+    pub circuit: Option<String>,
+    pub code: String,
+    pub text: String,
+}
+
+/// The value columns of a test record, as a literal so that statements can be built with
+/// `concat!` once instead of formatted on every row.
+macro_rules! record_values {
+    () => {
+        "r1r2_ohm, r2_ohm, r1rn_ohm, ring_r1_ohm, ring_rn_ohm, ring_r2_ohm,
+    zs_ohm, ir_ll_mohm, ir_ll_over, ir_le_mohm, ir_le_over, rcd_ms, rcd_5x_ms, limitations, note"
+    };
+}
+const RECORD_VALUES: &str = record_values!();
+
+/// Decode the [`RECORD_VALUES`] columns starting at `o`.
+fn readings_at(r: &Row, o: usize) -> rusqlite::Result<Readings> {
+    let mohm = |v: Option<f64>, over: bool| {
+        v.map(|value| Megohms {
+            value,
+            over_range: over,
+        })
+    };
+    let limitations: String = r.get(o + 13)?;
+    Ok(Readings {
+        r1r2_ohm: r.get(o)?,
+        r2_ohm: r.get(o + 1)?,
+        r1rn_ohm: r.get(o + 2)?,
+        ring_r1_ohm: r.get(o + 3)?,
+        ring_rn_ohm: r.get(o + 4)?,
+        ring_r2_ohm: r.get(o + 5)?,
+        zs_ohm: r.get(o + 6)?,
+        ir_ll: mohm(r.get(o + 7)?, r.get(o + 8)?),
+        ir_le: mohm(r.get(o + 9)?, r.get(o + 10)?),
+        rcd_ms: r.get(o + 11)?,
+        rcd_5x_ms: r.get(o + 12)?,
+        limitations: limitations
+            .split(',')
+            .filter(|s| !s.is_empty())
+            .map(String::from)
+            .collect(),
+        note: r.get(o + 14)?,
+    })
+}
+
+impl Store {
+    /// Make room for every statement an import caches, so none is prepared twice, and give
+    /// the page cache enough memory that index pages stay in it during a large file.
+    pub fn ingest_prepare(&self) -> Result<()> {
+        self.conn.set_prepared_statement_cache_capacity(64);
+        self.conn.pragma_update(None, "cache_size", -8_192)?;
+        Ok(())
+    }
+
+    pub fn ingest_property(&self, reference: &str) -> Result<Option<IngestProperty>> {
+        let mut st = self
+            .conn
+            .prepare_cached("SELECT id, address FROM property WHERE ref = ?1")?;
+        Ok(st
+            .query_row([reference], |r| {
+                Ok(IngestProperty {
+                    id: r.get(0)?,
+                    address: r.get(1)?,
+                })
+            })
+            .optional()?)
+    }
+
+    pub fn ingest_insert_property(&self, reference: &str, address: Option<&str>) -> Result<i64> {
+        let mut st = self
+            .conn
+            .prepare_cached("INSERT INTO property (ref, address) VALUES (?1, ?2)")?;
+        st.execute(params![reference, address])?;
+        Ok(self.conn.last_insert_rowid())
+    }
+
+    pub fn ingest_set_address(&self, property_id: i64, address: &str) -> Result<()> {
+        let mut st = self
+            .conn
+            .prepare_cached("UPDATE property SET address = ?2 WHERE id = ?1")?;
+        st.execute(params![property_id, address])?;
+        Ok(())
+    }
+
+    pub fn ingest_board(&self, property_id: i64, designation: &str) -> Result<Option<IngestBoard>> {
+        let mut st = self.conn.prepare_cached(
+            "SELECT id, earthing FROM board WHERE property_id = ?1 AND designation = ?2",
+        )?;
+        Ok(st
+            .query_row(params![property_id, designation], |r| {
+                Ok(IngestBoard {
+                    id: r.get(0)?,
+                    earthing: r.get(1)?,
+                })
+            })
+            .optional()?)
+    }
+
+    pub fn ingest_insert_board(
+        &self,
+        property_id: i64,
+        designation: &str,
+        earthing: Option<&str>,
+    ) -> Result<i64> {
+        let mut st = self.conn.prepare_cached(
+            "INSERT INTO board (property_id, designation, earthing) VALUES (?1, ?2, ?3)",
+        )?;
+        st.execute(params![property_id, designation, earthing])?;
+        Ok(self.conn.last_insert_rowid())
+    }
+
+    pub fn ingest_set_earthing(&self, board_id: i64, earthing: &str) -> Result<()> {
+        let mut st = self
+            .conn
+            .prepare_cached("UPDATE board SET earthing = ?2 WHERE id = ?1")?;
+        st.execute(params![board_id, earthing])?;
+        Ok(())
+    }
+
+    /// The circuit in service with this number on the board: its id and register details.
+    pub fn ingest_circuit(
+        &self,
+        board_id: i64,
+        number: &str,
+    ) -> Result<Option<(i64, CircuitDetails)>> {
+        let mut st = self.conn.prepare_cached(
+            "SELECT id, description, kind, live_mm2, cpc_mm2, length_m, device, rcd_ma
+             FROM circuit WHERE board_id = ?1 AND number = ?2 AND status = 'in_service'",
+        )?;
+        Ok(st
+            .query_row(params![board_id, number], |r| {
+                Ok((r.get(0)?, details_at(r, 1)?))
+            })
+            .optional()?)
+    }
+
+    pub fn ingest_insert_circuit(
+        &self,
+        board_id: i64,
+        number: &str,
+        d: &CircuitDetails,
+    ) -> Result<i64> {
+        d.validate()?;
+        let mut st = self.conn.prepare_cached(
+            "INSERT INTO circuit (board_id, number, description, kind, live_mm2, cpc_mm2, length_m,
+                 device, rcd_ma) VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9)",
+        )?;
+        st.execute(params![
+            board_id,
+            number,
+            d.description,
+            d.kind.unwrap_or(crate::model::CircuitKind::Radial).as_str(),
+            d.live_mm2,
+            d.cpc_mm2,
+            d.length_m,
+            d.device.map(|x| x.to_string()),
+            d.rcd_ma,
+        ])?;
+        Ok(self.conn.last_insert_rowid())
+    }
+
+    /// Every change recorded on a circuit, oldest first.
+    pub fn ingest_changes(&self, circuit_id: i64) -> Result<Vec<IngestChange>> {
+        let mut st = self.conn.prepare_cached(
+            "SELECT date, field, old_value FROM circuit_change WHERE circuit_id = ?1 ORDER BY date, id",
+        )?;
+        let rows = st.query_map([circuit_id], |r| {
+            Ok(IngestChange {
+                date: r.get(0)?,
+                field: r.get(1)?,
+                old_value: r.get(2)?,
+            })
+        })?;
+        Ok(rows.collect::<rusqlite::Result<_>>()?)
+    }
+
+    /// The date of the latest visit with a test record for this circuit.
+    pub fn ingest_latest_record(&self, circuit_id: i64) -> Result<Option<NaiveDate>> {
+        let mut st = self.conn.prepare_cached(
+            "SELECT max(v.date) FROM test_record t JOIN visit v ON v.id = t.visit_id
+             WHERE t.circuit_id = ?1",
+        )?;
+        Ok(st.query_row([circuit_id], |r| r.get(0))?)
+    }
+
+    pub fn ingest_visit(&self, property_id: i64, date: NaiveDate) -> Result<Option<IngestVisit>> {
+        let mut st = self.conn.prepare_cached(
+            "SELECT v.id, v.inspector, i.serial, v.ambient_c FROM visit v
+             LEFT JOIN instrument i ON i.id = v.instrument_id
+             WHERE v.property_id = ?1 AND v.date = ?2",
+        )?;
+        Ok(st
+            .query_row(params![property_id, date], |r| {
+                Ok(IngestVisit {
+                    id: r.get(0)?,
+                    inspector: r.get(1)?,
+                    instrument: r.get(2)?,
+                    ambient_c: r.get(3)?,
+                })
+            })
+            .optional()?)
+    }
+
+    /// The instrument's id, adding it to the register on first sight.
+    pub fn ingest_instrument(&self, serial: &str) -> Result<i64> {
+        let mut st = self
+            .conn
+            .prepare_cached("SELECT id FROM instrument WHERE serial = ?1")?;
+        if let Some(id) = st.query_row([serial], |r| r.get(0)).optional()? {
+            return Ok(id);
+        }
+        let mut ins = self
+            .conn
+            .prepare_cached("INSERT INTO instrument (serial) VALUES (?1)")?;
+        ins.execute([serial])?;
+        Ok(self.conn.last_insert_rowid())
+    }
+
+    pub fn ingest_insert_visit(
+        &self,
+        property_id: i64,
+        date: NaiveDate,
+        v: &IngestVisit,
+        instrument_id: Option<i64>,
+    ) -> Result<i64> {
+        let mut st = self.conn.prepare_cached(
+            "INSERT INTO visit (property_id, date, inspector, instrument_id, ambient_c)
+             VALUES (?1, ?2, ?3, ?4, ?5)",
+        )?;
+        st.execute(params![
+            property_id,
+            date,
+            v.inspector,
+            instrument_id,
+            v.ambient_c
+        ])?;
+        Ok(self.conn.last_insert_rowid())
+    }
+
+    pub fn ingest_update_visit(&self, v: &IngestVisit, instrument_id: Option<i64>) -> Result<()> {
+        let mut st = self.conn.prepare_cached(
+            "UPDATE visit SET inspector = ?2, instrument_id = ?3, ambient_c = ?4 WHERE id = ?1",
+        )?;
+        st.execute(params![v.id, v.inspector, instrument_id, v.ambient_c])?;
+        Ok(())
+    }
+
+    /// Ze measured at a board at a visit: `None` when no board test is stored.
+    pub fn ingest_board_ze(&self, visit_id: i64, board_id: i64) -> Result<Option<Option<f64>>> {
+        let mut st = self.conn.prepare_cached(
+            "SELECT ze_ohm FROM board_test WHERE visit_id = ?1 AND board_id = ?2",
+        )?;
+        Ok(st
+            .query_row(params![visit_id, board_id], |r| r.get(0))
+            .optional()?)
+    }
+
+    /// Store Ze at a board; the visit's own Ze (at the origin) is filled when still empty.
+    pub fn ingest_set_board_ze(&self, visit_id: i64, board_id: i64, ze: f64) -> Result<()> {
+        let mut st = self.conn.prepare_cached(
+            "INSERT INTO board_test (visit_id, board_id, ze_ohm) VALUES (?1, ?2, ?3)
+             ON CONFLICT (visit_id, board_id) DO UPDATE SET ze_ohm = excluded.ze_ohm",
+        )?;
+        st.execute(params![visit_id, board_id, ze])?;
+        let mut v = self
+            .conn
+            .prepare_cached("UPDATE visit SET ze_ohm = ?2 WHERE id = ?1 AND ze_ohm IS NULL")?;
+        v.execute(params![visit_id, ze])?;
+        Ok(())
+    }
+
+    pub fn ingest_record(&self, visit_id: i64, circuit_id: i64) -> Result<Option<Readings>> {
+        let mut st = self.conn.prepare_cached(concat!(
+            "SELECT ",
+            record_values!(),
+            " FROM test_record WHERE visit_id = ?1 AND circuit_id = ?2"
+        ))?;
+        Ok(st
+            .query_row(params![visit_id, circuit_id], |r| readings_at(r, 0))
+            .optional()?)
+    }
+
+    /// Write a test record, replacing one already stored for the circuit at the visit.
+    pub fn ingest_put_record(&self, visit_id: i64, circuit_id: i64, r: &Readings) -> Result<()> {
+        super::validate_readings(r)?;
+        let mut st = self.conn.prepare_cached(concat!(
+            "INSERT OR REPLACE INTO test_record (visit_id, circuit_id, ",
+            record_values!(),
+            ") VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11, ?12, ?13, ?14, ?15, ?16, ?17)"
+        ))?;
+        let split = |m: Option<Megohms>| match m {
+            Some(m) => (Some(m.value), m.over_range),
+            None => (None, false),
+        };
+        let (ll, ll_over) = split(r.ir_ll);
+        let (le, le_over) = split(r.ir_le);
+        st.execute(params![
+            visit_id,
+            circuit_id,
+            r.r1r2_ohm,
+            r.r2_ohm,
+            r.r1rn_ohm,
+            r.ring_r1_ohm,
+            r.ring_rn_ohm,
+            r.ring_r2_ohm,
+            r.zs_ohm,
+            ll,
+            ll_over,
+            le,
+            le_over,
+            r.rcd_ms,
+            r.rcd_5x_ms,
+            r.limitations.join(","),
+            r.note,
+        ])?;
+        Ok(())
+    }
+
+    /// Whether the visit already holds this exact observation.
+    pub fn ingest_has_observation(
+        &self,
+        visit_id: i64,
+        board_id: Option<i64>,
+        circuit_id: Option<i64>,
+        code: &str,
+        text: &str,
+    ) -> Result<bool> {
+        let mut st = self.conn.prepare_cached(
+            "SELECT 1 FROM observation WHERE visit_id = ?1 AND board_id IS ?2 AND circuit_id IS ?3
+             AND code = ?4 AND text = ?5",
+        )?;
+        Ok(st
+            .query_row(params![visit_id, board_id, circuit_id, code, text], |_| {
+                Ok(())
+            })
+            .optional()?
+            .is_some())
+    }
+
+    /// Rows in each table, for a summary or to show that nothing was written.
+    pub fn row_counts(&self) -> Result<Vec<(&'static str, i64)>> {
+        const TABLES: [&str; 10] = [
+            "client",
+            "property",
+            "board",
+            "circuit",
+            "instrument",
+            "visit",
+            "board_test",
+            "test_record",
+            "circuit_change",
+            "observation",
+        ];
+        let mut out = Vec::new();
+        for t in TABLES {
+            let n = self
+                .conn
+                .query_row(&format!("SELECT count(*) FROM {t}"), [], |r| r.get(0))?;
+            out.push((t, n));
+        }
+        Ok(out)
+    }
+
+    /// Every change of every circuit, by circuit, oldest first, for export.
+    pub fn export_changes(&self) -> Result<HashMap<i64, Vec<IngestChange>>> {
+        let mut st = self.conn.prepare(
+            "SELECT circuit_id, date, field, old_value FROM circuit_change ORDER BY circuit_id, date, id",
+        )?;
+        let mut out: HashMap<i64, Vec<IngestChange>> = HashMap::new();
+        let mut rows = st.query([])?;
+        while let Some(r) = rows.next()? {
+            out.entry(r.get(0)?).or_default().push(IngestChange {
+                date: r.get(1)?,
+                field: r.get(2)?,
+                old_value: r.get(3)?,
+            });
+        }
+        Ok(out)
+    }
+
+    /// Call `f` with every test record, optionally of one property, ordered by property,
+    /// visit date, board and circuit. Rows are streamed, not collected.
+    pub fn export_records(
+        &self,
+        property_ref: Option<&str>,
+        mut f: impl FnMut(ExportRecord) -> Result<()>,
+    ) -> Result<()> {
+        if let Some(r) = property_ref {
+            self.property(r)?;
+        }
+        let sql = format!(
+            "SELECT p.ref, p.address, b.designation, b.earthing, c.id, c.number,
+                    c.description, c.kind, c.live_mm2, c.cpc_mm2, c.length_m, c.device, c.rcd_ma,
+                    v.date, v.inspector, i.serial, v.ambient_c, bt.ze_ohm,
+                    {}
+             FROM test_record t
+             JOIN visit v ON v.id = t.visit_id
+             JOIN circuit c ON c.id = t.circuit_id
+             JOIN board b ON b.id = c.board_id
+             JOIN property p ON p.id = b.property_id
+             LEFT JOIN instrument i ON i.id = v.instrument_id
+             LEFT JOIN board_test bt ON bt.visit_id = v.id AND bt.board_id = b.id
+             WHERE ?1 IS NULL OR p.ref = ?1
+             ORDER BY p.ref, v.date, b.designation, CAST(c.number AS INTEGER), c.number, c.id",
+            RECORD_VALUES
+                .split(',')
+                .map(|c| format!("t.{}", c.trim()))
+                .collect::<Vec<_>>()
+                .join(", ")
+        );
+        let mut st = self.conn.prepare(&sql)?;
+        let mut rows = st.query([property_ref])?;
+        while let Some(r) = rows.next()? {
+            let rec = ExportRecord {
+                property_ref: r.get(0)?,
+                address: r.get(1)?,
+                board: r.get(2)?,
+                earthing: r.get(3)?,
+                circuit_id: r.get(4)?,
+                circuit: r.get(5)?,
+                details: details_at(r, 6)?,
+                visit_date: r.get(13)?,
+                inspector: r.get(14)?,
+                instrument: r.get(15)?,
+                ambient_c: r.get(16)?,
+                ze_ohm: r.get(17)?,
+                readings: readings_at(r, 18)?,
+            };
+            f(rec)?;
+        }
+        Ok(())
+    }
+
+    /// Every observation, optionally of one property, in the order recorded per visit.
+    pub fn export_observations(
+        &self,
+        property_ref: Option<&str>,
+    ) -> Result<Vec<ExportObservation>> {
+        let mut st = self.conn.prepare(
+            "SELECT p.ref, v.date, b.designation, c.number, o.code, o.text
+             FROM observation o JOIN visit v ON v.id = o.visit_id
+             JOIN property p ON p.id = v.property_id
+             LEFT JOIN board b ON b.id = o.board_id
+             LEFT JOIN circuit c ON c.id = o.circuit_id
+             WHERE ?1 IS NULL OR p.ref = ?1
+             ORDER BY p.ref, v.date, o.id",
+        )?;
+        let rows = st.query_map([property_ref], |r| {
+            Ok(ExportObservation {
+                property_ref: r.get(0)?,
+                visit_date: r.get(1)?,
+                board: r.get(2)?,
+                circuit: r.get(3)?,
+                code: r.get(4)?,
+                text: r.get(5)?,
+            })
+        })?;
+        Ok(rows.collect::<rusqlite::Result<_>>()?)
+    }
+}
+
+/// Decode description, kind, live, cpc, length, device, rcd_ma starting at `o`.
+fn details_at(r: &Row, o: usize) -> rusqlite::Result<CircuitDetails> {
+    let kind: String = r.get(o + 1)?;
+    let device: Option<String> = r.get(o + 5)?;
+    Ok(CircuitDetails {
+        description: r.get(o)?,
+        kind: kind.parse().ok(),
+        live_mm2: r.get(o + 2)?,
+        cpc_mm2: r.get(o + 3)?,
+        length_m: r.get(o + 4)?,
+        device: device.and_then(|d| d.parse().ok()),
+        rcd_ma: r.get(o + 6)?,
+        ..Default::default()
+    })
+}

@@ -1,0 +1,447 @@
+//! The visit-file import and export, driven through the real binary on temporary databases.
+//! Expected messages are the exact `FILE:LINE:COLUMN: message` lines, so a wrong line or
+//! column number fails the test. Fixture data is invented (the Sampleton portfolio).
+
+use std::path::{Path, PathBuf};
+use std::process::Command as StdCommand;
+
+use assert_cmd::Command;
+use ohmtrail::store::Store;
+use tempfile::TempDir;
+
+fn fixtures() -> PathBuf {
+    PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("fixtures")
+}
+
+fn bin(db: &Path) -> Command {
+    let mut c = Command::cargo_bin("ohmtrail").unwrap();
+    c.arg("--db").arg(db);
+    c
+}
+
+/// A database holding the Sampleton visits and observations.
+fn baseline(dir: &TempDir) -> PathBuf {
+    let db = dir.path().join("base.db");
+    bin(&db)
+        .arg("import")
+        .arg(fixtures().join("visits/sampleton.csv"))
+        .arg(fixtures().join("visits/sampleton-observations.csv"))
+        .assert()
+        .success();
+    db
+}
+
+/// Everything in the database that an import could change: row counts and a full export.
+fn dump(db: &Path) -> String {
+    let store = Store::open(db).unwrap();
+    let mut out = format!("{:?}\n", store.row_counts().unwrap());
+    let mut visits = Vec::new();
+    let mut obs = Vec::new();
+    ohmtrail::export::export_csv(&store, None, &mut visits, Some(&mut obs)).unwrap();
+    out.push_str(&String::from_utf8(visits).unwrap());
+    out.push_str(&String::from_utf8(obs).unwrap());
+    out
+}
+
+fn count(db: &Path, table: &str) -> i64 {
+    let store = Store::open(db).unwrap();
+    store
+        .row_counts()
+        .unwrap()
+        .into_iter()
+        .find(|(t, _)| *t == table)
+        .unwrap()
+        .1
+}
+
+/// Import `file` (run from `dir`, so messages name it as given) and check that it is refused
+/// with exactly `expected` on stderr and that the database is unchanged.
+fn refuse_in(dir: &Path, file: &str, expected: &[&str]) {
+    let tmp = TempDir::new().unwrap();
+    let db = baseline(&tmp);
+    let before = dump(&db);
+    let out = bin(&db)
+        .current_dir(dir)
+        .arg("import")
+        .arg(file)
+        .output()
+        .unwrap();
+    assert_eq!(out.status.code(), Some(1), "{file} was not refused");
+    let stderr = String::from_utf8(out.stderr).unwrap();
+    let lines: Vec<&str> = stderr.lines().collect();
+    let (errors, last) = lines.split_at(lines.len() - 1);
+    assert_eq!(errors, expected, "{file}");
+    // Past the cap the last line counts the rest: "FILE: and 50 more errors".
+    let more = expected
+        .last()
+        .and_then(|l| l.strip_suffix(" more errors"))
+        .and_then(|l| l.rsplit(' ').next())
+        .and_then(|n| n.parse::<usize>().ok());
+    let n = match more {
+        Some(more) => ohmtrail::import::ERROR_CAP + more,
+        None => expected.len(),
+    };
+    let plural = if n == 1 { "" } else { "s" };
+    assert_eq!(
+        last[0],
+        format!("ohmtrail: error: {file}: {n} error{plural}, nothing written from this file")
+    );
+    assert_eq!(dump(&db), before, "{file} changed the database");
+}
+
+fn refuse(file: &str, expected: &[&str]) {
+    refuse_in(&fixtures().join("bad"), file, expected);
+}
+
+macro_rules! bad {
+    ($($name:ident: $file:literal => [$($line:expr),+ $(,)?];)+) => {
+        $(
+            #[test]
+            fn $name() {
+                refuse($file, &[$($line),+]);
+            }
+        )+
+    };
+}
+
+bad! {
+    empty_file: "empty.csv" => ["empty.csv:1:1: the file is empty: expected a header row naming property_ref, board, circuit and visit_date (or property_ref, visit_date, code and text for observations)"];
+    header_only: "header_only.csv" => ["header_only.csv:2:1: no rows under the header: nothing to import"];
+    bom_does_not_shift_columns: "bom.csv" => ["bom.csv:3:6: r1r2_ohm: \"0.4x\" is not a number: expected a resistance in ohms such as 0.35"];
+    crlf_line_numbers: "crlf.csv" => ["crlf.csv:4:7: zs_ohm: \"-0.5\" is negative: expected zero or more"];
+    blank_lines_are_counted: "blank_lines_inside.csv" => ["blank_lines_inside.csv:6:5: zs_ohm: \"x\" is not a number: expected a resistance in ohms such as 0.35"];
+    trailing_empty_lines: "trailing_empty_line.csv" => ["trailing_empty_line.csv:3:9: rcd_ms: \"NaN\" is not a reading: expected a finite number"];
+    ragged_short_row: "ragged_short.csv" => ["ragged_short.csv:3:7: row has 6 fields but the header has 10: check for a missing or extra comma, or quote a value that contains one"];
+    ragged_long_row: "ragged_long.csv" => ["ragged_long.csv:3:11: row has 11 fields but the header has 10: check for a missing or extra comma, or quote a value that contains one"];
+    quoted_commas_keep_columns: "quoted_commas.csv" => ["quoted_commas.csv:3:6: r1r2_ohm: \"0,95\" has a decimal comma: pass --decimal-comma when the file uses them"];
+    header_with_spaces: "header_spaces.csv" => ["header_spaces.csv:1:4: unknown column \"visit date\": did you mean visit_date? (or pass --ignore-unknown)"];
+    duplicated_column: "duplicated_column.csv" => ["duplicated_column.csv:1:7: zs_ohm: duplicated column: already given as column 5"];
+    non_utf8_cell: "non_utf8.csv" => ["non_utf8.csv:3:10: note: not UTF-8 text (byte 0xE9 at offset 3 in the cell): save the file as UTF-8"];
+    non_utf8_header: "non_utf8_header.csv" => ["non_utf8_header.csv:1:5: column name is not UTF-8 text: save the file as UTF-8"];
+    unit_mismatch: "unit_mismatch.csv" => ["unit_mismatch.csv:2:6: r1r2_ohm: \"0.35 MΩ\" has unit MΩ but the column is in ohms"];
+    time_unit_in_ohm_column: "wrong_unit_ms.csv" => ["wrong_unit_ms.csv:2:7: zs_ohm: \"25ms\" has unit ms but the column is in ohms"];
+    decimal_comma_without_flag: "decimal_comma.csv" => ["decimal_comma.csv:2:6: r1r2_ohm: \"0,42\" has a decimal comma: pass --decimal-comma when the file uses them"];
+    negative_resistance: "negative.csv" => ["negative.csv:2:6: r1r2_ohm: \"-0.42\" is negative: expected zero or more"];
+    nan: "nan.csv" => ["nan.csv:2:7: zs_ohm: \"NaN\" is not a reading: expected a finite number"];
+    infinite: "infinite.csv" => ["infinite.csv:2:8: ir_le_mohm: \"inf\" is not a reading: expected a finite number"];
+    exponent: "exponent.csv" => ["exponent.csv:2:9: rcd_ms: \"1e3\" is not a number: expected a time in ms such as 25"];
+    us_order_date: "us_date.csv" => ["us_date.csv:2:4: visit_date: \"06/14/2023\" reads only month first (US order): write the day first (14/06/2023) or as ISO 2023-06-14"];
+    impossible_date: "impossible_date.csv" => ["impossible_date.csv:2:4: visit_date: \"31/02/2023\" is not a date in the calendar"];
+    short_year: "short_year.csv" => ["short_year.csv:2:4: visit_date: \"14/06/23\" has a two-digit year: write all four digits"];
+    unknown_column: "unknown_column.csv" => ["unknown_column.csv:1:5: unknown column \"colour\": expected one of property_ref, address, board, earthing, circuit, description, ring, device, rcd_ma, live_mm2, cpc_mm2, length_m, visit_date, inspector, instrument, ambient_c, ze_ohm, ring_r1_ohm, ring_rn_ohm, ring_r2_ohm, r1r2_ohm, r2_ohm, r1rn_ohm, zs_ohm, ir_ll_mohm, ir_le_mohm, rcd_ms, rcd_5x_ms, note (or pass --ignore-unknown)"];
+    missing_required_column: "missing_required.csv" => ["missing_required.csv:1:1: missing required column visit_date: a visit file needs property_ref, board, circuit, visit_date"];
+    unknown_device: "unknown_device.csv" => ["unknown_device.csv:2:5: device: unknown protective device \"X32\": expected a breaker curve and rating such as B16, C32, D6 or RCBO B20, or a fuse standard and rating such as BS 88-3 30A, BS 88-2 32A, BS 3036 15A, BS 1362 13A"];
+    non_standard_rating: "non_standard_rating.csv" => ["non_standard_rating.csv:2:5: device: B33 is not a standard rating: known ratings are 3, 6, 10, 16, 20, 25, 32, 40, 50, 63, 80, 100, 125 A"];
+    over_range_outside_insulation: "over_range_in_ohms.csv" => ["over_range_in_ohms.csv:2:7: zs_ohm: \">2\" is an over-range mark: only insulation resistance (ir_ll_mohm, ir_le_mohm) may be over range"];
+    limitation_in_device: "lim_in_device.csv" => ["lim_in_device.csv:2:5: device: LIM (a limitation) applies only to measured readings, not to this column"];
+    missing_board: "missing_board.csv" => ["missing_board.csv:3:2: board: missing: every row needs one"];
+    bad_earthing: "bad_earthing.csv" => ["bad_earthing.csv:2:3: earthing: unknown earthing arrangement \"TN-X\": expected TN-S, TN-C-S or TT"];
+    bad_ring: "bad_ring.csv" => ["bad_ring.csv:2:4: ring: unknown circuit kind \"spur\": expected ring or radial (yes or no)"];
+    bad_rcd_rating: "bad_rcd_rating.csv" => ["bad_rcd_rating.csv:2:4: rcd_ma: 25 mA is not a rated residual current: expected one of 10, 30, 100, 300, 500, 1000"];
+    bad_csa: "bad_csa.csv" => ["bad_csa.csv:2:4: live_mm2: live_mm2 0 mm² is not a conductor size: expected a positive size such as 1.5, 2.5 or 6"];
+    ambient_out_of_range: "ambient_out_of_range.csv" => ["ambient_out_of_range.csv:2:5: ambient_c: ambient temperature \"75\" is out of range: expected -40 to 60 °C"];
+    every_fault_in_a_row: "several_errors_in_a_row.csv" => [
+        "several_errors_in_a_row.csv:2:4: visit_date: \"2024-13-01\" is not a date in the calendar",
+        "several_errors_in_a_row.csv:2:6: r1r2_ohm: \"abc\" is not a number: expected a resistance in ohms such as 0.35",
+        "several_errors_in_a_row.csv:2:8: ir_le_mohm: \"-3\" is negative: expected zero or more",
+    ];
+    conflict_shows_both_values: "conflict.csv" => [
+        "conflict.csv:2:5: r1r2_ohm: conflicts with the stored record for SMP-001 DB1/1 on 2024-05-20: stored \"0.454\", file \"0.51\" (pass --replace to overwrite)",
+        "conflict.csv:2:6: zs_ohm: conflicts with the stored record for SMP-001 DB1/1 on 2024-05-20: stored \"0.724\", file \"0.73\" (pass --replace to overwrite)",
+    ];
+    conflicting_visit_field: "conflict_inspector.csv" => ["conflict_inspector.csv:2:5: inspector: conflicts with the visit to SMP-001 on 2024-05-20: stored \"C. Leadbetter\", file \"D. Sparkford\" (pass --replace to overwrite)"];
+    duplicate_row_in_one_file: "duplicate_row_conflict.csv" => ["duplicate_row_conflict.csv:3:6: r1r2_ohm: conflicts with the stored record for SMP-009 DB1/1 on 2024-05-20: stored \"0.42\", file \"0.44\" (pass --replace to overwrite)"];
+    register_change_out_of_order: "out_of_order_change.csv" => ["out_of_order_change.csv:2:5: device: SMP-001 DB1/3 on 2018-03-01 has \"B40\" but the register has \"B32\" and a later visit (2024-05-20) is already recorded: import visit files oldest first, or record the change with `ohmtrail circuit edit`"];
+    observation_code: "observation_bad_code.csv" => ["observation_bad_code.csv:2:3: code: unknown observation code \"C4\": expected C1, C2, C3 or FI as recorded"];
+    observation_unknown_board: "observation_unknown_board.csv" => ["observation_unknown_board.csv:2:3: board: board \"DB7\" not found at property SMP-001: import its visit file first"];
+    observation_with_reading_column: "observation_mixed_columns.csv" => ["observation_mixed_columns.csv:1:5: column zs_ohm does not belong in an observation file (it has a code column): split readings and observations into two files, or pass --ignore-unknown"];
+}
+
+#[test]
+fn future_date() {
+    let today = chrono::Local::now().date_naive();
+    refuse(
+        "future_date.csv",
+        &[&format!(
+            "future_date.csv:2:4: visit_date: 2999-01-01 is in the future (today is {today})"
+        )],
+    );
+}
+
+#[test]
+fn errors_stop_at_the_cap_then_count() {
+    let mut expected: Vec<String> = (2..=101)
+        .map(|l| {
+            format!("many_errors.csv:{l}:7: zs_ohm: \"bad\" is not a number: expected a resistance in ohms such as 0.35")
+        })
+        .collect();
+    expected.push("many_errors.csv: and 50 more errors".into());
+    let refs: Vec<&str> = expected.iter().map(String::as_str).collect();
+    refuse("many_errors.csv", &refs);
+}
+
+#[test]
+fn one_megabyte_field() {
+    let dir = TempDir::new().unwrap();
+    let note = "x".repeat(1 << 20);
+    std::fs::write(
+        dir.path().join("big_field.csv"),
+        format!("property_ref,board,circuit,visit_date,note\nSMP-009,DB1,1,2024-05-20,{note}\n"),
+    )
+    .unwrap();
+    refuse_in(
+        dir.path(),
+        "big_field.csv",
+        &["big_field.csv:2:5: note: is 1048576 bytes long: expected at most 10000"],
+    );
+}
+
+#[test]
+fn the_bad_corpus_has_at_least_thirty_files() {
+    let n = std::fs::read_dir(fixtures().join("bad")).unwrap().count();
+    assert!(n >= 30, "{n}");
+}
+
+#[test]
+fn awkward_but_valid_files_import() {
+    let dir = TempDir::new().unwrap();
+    let db = dir.path().join("t.db");
+    for f in [
+        "bom_crlf.csv",
+        "trailing_blank_rows.csv",
+        "header_case_and_spaces.csv",
+    ] {
+        bin(&db)
+            .arg("import")
+            .arg(fixtures().join("good").join(f))
+            .assert()
+            .success();
+    }
+    bin(&db)
+        .arg("import")
+        .arg("--decimal-comma")
+        .arg(fixtures().join("good/decimal_comma_semicolons.csv"))
+        .assert()
+        .success();
+    let store = Store::open(&db).unwrap();
+    let c = store.find_circuit("SMP-009", "DB1", "1").unwrap();
+    let records = store.circuit_records(c.id).unwrap();
+    let dates: Vec<String> = records.iter().map(|(v, _)| v.date.to_string()).collect();
+    assert_eq!(dates, vec!["2024-05-14", "2024-05-20"]);
+    // "0.42 Ω" under a header with odd case and spaces.
+    assert_eq!(records[0].1.readings.r1r2_ohm, Some(0.42));
+    // "0,42" read with --decimal-comma, and ">200" kept as a lower bound.
+    let c2 = store.find_circuit("SMP-009", "DB1", "2").unwrap();
+    let r = &store.circuit_records(c2.id).unwrap()[0].1.readings;
+    assert_eq!(r.r1r2_ohm, Some(0.42));
+    let ir = r.ir_le.unwrap();
+    assert!(ir.over_range && ir.value == 200.0);
+    // The blank row of commas was skipped, not refused.
+    assert_eq!(count(&db, "test_record"), 4);
+}
+
+#[test]
+fn reimport_ten_times_writes_nothing() {
+    let dir = TempDir::new().unwrap();
+    let db = baseline(&dir);
+    let before = dump(&db);
+    for _ in 0..10 {
+        bin(&db)
+            .arg("import")
+            .arg(fixtures().join("visits/sampleton.csv"))
+            .arg(fixtures().join("visits/sampleton-observations.csv"))
+            .assert()
+            .success()
+            .stdout(predicates::str::contains(
+                "sampleton.csv: nothing new: all 27 rows are already in the database; nothing written",
+            ));
+    }
+    assert_eq!(dump(&db), before);
+    assert_eq!(count(&db, "test_record"), 27);
+    assert_eq!(count(&db, "observation"), 4);
+    assert_eq!(count(&db, "circuit_change"), 1);
+}
+
+#[test]
+fn summary_lists_register_changes_and_json_has_counts() {
+    let dir = TempDir::new().unwrap();
+    let db = dir.path().join("t.db");
+    let out = bin(&db)
+        .arg("import")
+        .arg("--json")
+        .arg(fixtures().join("visits/sampleton.csv"))
+        .output()
+        .unwrap();
+    assert!(out.status.success());
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    let s = &v[0];
+    assert_eq!(s["properties_created"], 3);
+    assert_eq!(s["circuits_created"], 9);
+    assert_eq!(s["visits_created"], 9);
+    assert_eq!(s["test_records_written"], 27);
+    let ch = &s["changes"][0];
+    assert_eq!(ch["field"], "device");
+    assert_eq!(ch["old_value"], "B6");
+    assert_eq!(ch["new_value"], "B10");
+    assert_eq!(ch["date"], "2024-05-20");
+    // The change is effective from the visit, so the earlier readings keep their old device.
+    let store = Store::open(&db).unwrap();
+    let c = store.find_circuit("SMP-001", "DB1", "2").unwrap();
+    assert_eq!(c.device.unwrap().to_string(), "B10");
+    let changes = store.changes(c.id).unwrap();
+    assert_eq!(changes.len(), 1);
+    assert_eq!(changes[0].date.to_string(), "2024-05-20");
+}
+
+#[test]
+fn export_then_import_reproduces_the_records() {
+    let dir = TempDir::new().unwrap();
+    let db = baseline(&dir);
+    let a = dir.path().join("a.csv");
+    bin(&db).args(["export", "-o"]).arg(&a).assert().success();
+    let copy = dir.path().join("copy.db");
+    bin(&copy)
+        .arg("import")
+        .arg(&a)
+        .arg(dir.path().join("a.observations.csv"))
+        .assert()
+        .success();
+    assert_eq!(dump(&copy), dump(&db));
+    let text = std::fs::read_to_string(&a).unwrap();
+    // Text that a spreadsheet would run as a formula is neutralised, and read back as written.
+    assert!(
+        text.contains(",'-ve terminal discoloured; retest due"),
+        "{text}"
+    );
+    let obs = std::fs::read_to_string(dir.path().join("a.observations.csv")).unwrap();
+    assert!(obs.contains("'=No RCD label"), "{obs}");
+    let store = Store::open(&copy).unwrap();
+    let c = store.find_circuit("SMP-002", "DB1", "2").unwrap();
+    let notes: Vec<Option<String>> = store
+        .circuit_records(c.id)
+        .unwrap()
+        .into_iter()
+        .map(|(_, r)| r.readings.note)
+        .collect();
+    assert_eq!(
+        notes[1].as_deref(),
+        Some("-ve terminal discoloured; retest due")
+    );
+}
+
+#[test]
+fn export_of_one_property_as_json() {
+    let dir = TempDir::new().unwrap();
+    let db = baseline(&dir);
+    let out = bin(&db)
+        .args(["export", "--property", "SMP-003", "--format", "json"])
+        .output()
+        .unwrap();
+    assert!(out.status.success());
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    assert_eq!(v["visits"].as_array().unwrap().len(), 9);
+    assert_eq!(v["observations"].as_array().unwrap().len(), 2);
+    assert_eq!(v["visits"][0]["ir_ll_mohm"], ">200");
+    assert_eq!(v["visits"][0]["earthing"], "TT");
+}
+
+#[test]
+fn skip_invalid_writes_valid_rows_and_a_sidecar() {
+    let dir = TempDir::new().unwrap();
+    let db = baseline(&dir);
+    let file = dir.path().join("mixed.csv");
+    std::fs::copy(fixtures().join("bad/missing_board.csv"), &file).unwrap();
+    let sidecar = dir.path().join("mixed.rejected.csv");
+    bin(&db)
+        .arg("import")
+        .arg("--skip-invalid")
+        .arg(&file)
+        .assert()
+        .success()
+        .stdout(predicates::str::contains(format!(
+            "rejected rows written to {}",
+            sidecar.display()
+        )));
+    let side = std::fs::read_to_string(&sidecar).unwrap();
+    let lines: Vec<&str> = side.lines().collect();
+    assert_eq!(
+        lines[0],
+        "property_ref,board,circuit,visit_date,device,r1r2_ohm,zs_ohm,ir_le_mohm,rcd_ms,note,reason"
+    );
+    assert_eq!(
+        lines[1],
+        format!(
+            "SMP-009,,2,2024-05-20,B32,0.42,0.66,>200,18,,{}:3:2: board: missing: every row needs one",
+            file.display()
+        )
+    );
+    let store = Store::open(&db).unwrap();
+    assert!(store.find_circuit("SMP-009", "DB1", "1").is_ok());
+}
+
+#[test]
+fn replace_overwrites_a_conflicting_record() {
+    let dir = TempDir::new().unwrap();
+    let db = baseline(&dir);
+    bin(&db)
+        .arg("import")
+        .arg("--replace")
+        .arg(fixtures().join("bad/conflict.csv"))
+        .assert()
+        .success()
+        .stdout(predicates::str::contains("test records replaced    1"));
+    let store = Store::open(&db).unwrap();
+    let c = store.find_circuit("SMP-001", "DB1", "1").unwrap();
+    let last = store.circuit_records(c.id).unwrap().pop().unwrap().1;
+    assert_eq!(last.readings.r1r2_ohm, Some(0.51));
+    assert_eq!(last.readings.zs_ohm, Some(0.73));
+    // Columns the file does not carry keep their stored values.
+    assert!(last.readings.ir_ll.unwrap().over_range);
+}
+
+/// A file of `n` properties with 10 circuits and 2 visits each, all invented.
+fn portfolio(path: &Path, prefix: &str, n: usize) {
+    let mut s =
+        String::from("property_ref,board,circuit,visit_date,device,r1r2_ohm,zs_ohm,ir_le_mohm\n");
+    for p in 0..n {
+        for date in ["2021-03-01", "2024-03-01"] {
+            for c in 1..=10 {
+                s.push_str(&format!(
+                    "{prefix}-{p:04},DB1,{c},{date},B16,0.{c}5,0.{c}9,>200\n"
+                ));
+            }
+        }
+    }
+    std::fs::write(path, s).unwrap();
+}
+
+#[test]
+fn two_processes_import_into_one_database_at_once() {
+    let dir = TempDir::new().unwrap();
+    let db = dir.path().join("shared.db");
+    bin(&db).arg("init").assert().success();
+    let a = dir.path().join("a.csv");
+    let b = dir.path().join("b.csv");
+    portfolio(&a, "NORTH", 300);
+    portfolio(&b, "SOUTH", 300);
+    let exe = assert_cmd::cargo::cargo_bin("ohmtrail");
+    let spawn = |f: &Path| {
+        StdCommand::new(&exe)
+            .arg("--db")
+            .arg(&db)
+            .arg("import")
+            .arg(f)
+            .output()
+            .unwrap()
+    };
+    let (ra, rb) = std::thread::scope(|s| {
+        let ha = s.spawn(|| spawn(&a));
+        let hb = s.spawn(|| spawn(&b));
+        (ha.join().unwrap(), hb.join().unwrap())
+    });
+    for r in [&ra, &rb] {
+        assert!(r.status.success(), "{}", String::from_utf8_lossy(&r.stderr));
+    }
+    assert_eq!(count(&db, "property"), 600);
+    assert_eq!(count(&db, "test_record"), 12_000);
+}
