@@ -58,11 +58,12 @@ pub fn portfolio(
     mut each: impl FnMut(&PropertyReport) -> Result<()>,
 ) -> Result<PortfolioReport> {
     let mut entries = Vec::new();
-    for id in store.property_ids()? {
-        let a = analysis::analyse(&store.history(id)?, settings);
+    store.for_each_history(|h| {
+        let a = analysis::analyse(&h, settings);
         let r = model::build(&a);
         each(&r)?;
         entries.push(portfolio::entry(&a, &r, ext));
-    }
+        Ok(())
+    })?;
     Ok(portfolio::assemble(entries, settings.today))
 }
