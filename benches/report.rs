@@ -159,6 +159,7 @@ fn cached_db(n: usize) -> PathBuf {
 
 struct Timing {
     total: Duration,
+    fastest: Duration,
     load: Duration,
     analyse: Duration,
     render: Duration,
@@ -187,7 +188,8 @@ fn time_report(path: &Path, settings: &Settings) -> (Timing, usize) {
         let html = report::property_html(&store, TARGET, settings).expect("the report renders");
         total.push(t0.elapsed());
         std::hint::black_box(html);
-
+    }
+    for _ in 0..RUNS {
         // The same work in its three phases.
         let t0 = Instant::now();
         let id = store.property(TARGET).expect("target exists").id;
@@ -204,6 +206,7 @@ fn time_report(path: &Path, settings: &Settings) -> (Timing, usize) {
     }
     (
         Timing {
+            fastest: total.iter().copied().min().unwrap_or_default(),
             total: median(total),
             load: median(load),
             analyse: median(analyse),
@@ -228,20 +231,23 @@ fn main() {
         let path = cached_db(n);
         let (t, size) = time_report(&path, &settings);
         println!(
-            "portfolio {n:>7} properties: one report (30 circuits × 10 visits, {:.0} kB) median {:.2} ms \
-             [load {:.2} ms, analyse {:.2} ms, render {:.2} ms] over {RUNS} runs",
+            "portfolio {n:>7} properties: one report (30 circuits × 10 visits, {:.0} kB) median {:.2} ms, \
+             fastest {:.2} ms over {RUNS} runs [phases, medians: load {:.2} ms, analyse {:.2} ms, render {:.2} ms]",
             size as f64 / 1024.0,
             ms(t.total),
+            ms(t.fastest),
             ms(t.load),
             ms(t.analyse),
             ms(t.render)
         );
-        results.push(t.total);
+        results.push((t.total, t.fastest));
     }
-    let ratio = results[1].as_secs_f64() / results[0].as_secs_f64();
+    let ratio = results[1].0.as_secs_f64() / results[0].0.as_secs_f64();
+    let ratio_fastest = results[1].1.as_secs_f64() / results[0].1.as_secs_f64();
     println!(
-        "ratio 100,000 / 1,000: {ratio:.2} (target ≤ 1.2); target < 50 ms: {}",
-        if ms(results[1]) < 50.0 && ms(results[0]) < 50.0 {
+        "ratio 100,000 / 1,000: {ratio:.2} by median, {ratio_fastest:.2} by fastest (target ≤ 1.2); \
+         target < 50 ms: {}",
+        if ms(results[1].0) < 50.0 && ms(results[0].0) < 50.0 {
             "met"
         } else {
             "not met"
