@@ -78,7 +78,7 @@ pub fn entry(a: &PropertyAnalysis, r: &PropertyReport, ext: &str) -> PortfolioEn
         next_inspection_overdue: s.next_inspection_overdue,
         headline: s.headline.clone(),
         first_reason: top.map(|f| match &f.circuit {
-            Some(c) => format!("{}/{c} {}: {}", f.board, f.finding().label, f.reason),
+            Some(c) => format!("{}/{c}: {}", f.board, f.reason),
             None => format!("{} supply: {}", f.board, f.reason),
         }),
         top: top.map(|f| f.finding().clone()),
