@@ -15,6 +15,7 @@ pub mod limits;
 pub mod output;
 pub mod property;
 pub mod record;
+pub mod report;
 pub mod settings;
 pub mod trend;
 pub mod visit;
@@ -67,6 +68,8 @@ pub enum Command {
     Flags(flags::Args),
     /// Every series of a property's circuits with its points, slopes and findings
     Trend(trend::Args),
+    /// Write a property's trend report (HTML or JSON), or the portfolio index with --portfolio
+    Report(report::Args),
     /// Show or change this database's settings: the measured-value rule and the noise floors
     #[command(subcommand)]
     Settings(settings::Cmd),
@@ -125,6 +128,7 @@ pub fn run(cli: Cli, out: &mut dyn Write) -> Result<()> {
         Command::Visit(cmd) => visit::run(&cmd, &ctx, out),
         Command::Flags(args) => flags::run(&args, &ctx, out),
         Command::Trend(args) => trend::run(&args, &ctx, out),
+        Command::Report(args) => report::run(&args, &ctx, out),
         Command::Settings(cmd) => settings::run(&cmd, &ctx, out),
         Command::Limits(args) => limits::run(&args, out),
         Command::Check(args) => check::run(&args, out),
