@@ -41,7 +41,8 @@ fn run_chromium(page: &Path, extra: &[String]) -> String {
     String::from_utf8_lossy(&out.stderr).into_owned()
 }
 
-fn demo_reports(dir: &Path) -> Vec<PathBuf> {
+/// The demo's per-property reports, sorted, and its portfolio index.
+fn demo_files(dir: &Path) -> (Vec<PathBuf>, PathBuf) {
     let out = Command::cargo_bin("ohmtrail")
         .unwrap()
         .args(["demo", "--dir"])
@@ -59,7 +60,20 @@ fn demo_reports(dir: &Path) -> Vec<PathBuf> {
         .collect();
     files.sort();
     assert!(!files.is_empty(), "the demo wrote no reports: {text}");
-    files
+    let index = text
+        .lines()
+        .find_map(|l| l.strip_prefix("wrote portfolio index "))
+        .map(PathBuf::from)
+        .unwrap_or_else(|| panic!("the demo wrote no portfolio index: {text}"));
+    assert!(
+        text.contains(&format!("open first: {}", index.display())),
+        "the demo should say to open the index first: {text}"
+    );
+    (files, index)
+}
+
+fn demo_reports(dir: &Path) -> Vec<PathBuf> {
+    demo_files(dir).0
 }
 
 /// Fraction of pixels that differ from the top-left pixel: 0 for a blank page.
@@ -77,13 +91,10 @@ fn ink_fraction(png_path: &Path) -> f64 {
     differing as f64 / (bytes.len() / px) as f64
 }
 
-#[test]
-fn report_renders_in_chromium_without_console_messages() {
-    let dir = tempfile::tempdir().unwrap();
-    let report = demo_reports(dir.path()).remove(0);
-    let shot = dir.path().join("shot.png");
+/// Load a page, screenshot it, and check there were no console messages and it is not blank.
+fn assert_renders(page: &Path, shot: &Path) {
     let stderr = run_chromium(
-        &report,
+        page,
         &[
             format!("--screenshot={}", shot.display()),
             "--window-size=1024,1400".into(),
@@ -92,28 +103,49 @@ fn report_renders_in_chromium_without_console_messages() {
     let console: Vec<&str> = stderr.lines().filter(|l| l.contains("CONSOLE")).collect();
     assert!(console.is_empty(), "console messages: {console:#?}");
     assert!(shot.exists(), "no screenshot: {stderr}");
-    let ink = ink_fraction(&shot);
+    let ink = ink_fraction(shot);
     assert!(
         ink > 0.02,
         "the screenshot looks blank ({ink:.4} of pixels differ)"
     );
 }
 
-#[test]
-fn report_prints_to_a_sane_number_of_pages() {
-    let dir = tempfile::tempdir().unwrap();
-    let report = demo_reports(dir.path()).remove(0);
-    let pdf = dir.path().join("report.pdf");
+/// Print a page to PDF and count its pages.
+fn pdf_pages(page: &Path, pdf: &Path) -> usize {
     let stderr = run_chromium(
-        &report,
+        page,
         &[
             format!("--print-to-pdf={}", pdf.display()),
             "--no-pdf-header-footer".into(),
         ],
     );
-    let bytes = std::fs::read(&pdf).unwrap_or_else(|e| panic!("no PDF ({e}): {stderr}"));
+    let bytes = std::fs::read(pdf).unwrap_or_else(|e| panic!("no PDF ({e}): {stderr}"));
     let text = String::from_utf8_lossy(&bytes);
     // Each page object is "/Type /Page"; the page tree is "/Type /Pages".
-    let pages = text.matches("/Type /Page").count() - text.matches("/Type /Pages").count();
+    text.matches("/Type /Page").count() - text.matches("/Type /Pages").count()
+}
+
+#[test]
+fn report_renders_in_chromium_without_console_messages() {
+    let dir = tempfile::tempdir().unwrap();
+    let report = demo_reports(dir.path()).remove(0);
+    assert_renders(&report, &dir.path().join("shot.png"));
+}
+
+#[test]
+fn portfolio_index_renders_in_chromium_without_console_messages() {
+    let dir = tempfile::tempdir().unwrap();
+    let (_, index) = demo_files(dir.path());
+    assert_renders(&index, &dir.path().join("index.png"));
+}
+
+#[test]
+fn report_prints_to_a_sane_number_of_pages() {
+    let dir = tempfile::tempdir().unwrap();
+    let (reports, index) = demo_files(dir.path());
+    let pages = pdf_pages(&reports[0], &dir.path().join("report.pdf"));
     assert!((1..=30).contains(&pages), "{pages} pages");
+    // The index of a three-property demo fits on a page or two.
+    let pages = pdf_pages(&index, &dir.path().join("index.pdf"));
+    assert!((1..=2).contains(&pages), "index: {pages} pages");
 }

@@ -97,7 +97,7 @@ fn help_lists_every_command_with_a_description() {
 fn init_creates_the_database_where_told() {
     let e = Env::new();
     let out = e.ok(&["init"]);
-    assert!(out.contains("schema version 1"), "{out}");
+    assert!(out.contains("schema version 2"), "{out}");
     assert!(e.db().exists());
 
     // The environment variable works as well as the flag.

@@ -4,7 +4,11 @@ use std::path::PathBuf;
 use anyhow::{Context as _, Result, bail};
 use clap::Args as ClapArgs;
 
+use ohmtrail::analysis::Settings;
 use ohmtrail::store::Store;
+
+use super::report::write_atomic;
+use super::today;
 
 #[derive(ClapArgs, Debug)]
 pub struct Args {
@@ -38,16 +42,27 @@ pub fn run(args: &Args, out: &mut dyn Write) -> Result<()> {
         summary.visits,
         summary.test_records
     )?;
-    let mut first = None;
-    for reference in &summary.properties {
-        let html = ohmtrail::report::property_html(&store, reference)?;
-        let path = dir.join(format!("report-{reference}.html"));
-        std::fs::write(&path, html).with_context(|| format!("cannot write {}", path.display()))?;
-        writeln!(out, "wrote trend report {}", path.display())?;
-        first.get_or_insert(path);
+    let settings = Settings::load(&store, today())?;
+    let mut written = Vec::new();
+    let index = ohmtrail::report::portfolio(&store, &settings, "html", |r| {
+        let path = dir.join(ohmtrail::report::property_file_name(
+            &r.header.property_ref,
+            "html",
+        ));
+        write_atomic(&path, ohmtrail::report::property::render(r).as_bytes())
+            .map_err(|e| ohmtrail::Error::invalid(format!("{e:#}")))?;
+        written.push(path);
+        Ok(())
+    })?;
+    for p in &written {
+        writeln!(out, "wrote trend report {}", p.display())?;
     }
-    if let Some(p) = first {
-        writeln!(out, "open first: {}", p.display())?;
-    }
+    let index_path = dir.join("portfolio.html");
+    write_atomic(
+        &index_path,
+        ohmtrail::report::portfolio::render(&index).as_bytes(),
+    )?;
+    writeln!(out, "wrote portfolio index {}", index_path.display())?;
+    writeln!(out, "open first: {}", index_path.display())?;
     Ok(())
 }

@@ -2,6 +2,7 @@
 //! opens nothing it does not need; all computation is in the library.
 
 pub mod board;
+pub mod brief;
 pub mod check;
 pub mod circuit;
 pub mod demo;
@@ -13,6 +14,8 @@ pub mod instrument;
 pub mod limits;
 pub mod output;
 pub mod property;
+pub mod record;
+pub mod report;
 pub mod settings;
 pub mod trend;
 pub mod visit;
@@ -65,6 +68,8 @@ pub enum Command {
     Flags(flags::Args),
     /// Every series of a property's circuits with its points, slopes and findings
     Trend(trend::Args),
+    /// Write a property's trend report (HTML or JSON), or the portfolio index with --portfolio
+    Report(report::Args),
     /// Show or change this database's settings: the measured-value rule and the noise floors
     #[command(subcommand)]
     Settings(settings::Cmd),
@@ -78,6 +83,10 @@ pub enum Command {
     Import(import::Args),
     /// Export test records and observations as CSV or JSON, in the format import reads
     Export(export::Args),
+    /// The brief for a coming visit: what each circuit should read on the day, and what to test first
+    Brief(brief::Args),
+    /// Take readings on site into a pending visit, each compared at once with what was expected
+    Record(record::Args),
 }
 
 /// What every command may need: where the database is, and where to print.
@@ -119,12 +128,15 @@ pub fn run(cli: Cli, out: &mut dyn Write) -> Result<()> {
         Command::Visit(cmd) => visit::run(&cmd, &ctx, out),
         Command::Flags(args) => flags::run(&args, &ctx, out),
         Command::Trend(args) => trend::run(&args, &ctx, out),
+        Command::Report(args) => report::run(&args, &ctx, out),
         Command::Settings(cmd) => settings::run(&cmd, &ctx, out),
         Command::Limits(args) => limits::run(&args, out),
         Command::Check(args) => check::run(&args, out),
         Command::Demo(args) => demo::run(&args, out),
         Command::Import(args) => import::run(&args, &ctx, out),
         Command::Export(args) => export::run(&args, &ctx, out),
+        Command::Brief(args) => brief::run(&args, &ctx, out),
+        Command::Record(args) => record::run(&args, &ctx, out),
     }
 }
 

@@ -95,7 +95,13 @@ fn draw(spec: &ChartSpec, width: u32, height: u32, out: &mut String) -> DrawResu
 
     let root = SVGBackend::with_string(out, (width, height)).into_drawing_area();
     root.fill(&WHITE)?;
-    let mut builder = ChartBuilder::on(&root);
+    // The key sits in its own strip under the plot, so it never hides a reading.
+    let items = legend_items(spec);
+    let rows = legend_rows(&items, width);
+    let strip = (rows.len() as u32 * LEGEND_ROW + 6).min(height / 2);
+    let (plot, key) = root.split_vertically(height - strip);
+    draw_legend(&key, &rows)?;
+    let mut builder = ChartBuilder::on(&plot);
     builder
         .margin(12)
         .margin_top(8)
@@ -113,6 +119,7 @@ fn draw(spec: &ChartSpec, width: u32, height: u32, out: &mut String) -> DrawResu
             .x_labels(8)
             .x_label_formatter(&|x| format!("{:.0}", x.floor()))
             .y_desc(spec.unit.as_str())
+            .y_label_formatter(&|y| log_label(*y))
             .label_style(("sans-serif", 12).into_font().color(&INK))
             .draw()?;
         series(&mut chart, spec, (lo, hi))?;
@@ -162,7 +169,7 @@ where
         let x = year(*d);
         chart.draw_series(std::iter::once(PathElement::new(
             vec![(x, lo), (x, hi)],
-            EVENT.stroke_width(1),
+            EVENT.stroke_width(2),
         )))?;
         chart.draw_series(std::iter::once(Text::new(
             format!(" {text}"),
@@ -191,29 +198,18 @@ where
         )))?;
     }
     if let Some([a, b]) = &spec.fit {
-        chart
-            .draw_series(LineSeries::new(
-                vec![(year(a.0), a.1), (year(b.0), b.1)],
-                FIT.stroke_width(2),
-            ))?
-            .label("fitted trend")
-            .legend(|(x, y)| PathElement::new(vec![(x, y), (x + 18, y)], FIT.stroke_width(2)));
+        chart.draw_series(LineSeries::new(
+            vec![(year(a.0), a.1), (year(b.0), b.1)],
+            FIT.stroke_width(2),
+        ))?;
     }
     if let Some([a, b]) = &spec.projection {
-        chart
-            .draw_series(DashedLineSeries::new(
-                vec![(year(a.0), a.1), (year(b.0), b.1)],
-                3,
-                3,
-                FIT.stroke_width(2),
-            ))?
-            .label("projection to the limit")
-            .legend(|(x, y)| {
-                PathElement::new(
-                    vec![(x, y), (x + 6, y), (x + 9, y), (x + 18, y)],
-                    FIT.stroke_width(1),
-                )
-            });
+        chart.draw_series(DashedLineSeries::new(
+            vec![(year(a.0), a.1), (year(b.0), b.1)],
+            3,
+            3,
+            FIT.stroke_width(2),
+        ))?;
     }
     let plain: Vec<(f64, f64)> = spec
         .raw
@@ -221,14 +217,11 @@ where
         .filter(|p| !p.2)
         .map(|p| (year(p.0), p.1))
         .collect();
-    chart
-        .draw_series(
-            plain
-                .iter()
-                .map(|&(x, y)| Circle::new((x, y), 5, RAW.stroke_width(2))),
-        )?
-        .label("as measured")
-        .legend(|(x, y)| Circle::new((x + 9, y), 5, RAW.stroke_width(2)));
+    chart.draw_series(
+        plain
+            .iter()
+            .map(|&(x, y)| Circle::new((x, y), 5, RAW.stroke_width(2))),
+    )?;
     let over: Vec<(f64, f64)> = spec
         .raw
         .iter()
@@ -236,31 +229,146 @@ where
         .map(|p| (year(p.0), p.1))
         .collect();
     if !over.is_empty() {
-        chart
-            .draw_series(
-                over.iter()
-                    .map(|&(x, y)| TriangleMarker::new((x, y), 7, RAW.stroke_width(2))),
-            )?
-            .label("over range (at least)")
-            .legend(|(x, y)| TriangleMarker::new((x + 9, y), 7, RAW.stroke_width(2)));
+        chart.draw_series(
+            over.iter()
+                .map(|&(x, y)| TriangleMarker::new((x, y), 7, RAW.stroke_width(2))),
+        )?;
     }
     if !spec.normalised.is_empty() {
-        chart
-            .draw_series(
-                spec.normalised
-                    .iter()
-                    .map(|&(d, y)| Cross::new((year(d), y), 5, NORMALISED.stroke_width(2))),
-            )?
-            .label("corrected to 20 °C")
-            .legend(|(x, y)| Cross::new((x + 9, y), 5, NORMALISED.stroke_width(2)));
+        chart.draw_series(
+            spec.normalised
+                .iter()
+                .map(|&(d, y)| Cross::new((year(d), y), 5, NORMALISED.stroke_width(2))),
+        )?;
     }
-    chart
-        .configure_series_labels()
-        .position(SeriesLabelPosition::LowerRight)
-        .background_style(WHITE.mix(0.85))
-        .border_style(RGBColor(0xbb, 0xbb, 0xbb))
-        .label_font(("sans-serif", 12).into_font().color(&INK))
-        .draw()?;
+    Ok(())
+}
+
+/// A y label on a log axis: "0.5", "2", "200", never "1000.0".
+fn log_label(y: f64) -> String {
+    if y >= 10.0 {
+        format!("{y:.0}")
+    } else if y >= 1.0 {
+        format!("{y:.1}").trim_end_matches(".0").to_string()
+    } else {
+        format!("{y:.2}")
+    }
+}
+
+/// One entry of the key under the chart.
+#[derive(Clone, Copy)]
+enum Marker {
+    Raw,
+    Normalised,
+    OverRange,
+    Limit,
+    Fit,
+    Projection,
+    Event,
+}
+
+const LEGEND_ROW: u32 = 20;
+
+fn legend_items(spec: &ChartSpec) -> Vec<(Marker, &'static str)> {
+    let mut v = Vec::new();
+    if spec.raw.iter().any(|p| !p.2) {
+        v.push((Marker::Raw, "as measured"));
+    }
+    if !spec.normalised.is_empty() {
+        v.push((Marker::Normalised, "corrected to 20 °C"));
+    }
+    if spec.raw.iter().any(|p| p.2) {
+        v.push((Marker::OverRange, "over range (at least this)"));
+    }
+    if spec.limit.is_some() {
+        v.push((Marker::Limit, "limit"));
+    }
+    if spec.fit.is_some() {
+        v.push((Marker::Fit, "fitted trend"));
+    }
+    if spec.projection.is_some() {
+        v.push((Marker::Projection, "projection to the limit"));
+    }
+    if !spec.events.is_empty() {
+        v.push((Marker::Event, "register event"));
+    }
+    v
+}
+
+/// Lay the key out in rows that fit the width. Text width is estimated (no font metrics in
+/// the SVG backend): about 0.55 em a character at 12 px.
+fn legend_rows(
+    items: &[(Marker, &'static str)],
+    width: u32,
+) -> Vec<Vec<(i32, Marker, &'static str)>> {
+    let mut rows: Vec<Vec<(i32, Marker, &'static str)>> = vec![Vec::new()];
+    let mut x = 60;
+    for &(m, text) in items {
+        let w = 30 + (text.chars().count() as i32 * 66) / 10 + 18;
+        if x + w > width as i32 - 8 && x > 60 {
+            rows.push(Vec::new());
+            x = 60;
+        }
+        if let Some(r) = rows.last_mut() {
+            r.push((x, m, text));
+        }
+        x += w;
+    }
+    rows.retain(|r| !r.is_empty());
+    rows
+}
+
+fn draw_legend(
+    area: &DrawingArea<SVGBackend<'_>, plotters::coord::Shift>,
+    rows: &[Vec<(i32, Marker, &'static str)>],
+) -> DrawResult {
+    let font = ("sans-serif", 12).into_font().color(&INK);
+    for (i, row) in rows.iter().enumerate() {
+        let y = 4 + i as i32 * LEGEND_ROW as i32 + LEGEND_ROW as i32 / 2;
+        for &(x, m, text) in row {
+            let cx = x + 12;
+            match m {
+                Marker::Raw => area.draw(&Circle::new((cx, y), 5, RAW.stroke_width(2)))?,
+                Marker::Normalised => {
+                    area.draw(&Cross::new((cx, y), 5, NORMALISED.stroke_width(2)))?
+                }
+                Marker::OverRange => {
+                    area.draw(&TriangleMarker::new((cx, y), 7, RAW.stroke_width(2)))?
+                }
+                Marker::Limit => {
+                    for k in 0..3 {
+                        let a = x + k * 9;
+                        area.draw(&PathElement::new(
+                            vec![(a, y), (a + 6, y)],
+                            LIMIT.stroke_width(2),
+                        ))?;
+                    }
+                }
+                Marker::Fit => area.draw(&PathElement::new(
+                    vec![(x, y), (x + 24, y)],
+                    FIT.stroke_width(2),
+                ))?,
+                Marker::Projection => {
+                    for k in 0..4 {
+                        let a = x + k * 6;
+                        area.draw(&PathElement::new(
+                            vec![(a, y), (a + 3, y)],
+                            FIT.stroke_width(2),
+                        ))?;
+                    }
+                }
+                Marker::Event => area.draw(&PathElement::new(
+                    vec![(cx, y - 7), (cx, y + 7)],
+                    EVENT.stroke_width(2),
+                ))?,
+            }
+            area.draw(&Text::new(
+                text,
+                (x + 30, y),
+                font.clone().pos(Pos::new(HPos::Left, VPos::Center)),
+            ))?;
+        }
+    }
     Ok(())
 }
 

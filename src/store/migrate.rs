@@ -4,7 +4,13 @@
 use rusqlite::Connection;
 
 /// Every migration, in order. Migration `i` (1-based) brings the schema to version `i`.
-pub const MIGRATIONS: &[(&str, &str)] = &[("001_init", include_str!("../../schema/001_init.sql"))];
+pub const MIGRATIONS: &[(&str, &str)] = &[
+    ("001_init", include_str!("../../schema/001_init.sql")),
+    (
+        "002_circuit_board_index",
+        include_str!("../../schema/002_circuit_board_index.sql"),
+    ),
+];
 
 /// The schema version this build writes and understands.
 pub fn latest_version() -> i64 {

@@ -38,6 +38,9 @@ pub struct Fit {
     /// The slope's standard error used for the projection: from the residuals, but never less
     /// than the noise floor allows (see [`analyse`]).
     pub slope_se_per_year: f64,
+    /// The least-squares line's value at the baseline's first date, in the working scale
+    /// (decades for IR), so the line can be drawn.
+    pub intercept: f64,
 }
 
 /// Everything known about one series after analysis.
@@ -65,6 +68,17 @@ pub struct SeriesReport {
     pub findings: Vec<Finding>,
     /// Why there is no trend, when there is none.
     pub note: Option<String>,
+}
+
+impl SeriesReport {
+    /// The fitted least-squares line's value on `date`, in the quantity's own units; `None`
+    /// without a fit.
+    pub fn fitted_at(&self, date: NaiveDate) -> Option<f64> {
+        let fit = self.fit.as_ref()?;
+        let start = self.baseline_start?;
+        let w = fit.intercept + fit.least_squares_per_year * years_between(start, date);
+        Some(from_work(self.quantity, w))
+    }
 }
 
 /// The baseline in the working scale, x in years from the baseline's first point.
@@ -242,6 +256,7 @@ pub fn analyse(
             theil_sen_per_year: (ls.n >= 3).then(|| theil_sen(&ux, &uy)).flatten(),
             residual_se: ls.residual_se,
             slope_se_per_year: slope_se,
+            intercept: ls.intercept,
         });
         if let Some(limit) = series.limit {
             let x_last = *w.x.last().unwrap_or(&0.0);

@@ -606,3 +606,34 @@ mod properties {
         }
     }
 }
+
+#[test]
+fn fitted_line_passes_through_two_points_and_follows_the_log_scale() {
+    // Two readings fix the least-squares line exactly: it must return them on their dates
+    // and the midpoint halfway between (arithmetic of a straight line, no source needed).
+    let s = raw_series(
+        Quantity::R1r2,
+        &[(d(2016, 1, 1), 0.40), (d(2020, 1, 1), 0.60)],
+    );
+    let r = analyse(&s, FAR(), &cfg()).unwrap();
+    assert!((r.fitted_at(d(2016, 1, 1)).unwrap() - 0.40).abs() < 1e-9);
+    assert!((r.fitted_at(d(2020, 1, 1)).unwrap() - 0.60).abs() < 1e-9);
+    let mid = r.fitted_at(d(2018, 1, 1)).unwrap();
+    assert!((mid - 0.50).abs() < 0.001, "{mid}");
+    // Insulation resistance is fitted in decades: 100 MΩ and 1 MΩ meet at 10 MΩ halfway.
+    let ir = raw_series(
+        Quantity::IrLe,
+        &[(d(2016, 1, 1), 100.0), (d(2020, 1, 1), 1.0)],
+    );
+    let r = analyse(&ir, FAR(), &cfg()).unwrap();
+    let mid = r.fitted_at(d(2018, 1, 1)).unwrap();
+    assert!((mid - 10.0).abs() < 0.05, "{mid}");
+    // One reading: no line.
+    let one = raw_series(Quantity::R1r2, &[(d(2016, 1, 1), 0.40)]);
+    assert!(
+        analyse(&one, FAR(), &cfg())
+            .unwrap()
+            .fitted_at(d(2016, 1, 1))
+            .is_none()
+    );
+}

@@ -1,0 +1,627 @@
+//! One property's report as a self-contained HTML page, rendered from [`PropertyReport`].
+
+use std::fmt::Write as _;
+
+use super::chart::{self, ChartSpec};
+use super::css::CSS;
+use super::html::{PAGE_END, attr, count, date_words, esc, page_start, reading, time, time_or};
+use super::model::{
+    BoardTable, Chart, FlaggedCircuit, FlaggedFinding, PropertyReport, VisitEntry, severity_words,
+    value_words,
+};
+
+/// The chart's drawing size in pixels; CSS scales it to the column.
+const CHART_W: u32 = 720;
+const CHART_H: u32 = 270;
+
+fn sev_class(s: Option<&str>) -> &'static str {
+    match s {
+        Some("exceeds") => "sev-exceeds",
+        Some("approaching") => "sev-approaching",
+        Some("changed") => "sev-changed",
+        _ => "sev-none",
+    }
+}
+
+/// A severity as a pill: shape, then words. Colour only repeats what they say.
+pub(super) fn badge(s: Option<&str>) -> String {
+    let (mark, words) = severity_words(s);
+    format!(
+        "<span class=\"badge {}\"><i class=\"mark\" aria-hidden=\"true\">{mark}</i> {words}</span>",
+        sev_class(s)
+    )
+}
+
+/// Render a report model as HTML.
+pub fn render(r: &PropertyReport) -> String {
+    let h = &r.header;
+    let title = match &h.address {
+        Some(a) => format!("{} · {} · wiring trend report", h.property_ref, a),
+        None => format!("{} · wiring trend report", h.property_ref),
+    };
+    let mut o = page_start(&title, CSS);
+    o.push_str("<div class=\"page\">\n");
+    masthead(&mut o, r);
+    o.push_str("<main>\n");
+    summary(&mut o, r);
+    findings(&mut o, r);
+    boards(&mut o, r);
+    visits(&mut o, &r.visits);
+    method(&mut o, r);
+    cautions(&mut o, &r.cautions);
+    o.push_str("</main>\n");
+    let _ = writeln!(
+        o,
+        "<footer>Made by ohmtrail {} on {} from the test history of {}. The figures come from \
+         the readings recorded at each visit; nothing here was measured by ohmtrail.</footer>",
+        esc(r.ohmtrail_version),
+        time(r.generated),
+        esc(&h.property_ref)
+    );
+    o.push_str("</div>\n");
+    o.push_str(PAGE_END);
+    o
+}
+
+fn masthead(o: &mut String, r: &PropertyReport) {
+    let h = &r.header;
+    o.push_str("<header class=\"masthead\">\n<div>\n");
+    o.push_str("<p class=\"what\">Wiring condition over time</p>\n");
+    let _ = writeln!(
+        o,
+        "<h1>{}</h1>\n<span class=\"ref\">Property {}</span>",
+        esc(h.address.as_deref().unwrap_or(&h.property_ref)),
+        esc(&h.property_ref)
+    );
+    o.push_str("</div>\n<dl class=\"facts\">\n");
+    let fact = |o: &mut String, k: &str, v: String| {
+        let _ = writeln!(o, "<dt>{}</dt><dd>{v}</dd>", esc(k));
+    };
+    fact(
+        o,
+        "Client",
+        esc(h.client.as_deref().unwrap_or("not recorded")),
+    );
+    let boards: Vec<String> = h
+        .boards
+        .iter()
+        .filter(|b| b.in_service)
+        .map(|b| {
+            let mut s = esc(&b.designation);
+            let extra: Vec<String> = [b.location.as_deref(), b.earthing.as_deref()]
+                .into_iter()
+                .flatten()
+                .map(esc)
+                .collect();
+            if !extra.is_empty() {
+                let _ = write!(s, " ({})", extra.join(", "));
+            }
+            s
+        })
+        .collect();
+    fact(
+        o,
+        "Boards",
+        if boards.is_empty() {
+            "none recorded".into()
+        } else {
+            boards.join("; ")
+        },
+    );
+    fact(o, "Last visit", time_or(h.last_visit, "none yet"));
+    fact(
+        o,
+        "Routine inspection due",
+        time_or(h.next_due, "not known"),
+    );
+    let s = &r.summary;
+    let recommended = match s.next_inspection {
+        Some(d) if s.next_inspection_overdue => format!("{} (now due)", time(d)),
+        Some(d) if s.next_inspection_shortened => format!("{} (brought forward)", time(d)),
+        Some(d) => time(d),
+        None => "arrange one".into(),
+    };
+    fact(o, "Next inspection recommended", recommended);
+    fact(o, "Report made", time(r.generated));
+    fact(o, "ohmtrail", esc(r.ohmtrail_version));
+    o.push_str("</dl>\n</header>\n");
+}
+
+fn summary(o: &mut String, r: &PropertyReport) {
+    let s = &r.summary;
+    o.push_str("<section class=\"summary\" aria-labelledby=\"summary-h\">\n");
+    o.push_str("<h2 id=\"summary-h\">Summary</h2>\n");
+    let _ = writeln!(
+        o,
+        "<div class=\"verdict {}\"><p>{}</p><p class=\"headline\">{}</p></div>",
+        sev_class(s.worst),
+        badge(s.worst),
+        esc(&s.headline)
+    );
+    o.push_str("<ul class=\"tally\" aria-label=\"Circuits by state\">\n");
+    let tile = |o: &mut String, sev: Option<&str>, n: usize, words: &str| {
+        let (mark, _) = severity_words(sev);
+        let _ = writeln!(
+            o,
+            "<li class=\"{}\"><i class=\"mark\" aria-hidden=\"true\">{mark}</i><span class=\"n\">{n}</span><span class=\"w\">{}</span></li>",
+            sev_class(sev),
+            esc(words)
+        );
+    };
+    tile(o, Some("exceeds"), s.exceeds, "past a limit");
+    tile(o, Some("approaching"), s.approaching, "nearing a limit");
+    tile(o, Some("changed"), s.changed, "changed, within limits");
+    let within = if s.not_tested > 0 {
+        format!("within limits ({} not tested)", s.not_tested)
+    } else {
+        "within limits".into()
+    };
+    tile(o, None, s.within_limits, &within);
+    o.push_str("</ul>\n");
+    o.push_str("<h3>What should happen next</h3>\n<ol class=\"next\">\n");
+    for a in &s.actions {
+        let _ = writeln!(
+            o,
+            "<li><span>{}</span><span class=\"when\">{}{}</span></li>",
+            esc(&a.what),
+            esc(&capitalise(&a.when)),
+            a.by.map(|d| format!(" <span class=\"small\">({})</span>", d.format("%Y-%m-%d")))
+                .unwrap_or_default()
+        );
+    }
+    o.push_str("</ol>\n");
+    let _ = writeln!(
+        o,
+        "<p class=\"small\"><strong>{}</strong> See “Please note” at the end.</p>",
+        esc(super::model::CAUTIONS[0])
+    );
+    let _ = writeln!(
+        o,
+        "<p class=\"small\">{} on record at {} in service. Figures for an electrician follow: \
+         each finding with its chart, every circuit's last readings, the visit history and the \
+         method.</p>",
+        count(r.visits.len(), "visit", "visits"),
+        count(s.circuits, "circuit", "circuits"),
+    );
+    o.push_str("</section>\n");
+}
+
+fn capitalise(s: &str) -> String {
+    let mut c = s.chars();
+    match c.next() {
+        Some(f) => f.to_uppercase().collect::<String>() + c.as_str(),
+        None => String::new(),
+    }
+}
+
+fn findings(o: &mut String, r: &PropertyReport) {
+    o.push_str("<section class=\"findings\" aria-labelledby=\"findings-h\">\n");
+    o.push_str("<h2 id=\"findings-h\">Circuits with something to report</h2>\n");
+    if r.flagged.is_empty() {
+        o.push_str(
+            "<p>Nothing to report: no circuit is past or nearing a limit, and no reading has \
+             moved beyond its noise floor.</p>\n",
+        );
+    }
+    for (i, f) in r.flagged.iter().enumerate() {
+        flagged_circuit(o, i, f);
+    }
+    o.push_str("</section>\n");
+}
+
+fn flagged_circuit(o: &mut String, i: usize, f: &FlaggedCircuit) {
+    let id = format!("finding-{}", i + 1);
+    let name = match &f.circuit {
+        Some(c) => format!("Circuit {}/{}", f.board, c),
+        None => format!("Supply at board {}", f.board),
+    };
+    let _ = writeln!(
+        o,
+        "<article class=\"finding {}\" id=\"{}\" aria-labelledby=\"{}-h\">",
+        sev_class(Some(f.severity)),
+        attr(&id),
+        attr(&id)
+    );
+    let _ = writeln!(
+        o,
+        "<header><h3 id=\"{}-h\">{}{}</h3>{}</header>",
+        attr(&id),
+        esc(&name),
+        f.description
+            .as_deref()
+            .map(|d| format!(" · {}", esc(d)))
+            .unwrap_or_default(),
+        badge(Some(f.severity))
+    );
+    let mut sub = Vec::new();
+    if let Some(d) = &f.device {
+        sub.push(format!("protective device {}", esc(d)));
+    }
+    if !f.lineage.is_empty() {
+        sub.push(format!(
+            "history carried through {}",
+            esc(&f.lineage.join(" → "))
+        ));
+    }
+    if !sub.is_empty() {
+        let _ = writeln!(o, "<p class=\"sub\">{}</p>", sub.join("; "));
+    }
+    let mut shown: Vec<&str> = Vec::new();
+    for finding in &f.findings {
+        // The figures of a series are given once, with its chart.
+        let repeat = shown.contains(&finding.label);
+        shown.push(finding.label);
+        finding_block(o, &name, finding, repeat);
+    }
+    o.push_str("</article>\n");
+}
+
+fn finding_block(o: &mut String, name: &str, f: &FlaggedFinding, repeat: bool) {
+    let _ = writeln!(
+        o,
+        "<p class=\"reason\"><strong>{}:</strong> {}</p>",
+        esc(f.label),
+        esc(&f.reason)
+    );
+    if repeat {
+        return;
+    }
+    let mut facts = Vec::new();
+    if f.kind != "ring_check" {
+        facts.push(format!(
+            "last reading {} on {}",
+            esc(&value_words(f.last_value, f.unit, false)),
+            date_words(f.last_date)
+        ));
+    }
+    if let (Some(l), Some(w)) = (f.limit, &f.limit_words) {
+        facts.push(format!(
+            "limit {}: {}",
+            esc(&value_words(l, f.unit, false)),
+            esc(w)
+        ));
+    }
+    if let Some(s) = &f.limit_source {
+        facts.push(format!(
+            "source {} ({})",
+            esc(&s.citation),
+            esc(s.status.as_str())
+        ));
+    }
+    if let Some(d) = f.projected_date {
+        facts.push(format!(
+            "projected to reach the limit around {}{}",
+            d.format("%B %Y"),
+            f.projected_earliest
+                .map(|e| format!(", possibly as early as {}", e.format("%B %Y")))
+                .unwrap_or_default()
+        ));
+    }
+    let _ = writeln!(o, "<p class=\"sub\">{}</p>", facts.join(" · "));
+    if let Some(c) = &f.chart {
+        let title = format!("{name}: {} over the visits", c.title);
+        let _ = writeln!(
+            o,
+            "<figure>{}<figcaption>{}</figcaption></figure>",
+            chart::svg(&chart_spec(&title, c), CHART_W, CHART_H),
+            esc(&caption(c))
+        );
+    }
+}
+
+fn chart_spec(title: &str, c: &Chart) -> ChartSpec {
+    ChartSpec {
+        title: title.to_string(),
+        unit: c.unit.to_string(),
+        log_y: c.log_scale,
+        raw: c
+            .points
+            .iter()
+            .map(|p| (p.date, p.raw, p.over_range))
+            .collect(),
+        normalised: c
+            .points
+            .iter()
+            .filter_map(|p| p.at_20c.map(|v| (p.date, v)))
+            .collect(),
+        limit: c.limit.map(|l| {
+            let kind = if c.limit_kind == Some("min") {
+                "minimum"
+            } else {
+                "maximum"
+            };
+            let basis = if c.points.iter().any(|p| p.at_20c.is_some()) {
+                " at 20 °C"
+            } else {
+                ""
+            };
+            (
+                l,
+                format!("{kind} {} {}{basis}", reading(l, c.unit), c.unit),
+            )
+        }),
+        fit: c.fit,
+        projection: c.projection,
+        events: c.events.iter().map(|e| (e.date, e.what.clone())).collect(),
+    }
+}
+
+fn caption(c: &Chart) -> String {
+    let mut parts = Vec::new();
+    if let Some(b) = &c.basis {
+        parts.push(capitalise(b));
+    }
+    if c.log_scale {
+        parts.push("log scale".into());
+    }
+    if let Some(s) = c.baseline_start
+        && !c.events.is_empty()
+    {
+        parts.push(format!("trend fitted from {} on", date_words(s)));
+    }
+    if c.fit.is_some() && c.projection.is_none() && c.limit.is_some() && !c.past_limit {
+        parts.push("the fitted line does not reach the limit within the span drawn".into());
+    }
+    parts.join("; ") + "."
+}
+
+fn boards(o: &mut String, r: &PropertyReport) {
+    o.push_str("<section class=\"boards\" aria-labelledby=\"boards-h\">\n");
+    o.push_str("<h2 id=\"boards-h\">Every circuit, board by board</h2>\n");
+    o.push_str(
+        "<p class=\"small\">Last readings as recorded. Under each reading with a limit: the \
+         share of its maximum it uses, or for insulation resistance how many times its minimum it \
+         is (the reading corrected to 20 °C where the ambient was recorded, against the limit on \
+         the same basis). 100 % of a maximum, or 1× a minimum, is at the limit. “calc.” marks a Zs \
+         worked out as Ze + R1+R2 where Zs was not measured.</p>\n",
+    );
+    if r.boards.is_empty() {
+        o.push_str("<p>No board is recorded for this property.</p>\n");
+    }
+    for b in &r.boards {
+        board_table(o, b);
+    }
+    o.push_str("</section>\n");
+}
+
+fn board_table(o: &mut String, b: &BoardTable) {
+    let mut cap = format!("Board {}", esc(&b.designation));
+    let extra: Vec<String> = [b.location.as_deref(), b.earthing.as_deref()]
+        .into_iter()
+        .flatten()
+        .map(esc)
+        .collect();
+    if !extra.is_empty() {
+        let _ = write!(cap, " · {}", extra.join(" · "));
+    }
+    let _ = writeln!(
+        o,
+        "<table>\n<caption>{cap}</caption>\n<thead><tr><th scope=\"col\">Circuit</th>"
+    );
+    for c in &b.columns {
+        let _ = write!(
+            o,
+            "<th scope=\"col\" class=\"num\">{} {}</th>",
+            esc(c.label),
+            esc(c.unit)
+        );
+    }
+    o.push_str("<th scope=\"col\">State</th></tr></thead>\n<tbody>\n");
+    for row in &b.circuits {
+        let mut circ = format!("<b>{}</b>", esc(&row.circuit));
+        if let Some(d) = &row.description {
+            let _ = write!(circ, "<span>{}</span>", esc(d));
+        }
+        let mut meta = vec![row.kind.to_string()];
+        if let Some(d) = &row.device {
+            meta.push(d.clone());
+        }
+        let _ = write!(circ, "<span>{}</span>", esc(&meta.join(", ")));
+        match row.last_visit {
+            Some(d) => {
+                let _ = write!(circ, "<span>read {}</span>", d.format("%Y-%m-%d"));
+            }
+            None => circ.push_str("<span>no readings</span>"),
+        }
+        let _ = write!(o, "<tr><td class=\"circ\">{circ}</td>");
+        for col in &b.columns {
+            match row.cells.get(col.label) {
+                None => o.push_str("<td class=\"num\">–</td>"),
+                Some(c) => {
+                    let v = if c.over_range {
+                        format!("&gt;{}", reading(c.raw, c.unit))
+                    } else {
+                        reading(c.raw, c.unit)
+                    };
+                    let calc = if c.calculated { " calc." } else { "" };
+                    let margin = match (c.limit, c.share_of_limit_pct) {
+                        (Some(l), Some(pct)) => {
+                            let past = pct >= 100.0;
+                            let text = if c.limit_kind == Some("min") {
+                                // A minimum reads better as a multiple: "200× min 1.0".
+                                let times = 100.0 / pct;
+                                format!(
+                                    "{}{}× min {}",
+                                    if c.over_range { "≥" } else { "" },
+                                    if times >= 10.0 {
+                                        format!("{times:.0}")
+                                    } else {
+                                        format!("{times:.1}")
+                                    },
+                                    reading(l, c.unit)
+                                )
+                            } else {
+                                format!("{pct:.0} % of max {}", reading(l, c.unit))
+                            };
+                            format!(
+                                "<span class=\"m{}\">{}{text}</span>",
+                                if past { " past" } else { "" },
+                                if past { "▲ past: " } else { "" },
+                            )
+                        }
+                        _ => String::new(),
+                    };
+                    let _ = write!(o, "<td class=\"num\">{v}{calc}{margin}</td>");
+                }
+            }
+        }
+        let _ = writeln!(o, "<td>{}</td></tr>", badge(row.severity));
+    }
+    o.push_str("</tbody>\n</table>\n");
+    let notes: Vec<String> = b
+        .circuits
+        .iter()
+        .flat_map(|c| {
+            c.notes.iter().map(move |n| {
+                format!(
+                    "<li>{}/{}: {}</li>",
+                    esc(&b.designation),
+                    esc(&c.circuit),
+                    esc(n)
+                )
+            })
+        })
+        .collect();
+    if !notes.is_empty() {
+        let _ = writeln!(
+            o,
+            "<p class=\"small\">Not judged here:</p><ul class=\"notes\">{}</ul>",
+            notes.join("")
+        );
+    }
+}
+
+fn visits(o: &mut String, visits: &[VisitEntry]) {
+    o.push_str("<section class=\"visits\" aria-labelledby=\"visits-h\">\n");
+    o.push_str("<h2 id=\"visits-h\">Visit history</h2>\n");
+    if visits.is_empty() {
+        o.push_str("<p>No completed visit is on record.</p>\n</section>\n");
+        return;
+    }
+    o.push_str(
+        "<table>\n<thead><tr><th scope=\"col\">Date</th><th scope=\"col\">Inspector</th>\
+         <th scope=\"col\">Instrument</th><th scope=\"col\" class=\"num\">Ambient °C</th>\
+         <th scope=\"col\" class=\"num\">Ze Ω</th><th scope=\"col\">Observations as recorded</th></tr></thead>\n<tbody>\n",
+    );
+    for v in visits.iter().rev() {
+        let instrument = match (&v.instrument, v.instrument_in_calibration) {
+            (None, _) => "not recorded".to_string(),
+            (Some(i), Some(true)) => {
+                format!("{}<br><span class=\"small\">in calibration</span>", esc(i))
+            }
+            (Some(i), Some(false)) => format!(
+                "{}<br><span class=\"small\"><strong>▲ calibration had lapsed</strong></span>",
+                esc(i)
+            ),
+            (Some(i), None) => format!(
+                "{}<br><span class=\"small\">calibration not recorded</span>",
+                esc(i)
+            ),
+        };
+        let obs = if v.observations.is_empty() {
+            "<span class=\"small\">none recorded</span>".to_string()
+        } else {
+            let items: Vec<String> = v
+                .observations
+                .iter()
+                .map(|ob| {
+                    let place = match (&ob.board, &ob.circuit) {
+                        (Some(b), Some(c)) => format!("{}/{}: ", esc(b), esc(c)),
+                        (Some(b), None) => format!("{}: ", esc(b)),
+                        _ => String::new(),
+                    };
+                    format!(
+                        "<li><span class=\"code\">{}</span>{place}{}</li>",
+                        esc(ob.code),
+                        esc(&ob.text)
+                    )
+                })
+                .collect();
+            format!("<ul class=\"obs\">{}</ul>", items.join(""))
+        };
+        let _ = writeln!(
+            o,
+            "<tr><td>{}</td><td>{}</td><td>{instrument}</td><td class=\"num\">{}</td><td class=\"num\">{}</td><td>{obs}</td></tr>",
+            time(v.date),
+            esc(v.inspector.as_deref().unwrap_or("not recorded")),
+            v.ambient_c
+                .map(|t| format!("{t:.1}"))
+                .unwrap_or_else(|| "not recorded".into()),
+            v.ze_ohm
+                .map(|z| format!("{z:.2}"))
+                .unwrap_or_else(|| "–".into()),
+        );
+    }
+    o.push_str("</tbody>\n</table>\n");
+    o.push_str(
+        "<p class=\"small\">Observation codes are shown exactly as the inspector recorded them; \
+         ohmtrail never assigns or changes a code.</p>\n</section>\n",
+    );
+}
+
+fn method(o: &mut String, r: &PropertyReport) {
+    let m = &r.method;
+    o.push_str("<section class=\"method\" aria-labelledby=\"method-h\">\n");
+    o.push_str("<h2 id=\"method-h\">How the figures were worked out</h2>\n<dl>\n");
+    let _ = writeln!(
+        o,
+        "<dt>Temperature</dt><dd>{}</dd>",
+        esc(&m.temperature_rule)
+    );
+    if !m.visits_without_ambient.is_empty() {
+        let dates: Vec<String> = m.visits_without_ambient.iter().map(|d| time(*d)).collect();
+        let _ = writeln!(
+            o,
+            "<dd>No ambient temperature was recorded on {}: those readings are compared as read.</dd>",
+            dates.join(", ")
+        );
+    }
+    let _ = writeln!(
+        o,
+        "<dt>Limit for a Zs reading taken cold</dt><dd>{}</dd>",
+        esc(&m.measured_rule_words)
+    );
+    o.push_str("<dt>Noise floors</dt><dd><ul>");
+    for f in &m.noise_floors {
+        let _ = write!(o, "<li>{}: {}</li>", esc(f.applies_to), esc(&f.words));
+    }
+    o.push_str("</ul></dd>\n<dt>Trends</dt><dd><ul>");
+    for w in &m.trend_words {
+        let _ = write!(o, "<li>{}</li>", esc(w));
+    }
+    o.push_str("</ul></dd>\n</dl>\n");
+    if !m.limits.is_empty() {
+        o.push_str(
+            "<table>\n<caption>Limits and their sources</caption>\n<thead><tr><th scope=\"col\">Applied to</th>\
+             <th scope=\"col\">Source</th><th scope=\"col\">How sure</th><th scope=\"col\">Rule as applied</th></tr></thead>\n<tbody>\n",
+        );
+        for l in &m.limits {
+            let _ = writeln!(
+                o,
+                "<tr><td>{}</td><td>{}</td><td>{}</td><td>{}</td></tr>",
+                esc(&format!(
+                    "{}{}",
+                    l.applies_to.join(", "),
+                    if l.circuits.is_empty() {
+                        String::new()
+                    } else {
+                        format!(" on {}", l.circuits.join(", "))
+                    }
+                )),
+                esc(&l.citation),
+                esc(l.status),
+                esc(&l.rule)
+            );
+        }
+        o.push_str("</tbody>\n</table>\n");
+    }
+    o.push_str("</section>\n");
+}
+
+pub(super) fn cautions(o: &mut String, cautions: &[String]) {
+    o.push_str("<aside class=\"cautions\" aria-labelledby=\"cautions-h\">\n<h2 id=\"cautions-h\">Please note</h2>\n<ul>\n");
+    for c in cautions {
+        let _ = writeln!(o, "<li>{}</li>", esc(c));
+    }
+    o.push_str("</ul>\n</aside>\n");
+}

@@ -1,0 +1,710 @@
+//! The trend report: its structure (snapshot), escaping, inline SVG, JSON and the `report`
+//! command's files. The history here is invented for the tests; the limits it is judged
+//! against are the published ones, cited beside each check.
+
+use std::path::Path;
+
+use assert_cmd::Command;
+use chrono::NaiveDate;
+use predicates::prelude::*;
+
+use ohmtrail::analysis::Settings;
+use ohmtrail::model::{
+    ChangeKind, CircuitKind, Earthing, Megohms, ObservationCode, Readings, VisitState,
+};
+use ohmtrail::report;
+use ohmtrail::store::{CircuitDetails, NewBoard, NewProperty, NewVisit, Store};
+
+const REF: &str = "HC-7";
+const HOSTILE: &str = "<script>alert(1)</script> 4 Invented Row, Nowhere NW0 0ZZ";
+
+fn d(s: &str) -> NaiveDate {
+    s.parse().unwrap()
+}
+
+fn ohm(v: f64) -> Option<f64> {
+    Some(v)
+}
+
+fn mohm(v: f64, over: bool) -> Option<Megohms> {
+    Some(Megohms {
+        value: v,
+        over_range: over,
+    })
+}
+
+/// An invented rented flat with four visits: a ring whose termination works loose, a shower
+/// circuit whose Zs ends past its limit, outside lights whose insulation falls below the
+/// minimum, an immersion circuit whose breaker was changed, and a healthy lighting circuit.
+fn fixture(store: &Store, reference: &str, address: &str) {
+    store
+        .add_property(&NewProperty {
+            reference: reference.into(),
+            address: Some(address.into()),
+            client: Some("Invented Homes & <Co> (test)".into()),
+            interval_months: Some(60),
+            notes: None,
+        })
+        .unwrap();
+    let p = store.property(reference).unwrap();
+    store
+        .add_board(
+            reference,
+            &NewBoard {
+                designation: "CU1".into(),
+                location: Some("Under the \"stairs\"".into()),
+                fed_from: None,
+                earthing: Some(Earthing::TnCS),
+            },
+        )
+        .unwrap();
+    let board = store.board(p.id, reference, "CU1").unwrap();
+    let circuit = |n: &str, desc: &str, kind, live, cpc, dev: &str| {
+        store
+            .add_circuit(
+                reference,
+                "CU1",
+                n,
+                &CircuitDetails {
+                    description: Some(desc.into()),
+                    kind: Some(kind),
+                    live_mm2: Some(live),
+                    cpc_mm2: Some(cpc),
+                    device: Some(dev.parse().unwrap()),
+                    rcd_ma: Some(30),
+                    ..Default::default()
+                },
+            )
+            .unwrap()
+            .id
+    };
+    let ring = circuit("1", "Kitchen <sockets>", CircuitKind::Ring, 2.5, 1.5, "B32");
+    let lights = circuit(
+        "2",
+        "Upstairs lighting",
+        CircuitKind::Radial,
+        1.5,
+        1.0,
+        "B6",
+    );
+    let shower = circuit("3", "Shower", CircuitKind::Radial, 10.0, 4.0, "B40");
+    let outside = circuit("4", "Outside lights", CircuitKind::Radial, 1.5, 1.0, "B6");
+    let immersion = circuit("5", "Immersion", CircuitKind::Radial, 2.5, 1.5, "B16");
+    let _ = immersion;
+    if store.instrument("TST-9").unwrap().is_none() {
+        store
+            .add_instrument(
+                "TST-9",
+                Some("multifunction tester (test)"),
+                Some(d("2022-01-01")),
+            )
+            .unwrap();
+    }
+
+    // (date, ambient, Ze)
+    let visits = [
+        ("2012-03-10", Some(9.0), 0.21),
+        ("2016-09-20", Some(18.0), 0.22),
+        ("2020-02-14", None, 0.22),
+        ("2024-06-18", Some(21.0), 0.23),
+    ];
+    for (i, (date, ambient, ze)) in visits.iter().enumerate() {
+        let v = store
+            .add_visit(
+                p.id,
+                &NewVisit {
+                    date: Some(d(date)),
+                    inspector: Some("B. Inspector & \"Son\" (test)".into()),
+                    instrument: Some("TST-9".into()),
+                    ambient_c: *ambient,
+                    ze_ohm: Some(*ze),
+                    pfc_ka: Some(1.2),
+                },
+                VisitState::Complete,
+            )
+            .unwrap();
+        store
+            .set_board_test(v.id, board.id, Some(*ze), Some(1.2))
+            .unwrap();
+        let loose = [0.0, 0.0, 0.20, 0.42][i];
+        let put = |c, r: Readings| store.put_test_record(v.id, c, &r).unwrap();
+        put(
+            ring,
+            Readings {
+                r1r2_ohm: ohm(0.40 + loose),
+                r1rn_ohm: ohm(0.31 + loose),
+                ring_r1_ohm: ohm(0.52),
+                ring_rn_ohm: ohm(0.52),
+                ring_r2_ohm: ohm(0.86),
+                zs_ohm: ohm(ze + 0.40 + loose),
+                ir_ll: mohm(200.0, true),
+                ir_le: mohm(200.0, true),
+                rcd_5x_ms: ohm(18.0),
+                ..Default::default()
+            },
+        );
+        put(
+            lights,
+            Readings {
+                r1r2_ohm: ohm(0.95),
+                r1rn_ohm: ohm(0.80),
+                zs_ohm: ohm(ze + 0.95),
+                ir_ll: mohm(200.0, true),
+                ir_le: mohm(200.0, true),
+                rcd_5x_ms: ohm(21.0),
+                ..Default::default()
+            },
+        );
+        let sh = [0.52, 0.60, 0.71, 0.86][i];
+        put(
+            shower,
+            Readings {
+                r1r2_ohm: ohm(sh),
+                r1rn_ohm: ohm(sh * 0.6),
+                zs_ohm: ohm(ze + sh),
+                ir_ll: mohm(200.0, true),
+                ir_le: mohm(200.0, true),
+                rcd_5x_ms: ohm(24.0),
+                ..Default::default()
+            },
+        );
+        let ir = [(200.0, true), (40.0, false), (6.0, false), (0.8, false)][i];
+        put(
+            outside,
+            Readings {
+                r1r2_ohm: ohm(1.10),
+                r1rn_ohm: ohm(0.92),
+                zs_ohm: ohm(ze + 1.10),
+                ir_ll: mohm(200.0, true),
+                ir_le: mohm(ir.0, ir.1),
+                rcd_5x_ms: ohm(19.0),
+                ..Default::default()
+            },
+        );
+        put(
+            immersion,
+            Readings {
+                r1r2_ohm: ohm(0.30),
+                r1rn_ohm: ohm(0.24),
+                // Zs not measured at the last visit: the report works it out as Ze + R1+R2.
+                zs_ohm: if i == 3 { None } else { ohm(ze + 0.30) },
+                ir_ll: mohm(200.0, true),
+                ir_le: mohm(200.0, true),
+                ..Default::default()
+            },
+        );
+        match i {
+            1 => {
+                store
+                    .add_observation(
+                        v.id,
+                        Some(board.id),
+                        Some(ring),
+                        ObservationCode::C3,
+                        "Socket outlet front <cracked> in kitchen",
+                    )
+                    .unwrap();
+            }
+            3 => {
+                store
+                    .add_observation(
+                        v.id,
+                        Some(board.id),
+                        Some(outside),
+                        ObservationCode::FI,
+                        "Low insulation resistance on outside lights: investigate",
+                    )
+                    .unwrap();
+                store
+                    .add_observation(
+                        v.id,
+                        None,
+                        None,
+                        ObservationCode::C2,
+                        "No main bonding to gas",
+                    )
+                    .unwrap();
+            }
+            _ => {}
+        }
+    }
+    store
+        .record_change(
+            shower,
+            d("2014-05-01"),
+            ChangeKind::DeviceChanged,
+            Some("device"),
+            Some("B32"),
+            Some("B40"),
+            None,
+            Some("breaker replaced for a larger shower"),
+        )
+        .unwrap();
+}
+
+fn settings(today: &str) -> Settings {
+    Settings::defaults(d(today))
+}
+
+fn html_for(address: &str, today: &str) -> String {
+    let store = Store::open_in_memory().unwrap();
+    fixture(&store, REF, address);
+    report::property_html(&store, REF, &settings(today)).unwrap()
+}
+
+/// The page's outline: every heading, section, table caption and figure, in order, with
+/// dates and version left out so the snapshot does not move with the generation date.
+fn outline(html: &str) -> String {
+    let mut out = String::new();
+    let mut rest = html;
+    while let Some(i) = rest.find('<') {
+        rest = &rest[i + 1..];
+        let name: String = rest
+            .chars()
+            .take_while(|c| c.is_ascii_alphanumeric())
+            .collect();
+        let headline = name == "p" && rest.starts_with("p class=\"headline\"");
+        let depth = match name.as_str() {
+            "p" if headline => 1,
+            "h1" => 0,
+            "h2" => 1,
+            "h3" | "caption" => 2,
+            "figure" | "article" | "section" | "table" => 3,
+            _ => continue,
+        };
+        let end = format!("</{name}>");
+        let label = match name.as_str() {
+            "figure" | "article" | "section" | "table" => {
+                let tag_end = rest.find('>').unwrap_or(0);
+                format!("<{}>", &rest[..tag_end])
+            }
+            _ => {
+                let body_start = rest.find('>').unwrap_or(0) + 1;
+                let body_end = rest.find(&end).unwrap_or(body_start);
+                strip_tags(&rest[body_start..body_end])
+            }
+        };
+        out.push_str(&"  ".repeat(depth));
+        out.push_str(&label);
+        out.push('\n');
+    }
+    out
+}
+
+fn strip_tags(s: &str) -> String {
+    let mut out = String::new();
+    let mut inside = false;
+    for c in s.chars() {
+        match c {
+            '<' => inside = true,
+            '>' => inside = false,
+            _ if !inside => out.push(c),
+            _ => {}
+        }
+    }
+    out
+}
+
+fn svgs(html: &str) -> Vec<&str> {
+    let mut out = Vec::new();
+    let mut rest = html;
+    while let Some(i) = rest.find("<svg") {
+        let end = rest[i..].find("</svg>").expect("every <svg> is closed") + i + "</svg>".len();
+        out.push(&rest[i..end]);
+        rest = &rest[end..];
+    }
+    out
+}
+
+#[test]
+fn structure_snapshot() {
+    let html = html_for("Flat 1, 4 Invented Row, Nowhere NW0 0ZZ", "2025-01-15");
+    insta::assert_snapshot!("property_outline", outline(&html));
+}
+
+#[test]
+fn structure_does_not_move_with_the_generation_date() {
+    // Both dates fall after the last visit and before anything in the history is due, so
+    // only the printed dates may differ.
+    let a = html_for("Flat 1", "2025-01-15");
+    let b = html_for("Flat 1", "2025-03-02");
+    assert_eq!(outline(&a), outline(&b));
+    assert!(a.contains("datetime=\"2025-01-15\""));
+    assert!(b.contains("datetime=\"2025-03-02\""));
+}
+
+#[test]
+fn user_text_is_escaped_never_markup() {
+    let html = html_for(HOSTILE, "2025-01-15");
+    assert!(
+        !html.to_ascii_lowercase().contains("<script"),
+        "a script element got through"
+    );
+    assert!(html.contains("&lt;script&gt;alert(1)&lt;/script&gt; 4 Invented Row"));
+    // Client, description, board location, inspector and observation text too.
+    assert!(html.contains("Invented Homes &amp; &lt;Co&gt; (test)"));
+    assert!(html.contains("Kitchen &lt;sockets&gt;"));
+    assert!(html.contains("Socket outlet front &lt;cracked&gt; in kitchen"));
+    assert!(!html.contains("<sockets>") && !html.contains("<cracked>") && !html.contains("<Co>"));
+    // The SVG titles carry the circuit description as well, escaped.
+    for svg in svgs(&html) {
+        assert!(!svg.contains("<sockets>"));
+    }
+}
+
+#[test]
+fn every_inline_svg_parses_as_xml() {
+    let html = html_for(HOSTILE, "2025-01-15");
+    let all = svgs(&html);
+    let figures = html.matches("<figure>").count();
+    assert!(
+        figures >= 3,
+        "expected charts for the flagged circuits, found {figures}"
+    );
+    assert_eq!(all.len(), figures, "one SVG per figure");
+    for svg in all {
+        let doc = roxmltree::Document::parse(svg).unwrap_or_else(|e| {
+            panic!(
+                "SVG does not parse as XML: {e}\n{}",
+                &svg[..svg.len().min(400)]
+            )
+        });
+        assert_eq!(doc.root_element().tag_name().name(), "svg");
+    }
+}
+
+#[test]
+fn no_script_and_no_external_assets() {
+    let html = html_for("Flat 1", "2025-01-15");
+    for needle in [
+        "<script",
+        "<link",
+        "src=\"http",
+        "href=\"http",
+        "@import",
+        "url(",
+    ] {
+        assert!(!html.contains(needle), "found {needle}");
+    }
+    assert!(html.contains("@page{size:A4"));
+}
+
+#[test]
+fn findings_limits_and_cautions_are_all_there() {
+    let store = Store::open_in_memory().unwrap();
+    fixture(&store, REF, "Flat 1");
+    let r = report::property_report(&store, REF, &settings("2025-01-15")).unwrap();
+    let html = report::property::render(&r);
+
+    // The shower's Zs 0.23 + 0.86 = 1.09 Ω (corrected to 20 °C: 0.23 + 0.86 / (1 + 0.00393)
+    // = 1.087 Ω) is past the measured-value limit for a B40: Table 41.3 gives 1.09 Ω
+    // (BS 7671:2018+A2:2022), and at 20 °C with k = 1.28 for 90 °C cable (On-Site Guide
+    // Appendix I, from memory) that is 1.09 / 1.28 = 0.85 Ω, rounded down.
+    let shower = r
+        .flagged
+        .iter()
+        .find(|f| f.circuit.as_deref() == Some("3"))
+        .expect("the shower circuit is flagged");
+    assert_eq!(shower.severity, "exceeds");
+    let zs = shower.findings.iter().find(|f| f.quantity == "zs").unwrap();
+    assert_eq!(zs.limit, Some(0.85));
+
+    // The outside lights' IR L–E of 0.8 MΩ is below the 1.0 MΩ minimum for a circuit up to
+    // 500 V tested at 500 V (BS 7671:2018 Table 64).
+    let outside = r
+        .flagged
+        .iter()
+        .find(|f| f.circuit.as_deref() == Some("4"))
+        .expect("the outside lights are flagged");
+    assert_eq!(outside.severity, "exceeds");
+    let ir = outside
+        .findings
+        .iter()
+        .find(|f| f.quantity == "ir_le")
+        .unwrap();
+    assert_eq!(ir.limit, Some(1.0));
+    assert!(ir.chart.as_ref().unwrap().log_scale);
+
+    // The ring's loosening termination is a step; its R1+R2 of 0.82 Ω no longer agrees with
+    // its ends, (r1 + r2) / 4 = (0.52 + 0.86) / 4 = 0.345 Ω (IET On-Site Guide ring test,
+    // common practice), so the ring check puts it past its tolerance too.
+    let ring = r
+        .flagged
+        .iter()
+        .find(|f| f.circuit.as_deref() == Some("1"))
+        .expect("the ring is flagged");
+    assert!(ring.findings.iter().any(|f| f.kind == "step"));
+    assert!(ring.findings.iter().any(|f| f.kind == "ring_check"));
+    assert_eq!(r.summary.exceeds, 3);
+    assert_eq!(r.summary.within_limits, 2);
+    assert!(
+        r.summary
+            .headline
+            .starts_with("3 of 5 circuits are past a safety limit"),
+        "{}",
+        r.summary.headline
+    );
+    assert_eq!(r.summary.actions[0].severity, Some("exceeds"));
+
+    // Every reason sentence of the analysis is on the page.
+    for f in r.flagged.iter().flat_map(|f| &f.findings) {
+        assert!(
+            html.contains(&report::html::esc(&f.reason)),
+            "missing: {}",
+            f.reason
+        );
+    }
+    // The breaker change on the shower circuit is a register event on its chart, and the
+    // trend is fitted from the first visit after it.
+    let chart = zs.chart.as_ref().unwrap();
+    assert!(
+        chart
+            .events
+            .iter()
+            .any(|e| e.date == d("2014-05-01") && e.what.contains("B32") && e.what.contains("B40")),
+        "{:?}",
+        chart.events
+    );
+    assert_eq!(chart.baseline_start, Some(d("2016-09-20")));
+    assert!(html.contains("device changed: device B32 → B40"));
+    // Zs on the immersion circuit was not measured at the last visit: Ze + R1+R2.
+    let imm = r.boards[0]
+        .circuits
+        .iter()
+        .find(|c| c.circuit == "5")
+        .unwrap();
+    let cell = &imm.cells["Zs"];
+    assert!(cell.calculated);
+    assert!((cell.raw - 0.53).abs() < 1e-9, "{}", cell.raw);
+
+    // Visits: the instrument's calibration lapsed on 2022-01-01.
+    let cal: Vec<_> = r
+        .visits
+        .iter()
+        .map(|v| v.instrument_in_calibration)
+        .collect();
+    assert_eq!(cal, vec![Some(true), Some(true), Some(true), Some(false)]);
+    assert!(html.contains("calibration had lapsed"));
+    // Codes exactly as recorded, and no code the inspector did not record.
+    let codes: Vec<_> = r
+        .visits
+        .iter()
+        .flat_map(|v| &v.observations)
+        .map(|o| o.code)
+        .collect();
+    assert_eq!(codes, vec!["C3", "FI", "C2"]);
+    assert!(!html.contains(">C1<"));
+    // The visit without an ambient temperature is named.
+    assert_eq!(r.method.visits_without_ambient, vec![d("2020-02-14")]);
+
+    // The limit sources come from the limits module.
+    let citations: Vec<&str> = r
+        .method
+        .limits
+        .iter()
+        .map(|l| l.citation.as_str())
+        .collect();
+    assert!(
+        citations.iter().any(|c| c.contains("Table 41.3")),
+        "{citations:?}"
+    );
+    assert!(
+        citations.iter().any(|c| c.contains("Table 64")),
+        "{citations:?}"
+    );
+
+    // The cautions.
+    for c in report::CAUTIONS {
+        assert!(html.contains(&report::html::esc(c)), "missing caution: {c}");
+    }
+    assert!(html.contains("never replace"));
+    assert!(html.contains("assigns no condition codes"));
+    assert!(html.contains("prompt attention by a qualified electrician"));
+}
+
+// ----- the command -----
+
+fn db_with_fixture(dir: &Path) -> std::path::PathBuf {
+    let db = dir.join("t.db");
+    let store = Store::open(&db).unwrap();
+    fixture(&store, REF, HOSTILE);
+    fixture(&store, "HC/8", "Flat 2, 4 Invented Row");
+    db
+}
+
+fn cmd(db: &Path, cwd: &Path) -> Command {
+    let mut c = Command::cargo_bin("ohmtrail").unwrap();
+    c.env_remove("OHMTRAIL_DB")
+        .current_dir(cwd)
+        .arg("--db")
+        .arg(db);
+    c
+}
+
+#[test]
+fn report_writes_to_the_default_name_and_says_where() {
+    let dir = tempfile::tempdir().unwrap();
+    let db = db_with_fixture(dir.path());
+    cmd(&db, dir.path())
+        .args(["report", REF])
+        .assert()
+        .success()
+        .stdout(predicate::str::contains("wrote report report-HC-7.html"))
+        .stdout(predicate::str::contains("never replace"));
+    let html = std::fs::read_to_string(dir.path().join("report-HC-7.html")).unwrap();
+    assert!(html.starts_with("<!DOCTYPE html>"));
+    // A reference with a slash gets a safe, distinct file name.
+    let out = cmd(&db, dir.path())
+        .args(["report", "HC/8"])
+        .assert()
+        .success()
+        .get_output()
+        .stdout
+        .clone();
+    let out = String::from_utf8(out).unwrap();
+    let name = out
+        .lines()
+        .find_map(|l| l.strip_prefix("wrote report "))
+        .unwrap();
+    assert!(
+        name.starts_with("report-HC_8-") && name.ends_with(".html"),
+        "{name}"
+    );
+    assert!(dir.path().join(name).exists());
+    // No temporary files are left behind.
+    let leftovers: Vec<_> = std::fs::read_dir(dir.path())
+        .unwrap()
+        .filter_map(|e| e.ok())
+        .filter(|e| e.file_name().to_string_lossy().ends_with(".tmp"))
+        .collect();
+    assert!(leftovers.is_empty());
+}
+
+#[test]
+fn json_is_the_same_content_as_data() {
+    let dir = tempfile::tempdir().unwrap();
+    let db = db_with_fixture(dir.path());
+    cmd(&db, dir.path())
+        .args(["report", REF, "--format", "json", "-o", "r.json"])
+        .assert()
+        .success();
+    cmd(&db, dir.path())
+        .args(["report", REF, "-o", "r.html"])
+        .assert()
+        .success();
+    let v: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(dir.path().join("r.json")).unwrap()).unwrap();
+    let html = std::fs::read_to_string(dir.path().join("r.html")).unwrap();
+    assert_eq!(v["header"]["property_ref"], REF);
+    assert_eq!(v["header"]["address"], HOSTILE);
+    assert_eq!(v["summary"]["exceeds"], 3);
+    let flagged = v["flagged"].as_array().unwrap();
+    assert!(!flagged.is_empty());
+    for f in flagged {
+        for finding in f["findings"].as_array().unwrap() {
+            let reason = finding["reason"].as_str().unwrap();
+            assert!(html.contains(&report::html::esc(reason)));
+            assert!(
+                ["exceeds", "approaching", "changed"]
+                    .contains(&finding["severity"].as_str().unwrap())
+            );
+        }
+    }
+    let points = &flagged[0]["findings"][0]["chart"]["points"];
+    assert!(points.as_array().is_some_and(|p| p.len() >= 2), "{points}");
+    assert!(v["cautions"].as_array().unwrap().len() >= 3);
+    assert!(
+        v["method"]["limits"]
+            .as_array()
+            .is_some_and(|l| !l.is_empty())
+    );
+}
+
+#[test]
+fn missing_output_directory_is_a_clear_error_and_writes_nothing() {
+    let dir = tempfile::tempdir().unwrap();
+    let db = db_with_fixture(dir.path());
+    cmd(&db, dir.path())
+        .args(["report", REF, "-o", "nowhere/r.html"])
+        .assert()
+        .code(1)
+        .stderr(predicate::str::contains(
+            "output directory nowhere does not exist",
+        ));
+    assert!(!dir.path().join("nowhere").exists());
+    cmd(&db, dir.path())
+        .args(["report", "--portfolio", "-o", "nowhere/index.html"])
+        .assert()
+        .code(1)
+        .stderr(predicate::str::contains("does not exist"));
+    cmd(&db, dir.path())
+        .args(["report", "NO-SUCH"])
+        .assert()
+        .code(1)
+        .stderr(predicate::str::contains("NO-SUCH"));
+    // Neither a property nor --portfolio is a usage error.
+    cmd(&db, dir.path()).args(["report"]).assert().code(2);
+}
+
+#[cfg(unix)]
+#[test]
+fn unwritable_output_directory_is_a_clear_error() {
+    use std::os::unix::fs::PermissionsExt;
+    let dir = tempfile::tempdir().unwrap();
+    let db = db_with_fixture(dir.path());
+    let locked = dir.path().join("locked");
+    std::fs::create_dir(&locked).unwrap();
+    std::fs::set_permissions(&locked, std::fs::Permissions::from_mode(0o555)).unwrap();
+    // Root may write anywhere; then there is nothing to check.
+    let probe = locked.join("probe");
+    if std::fs::write(&probe, b"x").is_ok() {
+        std::fs::remove_file(&probe).unwrap();
+        eprintln!("running with permission to write anywhere: check skipped");
+        return;
+    }
+    cmd(&db, dir.path())
+        .args(["report", REF, "-o", "locked/r.html"])
+        .assert()
+        .code(1)
+        .stderr(predicate::str::contains(
+            "cannot write in the output directory locked",
+        ));
+    assert_eq!(std::fs::read_dir(&locked).unwrap().count(), 0);
+}
+
+#[test]
+fn portfolio_index_links_every_property_report() {
+    let dir = tempfile::tempdir().unwrap();
+    let db = db_with_fixture(dir.path());
+    let out_dir = dir.path().join("out");
+    std::fs::create_dir(&out_dir).unwrap();
+    cmd(&db, dir.path())
+        .args(["report", "--portfolio", "-o", "out/index.html"])
+        .assert()
+        .success()
+        .stdout(predicate::str::contains("wrote 2 property reports"))
+        .stdout(predicate::str::contains("open first: out/index.html"));
+    let index = std::fs::read_to_string(out_dir.join("index.html")).unwrap();
+    assert!(!index.to_ascii_lowercase().contains("<script"));
+    let links: Vec<&str> = index
+        .split("href=\"")
+        .skip(1)
+        .map(|s| &s[..s.find('"').unwrap()])
+        .collect();
+    assert_eq!(links.len(), 2, "{links:?}");
+    for l in links {
+        assert!(out_dir.join(l).exists(), "link to a missing file {l}");
+    }
+    // Both fixture properties have circuits past a limit; ties go by reference.
+    let a = index.find(">HC-7<").unwrap();
+    let b = index.find(">HC/8<").unwrap();
+    assert!(a < b);
+    // Only the index.
+    let only = dir.path().join("only");
+    std::fs::create_dir(&only).unwrap();
+    cmd(&db, dir.path())
+        .args(["report", "--portfolio", "--index-only", "-o", "only/p.html"])
+        .assert()
+        .success();
+    assert_eq!(std::fs::read_dir(&only).unwrap().count(), 1);
+}
