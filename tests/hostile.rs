@@ -101,7 +101,8 @@ fn a_newer_database_is_refused_by_every_command_and_left_untouched() {
     let b = dir.path().join("b.csv");
     visits(&b, "B", 2);
     let out = dir.path().join("out.csv");
-    let commands: [&[&str]; 7] = [
+    let report = dir.path().join("report.html");
+    let commands: [&[&str]; 10] = [
         &["import", b.to_str().unwrap()],
         &["import", a.to_str().unwrap()],
         &["flags"],
@@ -109,6 +110,16 @@ fn a_newer_database_is_refused_by_every_command_and_left_untouched() {
         &["trend", "A-0000"],
         &["export"],
         &["export", "-o", out.to_str().unwrap()],
+        &["report", "A-0000", "-o", report.to_str().unwrap()],
+        &["report", "--portfolio", "-o", report.to_str().unwrap()],
+        &[
+            "report",
+            "A-0000",
+            "--format",
+            "json",
+            "-o",
+            report.to_str().unwrap(),
+        ],
     ];
     for args in commands {
         refused(
@@ -118,6 +129,7 @@ fn a_newer_database_is_refused_by_every_command_and_left_untouched() {
         assert_eq!(before, std::fs::read(&db).unwrap(), "{args:?} changed it");
     }
     assert!(!out.exists(), "no export file from a refused database");
+    assert!(!report.exists(), "no report from a refused database");
     assert!(!PathBuf::from(format!("{}-wal", db.display())).exists());
 }
 
@@ -313,4 +325,39 @@ fn a_file_that_is_not_a_database_is_refused_and_left_as_it_was() {
         );
         assert_eq!(bytes, std::fs::read(&junk).unwrap(), "{args:?}");
     }
+}
+
+#[test]
+fn a_report_to_a_path_that_cannot_be_written_is_a_clear_error() {
+    let dir = TempDir::new().unwrap();
+    let (db, _) = seeded(&dir);
+    let before = std::fs::read(&db).unwrap();
+    let blocker = dir.path().join("file.txt");
+    std::fs::write(&blocker, "not a directory\n").unwrap();
+    let under_file = blocker.join("out.html");
+    let missing = dir.path().join("no/such/dir/out.html");
+    let a_dir = dir.path().join("a-directory");
+    std::fs::create_dir(&a_dir).unwrap();
+    let property = ["report", "A-0000", "-o"];
+    let portfolio = ["report", "--portfolio", "-o"];
+    let cases: [(&[&str], &Path, &str); 5] = [
+        (&property, &under_file, "does not exist"),
+        (&portfolio, &under_file, "does not exist"),
+        (&property, &missing, "does not exist"),
+        (&portfolio, &missing, "does not exist"),
+        (&property, &a_dir, "is a directory"),
+    ];
+    for (args, path, why) in cases {
+        let out = refused(bin(&db).args(args).arg(path), &[why]);
+        let named = path.to_str().unwrap();
+        let parent = path.parent().unwrap().to_str().unwrap();
+        assert!(out.contains(named) || out.contains(parent), "{out}");
+    }
+    assert_eq!(
+        std::fs::read_to_string(&blocker).unwrap(),
+        "not a directory\n"
+    );
+    assert!(!dir.path().join("no").exists());
+    assert_eq!(std::fs::read_dir(&a_dir).unwrap().count(), 0);
+    assert_eq!(before, std::fs::read(&db).unwrap());
 }
