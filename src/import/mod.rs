@@ -358,6 +358,8 @@ struct CircuitState {
 
 struct BoardState {
     id: i64,
+    /// Created by this import, so its only circuits are the ones cached here.
+    created: bool,
     earthing: Option<String>,
     circuits: HashMap<String, CircuitState>,
 }
@@ -373,6 +375,8 @@ struct VisitState {
 
 struct PropertyState {
     id: i64,
+    /// Created by this import, so its only boards and visits are the ones cached here.
+    created: bool,
     address: Option<String>,
     boards: HashMap<String, BoardState>,
     visits: HashMap<NaiveDate, VisitState>,
@@ -403,6 +407,7 @@ impl Cache {
             let state = match s.ingest_property(reference)? {
                 Some(p) => PropertyState {
                     id: p.id,
+                    created: false,
                     address: p.address,
                     boards: HashMap::new(),
                     visits: HashMap::new(),
@@ -413,6 +418,7 @@ impl Cache {
                     eff.wrote = true;
                     PropertyState {
                         id,
+                        created: true,
                         address: address.map(String::from),
                         boards: HashMap::new(),
                         visits: HashMap::new(),
@@ -443,7 +449,12 @@ fn visit_state<'a>(
     eff: &mut Effect,
 ) -> Result<&'a mut VisitState> {
     if !p.visits.contains_key(&date) {
-        let state = match s.ingest_visit(p.id, date)? {
+        let stored = if p.created {
+            None
+        } else {
+            s.ingest_visit(p.id, date)?
+        };
+        let state = match stored {
             Some(v) => VisitState {
                 v,
                 ze: HashMap::new(),
@@ -522,9 +533,15 @@ impl Importer<'_> {
 
         // Board.
         if !p.boards.contains_key(&row.board) {
-            let state = match s.ingest_board(property_id, &row.board)? {
+            let stored = if p.created {
+                None
+            } else {
+                s.ingest_board(property_id, &row.board)?
+            };
+            let state = match stored {
                 Some(b) => BoardState {
                     id: b.id,
+                    created: false,
                     earthing: b.earthing,
                     circuits: HashMap::new(),
                 },
@@ -535,6 +552,7 @@ impl Importer<'_> {
                     eff.wrote = true;
                     BoardState {
                         id,
+                        created: true,
                         earthing: e.map(String::from),
                         circuits: HashMap::new(),
                     }
@@ -569,7 +587,12 @@ impl Importer<'_> {
         // Circuit, and whether the row disagrees with the register as it stood on the date.
         let row_details = row_register_details(&row.register);
         if !b.circuits.contains_key(&row.circuit) {
-            let state = match s.ingest_circuit(board_id, &row.circuit)? {
+            let stored = if b.created {
+                None
+            } else {
+                s.ingest_circuit(board_id, &row.circuit)?
+            };
+            let state = match stored {
                 Some((id, details)) => CircuitState {
                     id,
                     current: register_texts(&details),
@@ -806,7 +829,7 @@ impl Importer<'_> {
         };
         match stored {
             None => {
-                s.ingest_put_record(visit_id, circuit_id, &row.readings)?;
+                s.ingest_insert_record(visit_id, circuit_id, &row.readings)?;
                 eff.written += 1;
                 eff.wrote = true;
             }
