@@ -1,5 +1,8 @@
-//! Writes a synthetic, invented portfolio as a visit file, for the import benchmark:
-//! `gen_portfolio PROPERTIES OUT.csv` gives PROPERTIES × 12 circuits × 5 visits rows.
+//! Writes a synthetic, invented portfolio as a visit file, for the benchmarks:
+//! `gen_portfolio PROPERTIES OUT.csv [CIRCUITS VISITS PREFIX]` gives PROPERTIES × CIRCUITS
+//! × VISITS rows (default 12 circuits, 5 visits, references `SMP-00000` on). More than 12
+//! circuits repeat the 12 kinds; other than 5 visits (at most 10, so none is in the future)
+//! fall two years apart from 2005.
 //! The same arguments always give the same file (fixed seed).
 
 use std::fs::File;
@@ -36,12 +39,27 @@ const VISIT_DATES: [&str; 5] = [
 
 fn main() -> std::io::Result<()> {
     let args: Vec<String> = std::env::args().collect();
-    let (Some(n), Some(out)) = (
-        args.get(1).and_then(|s| s.parse::<usize>().ok()),
+    let number = |i: usize, default: usize| match args.get(i) {
+        None => Some(default),
+        Some(s) => s.parse::<usize>().ok().filter(|n| *n > 0),
+    };
+    let visits_ok = |v: usize| (1..=10).contains(&v);
+    let (Some(n), Some(out), Some(circuits), Some(visits)) = (
+        number(1, 0),
         args.get(2),
+        number(3, 12),
+        number(4, 5).filter(|v| visits_ok(*v)),
     ) else {
-        eprintln!("usage: gen_portfolio PROPERTIES OUT.csv");
+        eprintln!("usage: gen_portfolio PROPERTIES OUT.csv [CIRCUITS VISITS PREFIX]");
         std::process::exit(2);
+    };
+    let prefix = args.get(5).map(String::as_str).unwrap_or("SMP");
+    let dates: Vec<String> = if visits == 5 {
+        VISIT_DATES.iter().map(|d| d.to_string()).collect()
+    } else {
+        (0..visits)
+            .map(|v| format!("{}-0{}-1{}", 2005 + 2 * v, 1 + v % 9, v % 10))
+            .collect()
     };
     let mut rng = ChaCha8Rng::seed_from_u64(7);
     let mut w = BufWriter::with_capacity(1 << 20, File::create(out)?);
@@ -49,14 +67,15 @@ fn main() -> std::io::Result<()> {
     for p in 0..n {
         let earthing = ["TN-C-S", "TN-S", "TT"][p % 3];
         let address = format!("\"{} Sample Street, Sampleton\"", p + 1);
-        let base: Vec<f64> = (0..12).map(|_| rng.random_range(0.1..1.2)).collect();
-        for (v, date) in VISIT_DATES.iter().enumerate() {
+        let base: Vec<f64> = (0..circuits).map(|_| rng.random_range(0.1..1.2)).collect();
+        for (v, date) in dates.iter().enumerate() {
             let ambient = rng.random_range(5..25);
             let ze = 0.2 + 0.01 * v as f64;
-            for (c, (desc, ring, device, live, cpc)) in CIRCUITS.iter().enumerate() {
+            for c in 0..circuits {
+                let (desc, ring, device, live, cpc) = CIRCUITS[c % CIRCUITS.len()];
                 let r1r2 = base[c] * (1.0 + 0.03 * v as f64);
                 let zs = r1r2 + ze;
-                let (r1, rn, r2) = if *ring == "yes" {
+                let (r1, rn, r2) = if ring == "yes" {
                     (
                         format!("{:.2}", base[c] * 0.6),
                         format!("{:.2}", base[c] * 0.6),
@@ -72,7 +91,7 @@ fn main() -> std::io::Result<()> {
                 };
                 writeln!(
                     w,
-                    "SMP-{p:05},{address},DB1,{earthing},{},{desc},{ring},{device},30,{live},{cpc},,{date},A. Sample,IT-{:04},{ambient},{ze:.2},{r1},{rn},{r2},{r1r2:.3},,,{zs:.3},>200,{ir_le},{},,",
+                    "{prefix}-{p:05},{address},DB1,{earthing},{},{desc},{ring},{device},30,{live},{cpc},,{date},A. Sample,IT-{:04},{ambient},{ze:.2},{r1},{rn},{r2},{r1r2:.3},,,{zs:.3},>200,{ir_le},{},,",
                     c + 1,
                     p % 50,
                     rng.random_range(12..40)
