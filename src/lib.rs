@@ -8,6 +8,7 @@
 //! - [`store`]: the SQLite history; the only module that talks SQL.
 //! - [`import`]: visit files in, with exact errors.
 //! - [`export`]: the same format out again.
+//! - [`onsite`]: the visit brief and the live comparison while testing; pure.
 
 pub mod analysis;
 pub mod demo;
@@ -16,6 +17,7 @@ pub mod export;
 pub mod import;
 pub mod limits;
 pub mod model;
+pub mod onsite;
 pub mod report;
 pub mod store;
 pub mod trend;

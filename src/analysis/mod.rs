@@ -181,6 +181,7 @@ pub fn analyse(h: &PropertyHistory, settings: &Settings) -> PropertyAnalysis {
 
     let supply = series::supply_series(h, origin, horizon, settings);
 
+    let index = series::Index::new(h);
     let mut circuits = Vec::new();
     for c in h
         .circuits
@@ -188,7 +189,9 @@ pub fn analyse(h: &PropertyHistory, settings: &Settings) -> PropertyAnalysis {
         .filter(|c| c.status == crate::model::Status::InService)
     {
         let board = boards_by_id.get(&c.board_id).copied();
-        circuits.push(series::circuit_analysis(h, c, board, horizon, settings));
+        circuits.push(series::circuit_analysis(
+            h, &index, c, board, horizon, settings,
+        ));
     }
 
     let mut flags: Vec<Flag> = Vec::new();
@@ -316,19 +319,57 @@ pub struct WorklistFilter {
 
 /// The portfolio worklist: every flag, most urgent first, one property in memory at a time.
 pub fn worklist(store: &Store, settings: &Settings, filter: &WorklistFilter) -> Result<Vec<Flag>> {
-    let mut flags = Vec::new();
-    match &filter.property {
+    let mut flags = match &filter.property {
         Some(r) => {
             let id = store.property(r)?.id;
-            flags.extend(analyse(&store.history(id)?, settings).flags);
+            analyse(&store.history(id)?, settings).flags
         }
-        None => store.for_each_history(|h| {
-            flags.extend(analyse(&h, settings).flags);
-            Ok(())
-        })?,
-    }
+        None => portfolio_flags(store, settings)?,
+    };
     rank_flags(&mut flags);
     Ok(flags)
+}
+
+/// Every property's flags. This thread streams the histories out of SQLite while worker threads
+/// analyse them; a bounded queue keeps only a few properties in memory at once.
+fn portfolio_flags(store: &Store, settings: &Settings) -> Result<Vec<Flag>> {
+    use std::sync::{Mutex, mpsc};
+    let workers = std::thread::available_parallelism()
+        .map(|n| n.get())
+        .unwrap_or(1)
+        .clamp(1, 8);
+    let (tx, rx) = mpsc::sync_channel::<PropertyHistory>(64);
+    let rx = Mutex::new(rx);
+    std::thread::scope(|scope| {
+        let handles: Vec<_> = (0..workers)
+            .map(|_| {
+                scope.spawn(|| {
+                    let mut flags = Vec::new();
+                    loop {
+                        // Hold the lock only to take the next history, not to analyse it.
+                        let next = rx.lock().map(|r| r.recv());
+                        match next {
+                            Ok(Ok(h)) => flags.extend(analyse(&h, settings).flags),
+                            _ => return flags,
+                        }
+                    }
+                })
+            })
+            .collect();
+        let streamed = store.for_each_history(|h| {
+            tx.send(h)
+                .map_err(|_| crate::Error::invalid("the analysis workers stopped"))
+        });
+        drop(tx);
+        let mut flags = Vec::new();
+        for h in handles {
+            match h.join() {
+                Ok(f) => flags.extend(f),
+                Err(p) => std::panic::resume_unwind(p),
+            }
+        }
+        streamed.map(|()| flags)
+    })
 }
 
 /// Load and analyse one property by reference.

@@ -10,7 +10,8 @@ use crate::limits::{
     RingReadings, RingTolerance, Source, SourceStatus, TestConditions,
 };
 use crate::model::{
-    Board, ChangeKind, Circuit, CircuitKind, Earthing, Megohms, Readings, TestRecord, Visit,
+    Board, ChangeKind, Circuit, CircuitChange, CircuitKind, Earthing, Megohms, Readings,
+    TestRecord, Visit,
 };
 use crate::store::PropertyHistory;
 use crate::trend::{self, Finding, FindingKind, Limit, Point, Quantity, RingLeg, Series, Severity};
@@ -150,22 +151,57 @@ fn event_words(
     }
 }
 
+/// Lookups over one property's history, built once and shared by its circuits.
+pub(super) struct Index<'a> {
+    by_id: HashMap<i64, &'a Circuit>,
+    boards: HashMap<i64, &'a Board>,
+    visits: HashMap<i64, &'a Visit>,
+    records: HashMap<i64, Vec<&'a TestRecord>>,
+    /// Ze measured at a board at a visit: (visit_id, board_id) → Ω.
+    board_ze: HashMap<(i64, i64), f64>,
+    changes: HashMap<i64, Vec<&'a CircuitChange>>,
+}
+
+impl<'a> Index<'a> {
+    pub(super) fn new(h: &'a PropertyHistory) -> Index<'a> {
+        let mut records: HashMap<i64, Vec<&TestRecord>> = HashMap::new();
+        for r in &h.records {
+            records.entry(r.circuit_id).or_default().push(r);
+        }
+        let mut changes: HashMap<i64, Vec<&CircuitChange>> = HashMap::new();
+        for ch in &h.changes {
+            changes.entry(ch.circuit_id).or_default().push(ch);
+        }
+        Index {
+            by_id: h.circuits.iter().map(|x| (x.id, x)).collect(),
+            boards: h.boards.iter().map(|b| (b.id, b)).collect(),
+            visits: h.visits.iter().map(|v| (v.id, v)).collect(),
+            records,
+            board_ze: h
+                .board_tests
+                .iter()
+                .filter_map(|t| t.2.map(|z| ((t.0, t.1), z)))
+                .collect(),
+            changes,
+        }
+    }
+}
+
 pub(super) fn circuit_analysis(
     h: &PropertyHistory,
+    idx: &Index,
     c: &Circuit,
     board: Option<&Board>,
     horizon: NaiveDate,
     settings: &Settings,
 ) -> CircuitAnalysis {
-    let by_id: HashMap<i64, &Circuit> = h.circuits.iter().map(|x| (x.id, x)).collect();
-    let boards: HashMap<i64, &Board> = h.boards.iter().map(|b| (b.id, b)).collect();
-    let chain = lineage(c, &by_id);
-    let chain_ids: HashSet<i64> = chain.iter().map(|x| x.id).collect();
+    let chain = lineage(c, &idx.by_id);
     let board_name = board.map(|b| b.designation.clone()).unwrap_or_default();
     let lineage_labels = chain
         .iter()
         .map(|x| {
-            let b = boards
+            let b = idx
+                .boards
                 .get(&x.board_id)
                 .map(|b| b.designation.as_str())
                 .unwrap_or("?");
@@ -173,32 +209,29 @@ pub(super) fn circuit_analysis(
         })
         .collect();
 
-    let visits: HashMap<i64, &Visit> = h.visits.iter().map(|v| (v.id, v)).collect();
-    let mut rows: Vec<(Row, &TestRecord)> = h
-        .records
+    let mut rows: Vec<(Row, i64)> = chain
         .iter()
-        .filter(|r| chain_ids.contains(&r.circuit_id))
-        .filter_map(|r| {
-            let visit = visits.get(&r.visit_id)?;
-            let ze_board = h
-                .board_tests
-                .iter()
-                .find(|t| {
-                    t.0 == r.visit_id
-                        && t.1 == by_id.get(&r.circuit_id).map(|x| x.board_id).unwrap_or(-1)
-                })
-                .and_then(|t| t.2);
+        .flat_map(|x| {
+            idx.records
+                .get(&x.id)
+                .into_iter()
+                .flatten()
+                .map(move |r| (x, r))
+        })
+        .filter_map(|(x, r)| {
+            let visit = idx.visits.get(&r.visit_id)?;
+            let ze_board = idx.board_ze.get(&(r.visit_id, x.board_id)).copied();
             Some((
                 Row {
                     visit,
                     readings: &r.readings,
                     ze: ze_board.or(visit.ze_ohm),
                 },
-                r,
+                r.circuit_id,
             ))
         })
         .collect();
-    rows.sort_by_key(|(row, r)| (row.visit.date, r.circuit_id == c.id));
+    rows.sort_by_key(|(row, id)| (row.visit.date, *id == c.id));
     // Two lineage circuits read at one visit (should not happen): keep the later circuit's.
     rows.dedup_by(|later, earlier| {
         if later.0.visit.date == earlier.0.visit.date {
@@ -212,11 +245,12 @@ pub(super) fn circuit_analysis(
 
     let mut events = Vec::new();
     let mut resets = Vec::new();
-    for ch in h
-        .changes
+    let mut lineage_changes: Vec<&CircuitChange> = chain
         .iter()
-        .filter(|x| chain_ids.contains(&x.circuit_id))
-    {
+        .flat_map(|x| idx.changes.get(&x.id).into_iter().flatten().copied())
+        .collect();
+    lineage_changes.sort_by_key(|ch| (ch.date, ch.id));
+    for ch in lineage_changes {
         if ch.kind == ChangeKind::Retired {
             continue;
         }
@@ -587,6 +621,8 @@ pub(super) fn circuit_analysis(
                     findings.retain(|(j, g)| {
                         !(*j == i1n && matches!(g.kind, FindingKind::Step | FindingKind::Drift))
                     });
+                    // The series view shows it beside R1+Rn's own findings.
+                    out[i1n].report.findings.push(f.clone());
                     findings.push((i1n, f));
                 }
             }

@@ -2,6 +2,7 @@
 //! opens nothing it does not need; all computation is in the library.
 
 pub mod board;
+pub mod brief;
 pub mod check;
 pub mod circuit;
 pub mod demo;
@@ -13,6 +14,7 @@ pub mod instrument;
 pub mod limits;
 pub mod output;
 pub mod property;
+pub mod record;
 pub mod settings;
 pub mod trend;
 pub mod visit;
@@ -78,6 +80,10 @@ pub enum Command {
     Import(import::Args),
     /// Export test records and observations as CSV or JSON, in the format import reads
     Export(export::Args),
+    /// The brief for a coming visit: what each circuit should read on the day, and what to test first
+    Brief(brief::Args),
+    /// Take readings on site into a pending visit, each compared at once with what was expected
+    Record(record::Args),
 }
 
 /// What every command may need: where the database is, and where to print.
@@ -125,6 +131,8 @@ pub fn run(cli: Cli, out: &mut dyn Write) -> Result<()> {
         Command::Demo(args) => demo::run(&args, out),
         Command::Import(args) => import::run(&args, &ctx, out),
         Command::Export(args) => export::run(&args, &ctx, out),
+        Command::Brief(args) => brief::run(&args, &ctx, out),
+        Command::Record(args) => record::run(&args, &ctx, out),
     }
 }
 

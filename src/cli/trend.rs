@@ -141,7 +141,12 @@ fn series(out: &mut dyn Write, prefix: &str, s: &SeriesAnalysis) -> Result<()> {
     let r = &s.report;
     let mut head = format!("  {}{} ({})", prefix, s.label, r.unit);
     if let (Some(l), Some(w)) = (s.limit, &s.limit_words) {
-        head.push_str(&format!(": limit {l:.2} — {w}"));
+        let l = match r.unit {
+            "ms" => format!("{l:.0}"),
+            "MΩ" => format!("{l:.1}"),
+            _ => format!("{l:.2}"),
+        };
+        head.push_str(&format!(": limit {l} {} — {w}", r.unit));
     }
     writeln!(out, "{head}")?;
     if let Some(b) = &s.basis {

@@ -3,6 +3,7 @@
 //! This first version tabulates each circuit's readings visit by visit; the trend charts and
 //! findings come with the trend engine.
 
+pub mod brief;
 pub mod chart;
 
 use std::fmt::Write as _;

@@ -9,12 +9,9 @@ use std::iter::Peekable;
 use chrono::NaiveDate;
 use rusqlite::{Row, Statement};
 
-use super::Store;
+use super::{Store, change_from_row, observation_from_row};
 use crate::error::Result;
-use crate::model::{
-    Board, ChangeKind, Circuit, CircuitChange, Observation, ObservationCode, Property, TestRecord,
-    Visit,
-};
+use crate::model::{Board, Circuit, CircuitChange, Observation, Property, TestRecord, Visit};
 
 /// Everything recorded about one property: the register (retired parts included), the completed
 /// visits, their test records, the dated circuit changes and the observations.
@@ -48,32 +45,6 @@ fn qualified(cols: &str, alias: &str) -> String {
         })
         .collect::<Vec<_>>()
         .join(", ")
-}
-
-fn change_from_row(r: &Row) -> rusqlite::Result<CircuitChange> {
-    let kind: String = r.get(3)?;
-    Ok(CircuitChange {
-        id: r.get(0)?,
-        circuit_id: r.get(1)?,
-        date: r.get(2)?,
-        kind: kind.parse().unwrap_or(ChangeKind::RegisterCorrected),
-        field: r.get(4)?,
-        old_value: r.get(5)?,
-        new_value: r.get(6)?,
-        note: r.get(7)?,
-    })
-}
-
-fn observation_from_row(r: &Row) -> rusqlite::Result<Observation> {
-    let code: String = r.get(4)?;
-    Ok(Observation {
-        id: r.get(0)?,
-        visit_id: r.get(1)?,
-        board: r.get(2)?,
-        circuit: r.get(3)?,
-        code: code.parse().unwrap_or(ObservationCode::FI),
-        text: r.get(5)?,
-    })
 }
 
 /// The SQL of each stream. Every query takes `?1` (one property id, or NULL for all) and
@@ -123,7 +94,9 @@ fn queries() -> Queries {
         changes: "SELECT ch.id, ch.circuit_id, ch.date, ch.kind, ch.field, ch.old_value, ch.new_value,
                     ch.note, b.property_id
              FROM circuit_change ch JOIN circuit c ON c.id = ch.circuit_id JOIN board b ON b.id = c.board_id
-             WHERE ?1 IS NULL OR b.property_id = ?1
+             LEFT JOIN visit pv ON pv.id = ch.visit_id
+             -- A change made during a visit still being recorded is not history yet.
+             WHERE (ch.visit_id IS NULL OR pv.state = 'complete') AND (?1 IS NULL OR b.property_id = ?1)
              ORDER BY b.property_id, ch.date, ch.id",
         observations: "SELECT o.id, o.visit_id, b.designation, c.number, o.code, o.text, v.property_id
              FROM visit v JOIN observation o ON o.visit_id = v.id

@@ -7,12 +7,14 @@
 mod history;
 mod ingest;
 pub mod migrate;
+mod pending;
 mod visits;
 
 pub use history::PropertyHistory;
 pub use ingest::{
     ExportObservation, ExportRecord, IngestBoard, IngestChange, IngestProperty, IngestVisit,
 };
+pub use pending::Abandoned;
 pub use visits::{NewVisit, validate_readings};
 
 use std::path::{Path, PathBuf};
@@ -843,23 +845,10 @@ impl Store {
 
     /// Every change recorded on a circuit, oldest first.
     pub fn changes(&self, circuit_id: i64) -> Result<Vec<CircuitChange>> {
-        let mut stmt = self.conn.prepare(
-            "SELECT id, circuit_id, date, kind, field, old_value, new_value, note
-             FROM circuit_change WHERE circuit_id = ?1 ORDER BY date, id",
-        )?;
-        let rows = stmt.query_map([circuit_id], |r| {
-            let kind: String = r.get(3)?;
-            Ok(CircuitChange {
-                id: r.get(0)?,
-                circuit_id: r.get(1)?,
-                date: r.get(2)?,
-                kind: kind.parse().unwrap_or(ChangeKind::RegisterCorrected),
-                field: r.get(4)?,
-                old_value: r.get(5)?,
-                new_value: r.get(6)?,
-                note: r.get(7)?,
-            })
-        })?;
+        let mut stmt = self.conn.prepare(&format!(
+            "SELECT {CHANGE_COLS} FROM circuit_change WHERE circuit_id = ?1 ORDER BY date, id"
+        ))?;
+        let rows = stmt.query_map([circuit_id], change_from_row)?;
         Ok(rows.collect::<rusqlite::Result<_>>()?)
     }
 
@@ -1083,6 +1072,38 @@ impl Store {
         })?;
         Ok(rows.collect::<rusqlite::Result<_>>()?)
     }
+}
+
+/// The columns [`change_from_row`] reads, in order.
+pub(crate) const CHANGE_COLS: &str =
+    "id, circuit_id, date, kind, field, old_value, new_value, note";
+
+/// Decode a circuit change from the first eight columns of a row ([`CHANGE_COLS`]).
+pub(crate) fn change_from_row(r: &Row) -> rusqlite::Result<CircuitChange> {
+    let kind: String = r.get(3)?;
+    Ok(CircuitChange {
+        id: r.get(0)?,
+        circuit_id: r.get(1)?,
+        date: r.get(2)?,
+        kind: kind.parse().unwrap_or(ChangeKind::RegisterCorrected),
+        field: r.get(4)?,
+        old_value: r.get(5)?,
+        new_value: r.get(6)?,
+        note: r.get(7)?,
+    })
+}
+
+/// Decode an observation from (id, visit_id, board designation, circuit number, code, text).
+pub(crate) fn observation_from_row(r: &Row) -> rusqlite::Result<crate::model::Observation> {
+    let code: String = r.get(4)?;
+    Ok(crate::model::Observation {
+        id: r.get(0)?,
+        visit_id: r.get(1)?,
+        board: r.get(2)?,
+        circuit: r.get(3)?,
+        code: code.parse().unwrap_or(crate::model::ObservationCode::FI),
+        text: r.get(5)?,
+    })
 }
 
 /// Shortest decimal text of a number, as the register shows it (2.5, not 2.5000).

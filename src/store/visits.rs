@@ -322,17 +322,7 @@ impl Store {
              LEFT JOIN circuit c ON c.id = o.circuit_id
              WHERE o.visit_id = ?1 ORDER BY o.id",
         )?;
-        let rows = stmt.query_map([visit_id], |r| {
-            let code: String = r.get(4)?;
-            Ok(Observation {
-                id: r.get(0)?,
-                visit_id: r.get(1)?,
-                board: r.get(2)?,
-                circuit: r.get(3)?,
-                code: code.parse().unwrap_or(ObservationCode::FI),
-                text: r.get(5)?,
-            })
-        })?;
+        let rows = stmt.query_map([visit_id], super::observation_from_row)?;
         Ok(rows.collect::<rusqlite::Result<_>>()?)
     }
 }

@@ -1,0 +1,905 @@
+//! The visit brief: for each circuit in service, what it read last time, what it should read
+//! on the planned date at the expected ambient, the band a sound reading falls in, and the
+//! measured-value limit at that temperature.
+
+use chrono::NaiveDate;
+use serde::Serialize;
+
+use super::entry::{Field, Unit};
+use crate::analysis::{CircuitAnalysis, PropertyAnalysis, SeriesAnalysis};
+use crate::limits::{self, IrCircuit, MeasuredRule, RcdTest, RcdTiming, TestConditions, from_r20};
+use crate::model::{CircuitKind, Instrument, Megohms, Observation, RcdType, Readings, Status};
+use crate::trend::{LimitKind, Point, Scale, SeriesReport, TrendConfig, stats::least_squares};
+
+/// The ambient temperature assumed when none is given: a mild indoor day in a cool climate.
+/// Stated on every brief that uses it.
+pub const DEFAULT_TEMP_C: f64 = 15.0;
+
+/// Days in a year, as the trend engine counts them.
+const DAYS_PER_YEAR: f64 = 365.25;
+
+/// The last reading of a quantity.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct LastReading {
+    pub date: NaiveDate,
+    /// As read from the instrument.
+    pub raw: f64,
+    pub over_range: bool,
+    pub ambient_c: Option<f64>,
+}
+
+/// The band a sound reading is expected in. A missing end is unbounded (insulation resistance
+/// has no top: higher is never worse).
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct Band {
+    pub low: Option<f64>,
+    pub high: Option<f64>,
+}
+
+/// A limit at the visit's temperature.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct LimitAt {
+    pub value: f64,
+    /// Maximum or minimum.
+    pub kind: LimitKind,
+    pub words: String,
+    /// Advice rather than a limit (the typical declared Ze).
+    pub advisory: bool,
+}
+
+/// What to expect of one quantity at the visit.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Expectation {
+    pub field: Field,
+    pub last: Option<LastReading>,
+    /// At the visit's temperature; `None` when there is nothing to go on (no reading yet, or
+    /// the last was over range).
+    pub expected: Option<f64>,
+    pub band: Option<Band>,
+    /// How the expectation was formed, in words.
+    pub basis: String,
+    pub limit: Option<LimitAt>,
+}
+
+impl Expectation {
+    pub fn unit(&self) -> Unit {
+        self.field.unit()
+    }
+}
+
+/// One circuit in the brief.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct CircuitBrief {
+    pub circuit_id: i64,
+    pub number: String,
+    pub description: Option<String>,
+    pub kind: CircuitKind,
+    /// The device as the register has it, e.g. "B32".
+    pub device: Option<String>,
+    pub live_mm2: Option<f64>,
+    pub cpc_mm2: Option<f64>,
+    pub rcd_ma: Option<u16>,
+    pub last_visit: Option<NaiveDate>,
+    pub last_readings: Option<Readings>,
+    pub expectations: Vec<Expectation>,
+    /// Open flags on this circuit, most urgent first: "exceeds: …".
+    pub flags: Vec<String>,
+    pub notes: Vec<String>,
+}
+
+impl CircuitBrief {
+    /// The register's cable as "2.5/1.5 mm²".
+    pub fn cable(&self) -> Option<String> {
+        match (self.live_mm2, self.cpc_mm2) {
+            (Some(l), Some(c)) => Some(format!(
+                "{}/{} mm²",
+                crate::store::fmt_num(l),
+                crate::store::fmt_num(c)
+            )),
+            (Some(l), None) => Some(format!("{} mm² live", crate::store::fmt_num(l))),
+            _ => None,
+        }
+    }
+}
+
+/// One board in the brief.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct BoardBrief {
+    pub board_id: i64,
+    pub designation: String,
+    pub location: Option<String>,
+    pub earthing: Option<String>,
+    /// Whether the board is fed from the origin (its Ze is the supply's).
+    pub origin: bool,
+    /// Ze at the origin; at a sub-board (Zdb) there is no history here to expect from.
+    pub ze: Expectation,
+    pub circuits: Vec<CircuitBrief>,
+}
+
+/// A circuit to test first, and why.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Priority {
+    pub board: String,
+    pub circuit: Option<String>,
+    pub quantity: &'static str,
+    pub severity: &'static str,
+    pub reason: String,
+}
+
+/// An instrument to see to before leaving.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct InstrumentCheck {
+    pub serial: String,
+    pub description: Option<String>,
+    pub calibration_due: Option<NaiveDate>,
+    pub why: String,
+}
+
+/// Everything the brief says, ready to print as text, CSV or HTML.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Brief {
+    pub property_ref: String,
+    pub address: Option<String>,
+    pub date: NaiveDate,
+    pub temp_c: f64,
+    /// True when the temperature is the default, not given.
+    pub temp_assumed: bool,
+    pub last_visit: Option<NaiveDate>,
+    pub measured_rule: MeasuredRule,
+    pub boards: Vec<BoardBrief>,
+    pub test_first: Vec<Priority>,
+    /// Observations recorded at the last visit.
+    pub observations: Vec<Observation>,
+    pub last_observations_date: Option<NaiveDate>,
+    pub instruments: Vec<InstrumentCheck>,
+    /// How many instruments the register holds.
+    pub instruments_known: usize,
+    pub notes: Vec<String>,
+    pub caution: &'static str,
+}
+
+/// Prepare the brief for a visit on `date` at an ambient of `temp_c` (default
+/// [`DEFAULT_TEMP_C`]). Pure: everything comes from the analysis and the instrument list.
+pub fn brief(
+    analysis: &PropertyAnalysis,
+    date: NaiveDate,
+    temp_c: Option<f64>,
+    instruments: &[Instrument],
+) -> Brief {
+    let temp = temp_c.unwrap_or(DEFAULT_TEMP_C);
+    let cfg = &analysis.settings.trend;
+    let rule = analysis.settings.limits.measured_rule;
+    let mut notes = Vec::new();
+    if temp_c.is_none() {
+        notes.push(format!(
+            "no ambient temperature given: expected values are for {DEFAULT_TEMP_C} °C; give the expected ambient with --temp"
+        ));
+    }
+    if !analysis.visits_without_ambient.is_empty() {
+        notes.push(format!(
+            "no ambient recorded at {} visit(s): those readings are compared as taken",
+            analysis.visits_without_ambient.len()
+        ));
+    }
+    let origin_ze = analysis
+        .supply
+        .as_ref()
+        .and_then(|s| s.report.points.last())
+        .map(|p| p.raw);
+
+    let mut boards = Vec::new();
+    for b in analysis
+        .boards
+        .iter()
+        .filter(|b| b.status == Status::InService)
+    {
+        let origin = b.fed_from.is_none();
+        let ze = ze_expectation(analysis.supply.as_ref().filter(|_| origin), date, cfg);
+        let circuits = analysis
+            .circuits
+            .iter()
+            .filter(|c| c.circuit.board_id == b.id)
+            .map(|c| {
+                let ze_here = if origin { origin_ze } else { None };
+                circuit_brief(c, date, temp, rule, ze_here, cfg)
+            })
+            .collect::<Vec<_>>();
+        if circuits.is_empty() && !origin {
+            continue;
+        }
+        boards.push(BoardBrief {
+            board_id: b.id,
+            designation: b.designation.clone(),
+            location: b.location.clone(),
+            earthing: b.earthing.map(|e| e.as_str().to_string()),
+            origin,
+            ze,
+            circuits,
+        });
+    }
+
+    let test_first = analysis
+        .flags
+        .iter()
+        .map(|f| Priority {
+            board: f.board.clone(),
+            circuit: f.circuit.clone(),
+            quantity: f.quantity,
+            severity: f.severity,
+            reason: f.reason.clone(),
+        })
+        .collect();
+
+    let last = analysis.visits.last();
+    let instrument_checks = instruments
+        .iter()
+        .filter_map(|i| match i.calibration_due {
+            Some(due) if due < date => Some(InstrumentCheck {
+                serial: i.serial.clone(),
+                description: i.description.clone(),
+                calibration_due: Some(due),
+                why: format!(
+                    "calibration runs out on {due}, before the visit on {date}: recalibrate it or take another instrument"
+                ),
+            }),
+            Some(_) => None,
+            None => Some(InstrumentCheck {
+                serial: i.serial.clone(),
+                description: i.description.clone(),
+                calibration_due: None,
+                why: "no calibration date recorded: check the certificate before using it".into(),
+            }),
+        })
+        .collect();
+
+    Brief {
+        property_ref: analysis.property.reference.clone(),
+        address: analysis.property.address.clone(),
+        date,
+        temp_c: temp,
+        temp_assumed: temp_c.is_none(),
+        last_visit: analysis.last_visit,
+        measured_rule: rule,
+        boards,
+        test_first,
+        observations: last.map(|v| v.observations.clone()).unwrap_or_default(),
+        last_observations_date: last.map(|v| v.visit.date),
+        instruments: instrument_checks,
+        instruments_known: instruments.len(),
+        notes,
+        caution: limits::CAUTION,
+    }
+}
+
+/// The fields prompted for and briefed on a circuit: ring legs on a ring, R2 where it was
+/// recorded before, RCD times where there is an RCD or a history of them.
+pub fn fields_for(c: &CircuitAnalysis) -> Vec<Field> {
+    let has = |key: &str| c.series.iter().any(|s| s.quantity == key);
+    let had = |f: Field| c.last_readings.as_ref().is_some_and(|r| f.answered(r));
+    Field::CIRCUIT
+        .into_iter()
+        .filter(|f| match f {
+            Field::RingR1 | Field::RingRn | Field::RingR2 => c.circuit.kind == CircuitKind::Ring,
+            Field::R2 => has("r2") || had(Field::R2),
+            Field::Rcd5x | Field::Rcd => c.circuit.rcd_ma.is_some() || had(*f),
+            _ => true,
+        })
+        .collect()
+}
+
+fn circuit_brief(
+    c: &CircuitAnalysis,
+    date: NaiveDate,
+    temp: f64,
+    rule: MeasuredRule,
+    ze: Option<f64>,
+    cfg: &TrendConfig,
+) -> CircuitBrief {
+    let mut notes = c.notes.clone();
+    let zs_limit = zs_limit_at(c, temp, rule, &mut notes);
+    let expectations = fields_for(c)
+        .into_iter()
+        .map(|f| {
+            let series = series_for(c, f);
+            let mut e = expectation(f, series, c.last_readings.as_ref(), c.last_visit, date, cfg);
+            if e.field.quantity().temperature_sensitive() {
+                convert_to(&mut e, temp, if f == Field::Zs { ze } else { None });
+            }
+            e.limit = match f {
+                Field::Zs => zs_limit.clone(),
+                Field::R1rn => r1rn_limit_at(c, zs_limit.as_ref(), ze, series),
+                Field::IrLl | Field::IrLe => {
+                    let m = limits::ir_minimum(IrCircuit::UpTo500V);
+                    Some(LimitAt {
+                        value: m.minimum_mohm,
+                        kind: LimitKind::Min,
+                        words: format!(
+                            "minimum for a circuit up to 500 V, {} V test",
+                            m.test_voltage_v
+                        ),
+                        advisory: false,
+                    })
+                }
+                Field::Rcd5x | Field::Rcd => {
+                    let timing = RcdTiming::of(c.circuit.rcd_type.unwrap_or(RcdType::A));
+                    let test = if f == Field::Rcd5x {
+                        RcdTest::AtFive
+                    } else {
+                        RcdTest::AtRated
+                    };
+                    let m = limits::rcd_max_ms(timing, test);
+                    Some(LimitAt {
+                        value: m.max_ms,
+                        kind: LimitKind::Max,
+                        words: format!(
+                            "maximum for a {} RCD at {}",
+                            if timing == RcdTiming::Delayed {
+                                "time-delayed (S)"
+                            } else {
+                                "general"
+                            },
+                            test.as_str()
+                        ),
+                        advisory: false,
+                    })
+                }
+                _ => None,
+            };
+            e
+        })
+        .collect();
+    CircuitBrief {
+        circuit_id: c.circuit.id,
+        number: c.circuit.number.clone(),
+        description: c.circuit.description.clone(),
+        kind: c.circuit.kind,
+        device: c.circuit.device.map(|d| d.to_string()),
+        live_mm2: c.circuit.live_mm2,
+        cpc_mm2: c.circuit.cpc_mm2,
+        rcd_ma: c.circuit.rcd_ma,
+        last_visit: c.last_visit,
+        last_readings: c.last_readings.clone(),
+        expectations,
+        flags: c
+            .flags
+            .iter()
+            .map(|f| format!("{}: {}", f.severity, f.reason))
+            .collect(),
+        notes,
+    }
+}
+
+/// The analysed series a field belongs to.
+fn series_for(c: &CircuitAnalysis, f: Field) -> Option<&SeriesAnalysis> {
+    let label = match f {
+        Field::RingR1 => "ring r1",
+        Field::RingRn => "ring rn",
+        Field::RingR2 => "ring r2",
+        Field::Rcd5x => "RCD trip time at 5 × IΔn",
+        Field::Rcd => "RCD trip time at 1 × IΔn",
+        _ => {
+            let key = f.quantity().key();
+            return c.series.iter().find(|s| s.quantity == key);
+        }
+    };
+    c.series.iter().find(|s| s.label == label)
+}
+
+/// The measured-value maximum Zs at the visit's temperature.
+fn zs_limit_at(
+    c: &CircuitAnalysis,
+    temp: f64,
+    rule: MeasuredRule,
+    notes: &mut Vec<String>,
+) -> Option<LimitAt> {
+    if let Some(z) = &c.zs_limit {
+        return match limits::measured_limit(
+            z.zs_max_ohm,
+            rule,
+            &TestConditions {
+                temp_c: Some(temp),
+                insulation: c.circuit.insulation,
+            },
+        ) {
+            Ok(m) => Some(LimitAt {
+                value: m.limit_ohm,
+                kind: LimitKind::Max,
+                words: match rule {
+                    MeasuredRule::TemperatureCorrected => format!(
+                        "measured-value maximum Zs for {} at {temp} °C ({:.2} Ω tabulated{})",
+                        z.device_text,
+                        z.zs_max_ohm,
+                        if m.insulation_assumed {
+                            "; 90 °C thermosetting assumed"
+                        } else {
+                            ""
+                        }
+                    ),
+                    MeasuredRule::RuleOfThumb80 => format!(
+                        "80 % of the tabulated {:.2} Ω for {}",
+                        z.zs_max_ohm, z.device_text
+                    ),
+                },
+                advisory: false,
+            }),
+            Err(e) => {
+                notes.push(format!("measured-value limit: {e}"));
+                None
+            }
+        };
+    }
+    // TT: the series carries the 50 V / IΔn limit, which does not move with temperature.
+    c.series.iter().find(|s| s.quantity == "zs").and_then(|s| {
+        Some(LimitAt {
+            value: s.limit?,
+            kind: LimitKind::Max,
+            words: s.limit_words.clone().unwrap_or_default(),
+            advisory: false,
+        })
+    })
+}
+
+/// The limit on R1+Rn alone: the line–neutral loop Ze + R1+Rn against the same device limit.
+fn r1rn_limit_at(
+    c: &CircuitAnalysis,
+    zs: Option<&LimitAt>,
+    ze: Option<f64>,
+    series: Option<&SeriesAnalysis>,
+) -> Option<LimitAt> {
+    let zs = zs.filter(|_| c.zs_limit.is_some())?;
+    let (value, ze_words) = match (ze, series.and_then(|s| s.limit)) {
+        (Some(z), _) if zs.value > z => (zs.value - z, format!("the latest Ze {z:.2} Ω")),
+        // A sub-board: the analysis took its Zdb off the limit at 20 °C; take it off here too.
+        (None, Some(l20)) => {
+            let at20 = c.series.iter().find(|s| s.quantity == "zs")?.limit?;
+            (
+                l20 + (zs.value - at20),
+                "the latest Ze at this board".into(),
+            )
+        }
+        _ => return None,
+    };
+    let value = (value * 100.0 + 1e-7).floor() / 100.0;
+    Some(LimitAt {
+        value,
+        kind: LimitKind::Max,
+        words: format!("line–neutral loop: {} less {ze_words}", zs.words),
+        advisory: false,
+    })
+}
+
+fn years_between(a: NaiveDate, b: NaiveDate) -> f64 {
+    (b - a).num_days() as f64 / DAYS_PER_YEAR
+}
+
+fn to_work(scale: Scale, v: f64) -> f64 {
+    match scale {
+        Scale::Linear => v,
+        Scale::Log10 => v.log10(),
+    }
+}
+
+fn from_work(scale: Scale, w: f64) -> f64 {
+    match scale {
+        Scale::Linear => w,
+        Scale::Log10 => 10f64.powf(w),
+    }
+}
+
+/// The value expected on `date` at 20 °C (where the series is normalised), with its band, from
+/// the fitted line over the current baseline, or the last value when there is no trend.
+/// Converting to the visit's temperature is left to [`convert_to`].
+fn expectation(
+    f: Field,
+    series: Option<&SeriesAnalysis>,
+    last_readings: Option<&Readings>,
+    last_visit: Option<NaiveDate>,
+    date: NaiveDate,
+    cfg: &TrendConfig,
+) -> Expectation {
+    let q = f.quantity();
+    let scale = q.scale();
+    let floor = cfg.floor_for(q);
+    let unit = f.unit().symbol();
+    let Some(s) = series else {
+        // No series (e.g. RCD at 1 × IΔn when 5 × is trended): the last reading as taken.
+        let last = last_readings.and_then(|r| f.get(r)).zip(last_visit);
+        return match last {
+            Some((m, d)) => from_last_only(f, m, d, cfg),
+            None => Expectation {
+                field: f,
+                last: None,
+                expected: None,
+                band: None,
+                basis: "no reading on record: nothing to compare with yet".into(),
+                limit: None,
+            },
+        };
+    };
+    let report: &SeriesReport = &s.report;
+    let last = report.points.last().map(|p| LastReading {
+        date: p.date,
+        raw: p.raw,
+        over_range: p.censored,
+        ambient_c: p.ambient_c,
+    });
+    let base: Vec<&Point> = report
+        .points
+        .iter()
+        .filter(|p| report.baseline_start.is_none_or(|b| p.date >= b))
+        .collect();
+    let mut e = Expectation {
+        field: f,
+        last,
+        expected: None,
+        band: None,
+        basis: String::new(),
+        limit: None,
+    };
+    let Some(last_base) = base.last().copied() else {
+        e.basis = report
+            .note
+            .clone()
+            .unwrap_or_else(|| "no reading since the baseline was reset".into());
+        return e;
+    };
+    if last_base.censored {
+        // Over range last time: a lower bound, never a value. Expect at least the bound less
+        // the noise floor.
+        let lo = from_work(scale, to_work(scale, last_base.value) - floor.at(0.0));
+        e.band = Some(Band {
+            low: Some(lo),
+            high: None,
+        });
+        e.basis = format!(
+            "over range last time (>{} {unit}): at least {} {unit} expected",
+            super::entry::fmt_num(f.unit(), last_base.value),
+            super::entry::fmt_num(f.unit(), lo)
+        );
+        return e;
+    }
+    let start = base[0].date;
+    let (xs, ys): (Vec<f64>, Vec<f64>) = base
+        .iter()
+        .filter(|p| !p.censored)
+        .map(|p| (years_between(start, p.date), to_work(scale, p.value)))
+        .unzip();
+    let at20 = if last_base.ambient_c.is_some() {
+        " at 20 °C"
+    } else {
+        ""
+    };
+    let (y, half) = match (least_squares(&xs, &ys), &report.fit) {
+        (Some(ls), Some(fit)) => {
+            let x = years_between(start, date);
+            let y = ls.at(x);
+            // The fitted line's standard error at x, with the trend engine's residual spread
+            // (never less than half the noise floor): σ² / n + (SE(slope) × (x − x̄))².
+            let sigma = fit.slope_se_per_year * ls.sxx.sqrt();
+            let se = (sigma * sigma / ls.n as f64
+                + (fit.slope_se_per_year * (x - ls.x_mean)).powi(2))
+            .sqrt();
+            e.basis = format!(
+                "trend over {} readings since {start}: {:+.3} {}/year{at20}",
+                ls.n,
+                ls.slope,
+                if scale == Scale::Log10 {
+                    "decades"
+                } else {
+                    unit
+                }
+            );
+            (y, floor.at(y) + cfg.projection_k * se)
+        }
+        _ => {
+            let y = to_work(scale, last_base.value);
+            e.basis = format!("no trend yet: the last reading{at20}, {}", last_base.date);
+            (y, floor.at(y))
+        }
+    };
+    e.expected = Some(from_work(scale, y).max(0.0));
+    e.band = Some(match scale {
+        Scale::Linear => Band {
+            low: Some((y - half).max(0.0)),
+            high: Some(y + half),
+        },
+        // Higher insulation resistance is never worse: the band has no top.
+        Scale::Log10 => Band {
+            low: Some(from_work(scale, y - half)),
+            high: None,
+        },
+    });
+    if q.temperature_sensitive() && last_base.ambient_c.is_none() {
+        e.basis
+            .push_str("; no ambient recorded last time: not converted for temperature");
+    }
+    e
+}
+
+fn from_last_only(f: Field, m: Megohms, d: NaiveDate, cfg: &TrendConfig) -> Expectation {
+    let q = f.quantity();
+    let scale = q.scale();
+    let floor = cfg.floor_for(q);
+    let y = to_work(scale, m.value);
+    let half = floor.at(y);
+    Expectation {
+        field: f,
+        last: Some(LastReading {
+            date: d,
+            raw: m.value,
+            over_range: m.over_range,
+            ambient_c: None,
+        }),
+        expected: (!m.over_range).then_some(m.value),
+        band: Some(match (scale, m.over_range) {
+            (Scale::Linear, _) => Band {
+                low: Some((y - half).max(0.0)),
+                high: Some(y + half),
+            },
+            (Scale::Log10, over) => Band {
+                low: Some(from_work(
+                    scale,
+                    y - if over { floor.at(0.0) } else { half },
+                )),
+                high: None,
+            },
+        }),
+        basis: format!("the last reading as taken, {d}"),
+        limit: None,
+    }
+}
+
+/// Convert an expectation at 20 °C to the visit's temperature (R_t = R20 × (1 + α(t − 20))).
+/// For Zs only the circuit's part moves with temperature; Ze is the supply's.
+fn convert_to(e: &mut Expectation, temp: f64, ze: Option<f64>) {
+    if e.basis.contains("not converted") || e.last.as_ref().is_none_or(|l| l.ambient_c.is_none()) {
+        return;
+    }
+    let conv = |v: f64| -> Option<f64> {
+        match ze {
+            Some(z) if v > z => from_r20(v - z, temp).ok().map(|p| z + p),
+            _ => from_r20(v, temp).ok(),
+        }
+    };
+    e.expected = e.expected.and_then(conv);
+    if let Some(b) = &mut e.band {
+        b.low = b.low.and_then(conv);
+        b.high = b.high.and_then(conv);
+    }
+    e.basis.push_str(&format!(", converted to {temp} °C"));
+}
+
+fn ze_expectation(
+    supply: Option<&SeriesAnalysis>,
+    date: NaiveDate,
+    cfg: &TrendConfig,
+) -> Expectation {
+    let mut e = expectation(Field::Ze, supply, None, None, date, cfg);
+    if supply.is_none() {
+        e.basis = "no Ze on record at this board".into();
+    }
+    e.limit = supply.and_then(|s| {
+        Some(LimitAt {
+            value: s.limit?,
+            kind: LimitKind::Max,
+            words: s.limit_words.clone().unwrap_or_default(),
+            advisory: true,
+        })
+    });
+    e
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::analysis::{Settings, analyse};
+    use crate::model::{Earthing, Insulation, ObservationCode, VisitState};
+    use crate::store::{CircuitDetails, NewBoard, NewProperty, NewVisit, Store};
+
+    fn day(s: &str) -> NaiveDate {
+        s.parse().unwrap()
+    }
+
+    /// An invented property: one TN-C-S board, one B32 radial in 70 °C thermoplastic cable.
+    fn invented(visits: &[(&str, f64, f64, f64)]) -> (Store, i64) {
+        let s = Store::open_in_memory().unwrap();
+        let p = s
+            .add_property(&NewProperty {
+                reference: "INV-1".into(),
+                ..Default::default()
+            })
+            .unwrap();
+        s.add_board(
+            "INV-1",
+            &NewBoard {
+                designation: "CU".into(),
+                earthing: Some(Earthing::TnCS),
+                ..Default::default()
+            },
+        )
+        .unwrap();
+        let c = s
+            .add_circuit(
+                "INV-1",
+                "CU",
+                "1",
+                &CircuitDetails {
+                    device: Some("B32".parse().unwrap()),
+                    live_mm2: Some(2.5),
+                    cpc_mm2: Some(1.5),
+                    insulation: Some(Insulation::Thermoplastic70),
+                    ..Default::default()
+                },
+            )
+            .unwrap();
+        for (date, ambient, r1r2, zs) in visits {
+            let v = s
+                .add_visit(
+                    p.id,
+                    &NewVisit {
+                        date: Some(day(date)),
+                        ambient_c: Some(*ambient),
+                        ze_ohm: Some(0.20),
+                        ..Default::default()
+                    },
+                    VisitState::Complete,
+                )
+                .unwrap();
+            s.put_test_record(
+                v.id,
+                c.id,
+                &Readings {
+                    r1r2_ohm: Some(*r1r2),
+                    zs_ohm: Some(*zs),
+                    ..Default::default()
+                },
+            )
+            .unwrap();
+        }
+        (s, p.id)
+    }
+
+    fn exp(b: &Brief, f: Field) -> &Expectation {
+        b.boards[0].circuits[0]
+            .expectations
+            .iter()
+            .find(|e| e.field == f)
+            .unwrap()
+    }
+
+    fn close(a: f64, b: f64) {
+        assert!((a - b).abs() < 1e-6, "{a} vs {b}");
+    }
+
+    #[test]
+    fn expected_value_is_the_trend_then_the_temperature() {
+        // Two visits at 20 °C, four years apart (1461 days = 4.0 years of 365.25 days):
+        // R1+R2 0.50 → 0.54 Ω, Zs 0.70 → 0.74 Ω with Ze 0.20 Ω.
+        let (s, id) = invented(&[
+            ("2020-01-01", 20.0, 0.50, 0.70),
+            ("2024-01-01", 20.0, 0.54, 0.74),
+        ]);
+        let a = analyse(
+            &s.history(id).unwrap(),
+            &Settings::defaults(day("2025-01-01")),
+        );
+        let b = brief(&a, day("2028-01-01"), Some(10.0), &[]);
+        let r = exp(&b, Field::R1r2);
+        // Trend: slope (0.54 − 0.50) / 4 = 0.01 Ω/year; on 2028-01-01 (2922 days = 8.0 years
+        // from the first visit) R20 = 0.50 + 0.01 × 8 = 0.58 Ω.
+        // Temperature (limits::from_r20, α = 0.00393 /K from IEC 60228):
+        // R10 = 0.58 × (1 + 0.00393 × (10 − 20)) = 0.58 × 0.9607 = 0.557206 Ω.
+        close(r.expected.unwrap(), 0.557206);
+        // Band: noise floor at 0.58 = 0.01 + 0.02 + 0.05 × 0.58 = 0.059 Ω (trend defaults).
+        // Trend uncertainty: two points, so σ = half the floor at the mean 0.52 Ω
+        // = (0.01 + 0.02 + 0.026) / 2 = 0.028; Sxx = 2² + 2² = 8; SE(slope) = 0.028 / √8
+        // = 0.0098995; SE of the line at x = 8 (x̄ = 2) = √(0.028² / 2 + (0.0098995 × 6)²)
+        // = √(0.000392 + 0.003528) = 0.0626099; k = 2 → 0.1252198.
+        // Half-width 0.059 + 0.1252198 = 0.1842198 → 0.3957802 to 0.7642198 Ω at 20 °C,
+        // × 0.9607 at 10 °C → 0.3802260 to 0.7341870 Ω.
+        let band = r.band.unwrap();
+        close(band.low.unwrap(), 0.3957802 * 0.9607);
+        close(band.high.unwrap(), 0.7642198 * 0.9607);
+        assert!(r.basis.contains("trend over 2 readings"), "{}", r.basis);
+        assert!(r.basis.contains("converted to 10 °C"), "{}", r.basis);
+        assert_eq!(r.last.as_ref().unwrap().raw, 0.54);
+
+        // Zs: only the circuit's part moves with temperature. Zs20 on the day = 0.70 + 0.01 × 8
+        // = 0.78 Ω; at 10 °C = Ze 0.20 + (0.78 − 0.20) × 0.9607 = 0.20 + 0.557206 = 0.757206 Ω.
+        let z = exp(&b, Field::Zs);
+        close(z.expected.unwrap(), 0.757206);
+        // Limit: B32 tabulated 1.37 Ω (BS 7671:2018+A2:2022 Table 41.3); measured-value limit
+        // at 10 °C = 1.37 × 0.9607 / 1.20 = 1.0968 → 1.09 Ω, rounded down (On-Site Guide
+        // Appendix I, k = 1.20 for 70 °C thermoplastic, from memory).
+        let l = z.limit.as_ref().unwrap();
+        assert_eq!(l.value, 1.09);
+        assert_eq!(l.kind, LimitKind::Max);
+        assert!(l.words.contains("at 10 °C"), "{}", l.words);
+        // R1+Rn: the same loop limit less the latest Ze: 1.09 − 0.20 = 0.89 Ω.
+        assert_eq!(exp(&b, Field::R1rn).limit.as_ref().unwrap().value, 0.89);
+        // At 25 °C the limit is higher: 1.37 × 1.01965 / 1.20 = 1.1641 → 1.16 Ω.
+        let warm = brief(&a, day("2028-01-01"), Some(25.0), &[]);
+        assert_eq!(exp(&warm, Field::Zs).limit.as_ref().unwrap().value, 1.16);
+    }
+
+    #[test]
+    fn one_visit_gives_the_last_value_at_20_converted() {
+        // One visit at 10 °C reading 0.4804 Ω: R20 = 0.4804 / 0.9607 = 0.50005 Ω; on any day,
+        // at 25 °C, expect 0.50005 × (1 + 0.00393 × 5) = 0.50005 × 1.01965 = 0.509876 Ω.
+        let (s, id) = invented(&[("2024-03-01", 10.0, 0.4804, 0.69)]);
+        let a = analyse(
+            &s.history(id).unwrap(),
+            &Settings::defaults(day("2025-01-01")),
+        );
+        let b = brief(&a, day("2026-03-01"), Some(25.0), &[]);
+        let r = exp(&b, Field::R1r2);
+        close(r.expected.unwrap(), 0.4804 / 0.9607 * 1.01965);
+        // Band: the floor alone at R20, 0.01 + 0.02 + 0.05 × 0.50005 = 0.0550025 Ω each side.
+        let r20 = 0.4804 / 0.9607;
+        close(r.band.unwrap().high.unwrap(), (r20 + 0.0550025) * 1.01965);
+        assert!(r.basis.starts_with("no trend yet"), "{}", r.basis);
+        // Nothing recorded for insulation: no expectation, but the minimum is there
+        // (BS 7671 Table 64: 1.0 MΩ for circuits up to 500 V).
+        let ir = exp(&b, Field::IrLe);
+        assert_eq!(ir.expected, None);
+        assert_eq!(ir.limit.as_ref().unwrap().value, 1.0);
+        assert_eq!(ir.limit.as_ref().unwrap().kind, LimitKind::Min);
+    }
+
+    #[test]
+    fn default_temperature_flags_calibration_and_observations() {
+        let (s, id) = invented(&[
+            ("2020-01-01", 20.0, 0.50, 0.70),
+            ("2024-01-01", 20.0, 0.90, 1.10),
+        ]);
+        let v = s.visit_on(id, day("2024-01-01")).unwrap().unwrap();
+        s.add_observation(
+            v.id,
+            None,
+            None,
+            ObservationCode::C3,
+            "No RCD on the lighting",
+        )
+        .unwrap();
+        let a = analyse(
+            &s.history(id).unwrap(),
+            &Settings::defaults(day("2025-01-01")),
+        );
+        let insts = [
+            Instrument {
+                id: 1,
+                serial: "MFT-A".into(),
+                description: None,
+                calibration_due: Some(day("2026-02-01")),
+            },
+            Instrument {
+                id: 2,
+                serial: "MFT-B".into(),
+                description: None,
+                calibration_due: Some(day("2026-06-01")),
+            },
+            Instrument {
+                id: 3,
+                serial: "MFT-C".into(),
+                description: None,
+                calibration_due: None,
+            },
+        ];
+        let b = brief(&a, day("2026-03-01"), None, &insts);
+        assert_eq!(b.temp_c, DEFAULT_TEMP_C);
+        assert!(b.temp_assumed);
+        assert!(b.notes.iter().any(|n| n.contains("15 °C")));
+        // R1+R2 rose 0.40 Ω, far beyond the noise floor, so the circuit is on the worklist.
+        assert!(!b.test_first.is_empty());
+        assert_eq!(b.test_first[0].circuit.as_deref(), Some("1"));
+        assert!(!b.boards[0].circuits[0].flags.is_empty());
+        // MFT-A lapses before the visit, MFT-B does not, MFT-C has no date.
+        let serials: Vec<&str> = b.instruments.iter().map(|i| i.serial.as_str()).collect();
+        assert_eq!(serials, ["MFT-A", "MFT-C"]);
+        assert_eq!(b.observations.len(), 1);
+        assert_eq!(b.observations[0].text, "No RCD on the lighting");
+        assert_eq!(b.caution, crate::limits::CAUTION);
+        // Ze: no temperature correction; the last Ze is 0.20 at both visits.
+        close(b.boards[0].ze.expected.unwrap(), 0.20);
+    }
+}

@@ -1,0 +1,341 @@
+//! The order of prompts in a recording session, where a resumed session carries on, and the
+//! `board,circuit,quantity,value` lines of the non-interactive mode. Pure: the terminal and
+//! the store are the caller's.
+
+use std::collections::HashSet;
+
+use serde::Serialize;
+
+use super::brief::{Brief, CircuitBrief, Expectation};
+use super::entry::Field;
+use crate::model::Device;
+
+/// One prompt of a session, by position in the brief.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+pub enum Step {
+    /// Ze (Zdb at a sub-board) at board `board`.
+    Ze { board: usize },
+    /// Whether the device and cable fitted are as the register says.
+    Fitted { board: usize, circuit: usize },
+    /// One quantity of one circuit: expectation `exp` of the circuit.
+    Value {
+        board: usize,
+        circuit: usize,
+        exp: usize,
+    },
+}
+
+/// Every prompt of a session, board by board, circuit by circuit.
+pub fn steps(brief: &Brief) -> Vec<Step> {
+    let mut out = Vec::new();
+    for (b, board) in brief.boards.iter().enumerate() {
+        out.push(Step::Ze { board: b });
+        for (c, circuit) in board.circuits.iter().enumerate() {
+            out.push(Step::Fitted {
+                board: b,
+                circuit: c,
+            });
+            for e in 0..circuit.expectations.len() {
+                out.push(Step::Value {
+                    board: b,
+                    circuit: c,
+                    exp: e,
+                });
+            }
+        }
+    }
+    out
+}
+
+/// What a pending visit already holds, to find where a session stopped.
+#[derive(Debug, Clone, Default)]
+pub struct Progress {
+    /// Boards with Ze stored, by id.
+    pub ze: HashSet<i64>,
+    /// (circuit id, field) with a value or a limitation stored.
+    pub values: HashSet<(i64, Field)>,
+    /// Circuits with a register change recorded at this visit.
+    pub changed: HashSet<i64>,
+}
+
+impl Progress {
+    pub fn answered(&self, brief: &Brief, step: Step) -> bool {
+        match step {
+            Step::Ze { board } => self.ze.contains(&brief.boards[board].board_id),
+            Step::Fitted { board, circuit } => self
+                .changed
+                .contains(&brief.boards[board].circuits[circuit].circuit_id),
+            Step::Value {
+                board,
+                circuit,
+                exp,
+            } => {
+                let c = &brief.boards[board].circuits[circuit];
+                self.values
+                    .contains(&(c.circuit_id, c.expectations[exp].field))
+            }
+        }
+    }
+
+    /// How many values (readings, limitations, Ze) are stored.
+    pub fn stored(&self) -> usize {
+        self.ze.len() + self.values.len()
+    }
+}
+
+/// Where a resumed session carries on: just after the last prompt that has something stored.
+/// Prompts skipped before it stay passed; those after it are asked again.
+pub fn resume_at(brief: &Brief, steps: &[Step], progress: &Progress) -> usize {
+    steps
+        .iter()
+        .rposition(|s| progress.answered(brief, *s))
+        .map_or(0, |i| i + 1)
+}
+
+/// The circuit and expectation a step is about.
+pub fn step_expectation(
+    brief: &Brief,
+    step: Step,
+) -> (Option<&CircuitBrief>, Option<&Expectation>) {
+    match step {
+        Step::Ze { board } => (None, Some(&brief.boards[board].ze)),
+        Step::Fitted { board, circuit } => (Some(&brief.boards[board].circuits[circuit]), None),
+        Step::Value {
+            board,
+            circuit,
+            exp,
+        } => {
+            let c = &brief.boards[board].circuits[circuit];
+            (Some(c), Some(&c.expectations[exp]))
+        }
+    }
+}
+
+/// What is fitted, where it differs from the register.
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+pub struct Fitted {
+    pub device: Option<Device>,
+    /// Line and protective conductor csa, mm².
+    pub cable: Option<(f64, f64)>,
+}
+
+/// A fitted check that could not be read.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+pub enum FittedError {
+    #[error("{text:?}: {why}")]
+    Device { text: String, why: String },
+    #[error("{text:?} is not a cable size: expected live/cpc in mm², e.g. 2.5/1.5")]
+    Cable { text: String },
+}
+
+/// Read what the inspector says is fitted: a device (`B20`, `RCBO C16`), a cable as
+/// `live/cpc` (`2.5/1.5`), or both (`B20 2.5/1.5`). Empty means as the register says.
+pub fn parse_fitted(text: &str) -> Result<Fitted, FittedError> {
+    let mut out = Fitted::default();
+    let mut device_words = Vec::new();
+    for w in text.split_whitespace() {
+        if w.contains('/') {
+            out.cable = Some(parse_cable(w)?);
+        } else {
+            device_words.push(w);
+        }
+    }
+    let device_text = device_words.join(" ");
+    let device_text = device_text.trim_end_matches([',', ';']);
+    if !device_text.is_empty() {
+        out.device = Some(
+            device_text
+                .parse::<Device>()
+                .map_err(|e| FittedError::Device {
+                    text: device_text.to_string(),
+                    why: e.to_string(),
+                })?,
+        );
+    }
+    Ok(out)
+}
+
+/// `2.5/1.5`, with an optional `mm²` or `mm2`.
+pub fn parse_cable(text: &str) -> Result<(f64, f64), FittedError> {
+    let t = text
+        .trim()
+        .trim_end_matches("mm²")
+        .trim_end_matches("mm2")
+        .trim();
+    let bad = || FittedError::Cable { text: text.into() };
+    let (l, c) = t.split_once('/').ok_or_else(bad)?;
+    let l: f64 = l.trim().parse().map_err(|_| bad())?;
+    let c: f64 = c.trim().parse().map_err(|_| bad())?;
+    for v in [l, c] {
+        if crate::model::validate_csa("csa", v).is_err() {
+            return Err(bad());
+        }
+    }
+    Ok((l, c))
+}
+
+/// What a line of the non-interactive mode sets.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum LineWhat {
+    /// A reading (Ze when the circuit is empty).
+    Value(Field),
+    /// The device fitted, recorded as a device change when it differs from the register.
+    Device,
+    /// The cable fitted, as live/cpc, recorded as a cable replacement when it differs.
+    Cable,
+}
+
+/// One `board,circuit,quantity,value` line.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Line {
+    pub number: usize,
+    pub board: String,
+    /// Empty for a board reading (Ze).
+    pub circuit: Option<String>,
+    pub what: LineWhat,
+    pub value: String,
+}
+
+/// A line that could not be read; the message names the line and what is expected.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+#[error("line {line}: {message}")]
+pub struct LineError {
+    pub line: usize,
+    pub message: String,
+}
+
+/// Quantity names a line may carry: the visit-file columns, and `device` and `cable`.
+pub fn line_quantities() -> Vec<&'static str> {
+    std::iter::once(Field::Ze)
+        .chain(Field::CIRCUIT)
+        .map(|f| f.column())
+        .chain(["device", "cable"])
+        .collect()
+}
+
+/// Read one line's fields (already split as CSV). Returns `None` for a blank line, a comment
+/// (`#`) or the header `board,circuit,quantity,value`.
+pub fn parse_line(number: usize, fields: &[&str]) -> Result<Option<Line>, LineError> {
+    let err = |message: String| LineError {
+        line: number,
+        message,
+    };
+    let all_empty = fields.iter().all(|f| f.trim().is_empty());
+    if all_empty
+        || fields
+            .first()
+            .is_some_and(|f| f.trim_start().starts_with('#'))
+    {
+        return Ok(None);
+    }
+    let lower: Vec<String> = fields
+        .iter()
+        .map(|f| f.trim().to_ascii_lowercase())
+        .collect();
+    if lower == ["board", "circuit", "quantity", "value"] {
+        return Ok(None);
+    }
+    if fields.len() != 4 {
+        return Err(err(format!(
+            "{} fields: expected 4, board,circuit,quantity,value",
+            fields.len()
+        )));
+    }
+    let board = fields[0].trim();
+    if board.is_empty() {
+        return Err(err(
+            "the board is empty: expected its designation, e.g. DB1".into(),
+        ));
+    }
+    let circuit = Some(fields[1].trim()).filter(|c| !c.is_empty());
+    let q = lower[2].as_str();
+    let what = match q {
+        "device" => LineWhat::Device,
+        "cable" => LineWhat::Cable,
+        _ => match Field::from_column(q) {
+            Some(f) => LineWhat::Value(f),
+            None => {
+                return Err(err(format!(
+                    "unknown quantity {:?}: expected one of {}",
+                    fields[2].trim(),
+                    line_quantities().join(", ")
+                )));
+            }
+        },
+    };
+    match (what, circuit) {
+        (LineWhat::Value(Field::Ze), Some(c)) => {
+            return Err(err(format!(
+                "ze_ohm is a board reading: leave the circuit empty (found {c:?})"
+            )));
+        }
+        (LineWhat::Value(Field::Ze), None) => {}
+        (_, None) => {
+            return Err(err(format!(
+                "the circuit is empty: {q} needs a circuit number"
+            )));
+        }
+        _ => {}
+    }
+    Ok(Some(Line {
+        number,
+        board: board.to_string(),
+        circuit: circuit.map(String::from),
+        what,
+        value: fields[3].to_string(),
+    }))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn lines_are_read_or_refused_with_the_line_number() {
+        assert_eq!(
+            parse_line(1, &["board", "circuit", "quantity", "value"]),
+            Ok(None)
+        );
+        assert_eq!(parse_line(2, &[""]), Ok(None));
+        assert_eq!(parse_line(3, &["# a comment"]), Ok(None));
+        let l = parse_line(4, &["DB1", "3", "r1r2_ohm", "0.47"])
+            .unwrap()
+            .unwrap();
+        assert_eq!(l.what, LineWhat::Value(Field::R1r2));
+        assert_eq!(l.circuit.as_deref(), Some("3"));
+        let z = parse_line(5, &["DB1", "", "ZE_OHM", "0.21"])
+            .unwrap()
+            .unwrap();
+        assert_eq!(z.circuit, None);
+        let e = parse_line(6, &["DB1", "3", "r1r2", "0.47"]).unwrap_err();
+        assert!(
+            e.to_string()
+                .starts_with("line 6: unknown quantity \"r1r2\""),
+            "{e}"
+        );
+        assert!(parse_line(7, &["DB1", "3", "r1r2_ohm"]).is_err());
+        assert!(parse_line(8, &["DB1", "3", "ze_ohm", "0.2"]).is_err());
+        assert!(parse_line(9, &["DB1", "", "zs_ohm", "0.2"]).is_err());
+    }
+
+    #[test]
+    fn fitted_device_and_cable() {
+        assert_eq!(parse_fitted(""), Ok(Fitted::default()));
+        let f = parse_fitted("B20 2.5/1.5").unwrap();
+        assert_eq!(f.device.unwrap().to_string(), "B20");
+        assert_eq!(f.cable, Some((2.5, 1.5)));
+        assert_eq!(parse_fitted("4/1.5mm²").unwrap().cable, Some((4.0, 1.5)));
+        assert!(matches!(
+            parse_fitted("Q99"),
+            Err(FittedError::Device { .. })
+        ));
+        assert!(matches!(
+            parse_fitted("2.5/x"),
+            Err(FittedError::Cable { .. })
+        ));
+        assert!(matches!(
+            parse_fitted("0/1.5"),
+            Err(FittedError::Cable { .. })
+        ));
+    }
+}

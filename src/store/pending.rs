@@ -1,0 +1,139 @@
+//! A visit being recorded on site: its readings are written one at a time, each in its own
+//! small transaction, so a crash loses nothing; it can be carried on or abandoned.
+
+use rusqlite::{OptionalExtension, params};
+
+use super::Store;
+use crate::error::{Error, Result};
+use crate::model::{CircuitChange, Readings, TestRecord, Visit, VisitState};
+
+/// A board reading at a visit: (board id, Ze or Zdb in Ω, prospective fault current in kA).
+pub type BoardReading = (i64, Option<f64>, Option<f64>);
+
+/// What abandoning a pending visit discarded.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub struct Abandoned {
+    pub test_records: usize,
+    pub board_readings: usize,
+    /// Register changes made at the visit and put back as they were.
+    pub changes_reverted: usize,
+}
+
+impl Store {
+    /// The property's pending visit, if one is being recorded.
+    pub fn pending_visit(&self, property_id: i64) -> Result<Option<Visit>> {
+        let id: Option<i64> = self
+            .conn
+            .query_row(
+                "SELECT id FROM visit WHERE property_id = ?1 AND state = 'pending' ORDER BY date LIMIT 1",
+                [property_id],
+                |r| r.get(0),
+            )
+            .optional()?;
+        id.map(|id| self.visit_by_id(id)).transpose()
+    }
+
+    /// Every test record of one visit, pending or complete.
+    pub fn visit_records(&self, visit_id: i64) -> Result<Vec<TestRecord>> {
+        let sql = format!(
+            "SELECT {} FROM test_record WHERE visit_id = ?1 ORDER BY circuit_id",
+            Self::RECORD_COLS
+        );
+        let mut stmt = self.conn.prepare(&sql)?;
+        let rows = stmt.query_map([visit_id], Self::record_from_row)?;
+        Ok(rows.collect::<rusqlite::Result<_>>()?)
+    }
+
+    /// Board readings of one visit: (board id, Ze, fault current).
+    pub fn visit_board_tests(&self, visit_id: i64) -> Result<Vec<BoardReading>> {
+        let mut stmt = self.conn.prepare(
+            "SELECT board_id, ze_ohm, pfc_ka FROM board_test WHERE visit_id = ?1 ORDER BY board_id",
+        )?;
+        let rows = stmt.query_map([visit_id], |r| Ok((r.get(0)?, r.get(1)?, r.get(2)?)))?;
+        Ok(rows.collect::<rusqlite::Result<_>>()?)
+    }
+
+    /// Circuit changes recorded at one visit, oldest first.
+    pub fn visit_changes(&self, visit_id: i64) -> Result<Vec<CircuitChange>> {
+        let mut stmt = self.conn.prepare(&format!(
+            "SELECT {} FROM circuit_change WHERE visit_id = ?1 ORDER BY id",
+            super::CHANGE_COLS
+        ))?;
+        let rows = stmt.query_map([visit_id], super::change_from_row)?;
+        Ok(rows.collect::<rusqlite::Result<_>>()?)
+    }
+
+    /// Change one circuit's readings at a visit in one transaction: read, apply `f`, write.
+    /// Returns the readings as stored.
+    pub fn update_reading(
+        &self,
+        visit_id: i64,
+        circuit_id: i64,
+        f: impl FnOnce(&mut Readings),
+    ) -> Result<Readings> {
+        self.atomic(|s| {
+            let mut r = s
+                .test_record(visit_id, circuit_id)?
+                .map(|t| t.readings)
+                .unwrap_or_default();
+            f(&mut r);
+            s.put_test_record(visit_id, circuit_id, &r)?;
+            Ok(r)
+        })
+    }
+
+    /// Discard a pending visit: its readings, board readings and observations are deleted, and
+    /// register changes made at it are put back as they were. A complete visit is refused.
+    pub fn abandon_visit(&self, visit_id: i64) -> Result<Abandoned> {
+        self.atomic(|s| {
+            let v = s.visit_by_id(visit_id)?;
+            if v.state != VisitState::Pending {
+                return Err(Error::invalid(format!(
+                    "the visit of {} is complete: only a pending visit can be abandoned",
+                    v.date
+                )));
+            }
+            let mut out = Abandoned {
+                test_records: s.visit_records(visit_id)?.len(),
+                board_readings: s.visit_board_tests(visit_id)?.len(),
+                changes_reverted: 0,
+            };
+            let mut changes = s.visit_changes(visit_id)?;
+            changes.reverse();
+            for ch in &changes {
+                if let Some(field) = ch.field.as_deref() {
+                    s.restore_field(ch.circuit_id, field, ch.old_value.as_deref())?;
+                    out.changes_reverted += 1;
+                }
+            }
+            s.delete_visit(visit_id)?;
+            Ok(out)
+        })
+    }
+
+    /// Put one register field of a circuit back to its text value, as `edit_circuit` wrote it.
+    fn restore_field(&self, circuit_id: i64, field: &str, old: Option<&str>) -> Result<()> {
+        use rusqlite::types::Value;
+        let bad = || {
+            Error::invalid(format!(
+                "cannot restore {field} = {old:?} on circuit {circuit_id}"
+            ))
+        };
+        let value = match (field, old) {
+            (_, None) => Value::Null,
+            ("description" | "kind" | "device" | "rcd_type" | "insulation", Some(t)) => {
+                Value::Text(t.to_string())
+            }
+            ("live_mm2" | "cpc_mm2" | "length_m" | "disconnect_s", Some(t)) => {
+                Value::Real(t.parse().map_err(|_| bad())?)
+            }
+            ("rcd_ma", Some(t)) => Value::Integer(t.parse().map_err(|_| bad())?),
+            _ => return Err(bad()),
+        };
+        self.conn.execute(
+            &format!("UPDATE circuit SET {field} = ?1 WHERE id = ?2"),
+            params![value, circuit_id],
+        )?;
+        Ok(())
+    }
+}

@@ -1,0 +1,507 @@
+//! The brief and record commands through the real binary, on temporary databases. The
+//! register is built with the CLI and the history with `record` in its line mode; the
+//! interactive session is driven through a pseudo-terminal.
+
+use std::path::PathBuf;
+use std::time::Duration;
+
+use assert_cmd::Command;
+use expectrl::process::unix::Signal;
+use expectrl::session::OsSession as Session;
+use expectrl::{Eof, Expect};
+use tempfile::TempDir;
+
+use ohmtrail::model::{Megohms, VisitState};
+use ohmtrail::store::Store;
+
+struct Env {
+    dir: TempDir,
+}
+
+impl Env {
+    fn new() -> Env {
+        Env {
+            dir: tempfile::tempdir().unwrap(),
+        }
+    }
+
+    fn db(&self) -> PathBuf {
+        self.dir.path().join("t.db")
+    }
+
+    fn cmd(&self, args: &[&str], stdin: &str) -> assert_cmd::assert::Assert {
+        Command::cargo_bin("ohmtrail")
+            .unwrap()
+            .env_remove("OHMTRAIL_DB")
+            .arg("--db")
+            .arg(self.db())
+            .args(args)
+            .write_stdin(stdin)
+            .assert()
+    }
+
+    fn ok(&self, args: &[&str], stdin: &str) -> String {
+        String::from_utf8(self.cmd(args, stdin).success().get_output().stdout.clone()).unwrap()
+    }
+
+    /// An invented property: one TN-C-S board with a B32 radial (2.5/1.5, 70 °C
+    /// thermoplastic) and a B6 lighting circuit, with two visits at 20 °C four years apart.
+    fn with_history() -> Env {
+        let e = Env::new();
+        e.ok(
+            &["property", "add", "P-9", "--address", "9 Invented Row <b>&"],
+            "",
+        );
+        e.ok(&["board", "add", "P-9", "CU", "--earthing", "TN-C-S"], "");
+        e.ok(
+            &[
+                "circuit",
+                "add",
+                "P-9",
+                "CU",
+                "1",
+                "--description",
+                "Sockets <kitchen>",
+                "--device",
+                "B32",
+                "--live",
+                "2.5",
+                "--cpc",
+                "1.5",
+                "--insulation",
+                "thermoplastic70",
+            ],
+            "",
+        );
+        e.ok(
+            &[
+                "circuit",
+                "add",
+                "P-9",
+                "CU",
+                "2",
+                "--description",
+                "Lights",
+                "--device",
+                "B6",
+                "--live",
+                "1.5",
+                "--cpc",
+                "1.0",
+            ],
+            "",
+        );
+        e.ok(
+            &["record", "P-9", "--date", "2020-01-01", "--temp", "20"],
+            "board,circuit,quantity,value\nCU,,ze_ohm,0.20\nCU,1,r1r2_ohm,0.50\nCU,1,zs_ohm,0.70\n\
+             CU,1,ir_le_mohm,>200\nCU,2,r1r2_ohm,1.60\nCU,2,zs_ohm,1.80\n",
+        );
+        e.ok(
+            &["record", "P-9", "--date", "2024-01-01", "--temp", "20"],
+            "CU,,ze_ohm,0.20 Ω\nCU,1,r1r2_ohm,0.54\nCU,1,zs_ohm,0.74ohm\nCU,1,ir_le_mohm,>200\n\
+             CU,2,r1r2_ohm,1.60\nCU,2,zs_ohm,1.80\n",
+        );
+        e
+    }
+
+    fn store(&self) -> Store {
+        Store::open(&self.db()).unwrap()
+    }
+
+    fn spawn(&self, args: &[&str]) -> Session {
+        let mut c = std::process::Command::new(assert_cmd::cargo::cargo_bin("ohmtrail"));
+        c.env_remove("OHMTRAIL_DB")
+            .arg("--db")
+            .arg(self.db())
+            .args(args);
+        let mut s = Session::spawn(c).unwrap();
+        // Generous, so a slow shared machine does not fail the test; nothing is timed.
+        s.set_expect_timeout(Some(Duration::from_secs(60)));
+        s
+    }
+}
+
+/// The readings of circuit `number` on board CU at the property's pending or given visit.
+fn readings(store: &Store, visit_id: i64, number: &str) -> ohmtrail::model::Readings {
+    let c = store.find_circuit("P-9", "CU", number).unwrap();
+    store
+        .test_record(visit_id, c.id)
+        .unwrap()
+        .map(|t| t.readings)
+        .unwrap_or_default()
+}
+
+fn pending(store: &Store) -> ohmtrail::model::Visit {
+    let p = store.property("P-9").unwrap();
+    store.pending_visit(p.id).unwrap().expect("a pending visit")
+}
+
+#[test]
+fn line_mode_builds_history_and_the_brief_projects_it() {
+    let e = Env::with_history();
+    let s = e.store();
+    let p = s.property("P-9").unwrap();
+    assert_eq!(s.property_visits(p.id).unwrap().len(), 2);
+    assert!(s.pending_visit(p.id).unwrap().is_none());
+
+    let csv_path = e.dir.path().join("brief.csv");
+    e.ok(
+        &[
+            "brief",
+            "P-9",
+            "--date",
+            "2028-01-01",
+            "--temp",
+            "10",
+            "-o",
+            csv_path.to_str().unwrap(),
+        ],
+        "",
+    );
+    let text = std::fs::read_to_string(&csv_path).unwrap();
+    let mut rdr = csv::Reader::from_reader(text.as_bytes());
+    let header = rdr.headers().unwrap().clone();
+    let col = |name: &str| header.iter().position(|h| h == name).unwrap();
+    let rows: Vec<csv::StringRecord> = rdr.records().map(|r| r.unwrap()).collect();
+    let find = |circuit: &str, q: &str| {
+        rows.iter()
+            .find(|r| &r[col("circuit")] == circuit && &r[col("quantity")] == q)
+            .unwrap_or_else(|| panic!("no row {circuit} {q}"))
+    };
+    // Hand arithmetic (as in the library's test): R1+R2 0.50 → 0.54 Ω over 4.0 years at
+    // 20 °C is 0.01 Ω/year; on 2028-01-01 (8.0 years on) R20 = 0.58 Ω; at 10 °C,
+    // × (1 + 0.00393 × (10 − 20)) = × 0.9607 → 0.557206 Ω, written to 4 places.
+    let r = find("1", "r1r2_ohm");
+    assert_eq!(&r[col("expected")], "0.5572");
+    assert_eq!(&r[col("last_value")], "0.54");
+    assert_eq!(&r[col("temp_c")], "10");
+    // Zs: Ze 0.20 + (0.78 − 0.20) × 0.9607 = 0.757206 Ω. Limit: B32 1.37 Ω (BS 7671 Table
+    // 41.3) × 0.9607 / 1.20 = 1.0968 → 1.09 Ω (On-Site Guide Appendix I, from memory).
+    let z = find("1", "zs_ohm");
+    assert_eq!(&z[col("expected")], "0.7572");
+    assert_eq!(&z[col("limit")], "1.09");
+    // Over range at both visits: no value, a lower bound (200 MΩ / 10^0.3 = 100.24 MΩ).
+    let ir = find("1", "ir_le_mohm");
+    assert_eq!(&ir[col("last_value")], ">200");
+    assert_eq!(&ir[col("expected")], "");
+    assert_eq!(&ir[col("band_low")], "100.2374");
+    // The description is user text; a formula-like cell would be neutralised.
+    assert_eq!(&r[col("description")], "Sockets <kitchen>");
+
+    // The text table states the assumed temperature when none is given.
+    let out = e.ok(&["brief", "P-9", "--date", "2028-01-01"], "");
+    assert!(out.contains("assumed 15 °C"), "{out}");
+    assert!(out.contains("never replace"), "{out}");
+
+    // HTML: printable A4, user text escaped.
+    let html_path = e.dir.path().join("brief.html");
+    e.ok(
+        &[
+            "brief",
+            "P-9",
+            "--date",
+            "2028-01-01",
+            "-o",
+            html_path.to_str().unwrap(),
+        ],
+        "",
+    );
+    let html = std::fs::read_to_string(&html_path).unwrap();
+    assert!(html.contains("size:A4"));
+    assert!(html.contains("Sockets &lt;kitchen&gt;"));
+    assert!(html.contains("9 Invented Row &lt;b&gt;&amp;"));
+    assert!(!html.contains("<kitchen>"));
+
+    // An unknown output kind is refused with what is expected.
+    e.cmd(&["brief", "P-9", "-o", "x.pdf"], "")
+        .failure()
+        .stderr(predicates::str::contains(
+            "expected a file name ending .html or .csv",
+        ));
+}
+
+#[test]
+fn brief_lists_instruments_that_lapse_before_the_visit() {
+    let e = Env::with_history();
+    e.ok(
+        &[
+            "instrument",
+            "add",
+            "OLD-1",
+            "--calibration-due",
+            "2027-06-30",
+        ],
+        "",
+    );
+    e.ok(
+        &[
+            "instrument",
+            "add",
+            "NEW-2",
+            "--calibration-due",
+            "2029-06-30",
+        ],
+        "",
+    );
+    let out = e.ok(&["brief", "P-9", "--date", "2028-01-01"], "");
+    assert!(
+        out.contains("OLD-1: calibration runs out on 2027-06-30"),
+        "{out}"
+    );
+    assert!(!out.contains("NEW-2:"), "{out}");
+}
+
+#[test]
+fn refused_lines_store_nothing_and_the_visit_waits_for_resume() {
+    let e = Env::with_history();
+    let a = e
+        .cmd(
+            &["record", "P-9", "--date", "2025-02-01", "--temp", "12"],
+            "CU,1,r1r2_ohm,0.55\nCU,1,zs_ohm,0.76 MΩ\nCU,9,zs_ohm,0.5\nCU,1,r1r2,0.5\nCU,2,zs_ohm,-1\nCU,2,r1r2_ohm,1.58\n",
+        )
+        .failure();
+    let err = String::from_utf8(a.get_output().stderr.clone()).unwrap();
+    assert!(
+        err.contains("line 2: \"0.76 MΩ\" is in MΩ, but Zs is read in Ω"),
+        "{err}"
+    );
+    assert!(
+        err.contains("line 3: circuit \"9\" not found on board CU"),
+        "{err}"
+    );
+    assert!(err.contains("line 4: unknown quantity \"r1r2\""), "{err}");
+    assert!(err.contains("line 5: \"-1\" is negative"), "{err}");
+    assert!(err.contains("4 line(s) refused"), "{err}");
+
+    let s = e.store();
+    let v = pending(&s);
+    assert_eq!(v.date.to_string(), "2025-02-01");
+    assert_eq!(v.state, VisitState::Pending);
+    let c1 = readings(&s, v.id, "1");
+    assert_eq!(c1.r1r2_ohm, Some(0.55));
+    assert_eq!(c1.zs_ohm, None);
+    let c2 = readings(&s, v.id, "2");
+    assert_eq!(c2.zs_ohm, None);
+    assert_eq!(c2.r1r2_ohm, Some(1.58));
+    // Not yet history: the trend sees two visits.
+    assert_eq!(s.property_visits(v.property_id).unwrap().len(), 2);
+
+    // A new session without --resume is refused and says how to go on.
+    e.cmd(&["record", "P-9", "--date", "2025-02-02"], "")
+        .failure()
+        .stderr(predicates::str::contains("--resume"));
+
+    let out = e.ok(
+        &["record", "P-9", "--resume"],
+        "CU,1,zs_ohm,0.76\nCU,2,zs_ohm,1.79\n",
+    );
+    assert!(out.contains("finished"), "{out}");
+    let done = s.visit_on(v.property_id, v.date).unwrap().unwrap();
+    assert_eq!(done.state, VisitState::Complete);
+    assert_eq!(readings(&s, v.id, "1").zs_ohm, Some(0.76));
+    assert_eq!(readings(&s, v.id, "1").r1r2_ohm, Some(0.55));
+    assert_eq!(s.property_visits(v.property_id).unwrap().len(), 3);
+}
+
+#[test]
+fn line_mode_verdicts_and_abandon_puts_the_register_back() {
+    let e = Env::with_history();
+    let out = e.ok(
+        &[
+            "record",
+            "P-9",
+            "--date",
+            "2025-02-01",
+            "--temp",
+            "20",
+            "--no-finish",
+        ],
+        "CU,1,r1r2_ohm,0.86\nCU,1,zs_ohm,1.30\nCU,2,device,B10\nCU,1,ir_le_mohm,LIM\n",
+    );
+    // 0.86 Ω against a band around the trend's 0.551 Ω at 20 °C: outside, and why.
+    assert!(out.contains("CU/1 r1r2_ohm: OUTSIDE THE BAND"), "{out}");
+    assert!(out.contains("termination"), "{out}");
+    // 1.30 Ω is past the B32 limit at 20 °C: 1.37 / 1.20 = 1.1416 → 1.14 Ω.
+    assert!(out.contains("CU/1 zs_ohm: EXCEEDS THE LIMIT"), "{out}");
+    assert!(out.contains("1.14 Ω"), "{out}");
+    assert!(
+        out.contains("recorded as a circuit change (device changed): device B6 → B10"),
+        "{out}"
+    );
+    assert!(out.contains("stays pending"), "{out}");
+
+    let s = e.store();
+    let v = pending(&s);
+    assert_eq!(readings(&s, v.id, "1").limitations, vec!["ir_le_mohm"]);
+    let c2 = s.find_circuit("P-9", "CU", "2").unwrap();
+    assert_eq!(c2.device.unwrap().to_string(), "B10");
+    assert_eq!(s.visit_changes(v.id).unwrap().len(), 1);
+
+    let out = e.ok(&["record", "P-9", "--abandon"], "");
+    assert!(out.contains("1 register change(s) put back"), "{out}");
+    let c2 = s.find_circuit("P-9", "CU", "2").unwrap();
+    assert_eq!(c2.device.unwrap().to_string(), "B6");
+    assert!(s.pending_visit(v.property_id).unwrap().is_none());
+    assert!(s.visit_on(v.property_id, v.date).unwrap().is_none());
+    assert!(s.changes(c2.id).unwrap().is_empty());
+    e.cmd(&["record", "P-9", "--abandon"], "")
+        .failure()
+        .stderr(predicates::str::contains("no pending visit to abandon"));
+}
+
+/// Answer one prompt: wait for its text, then type the line.
+fn answer(p: &mut Session, prompt: &str, line: &str) {
+    p.expect(prompt)
+        .unwrap_or_else(|err| panic!("waiting for {prompt:?}: {err}"));
+    p.send_line(line).unwrap();
+}
+
+#[test]
+fn interactive_session_survives_a_kill_and_resumes_every_value() {
+    let e = Env::with_history();
+    let mut p = e.spawn(&["record", "P-9", "--date", "2025-03-01", "--temp", "15"]);
+    answer(&mut p, "Ze [Ω]", "0.21");
+    p.expect("WITHIN THE BAND").unwrap();
+    answer(&mut p, "Fitted as in the register (B32, 2.5/1.5 mm²)", "");
+    answer(&mut p, "R1+R2 [Ω]", "0.55");
+    p.expect("WITHIN THE BAND").unwrap();
+    answer(&mut p, "R1+Rn [Ω]", "");
+    p.expect("skipped").unwrap();
+    answer(&mut p, "IR L–L [MΩ]", ">200");
+    p.expect("over range").unwrap();
+    // At the next prompt, the process dies (a flat battery).
+    p.expect("IR L–E [MΩ]").unwrap();
+    p.get_process_mut().kill(Signal::SIGKILL).unwrap();
+    let _ = p.get_process().wait();
+
+    let s = e.store();
+    let v = pending(&s);
+    assert_eq!(v.ambient_c, Some(15.0));
+    let c1 = readings(&s, v.id, "1");
+    assert_eq!(c1.r1r2_ohm, Some(0.55));
+    assert_eq!(
+        c1.ir_ll,
+        Some(Megohms {
+            value: 200.0,
+            over_range: true
+        })
+    );
+    assert_eq!(c1.r1rn_ohm, None);
+    let board = s.boards(v.property_id).unwrap()[0].id;
+    assert_eq!(s.board_test(v.id, board).unwrap(), Some((Some(0.21), None)));
+
+    // Resume carries on from the first unanswered prompt after the last stored value.
+    let mut p = e.spawn(&["record", "P-9", "--resume"]);
+    p.expect("3 value(s) already stored").unwrap();
+    answer(&mut p, "IR L–E [MΩ]", ">200");
+    answer(&mut p, "Zs [Ω]", "0.75");
+    p.expect("WITHIN THE BAND").unwrap();
+    answer(&mut p, "Fitted as in the register (B6, 1.5/1 mm²)", "B10");
+    p.expect("recorded as a circuit change (device changed): device B6 → B10")
+        .unwrap();
+    answer(&mut p, "R1+R2 [Ω]", "");
+    answer(&mut p, "R1+Rn [Ω]", "N/A");
+    answer(&mut p, "IR L–L [MΩ]", "LIM");
+    p.expect("limitation").unwrap();
+    answer(&mut p, "IR L–E [MΩ]", "150");
+    answer(&mut p, "Zs [Ω]", "1.81");
+    answer(&mut p, "Finish the visit", "y");
+    p.expect("finished").unwrap();
+    p.expect(Eof).unwrap();
+
+    let v = s.visit_on(v.property_id, v.date).unwrap().unwrap();
+    assert_eq!(v.state, VisitState::Complete);
+    let c1 = readings(&s, v.id, "1");
+    assert_eq!(c1.r1r2_ohm, Some(0.55));
+    assert_eq!(c1.zs_ohm, Some(0.75));
+    assert_eq!(
+        c1.ir_le,
+        Some(Megohms {
+            value: 200.0,
+            over_range: true
+        })
+    );
+    assert_eq!(c1.ir_ll.map(|m| m.over_range), Some(true));
+    let c2 = readings(&s, v.id, "2");
+    assert_eq!(c2.r1r2_ohm, None);
+    assert_eq!(c2.limitations, vec!["ir_ll_mohm"]);
+    assert_eq!(c2.ir_le.map(|m| m.value), Some(150.0));
+    assert_eq!(c2.zs_ohm, Some(1.81));
+    let circuit2 = s.find_circuit("P-9", "CU", "2").unwrap();
+    assert_eq!(circuit2.device.unwrap().to_string(), "B10");
+    assert_eq!(s.property_visits(v.property_id).unwrap().len(), 3);
+}
+
+#[test]
+fn bad_input_at_the_prompt_re_asks_and_stores_nothing_wrong() {
+    let e = Env::with_history();
+    let mut p = e.spawn(&["record", "P-9", "--date", "2025-03-01", "--temp", "15"]);
+    answer(&mut p, "Ze [Ω]", "");
+    answer(&mut p, "Fitted as in the register", "Q77");
+    p.expect("NOT STORED").unwrap();
+    answer(&mut p, "Fitted as in the register", "");
+    answer(&mut p, "R1+R2 [Ω]", "0.5x");
+    p.expect("NOT STORED: \"0.5x\" has an unknown unit")
+        .unwrap();
+    answer(&mut p, "R1+R2 [Ω]", "abc");
+    p.expect("NOT STORED: \"abc\" is not a reading").unwrap();
+    answer(&mut p, "R1+R2 [Ω]", "-0.52");
+    p.expect("NOT STORED: \"-0.52\" is negative").unwrap();
+    answer(&mut p, "R1+R2 [Ω]", "0.52 MΩ");
+    p.expect("NOT STORED: \"0.52 MΩ\" is in MΩ, but R1+R2 is read in Ω")
+        .unwrap();
+    // The prompt is asked again; nothing was stored meanwhile.
+    p.expect("R1+R2 [Ω]").unwrap();
+    {
+        let s = e.store();
+        let v = pending(&s);
+        assert_eq!(readings(&s, v.id, "1"), Default::default());
+        assert!(s.visit_records(v.id).unwrap().is_empty());
+        let c = s.find_circuit("P-9", "CU", "1").unwrap();
+        assert_eq!(c.device.unwrap().to_string(), "B32");
+    }
+    p.send_line("0.92").unwrap();
+    // Past the band at 15 °C, still within the limit: outside, with what it usually means.
+    p.expect("OUTSIDE THE BAND").unwrap();
+    p.expect("termination").unwrap();
+    answer(&mut p, "R1+Rn [Ω]", ">2");
+    p.expect("NOT STORED").unwrap();
+    answer(&mut p, "R1+Rn [Ω]", "0.9");
+    // Ctrl-D stops; the visit stays pending with what was entered.
+    p.expect("IR L–L").unwrap();
+    p.send(expectrl::ControlCode::EndOfTransmission).unwrap();
+    p.expect("stays pending").unwrap();
+    p.expect(Eof).unwrap();
+    let s = e.store();
+    let v = pending(&s);
+    let r = readings(&s, v.id, "1");
+    assert_eq!(r.r1r2_ohm, Some(0.92));
+    assert_eq!(r.r1rn_ohm, Some(0.9));
+    assert_eq!(r.zs_ohm, None);
+}
+
+#[test]
+fn record_refuses_what_cannot_be_a_visit() {
+    let e = Env::new();
+    e.ok(&["property", "add", "P-0"], "");
+    e.cmd(&["record", "P-0", "--date", "2025-01-01"], "")
+        .failure()
+        .stderr(predicates::str::contains("P-0 has no boards"));
+    e.ok(&["board", "add", "P-0", "CU"], "");
+    e.cmd(&["record", "P-0", "--date", "2999-01-01"], "")
+        .failure()
+        .stderr(predicates::str::contains("is in the future"));
+    e.cmd(&["record", "P-0", "--temp", "90"], "")
+        .failure()
+        .stderr(predicates::str::contains("out of range"));
+    e.cmd(&["record", "P-0", "--resume"], "")
+        .failure()
+        .stderr(predicates::str::contains("no pending visit to resume"));
+    e.cmd(&["record", "NOPE"], "")
+        .failure()
+        .stderr(predicates::str::contains("property \"NOPE\" not found"));
+    // Nothing was started by any of these.
+    let s = e.store();
+    let p = s.property("P-0").unwrap();
+    assert!(s.pending_visit(p.id).unwrap().is_none());
+}
