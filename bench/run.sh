@@ -72,19 +72,21 @@ measure() {
 secs() { cat "$work/$1.secs"; }
 rss() { tail -n 1 "$work/$1.rss"; }
 
-echo "step,size,ohmtrail_s,ohmtrail_rss_kb,reference,reference_s,reference_rss_kb,ratio,target,met" >"$out"
+echo "step,size,ohmtrail_s,ohmtrail_rss_kb,reference,reference_s,reference_rss_kb,ratio,ratio_target,ratio_met,rss_limit_mb,rss_met" >"$out"
 table=()
-# record STEP SIZE OHM_S OHM_RSS REF REF_S REF_RSS TARGET_RATIO [RSS_LIMIT_KB]
+# record STEP SIZE OHM_S OHM_RSS REF REF_S REF_RSS TARGET_RATIO [RSS_LIMIT_MB]
 record() {
-    local ratio met target
+    local ratio ratio_met rss_met="" limit="${9:-}" mem
     ratio=$(awk -v o="$3" -v r="$6" 'BEGIN { if (r > 0) printf "%.2f", o / r; else print "" }')
-    met=$(awk -v x="$ratio" -v t="$8" -v m="$4" -v l="${9:-0}" \
-        'BEGIN { ok = (x != "" && x <= t); if (l > 0 && m >= l) ok = 0; print ok ? "yes" : "no" }')
-    target="ratio<=$8"
-    [ -n "${9:-}" ] && target="$target;rss<$(($9 / 1000))MB"
-    echo "$1,$2,$3,$4,$5,$6,$7,$ratio,$target,$met" >>"$out"
-    table+=("$(printf '%-8s %9s  ohmtrail %8ss %7s MB | %-16s %8ss %7s MB | ratio %5s (%s: %s)' \
-        "$1" "$2" "$3" "$(($4 / 1000))" "$5" "$6" "$(($7 / 1000))" "$ratio" "$target" "$met")")
+    ratio_met=$(awk -v x="$ratio" -v t="$8" 'BEGIN { print (x != "" && x <= t) ? "yes" : "no" }')
+    mem="$(($4 / 1000)) MB"
+    if [ -n "$limit" ]; then
+        rss_met=$([ "$4" -lt $((limit * 1000)) ] && echo yes || echo no)
+        mem="$mem (< $limit MB: $rss_met)"
+    fi
+    echo "$1,$2,$3,$4,$5,$6,$7,$ratio,$8,$ratio_met,$limit,$rss_met" >>"$out"
+    table+=("$(printf '%-7s %7s | ohmtrail %7ss %-20s | %-17s %7ss %5s MB | ratio %5s (<= %s: %s)' \
+        "$1" "$2" "$3" "$mem" "$5" "$6" "$(($7 / 1000))" "$ratio" "$8" "$ratio_met")")
 }
 
 portfolio() { # PROPERTIES -> path of the generated file
@@ -104,7 +106,7 @@ measure shell sqlite3 "$work/shell.db" ".import --csv --skip 1 $file readings"
 shell_rows=$(sqlite3 "$work/shell.db" 'SELECT count(*) FROM readings')
 [ "$shell_rows" -eq "$rows" ] || { echo "sqlite3 imported $shell_rows rows of $rows" >&2; exit 1; }
 rm -f "$work/shell.db"
-record import "$props" "$(secs import)" "$(rss import)" "sqlite3 .import" "$(secs shell)" "$(rss shell)" 1 100000
+record import "$props" "$(secs import)" "$(rss import)" "sqlite3 .import" "$(secs shell)" "$(rss shell)" 1 100
 
 # Step 3, at the main size and, when asked, at the large one.
 flags_step() { # PROPERTIES DB FILE
@@ -113,7 +115,7 @@ flags_step() { # PROPERTIES DB FILE
     local q
     q=$(sed -n 's/.*query_seconds \([0-9.]*\).*/\1/p' "$work/duckdb-$1.log")
     # The stricter anchor: DuckDB's query alone, without Python's start-up and import.
-    record flags "$1" "$(secs "flags-$1")" "$(rss "flags-$1")" "duckdb regr_slope" "$q" "$(rss "duckdb-$1")" 1 200000
+    record flags "$1" "$(secs "flags-$1")" "$(rss "flags-$1")" "duckdb regr_slope" "$q" "$(rss "duckdb-$1")" 1 200
     echo "  duckdb process with start-up: $(secs "duckdb-$1") s; $(cat "$work/duckdb-$1.log")"
 }
 flags_step "$props" "$db" "$file"
@@ -131,7 +133,7 @@ fi
 if [ "$do_report" -eq 1 ]; then
     if ! "$bin" report --help >/dev/null 2>&1; then
         echo "report: skipped: this build has no \`ohmtrail report\` command yet"
-        echo "report,,,,,,,,ratio<=1.2,skipped" >>"$out"
+        echo "report,,,,,,,,1.2,skipped,," >>"$out"
     else
         # One property of 30 circuits x 10 visits, the same in every portfolio.
         target="$work/target.csv"
