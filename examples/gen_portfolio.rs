@@ -1,5 +1,8 @@
-//! Writes a synthetic, invented portfolio as a visit file, for the import benchmark:
-//! `gen_portfolio PROPERTIES OUT.csv` gives PROPERTIES × 12 circuits × 5 visits rows.
+//! Writes a synthetic, invented portfolio as a visit file, for the benchmarks:
+//! `gen_portfolio PROPERTIES OUT.csv [CIRCUITS VISITS PREFIX]` gives PROPERTIES × CIRCUITS
+//! × VISITS rows (default 12 circuits, 5 visits, references `SMP-00000` on). More than 12
+//! circuits repeat the 12 kinds; other than 5 visits (at most 10, so none is in the future)
+//! fall two years apart from 2005.
 //! The same arguments always give the same file (fixed seed).
 
 use std::fs::File;
@@ -10,21 +13,46 @@ use rand_chacha::ChaCha8Rng;
 
 const HEADER: &str = "property_ref,address,board,earthing,circuit,description,ring,device,rcd_ma,live_mm2,cpc_mm2,length_m,visit_date,inspector,instrument,ambient_c,ze_ohm,ring_r1_ohm,ring_rn_ohm,ring_r2_ohm,r1r2_ohm,r2_ohm,r1rn_ohm,zs_ohm,ir_ll_mohm,ir_le_mohm,rcd_ms,rcd_5x_ms,note";
 
-/// Circuit number, description, ring, device, live, cpc.
-const CIRCUITS: [(&str, &str, &str, &str, &str); 12] = [
-    ("Sockets ground floor", "yes", "B32", "2.5", "1.5"),
-    ("Sockets first floor", "yes", "B32", "2.5", "1.5"),
-    ("Kitchen sockets", "yes", "B32", "2.5", "1.5"),
-    ("Cooker", "no", "B32", "6", "2.5"),
-    ("Shower", "no", "B40", "10", "4"),
-    ("Immersion heater", "no", "B16", "2.5", "1.5"),
-    ("Lights ground floor", "no", "B6", "1.5", "1.0"),
-    ("Lights first floor", "no", "B6", "1.5", "1.0"),
-    ("Smoke alarms", "no", "B6", "1.5", "1.0"),
-    ("Garage sockets", "no", "B20", "2.5", "1.5"),
-    ("Outside lights", "no", "B6", "1.5", "1.0"),
-    ("Boiler spur", "no", "B16", "2.5", "1.5"),
+/// Description, ring, device, live and cpc csa (mm²), cable length range (m; a ring's loop).
+type Kind = (&'static str, &'static str, &'static str, f64, f64, f64, f64);
+const CIRCUITS: [Kind; 12] = [
+    ("Sockets ground floor", "yes", "B32", 2.5, 1.5, 40.0, 80.0),
+    ("Sockets first floor", "yes", "B32", 2.5, 1.5, 40.0, 80.0),
+    ("Kitchen sockets", "yes", "B32", 2.5, 1.5, 30.0, 60.0),
+    ("Cooker", "no", "B32", 6.0, 2.5, 5.0, 20.0),
+    ("Shower", "no", "B40", 10.0, 4.0, 5.0, 20.0),
+    ("Immersion heater", "no", "B16", 2.5, 1.5, 5.0, 20.0),
+    ("Lights ground floor", "no", "B6", 1.5, 1.0, 10.0, 40.0),
+    ("Lights first floor", "no", "B6", 1.5, 1.0, 10.0, 40.0),
+    ("Smoke alarms", "no", "B6", 1.5, 1.0, 10.0, 30.0),
+    ("Garage sockets", "no", "B20", 2.5, 1.5, 10.0, 30.0),
+    ("Outside lights", "no", "B6", 1.5, 1.0, 5.0, 25.0),
+    ("Boiler spur", "no", "B16", 2.5, 1.5, 5.0, 15.0),
 ];
+
+/// Copper resistance at 20 °C in mΩ/m by csa, from IEC 60228 (as in the shared limits
+/// reference); the α of 0.00393 per K is IEC 60228's too.
+fn copper_mohm_per_m(csa: f64) -> f64 {
+    match csa {
+        x if x <= 1.0 => 18.10,
+        x if x <= 1.5 => 12.10,
+        x if x <= 2.5 => 7.41,
+        x if x <= 4.0 => 4.61,
+        x if x <= 6.0 => 3.08,
+        _ => 1.83,
+    }
+}
+const ALPHA: f64 = 0.00393;
+
+/// How one circuit ages over the visits: most stay as installed.
+#[derive(Clone, Copy, PartialEq)]
+enum Story {
+    Healthy,
+    /// A termination working loose: added resistance from the third visit on.
+    Loosening,
+    /// Insulation drying out or taking in moisture: IR falling visit by visit.
+    IrFalling,
+}
 
 const VISIT_DATES: [&str; 5] = [
     "2005-05-10",
@@ -36,46 +64,83 @@ const VISIT_DATES: [&str; 5] = [
 
 fn main() -> std::io::Result<()> {
     let args: Vec<String> = std::env::args().collect();
-    let (Some(n), Some(out)) = (
-        args.get(1).and_then(|s| s.parse::<usize>().ok()),
+    let number = |i: usize, default: usize| match args.get(i) {
+        None => Some(default),
+        Some(s) => s.parse::<usize>().ok().filter(|n| *n > 0),
+    };
+    let visits_ok = |v: usize| (1..=10).contains(&v);
+    let (Some(n), Some(out), Some(circuits), Some(visits)) = (
+        number(1, 0),
         args.get(2),
+        number(3, 12),
+        number(4, 5).filter(|v| visits_ok(*v)),
     ) else {
-        eprintln!("usage: gen_portfolio PROPERTIES OUT.csv");
+        eprintln!("usage: gen_portfolio PROPERTIES OUT.csv [CIRCUITS VISITS PREFIX]");
         std::process::exit(2);
+    };
+    let prefix = args.get(5).map(String::as_str).unwrap_or("SMP");
+    let dates: Vec<String> = if visits == 5 {
+        VISIT_DATES.iter().map(|d| d.to_string()).collect()
+    } else {
+        (0..visits)
+            .map(|v| format!("{}-0{}-1{}", 2005 + 2 * v, 1 + v % 9, v % 10))
+            .collect()
     };
     let mut rng = ChaCha8Rng::seed_from_u64(7);
     let mut w = BufWriter::with_capacity(1 << 20, File::create(out)?);
     writeln!(w, "{HEADER}")?;
     for p in 0..n {
-        let earthing = ["TN-C-S", "TN-S", "TT"][p % 3];
+        // Two in three homes on a PME supply, the rest on the supplier's cable sheath.
+        let (earthing, ze_base) = if p % 3 == 2 {
+            ("TN-S", rng.random_range(0.25..0.5))
+        } else {
+            ("TN-C-S", rng.random_range(0.12..0.3))
+        };
         let address = format!("\"{} Sample Street, Sampleton\"", p + 1);
-        let base: Vec<f64> = (0..12).map(|_| rng.random_range(0.1..1.2)).collect();
-        for (v, date) in VISIT_DATES.iter().enumerate() {
-            let ambient = rng.random_range(5..25);
-            let ze = 0.2 + 0.01 * v as f64;
-            for (c, (desc, ring, device, live, cpc)) in CIRCUITS.iter().enumerate() {
-                let r1r2 = base[c] * (1.0 + 0.03 * v as f64);
+        let plan: Vec<(f64, f64, Story)> = (0..circuits)
+            .map(|c| {
+                let k = CIRCUITS[c % CIRCUITS.len()];
+                let length = rng.random_range(k.5..k.6);
+                let rcd = rng.random_range(15.0..30.0);
+                let story = match rng.random_range(0..100) {
+                    0 | 1 => Story::Loosening,
+                    2 => Story::IrFalling,
+                    _ => Story::Healthy,
+                };
+                (length, rcd, story)
+            })
+            .collect();
+        for (v, date) in dates.iter().enumerate() {
+            let ambient: f64 = rng.random_range(5.0..25.0_f64).round();
+            let heat = 1.0 + ALPHA * (ambient - 20.0);
+            let ze = ze_base * rng.random_range(0.97..1.03);
+            for (c, &(length, rcd, story)) in plan.iter().enumerate() {
+                let (desc, ring, device, live, cpc, _, _) = CIRCUITS[c % CIRCUITS.len()];
+                let (rl, rc) = (copper_mohm_per_m(live), copper_mohm_per_m(cpc));
+                let loose = if story == Story::Loosening && v >= 2 {
+                    0.08 * (v - 1) as f64
+                } else {
+                    0.0
+                };
+                let (r1r2, ring_cells) = if ring == "yes" {
+                    // End-to-end resistances of the loop; R1+R2 at a socket is (r1 + r2) / 4.
+                    let r1 = length * rl / 1000.0 * heat;
+                    let r2 = length * rc / 1000.0 * heat;
+                    ((r1 + r2) / 4.0 + loose, format!("{r1:.2},{r1:.2},{r2:.2}"))
+                } else {
+                    (length * (rl + rc) / 1000.0 * heat + loose, ",,".into())
+                };
                 let zs = r1r2 + ze;
-                let (r1, rn, r2) = if *ring == "yes" {
-                    (
-                        format!("{:.2}", base[c] * 0.6),
-                        format!("{:.2}", base[c] * 0.6),
-                        format!("{:.2}", base[c] * 1.0),
-                    )
-                } else {
-                    (String::new(), String::new(), String::new())
+                let ir_le = match story {
+                    Story::IrFalling if v > 0 => format!("{:.1}", 200.0 / 4f64.powi(v as i32)),
+                    _ => ">200".into(),
                 };
-                let ir_le = if rng.random_bool(0.8) {
-                    ">200".to_string()
-                } else {
-                    format!("{}", rng.random_range(20..200))
-                };
+                let rcd_ms = rcd + rng.random_range(-1.5..1.5);
                 writeln!(
                     w,
-                    "SMP-{p:05},{address},DB1,{earthing},{},{desc},{ring},{device},30,{live},{cpc},,{date},A. Sample,IT-{:04},{ambient},{ze:.2},{r1},{rn},{r2},{r1r2:.3},,,{zs:.3},>200,{ir_le},{},,",
+                    "{prefix}-{p:05},{address},DB1,{earthing},{},{desc},{ring},{device},30,{live},{cpc},{length:.0},{date},A. Sample,IT-{:04},{ambient},{ze:.2},{ring_cells},{r1r2:.2},,,{zs:.2},>200,{ir_le},{rcd_ms:.1},,",
                     c + 1,
                     p % 50,
-                    rng.random_range(12..40)
                 )?;
             }
         }

@@ -7,14 +7,15 @@
 pub mod cell;
 pub mod row;
 
-use std::cell::RefCell;
-use std::collections::{HashMap, HashSet, VecDeque};
+use std::collections::VecDeque;
 use std::fs::File;
 use std::io::{BufRead, BufReader, Read};
 use std::path::{Path, PathBuf};
-use std::rc::Rc;
+use std::sync::mpsc;
 
 use chrono::NaiveDate;
+// The per-file caches are looked up several times a row; a fast hasher shows in the profile.
+use foldhash::{HashMap, HashMapExt, HashSet, HashSetExt};
 use serde::Serialize;
 
 pub use cell::{
@@ -383,6 +384,8 @@ struct CircuitState {
 
 struct BoardState {
     id: i64,
+    /// Created by this import, so its only circuits are the ones cached here.
+    created: bool,
     earthing: Option<String>,
     circuits: HashMap<String, CircuitState>,
 }
@@ -398,6 +401,8 @@ struct VisitState {
 
 struct PropertyState {
     id: i64,
+    /// Created by this import, so its only boards and visits are the ones cached here.
+    created: bool,
     address: Option<String>,
     boards: HashMap<String, BoardState>,
     visits: HashMap<NaiveDate, VisitState>,
@@ -428,6 +433,7 @@ impl Cache {
             let state = match s.ingest_property(reference)? {
                 Some(p) => PropertyState {
                     id: p.id,
+                    created: false,
                     address: p.address,
                     boards: HashMap::new(),
                     visits: HashMap::new(),
@@ -438,6 +444,7 @@ impl Cache {
                     eff.wrote = true;
                     PropertyState {
                         id,
+                        created: true,
                         address: address.map(String::from),
                         boards: HashMap::new(),
                         visits: HashMap::new(),
@@ -468,7 +475,12 @@ fn visit_state<'a>(
     eff: &mut Effect,
 ) -> Result<&'a mut VisitState> {
     if !p.visits.contains_key(&date) {
-        let state = match s.ingest_visit(p.id, date)? {
+        let stored = if p.created {
+            None
+        } else {
+            s.ingest_visit(p.id, date)?
+        };
+        let state = match stored {
             Some(v) => VisitState {
                 v,
                 ze: HashMap::new(),
@@ -547,9 +559,15 @@ impl Importer<'_> {
 
         // Board.
         if !p.boards.contains_key(&row.board) {
-            let state = match s.ingest_board(property_id, &row.board)? {
+            let stored = if p.created {
+                None
+            } else {
+                s.ingest_board(property_id, &row.board)?
+            };
+            let state = match stored {
                 Some(b) => BoardState {
                     id: b.id,
+                    created: false,
                     earthing: b.earthing,
                     circuits: HashMap::new(),
                 },
@@ -560,6 +578,7 @@ impl Importer<'_> {
                     eff.wrote = true;
                     BoardState {
                         id,
+                        created: true,
                         earthing: e.map(String::from),
                         circuits: HashMap::new(),
                     }
@@ -594,7 +613,12 @@ impl Importer<'_> {
         // Circuit, and whether the row disagrees with the register as it stood on the date.
         let row_details = row_register_details(&row.register);
         if !b.circuits.contains_key(&row.circuit) {
-            let state = match s.ingest_circuit(board_id, &row.circuit)? {
+            let stored = if b.created {
+                None
+            } else {
+                s.ingest_circuit(board_id, &row.circuit)?
+            };
+            let state = match stored {
                 Some((id, details)) => CircuitState {
                     id,
                     current: register_texts(&details),
@@ -831,7 +855,7 @@ impl Importer<'_> {
         };
         match stored {
             None => {
-                s.ingest_put_record(visit_id, circuit_id, &row.readings)?;
+                s.ingest_insert_record(visit_id, circuit_id, &row.readings)?;
                 eff.written += 1;
                 eff.wrote = true;
             }
@@ -989,13 +1013,13 @@ struct NewlineTap<R> {
     inner: R,
     offset: u64,
     line_has_text: bool,
-    newlines: Rc<RefCell<VecDeque<(u64, bool)>>>,
+    newlines: VecDeque<(u64, bool)>,
 }
 
 impl<R: Read> Read for NewlineTap<R> {
     fn read(&mut self, buf: &mut [u8]) -> std::io::Result<usize> {
         let n = self.inner.read(buf)?;
-        let mut q = self.newlines.borrow_mut();
+        let q = &mut self.newlines;
         for (i, b) in buf[..n].iter().enumerate() {
             match *b {
                 b'\n' => {
@@ -1015,18 +1039,116 @@ impl<R: Read> Read for NewlineTap<R> {
 /// a record as starting where the previous one ended: on the LF of a CRLF, or before the blank
 /// lines it skipped; those newlines are counted too.
 struct Lines {
-    newlines: Rc<RefCell<VecDeque<(u64, bool)>>>,
     passed: u64,
 }
 
 impl Lines {
-    fn at(&mut self, byte: u64) -> u64 {
-        let mut q = self.newlines.borrow_mut();
+    /// `q` is the tap's queue of newlines read so far.
+    fn at(&mut self, q: &mut VecDeque<(u64, bool)>, byte: u64) -> u64 {
         while q.front().is_some_and(|&(nl, blank)| nl <= byte || blank) {
             q.pop_front();
             self.passed += 1;
         }
         self.passed + 1
+    }
+}
+
+/// Rows per batch handed from the reading thread to the writing one.
+const BATCH_ROWS: usize = 1024;
+/// Batches parsed ahead of the writer; with the one being written and the one being read,
+/// this bounds the rows in memory whatever the file's size.
+const BATCHES_IN_FLIGHT: usize = 2;
+
+/// A row read into values, ready to apply. Not boxed: rows sit in reused batches, and a box
+/// would cost an allocation per row.
+#[allow(clippy::large_enum_variant)]
+enum Parsed {
+    Visit(VisitRow),
+    Observation(ObservationRow),
+}
+
+/// One row as the reading thread hands it over.
+struct Item {
+    line: u64,
+    /// Byte offset of the row's start, for the progress bar.
+    byte: u64,
+    /// `None` for a blank row.
+    parsed: Option<std::result::Result<Parsed, Located>>,
+}
+
+/// Consecutive rows with their raw records (kept for the sidecar of rejected rows); the
+/// records are reused when the batch comes back.
+struct Batch {
+    records: Vec<csv::ByteRecord>,
+    rows: Vec<Item>,
+}
+
+type ReadResult = std::result::Result<Batch, csv::Error>;
+
+type TappedCsv = csv::Reader<NewlineTap<BufReader<File>>>;
+
+/// The reading thread: read and parse every row after the header, in batches, until the file
+/// ends, the reader fails, or the writer stops listening.
+fn read_rows(
+    mut csv: TappedCsv,
+    mut lines: Lines,
+    header: &Header,
+    parse: &ParseOptions,
+    full: &mpsc::SyncSender<ReadResult>,
+    free: &mpsc::Receiver<Batch>,
+) {
+    loop {
+        let mut batch = match free.try_recv() {
+            Ok(mut b) => {
+                b.rows.clear();
+                b
+            }
+            Err(_) => Batch {
+                records: Vec::new(),
+                rows: Vec::with_capacity(BATCH_ROWS),
+            },
+        };
+        let mut done = false;
+        while batch.rows.len() < BATCH_ROWS {
+            let i = batch.rows.len();
+            if batch.records.len() == i {
+                batch.records.push(csv::ByteRecord::new());
+            }
+            let record = &mut batch.records[i];
+            match csv.read_byte_record(record) {
+                Ok(true) => {}
+                Ok(false) => {
+                    done = true;
+                    break;
+                }
+                Err(e) => {
+                    let _ = full.send(Err(e));
+                    return;
+                }
+            }
+            let byte = record.position().map(|p| p.byte()).unwrap_or(0);
+            let line = lines.at(&mut csv.get_mut().newlines, byte);
+            let fields: Vec<&[u8]> = record.iter().collect();
+            let parsed = if row::is_blank(&fields) {
+                None
+            } else {
+                Some(match header.kind {
+                    FileKind::Visits => parse_visit_row(header, &fields, parse)
+                        .map(Parsed::Visit)
+                        .map_err(field_errors),
+                    FileKind::Observations => parse_observation_row(header, &fields, parse)
+                        .map(Parsed::Observation)
+                        .map_err(field_errors),
+                })
+            };
+            batch.rows.push(Item { line, byte, parsed });
+        }
+        if !batch.rows.is_empty() && full.send(Ok(batch)).is_err() {
+            return;
+        }
+        if done {
+            return;
+        }
     }
 }
 
@@ -1056,16 +1178,12 @@ pub fn import_file(
     let size = file.metadata().map(|m| m.len()).unwrap_or(0);
     let mut reader = BufReader::with_capacity(1 << 16, file);
     let delimiter = sniff_delimiter(reader.fill_buf().map_err(io_err)?);
-    let newlines = Rc::new(RefCell::new(VecDeque::new()));
-    let mut lines = Lines {
-        newlines: newlines.clone(),
-        passed: 0,
-    };
+    let mut lines = Lines { passed: 0 };
     let reader = NewlineTap {
         inner: reader,
         offset: 0,
         line_has_text: false,
-        newlines,
+        newlines: VecDeque::new(),
     };
     let mut csv = csv::ReaderBuilder::new()
         .has_headers(false)
@@ -1096,7 +1214,10 @@ pub fn import_file(
         );
         return Ok(summary);
     }
-    let header_line = lines.at(record.position().map(|p| p.byte()).unwrap_or(0));
+    let header_line = lines.at(
+        &mut csv.get_mut().newlines,
+        record.position().map(|p| p.byte()).unwrap_or(0),
+    );
     let mut names = Vec::with_capacity(record.len());
     let mut header_raw: Vec<Vec<u8>> = Vec::with_capacity(record.len());
     for (i, f) in record.iter().enumerate() {
@@ -1155,86 +1276,100 @@ pub fn import_file(
     let mut last_line = header_line;
     // Set when the file is rolled back for its rows' faults, not for a database failure.
     let mut refused = false;
-    let outcome = store.atomic(|s| {
-        loop {
-            if !csv.read_byte_record(&mut record).map_err(csv_err)? {
-                break;
-            }
-            let line = lines.at(record.position().map(|p| p.byte()).unwrap_or(0));
-            last_line = line;
-            let fields: Vec<&[u8]> = record.iter().collect();
-            if row::is_blank(&fields) {
-                summary.blank_rows += 1;
-                continue;
-            }
-            summary.rows += 1;
-            if summary.rows.is_multiple_of(4096) {
-                progress(record.position().map(|p| p.byte()).unwrap_or(0), size);
-            }
-            let result = match header.kind {
-                FileKind::Visits => match parse_visit_row(&header, &fields, &opts.parse) {
-                    Ok(r) => run_row(s, opts, &header, |_| importer.apply_visit(&r, line))?,
-                    Err(e) => Err(field_errors(e)),
-                },
-                FileKind::Observations => {
-                    match parse_observation_row(&header, &fields, &opts.parse) {
-                        Ok(r) => run_row(s, opts, &header, |_| importer.apply_observation(&r))?,
-                        Err(e) => Err(field_errors(e)),
-                    }
-                }
-            };
-            match result {
-                Ok(eff) => summary.add(&eff),
-                Err(faults) => {
-                    // What the cache knew may have been rolled back with the row.
-                    importer.cache = Cache::default();
-                    let mut errs = Errors {
-                        file: &name,
-                        summary: &mut summary,
+    // A second thread reads and parses rows while this one writes them; batches go back to
+    // it for reuse, so the raw records are not allocated again row after row.
+    let (full_tx, full_rx) = mpsc::sync_channel::<ReadResult>(BATCHES_IN_FLIGHT);
+    let (free_tx, free_rx) = mpsc::channel::<Batch>();
+    let outcome = std::thread::scope(|scope| {
+        let header = &header;
+        let parse = opts.parse;
+        scope.spawn(move || read_rows(csv, lines, header, &parse, &full_tx, &free_rx));
+        let outcome = store.atomic(|s| {
+            for received in full_rx.iter() {
+                let batch = received.map_err(csv_err)?;
+                for (i, item) in batch.rows.iter().enumerate() {
+                    let record = &batch.records[i];
+                    let line = item.line;
+                    last_line = line;
+                    let Some(parsed) = &item.parsed else {
+                        summary.blank_rows += 1;
+                        continue;
                     };
-                    let reasons: Vec<String> = faults
-                        .iter()
-                        .map(|(col, n, msg)| errs.push(line, *col, n.as_deref(), msg))
-                        .collect();
-                    if opts.skip_invalid {
-                        summary.rows_rejected += 1;
-                        if sidecar.is_none() {
-                            let f = File::create(&sidecar_file).map_err(|source| Error::Io {
-                                path: sidecar_file.clone(),
-                                source,
-                            })?;
-                            let mut w = csv::Writer::from_writer(f);
-                            let mut head = csv::ByteRecord::from(header_raw.clone());
-                            head.push_field(b"reason");
-                            w.write_byte_record(&head).map_err(csv_err)?;
-                            sidecar = Some(w);
+                    summary.rows += 1;
+                    if summary.rows.is_multiple_of(4096) {
+                        progress(item.byte, size);
+                    }
+                    let result = match parsed {
+                        Ok(Parsed::Visit(r)) => {
+                            run_row(s, opts, header, |_| importer.apply_visit(r, line))?
                         }
-                        if let Some(w) = sidecar.as_mut() {
-                            let mut out = record.clone();
-                            out.push_field(reasons.join("; ").as_bytes());
-                            w.write_byte_record(&out).map_err(csv_err)?;
+                        Ok(Parsed::Observation(r)) => {
+                            run_row(s, opts, header, |_| importer.apply_observation(r))?
+                        }
+                        Err(located) => Err(located.clone()),
+                    };
+                    match result {
+                        Ok(eff) => summary.add(&eff),
+                        Err(faults) => {
+                            // What the cache knew may have been rolled back with the row.
+                            importer.cache = Cache::default();
+                            let mut errs = Errors {
+                                file: &name,
+                                summary: &mut summary,
+                            };
+                            let reasons: Vec<String> = faults
+                                .iter()
+                                .map(|(col, n, msg)| errs.push(line, *col, n.as_deref(), msg))
+                                .collect();
+                            if opts.skip_invalid {
+                                summary.rows_rejected += 1;
+                                if sidecar.is_none() {
+                                    let f = File::create(&sidecar_file).map_err(|source| {
+                                        Error::Io {
+                                            path: sidecar_file.clone(),
+                                            source,
+                                        }
+                                    })?;
+                                    let mut w = csv::Writer::from_writer(f);
+                                    let mut head = csv::ByteRecord::from(header_raw.clone());
+                                    head.push_field(b"reason");
+                                    w.write_byte_record(&head).map_err(csv_err)?;
+                                    sidecar = Some(w);
+                                }
+                                if let Some(w) = sidecar.as_mut() {
+                                    let mut out = record.clone();
+                                    out.push_field(reasons.join("; ").as_bytes());
+                                    w.write_byte_record(&out).map_err(csv_err)?;
+                                }
+                            }
                         }
                     }
                 }
+                // The rows are freed on the reading thread, where they were made. The reader
+                // may have stopped; then the batch is simply dropped.
+                let _ = free_tx.send(batch);
             }
-        }
-        if summary.rows == 0 {
-            Errors {
-                file: &name,
-                summary: &mut summary,
+            if summary.rows == 0 {
+                Errors {
+                    file: &name,
+                    summary: &mut summary,
+                }
+                .push(
+                    last_line + 1,
+                    1,
+                    None,
+                    "no rows under the header: nothing to import",
+                );
             }
-            .push(
-                last_line + 1,
-                1,
-                None,
-                "no rows under the header: nothing to import",
-            );
-        }
-        if summary.errors_total > 0 && !opts.skip_invalid || summary.rows == 0 {
-            refused = true;
-            return Err(Error::invalid("rolled back"));
-        }
-        Ok(())
+            if summary.errors_total > 0 && !opts.skip_invalid || summary.rows == 0 {
+                refused = true;
+                return Err(Error::invalid("rolled back"));
+            }
+            Ok(())
+        });
+        // Dropping the receiver stops the reader if this side stopped early.
+        drop(full_rx);
+        outcome
     });
     progress(size, size);
     if let Some(mut w) = sidecar {

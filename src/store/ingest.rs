@@ -4,6 +4,7 @@
 use std::collections::HashMap;
 
 use chrono::NaiveDate;
+use rusqlite::config::DbConfig;
 use rusqlite::{OptionalExtension, Row, params};
 
 use super::{CircuitDetails, Store};
@@ -115,7 +116,13 @@ impl Store {
     /// the page cache enough memory that index pages stay in it during a large file.
     pub fn ingest_prepare(&self) -> Result<()> {
         self.conn.set_prepared_statement_cache_capacity(64);
-        self.conn.pragma_update(None, "cache_size", -8_192)?;
+        self.conn.pragma_update(None, "cache_size", -16_384)?;
+        // Statement journals of a large file stay in memory rather than in temporary files.
+        self.conn.pragma_update(None, "temp_store", "MEMORY")?;
+        // Keep each lookup's plan: without this SQLite prepares the visit lookup again on
+        // every new date bound to it, which costs more than the lookup itself.
+        self.conn
+            .set_db_config(DbConfig::SQLITE_DBCONFIG_ENABLE_QPSG, true)?;
         Ok(())
     }
 
@@ -349,12 +356,36 @@ impl Store {
 
     /// Write a test record, replacing one already stored for the circuit at the visit.
     pub fn ingest_put_record(&self, visit_id: i64, circuit_id: i64, r: &Readings) -> Result<()> {
+        self.write_record(
+            concat!(
+                "INSERT OR REPLACE INTO test_record (visit_id, circuit_id, ",
+                record_values!(),
+                ") VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11, ?12, ?13, ?14, ?15, ?16, ?17)"
+            ),
+            visit_id,
+            circuit_id,
+            r,
+        )
+    }
+
+    /// Write a test record for a circuit that has none at the visit; a stored one is a
+    /// constraint error. A plain insert needs no statement journal, unlike a replace.
+    pub fn ingest_insert_record(&self, visit_id: i64, circuit_id: i64, r: &Readings) -> Result<()> {
+        self.write_record(
+            concat!(
+                "INSERT INTO test_record (visit_id, circuit_id, ",
+                record_values!(),
+                ") VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11, ?12, ?13, ?14, ?15, ?16, ?17)"
+            ),
+            visit_id,
+            circuit_id,
+            r,
+        )
+    }
+
+    fn write_record(&self, sql: &str, visit_id: i64, circuit_id: i64, r: &Readings) -> Result<()> {
         super::validate_readings(r)?;
-        let mut st = self.conn.prepare_cached(concat!(
-            "INSERT OR REPLACE INTO test_record (visit_id, circuit_id, ",
-            record_values!(),
-            ") VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11, ?12, ?13, ?14, ?15, ?16, ?17)"
-        ))?;
+        let mut st = self.conn.prepare_cached(sql)?;
         let split = |m: Option<Megohms>| match m {
             Some(m) => (Some(m.value), m.over_range),
             None => (None, false),

@@ -1,0 +1,164 @@
+#!/usr/bin/env bash
+# The benchmark suite: ohmtrail against outside anchors on the same synthetic, invented
+# portfolio, in the same run, as ratios with peak RSS.
+#   1. generate the portfolio (PROPERTIES x 12 circuits x 5 visits);
+#   2. `ohmtrail import` against the sqlite3 shell's unchecked `.import` into one table;
+#   3. `ohmtrail flags --json` (the whole analysis, from its database) against DuckDB's
+#      regr_slope of R1+R2 per circuit over the same CSV;
+#   4. `ohmtrail report PROPERTY -o FILE` for one property (30 circuits x 10 visits) in
+#      portfolios of 1,000 and 100,000 properties (skipped while the command is missing);
+#   5. a table on stdout and the same rows in a CSV.
+#
+# Usage: bench/run.sh [--properties N] [--large N] [--report-sizes "A B"] [--no-report] [--out FILE]
+#   --properties N      portfolio size for steps 1-3 (default 10000 = 120,000 circuits)
+#   --large N           also run step 3 at N properties (84000 is about 1,000,000 circuits)
+#   --report-sizes "A B"  portfolio sizes for step 4 (default "1000 100000")
+#   --out FILE          the CSV (default bench/results.csv)
+# Installs Debian's sqlite3 and time packages and DuckDB's Python package when missing.
+# Timings are wall-clock seconds of one run each; the machine is shared, so repeat to trust.
+set -euo pipefail
+cd "$(dirname "$0")/.."
+
+props=10000
+large=""
+report_sizes="1000 100000"
+do_report=1
+out="bench/results.csv"
+while [ $# -gt 0 ]; do
+    case "$1" in
+        --properties) props="$2"; shift 2 ;;
+        --large) large="$2"; shift 2 ;;
+        --report-sizes) report_sizes="$2"; shift 2 ;;
+        --no-report) do_report=0; shift ;;
+        --out) out="$2"; shift 2 ;;
+        -h|--help) sed -n '2,18p' "$0"; exit 0 ;;
+        *) echo "unknown option $1 (see --help)" >&2; exit 2 ;;
+    esac
+done
+
+as_root() { if [ "$(id -u)" -eq 0 ]; then "$@"; else sudo "$@"; fi; }
+apt_updated=0
+need_deb() { # command package
+    command -v "$1" >/dev/null && return 0
+    echo "installing Debian's $2 for the benchmark" >&2
+    if [ "$apt_updated" -eq 0 ]; then as_root apt-get update -qq; apt_updated=1; fi
+    as_root apt-get install -y -qq "$2" >/dev/null
+}
+need_deb sqlite3 sqlite3
+[ -x /usr/bin/time ] || { need_deb /usr/bin/time time; }
+if ! python3 -c 'import duckdb' 2>/dev/null; then
+    echo "installing DuckDB's Python package for the benchmark" >&2
+    python3 -m pip install --quiet duckdb
+fi
+
+cargo build --release --quiet --bin ohmtrail --example gen_portfolio
+bin="$(pwd)/target/release/ohmtrail"
+gen="$(pwd)/target/release/examples/gen_portfolio"
+work="$(mktemp -d "${TMPDIR:-/tmp}/ohmtrail-bench.XXXXXX")"
+trap 'rm -rf "$work"' EXIT
+
+# measure NAME CMD...: wall seconds into $work/NAME.secs, peak RSS (kB) into $work/NAME.rss,
+# output into $work/NAME.log. A failing command stops the suite.
+measure() {
+    local name="$1"; shift
+    local start end
+    start=$(date +%s.%N)
+    if ! /usr/bin/time -f "%M" -o "$work/$name.rss" "$@" >"$work/$name.log" 2>"$work/$name.err"; then
+        echo "$name failed:" >&2; tail -n 20 "$work/$name.err" >&2; exit 1
+    fi
+    end=$(date +%s.%N)
+    awk -v a="$start" -v b="$end" 'BEGIN { printf "%.3f", b - a }' >"$work/$name.secs"
+}
+secs() { cat "$work/$1.secs"; }
+rss() { tail -n 1 "$work/$1.rss"; }
+
+echo "step,size,ohmtrail_s,ohmtrail_rss_kb,reference,reference_s,reference_rss_kb,ratio,ratio_target,ratio_met,rss_limit_mb,rss_met" >"$out"
+table=()
+# record STEP SIZE OHM_S OHM_RSS REF REF_S REF_RSS TARGET_RATIO [RSS_LIMIT_MB]
+record() {
+    local ratio ratio_met rss_met="" limit="${9:-}" mem
+    ratio=$(awk -v o="$3" -v r="$6" 'BEGIN { if (r > 0) printf "%.2f", o / r; else print "" }')
+    ratio_met=$(awk -v x="$ratio" -v t="$8" 'BEGIN { print (x != "" && x <= t) ? "yes" : "no" }')
+    mem="$(($4 / 1000)) MB"
+    if [ -n "$limit" ]; then
+        rss_met=$([ "$4" -lt $((limit * 1000)) ] && echo yes || echo no)
+        mem="$mem (< $limit MB: $rss_met)"
+    fi
+    echo "$1,$2,$3,$4,$5,$6,$7,$ratio,$8,$ratio_met,$limit,$rss_met" >>"$out"
+    table+=("$(printf '%-7s %7s | ohmtrail %7ss %-20s | %-17s %7ss %5s MB | ratio %5s (<= %s: %s)' \
+        "$1" "$2" "$3" "$mem" "$5" "$6" "$(($7 / 1000))" "$ratio" "$8" "$ratio_met")")
+}
+
+portfolio() { # PROPERTIES -> path of the generated file
+    local f="$work/portfolio-$1.csv"
+    [ -f "$f" ] || "$gen" "$1" "$f"
+    echo "$f"
+}
+
+# Steps 1 and 2.
+file=$(portfolio "$props")
+rows=$(($(wc -l <"$file") - 1))
+echo "portfolio: $props properties, $rows rows, $(du -h "$file" | cut -f1)"
+db="$work/ohmtrail-$props.db"
+measure import "$bin" --db "$db" import "$file"
+sqlite3 "$work/shell.db" "CREATE TABLE readings($(head -n 1 "$file"));"
+measure shell sqlite3 "$work/shell.db" ".import --csv --skip 1 $file readings"
+shell_rows=$(sqlite3 "$work/shell.db" 'SELECT count(*) FROM readings')
+[ "$shell_rows" -eq "$rows" ] || { echo "sqlite3 imported $shell_rows rows of $rows" >&2; exit 1; }
+rm -f "$work/shell.db"
+record import "$props" "$(secs import)" "$(rss import)" "sqlite3 .import" "$(secs shell)" "$(rss shell)" 1 100
+
+# Step 3, at the main size and, when asked, at the large one.
+flags_step() { # PROPERTIES DB FILE
+    measure "flags-$1" sh -c "\"$bin\" --db \"$2\" flags --json >/dev/null"
+    measure "duckdb-$1" python3 bench/duckdb_slopes.py "$3"
+    local q
+    q=$(sed -n 's/.*query_seconds \([0-9.]*\).*/\1/p' "$work/duckdb-$1.log")
+    # The stricter anchor: DuckDB's query alone, without Python's start-up and import.
+    record flags "$1" "$(secs "flags-$1")" "$(rss "flags-$1")" "duckdb regr_slope" "$q" "$(rss "duckdb-$1")" 1 200
+    echo "  duckdb process with start-up: $(secs "duckdb-$1") s; $(cat "$work/duckdb-$1.log")"
+}
+flags_step "$props" "$db" "$file"
+if [ -n "$large" ]; then
+    lfile=$(portfolio "$large")
+    ldb="$work/ohmtrail-$large.db"
+    echo "large portfolio: $large properties, $(($(wc -l <"$lfile") - 1)) rows"
+    measure "import-$large" "$bin" --db "$ldb" import "$lfile"
+    echo "  import of the large portfolio: $(secs "import-$large") s, peak RSS $(($(rss "import-$large") / 1000)) MB"
+    flags_step "$large" "$ldb" "$lfile"
+    rm -f "$lfile" "$ldb" "$ldb"-*
+fi
+
+# Step 4.
+if [ "$do_report" -eq 1 ]; then
+    if ! "$bin" report --help >/dev/null 2>&1; then
+        echo "report: skipped: this build has no \`ohmtrail report\` command yet"
+        echo "report,,,,,,,,1.2,skipped,," >>"$out"
+    else
+        # One property of 30 circuits x 10 visits, the same in every portfolio.
+        target="$work/target.csv"
+        "$gen" 1 "$target" 30 10 RPT
+        base_s=""
+        for n in $report_sizes; do
+            rdb="$work/report-$n.db"
+            "$bin" --db "$rdb" import "$(portfolio "$n")" >/dev/null
+            "$bin" --db "$rdb" import "$target" >/dev/null
+            "$bin" --db "$rdb" report RPT-00000 -o "$work/warm.html" >/dev/null # warm the cache
+            measure "report-$n" "$bin" --db "$rdb" report RPT-00000 -o "$work/report-$n.html"
+            s=$(secs "report-$n")
+            if [ -z "$base_s" ]; then
+                base_s="$s"; base_rss=$(rss "report-$n"); base_n="$n"
+                # The absolute target: under 50 ms for the one property.
+                record report "$n" "$s" "$base_rss" "50 ms budget" 0.050 0 1
+            else
+                record report "$n" "$s" "$(rss "report-$n")" "report at $base_n" "$base_s" "$base_rss" 1.2
+            fi
+            rm -f "$rdb" "$rdb"-*
+        done
+    fi
+fi
+
+echo
+echo "machine: $(nproc) cores, $(lscpu | sed -n 's/^Model name: *//p' | head -n 1)"
+for line in "${table[@]}"; do echo "$line"; done
+echo "results: $out"
