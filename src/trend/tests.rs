@@ -644,7 +644,13 @@ fn one_low_insulation_reading_between_over_range_ones_is_no_drift() {
     // direction are >200 → 27 (a fall) and 27 → each later >200 (three rises), so the median
     // slope is a rise and nothing has fallen (common practice, no source: an over-range
     // reading is a lower bound).
-    let dates = [d(2005, 5, 1), d(2010, 5, 1), d(2015, 5, 1), d(2020, 5, 1), d(2025, 5, 1)];
+    let dates = [
+        d(2005, 5, 1),
+        d(2010, 5, 1),
+        d(2015, 5, 1),
+        d(2020, 5, 1),
+        d(2025, 5, 1),
+    ];
     let points = vec![
         Point::over_range(dates[0], 200.0),
         Point::raw(dates[1], 27.0),
