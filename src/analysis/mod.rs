@@ -167,6 +167,24 @@ pub fn add_months(d: NaiveDate, months: u32) -> NaiveDate {
 
 /// Judge and trend one property's history.
 pub fn analyse(h: &PropertyHistory, settings: &Settings) -> PropertyAnalysis {
+    analyse_detail(h, settings, Detail::Full)
+}
+
+/// How much of the analysis to work out.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub(crate) enum Detail {
+    /// Everything a report shows.
+    Full,
+    /// Only what the flags need: the last visit's fault-path report (a report-only figure)
+    /// is left out.
+    Flags,
+}
+
+pub(crate) fn analyse_detail(
+    h: &PropertyHistory,
+    settings: &Settings,
+    detail: Detail,
+) -> PropertyAnalysis {
     let last_visit = h.visits.last().map(|v| v.date);
     let next_due = last_visit.map(|d| add_months(d, h.property.interval_months));
     // With no visit yet nothing is due from the history; trends need a date to project to.
@@ -190,7 +208,7 @@ pub fn analyse(h: &PropertyHistory, settings: &Settings) -> PropertyAnalysis {
     {
         let board = boards_by_id.get(&c.board_id).copied();
         circuits.push(series::circuit_analysis(
-            h, &index, c, board, horizon, settings,
+            h, &index, c, board, horizon, settings, detail,
         ));
     }
 
@@ -322,7 +340,7 @@ pub fn worklist(store: &Store, settings: &Settings, filter: &WorklistFilter) -> 
     let mut flags = match &filter.property {
         Some(r) => {
             let id = store.property(r)?.id;
-            analyse(&store.history(id)?, settings).flags
+            analyse_detail(&store.history(id)?, settings, Detail::Flags).flags
         }
         None => portfolio_flags(store, settings)?,
     };
@@ -349,7 +367,9 @@ fn portfolio_flags(store: &Store, settings: &Settings) -> Result<Vec<Flag>> {
                         // Hold the lock only to take the next history, not to analyse it.
                         let next = rx.lock().map(|r| r.recv());
                         match next {
-                            Ok(Ok(h)) => flags.extend(analyse(&h, settings).flags),
+                            Ok(Ok(h)) => {
+                                flags.extend(analyse_detail(&h, settings, Detail::Flags).flags)
+                            }
                             _ => return flags,
                         }
                     }

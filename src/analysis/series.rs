@@ -194,6 +194,7 @@ pub(super) fn circuit_analysis(
     board: Option<&Board>,
     horizon: NaiveDate,
     settings: &Settings,
+    detail: super::Detail,
 ) -> CircuitAnalysis {
     let chain = lineage(c, &idx.by_id);
     let board_name = board.map(|b| b.designation.clone()).unwrap_or_default();
@@ -672,7 +673,7 @@ pub(super) fn circuit_analysis(
     }
 
     let fault_paths = match (c.device, &disconnection, last) {
-        (Some(device), Some(t), Some(l)) => {
+        (Some(device), Some(t), Some(l)) if detail == super::Detail::Full => {
             let mut inputs = FaultPathInputs::new(device, t.time);
             inputs.earthing = earthing;
             inputs.rcd_ma = c.rcd_ma;

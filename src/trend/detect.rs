@@ -147,10 +147,15 @@ impl<'a> Work<'a> {
                 if dx <= 0.0 {
                     continue;
                 }
-                let pair = ((y[i], self.censored[i]), (y[j], self.censored[j]));
+                // A pair with an over-range bound counts only where the bound fixes the
+                // direction, worse or better alike: a bound then a lower reading is a fall of
+                // at least the difference, a reading then a higher bound a rise of at least it.
+                // Keeping only the worsening pairs would bias the median towards a fall.
                 let usable = match (self.censored[i], self.censored[j]) {
                     (false, false) => true,
-                    _ => self.worsening_at_least(pair.0, pair.1).is_some(),
+                    (true, true) => false,
+                    (true, false) => y[j] < y[i],
+                    (false, true) => y[j] > y[i],
                 };
                 if usable {
                     slopes.push((y[j] - y[i]) / dx);

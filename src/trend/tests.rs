@@ -637,3 +637,32 @@ fn fitted_line_passes_through_two_points_and_follows_the_log_scale() {
             .is_none()
     );
 }
+
+#[test]
+fn one_low_insulation_reading_between_over_range_ones_is_no_drift() {
+    // >200, 27, >200, >200, >200 MΩ: the one reading of 27 MΩ recovered. The pairs that fix a
+    // direction are >200 → 27 (a fall) and 27 → each later >200 (three rises), so the median
+    // slope is a rise and nothing has fallen (common practice, no source: an over-range
+    // reading is a lower bound).
+    let dates = [
+        d(2005, 5, 1),
+        d(2010, 5, 1),
+        d(2015, 5, 1),
+        d(2020, 5, 1),
+        d(2025, 5, 1),
+    ];
+    let points = vec![
+        Point::over_range(dates[0], 200.0),
+        Point::raw(dates[1], 27.0),
+        Point::over_range(dates[2], 200.0),
+        Point::over_range(dates[3], 200.0),
+        Point::over_range(dates[4], 200.0),
+    ];
+    let s = Series::new(Quantity::IrLe, points).with_limit(Limit::min(1.0));
+    let r = analyse(&s, FAR(), &cfg()).unwrap();
+    assert!(
+        !r.findings.iter().any(|f| f.kind == FindingKind::Drift),
+        "{:#?}",
+        r.findings
+    );
+}
