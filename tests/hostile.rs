@@ -241,9 +241,9 @@ fn export_to_a_path_that_cannot_be_written_is_a_clear_error() {
     let a_dir = dir.path().join("a-directory");
     std::fs::create_dir(&a_dir).unwrap();
     let cases: [(&Path, &str, &str); 4] = [
-        (&under_file, "csv", "Not a directory"),
-        (&under_file, "json", "Not a directory"),
-        (&missing, "csv", "No such file or directory"),
+        (&under_file, "csv", "is a file, not a directory"),
+        (&under_file, "json", "is a file, not a directory"),
+        (&missing, "csv", "does not exist: create it first"),
         (&a_dir, "csv", "Is a directory"),
     ];
     for (path, format, why) in cases {
@@ -341,8 +341,8 @@ fn a_report_to_a_path_that_cannot_be_written_is_a_clear_error() {
     let property = ["report", "A-0000", "-o"];
     let portfolio = ["report", "--portfolio", "-o"];
     let cases: [(&[&str], &Path, &str); 5] = [
-        (&property, &under_file, "does not exist"),
-        (&portfolio, &under_file, "does not exist"),
+        (&property, &under_file, "is a file, not a directory"),
+        (&portfolio, &under_file, "is a file, not a directory"),
         (&property, &missing, "does not exist"),
         (&portfolio, &missing, "does not exist"),
         (&property, &a_dir, "is a directory"),

@@ -7,7 +7,7 @@ use clap::Args as ClapArgs;
 use ohmtrail::analysis::Settings;
 use ohmtrail::store::Store;
 
-use super::report::write_atomic;
+use super::output::write_atomic;
 use super::today;
 
 #[derive(ClapArgs, Debug)]

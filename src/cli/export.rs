@@ -1,13 +1,13 @@
-use std::fs::File;
-use std::io::{BufWriter, Write};
+use std::io::Write;
 use std::path::{Path, PathBuf};
 
-use anyhow::{Context as _, Result};
+use anyhow::Result;
 use clap::{Args as ClapArgs, ValueEnum};
 
 use ohmtrail::export::{export_csv, export_json, observation_count};
 
 use super::Context;
+use super::output::{write_atomic, write_atomic_with};
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
 pub enum Format {
@@ -37,12 +37,6 @@ fn observations_path(p: &Path) -> PathBuf {
     p.with_file_name(format!("{stem}.observations.csv"))
 }
 
-fn create(p: &Path) -> Result<BufWriter<File>> {
-    Ok(BufWriter::new(File::create(p).with_context(|| {
-        format!("cannot write {}", p.display())
-    })?))
-}
-
 pub fn run(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
     let store = ctx.open()?;
     let property = args.property.as_deref();
@@ -51,9 +45,7 @@ pub fn run(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
             export_json(&store, property, out)?;
         }
         (Format::Json, Some(p)) => {
-            let mut w = create(p)?;
-            let n = export_json(&store, property, &mut w)?;
-            w.flush()?;
+            let n = write_atomic_with(p, |w| Ok(export_json(&store, property, w)?))?;
             eprintln!(
                 "wrote {} test records and {} observations to {}",
                 n.test_records,
@@ -72,18 +64,22 @@ pub fn run(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
             }
         }
         (Format::Csv, Some(p)) => {
-            let mut w = create(p)?;
             let obs_path = observations_path(p);
             let has_obs = observation_count(&store, property)? > 0;
-            let n = if has_obs {
-                let mut o = create(&obs_path)?;
-                let n = export_csv(&store, property, &mut w, Some(&mut o))?;
-                o.flush()?;
-                n
-            } else {
-                export_csv(&store, property, &mut w, None)?
-            };
-            w.flush()?;
+            // Both files appear whole or not at all: the observations (a few lines a visit)
+            // are held in memory until the visit file is safely in place.
+            let mut obs = Vec::new();
+            let n = write_atomic_with(p, |w| {
+                Ok(export_csv(
+                    &store,
+                    property,
+                    w,
+                    has_obs.then_some(&mut obs as &mut dyn Write),
+                )?)
+            })?;
+            if has_obs {
+                write_atomic(&obs_path, &obs)?;
+            }
             eprintln!("wrote {} test records to {}", n.test_records, p.display());
             if has_obs {
                 eprintln!(

@@ -2,7 +2,9 @@
 
 use std::io::Write;
 
-use anyhow::Result;
+use std::path::{Path, PathBuf};
+
+use anyhow::{Context as _, Result, anyhow, bail};
 use comfy_table::{Table, presets};
 use serde::Serialize;
 
@@ -33,4 +35,79 @@ pub fn cell<T: ToString>(v: &Option<T>) -> String {
     v.as_ref()
         .map(|x| x.to_string())
         .unwrap_or_else(|| "-".into())
+}
+
+/// The directory a file is to be written in; it must exist, and the file must not be a
+/// directory.
+pub fn output_dir(target: &Path) -> Result<PathBuf> {
+    if target.as_os_str().is_empty() {
+        bail!("the output path is empty: expected a file name such as report.html");
+    }
+    if target.is_dir() {
+        bail!(
+            "{} is a directory: expected a file name such as {}/report.html",
+            target.display(),
+            target.display()
+        );
+    }
+    let dir = match target.parent() {
+        Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
+        _ => PathBuf::from("."),
+    };
+    if !dir.is_dir() {
+        // Name the part of the path that is in the way, not just the folder that is missing.
+        if let Some(file) = dir.ancestors().find(|a| a.is_file()) {
+            bail!(
+                "cannot write {}: {} is a file, not a directory",
+                target.display(),
+                file.display()
+            );
+        }
+        bail!(
+            "output directory {} does not exist: create it first, or give -o a file in an existing directory",
+            dir.display()
+        );
+    }
+    Ok(dir)
+}
+
+/// Write `body` to `path` by way of a temporary file in the same directory and a rename, so a
+/// reader never sees a half-written file and a failure leaves nothing behind.
+pub fn write_atomic(path: &Path, body: &[u8]) -> Result<()> {
+    write_atomic_with(path, |w| Ok(w.write_all(body)?))
+}
+
+/// Like [`write_atomic`], for output written as it is made: `f` writes into a buffered
+/// temporary file that replaces `path` only when `f` succeeds.
+pub fn write_atomic_with<T>(path: &Path, f: impl FnOnce(&mut dyn Write) -> Result<T>) -> Result<T> {
+    let dir = output_dir(path)?;
+    let tmp = tempfile::Builder::new()
+        .prefix(".ohmtrail-")
+        .suffix(".tmp")
+        .tempfile_in(&dir)
+        .with_context(|| {
+            format!(
+                "cannot write in the output directory {}: check it is writable",
+                dir.display()
+            )
+        })?;
+    let mut w = std::io::BufWriter::new(tmp);
+    let value = f(&mut w)?;
+    let tmp = w
+        .into_inner()
+        .map_err(|e| anyhow!("cannot write {}: {}", path.display(), e.error()))?;
+    tmp.as_file()
+        .sync_all()
+        .with_context(|| format!("cannot write {}", path.display()))?;
+    // Output is meant to be shared: readable by others, as a newly created file would be.
+    #[cfg(unix)]
+    {
+        use std::os::unix::fs::PermissionsExt;
+        let _ = tmp
+            .as_file()
+            .set_permissions(std::fs::Permissions::from_mode(0o644));
+    }
+    tmp.persist(path)
+        .map_err(|e| anyhow!("cannot write {}: {}", path.display(), e.error))?;
+    Ok(value)
 }

@@ -10,14 +10,15 @@
 //! so a failed run leaves no half-written report.
 
 use std::io::Write;
-use std::path::{Path, PathBuf};
+use std::path::PathBuf;
 
-use anyhow::{Context as _, Result, anyhow, bail};
+use anyhow::{Result, anyhow};
 use clap::{ArgGroup, Args as ClapArgs, ValueEnum};
 
 use ohmtrail::analysis::Settings;
 use ohmtrail::report::{self, portfolio, property};
 
+use super::output::{output_dir, write_atomic};
 use super::{CAUTION, Context, today};
 
 #[derive(ValueEnum, Clone, Copy, Debug, PartialEq, Eq)]
@@ -121,60 +122,4 @@ fn json_bytes<T: serde::Serialize>(v: &T) -> Result<Vec<u8>> {
     let mut b = serde_json::to_vec_pretty(v)?;
     b.push(b'\n');
     Ok(b)
-}
-
-/// The directory a file is to be written in; it must exist, and the file must not be a
-/// directory.
-pub fn output_dir(target: &Path) -> Result<PathBuf> {
-    if target.as_os_str().is_empty() {
-        bail!("the output path is empty: expected a file name such as report.html");
-    }
-    if target.is_dir() {
-        bail!(
-            "{} is a directory: expected a file name such as {}/report.html",
-            target.display(),
-            target.display()
-        );
-    }
-    let dir = match target.parent() {
-        Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
-        _ => PathBuf::from("."),
-    };
-    if !dir.is_dir() {
-        bail!(
-            "output directory {} does not exist: create it first, or give -o a file in an existing directory",
-            dir.display()
-        );
-    }
-    Ok(dir)
-}
-
-/// Write `body` to `path` by way of a temporary file in the same directory and a rename, so a
-/// reader never sees a half-written file and a failure leaves nothing behind.
-pub fn write_atomic(path: &Path, body: &[u8]) -> Result<()> {
-    let dir = output_dir(path)?;
-    let mut tmp = tempfile::Builder::new()
-        .prefix(".ohmtrail-")
-        .suffix(".tmp")
-        .tempfile_in(&dir)
-        .with_context(|| {
-            format!(
-                "cannot write in the output directory {}: check it is writable",
-                dir.display()
-            )
-        })?;
-    tmp.write_all(body)
-        .and_then(|()| tmp.as_file().sync_all())
-        .with_context(|| format!("cannot write {}", path.display()))?;
-    // Reports are meant to be shared: readable by others, as a newly created file would be.
-    #[cfg(unix)]
-    {
-        use std::os::unix::fs::PermissionsExt;
-        let _ = tmp
-            .as_file()
-            .set_permissions(std::fs::Permissions::from_mode(0o644));
-    }
-    tmp.persist(path)
-        .map_err(|e| anyhow!("cannot write {}: {}", path.display(), e.error))?;
-    Ok(())
 }
