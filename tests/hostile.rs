@@ -244,7 +244,7 @@ fn export_to_a_path_that_cannot_be_written_is_a_clear_error() {
         (&under_file, "csv", "is a file, not a directory"),
         (&under_file, "json", "is a file, not a directory"),
         (&missing, "csv", "does not exist: create it first"),
-        (&a_dir, "csv", "Is a directory"),
+        (&a_dir, "csv", "it is a directory"),
     ];
     for (path, format, why) in cases {
         refused(

@@ -629,7 +629,7 @@ fn missing_output_directory_is_a_clear_error_and_writes_nothing() {
         .assert()
         .code(1)
         .stderr(predicate::str::contains(
-            "output directory nowhere does not exist",
+            "the output directory nowhere does not exist",
         ));
     assert!(!dir.path().join("nowhere").exists());
     cmd(&db, dir.path())

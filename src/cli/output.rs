@@ -45,7 +45,7 @@ pub fn output_dir(target: &Path) -> Result<PathBuf> {
     }
     if target.is_dir() {
         bail!(
-            "{} is a directory: expected a file name such as {}/report.html",
+            "cannot write {}: it is a directory: expected a file name such as {}/report.html",
             target.display(),
             target.display()
         );
@@ -64,7 +64,8 @@ pub fn output_dir(target: &Path) -> Result<PathBuf> {
             );
         }
         bail!(
-            "output directory {} does not exist: create it first, or give -o a file in an existing directory",
+            "cannot write {}: the output directory {} does not exist: create it first, or give -o a file in an existing directory",
+            target.display(),
             dir.display()
         );
     }
