@@ -518,3 +518,64 @@ mod tests {
         }
     }
 }
+
+/// What is typed on site and what is written in a visit file are read alike: the same
+/// readings accepted, with the same values, and the same ones refused.
+#[cfg(test)]
+mod agrees_with_the_visit_file {
+    use super::*;
+    use crate::import::cell::{Cell, Column, ParseOptions, parse_cell};
+
+    #[test]
+    fn entry_and_cell_agree() {
+        let opts = ParseOptions {
+            decimal_comma: false,
+            today: chrono::NaiveDate::from_ymd_opt(2026, 1, 1).unwrap(),
+        };
+        let inputs = [
+            "0.47",
+            "0.47Ω",
+            "0.47 ohm",
+            "0.47 ohms",
+            "200 MΩ",
+            "200 Mohm",
+            "25ms",
+            "25 ms",
+            ">200",
+            "> 999",
+            "LIM",
+            "lim",
+            "N/A",
+            "NA",
+            "-",
+            "",
+            "abc",
+            "-0.52",
+            "0,35",
+            "0.35 MΩ",
+            "0.5x",
+            "1e3",
+            "NaN",
+            "inf",
+        ];
+        for field in std::iter::once(Field::Ze).chain(Field::CIRCUIT) {
+            let column = Column::from_name(field.column()).expect("a visit-file column");
+            for text in inputs {
+                let entry = parse_entry(field, text);
+                let cell = parse_cell(column, text, &opts);
+                let same = match (&entry, &cell) {
+                    (Ok(Entry::Skip | Entry::NotApplicable), Ok(Cell::Missing)) => true,
+                    (Ok(Entry::Limitation), Ok(Cell::Limitation)) => true,
+                    (Ok(Entry::Value(a)), Ok(Cell::Number(b))) => a == b,
+                    (Ok(Entry::OverRange(a)), Ok(Cell::OverRange(b))) => a == b,
+                    (Err(_), Err(_)) => true,
+                    _ => false,
+                };
+                assert!(
+                    same,
+                    "{field:?} {text:?}: on site {entry:?}, in a file {cell:?}"
+                );
+            }
+        }
+    }
+}
