@@ -79,6 +79,16 @@ fn help_lists_every_command_with_a_description() {
         "circuit",
         "instrument",
         "visit",
+        "import",
+        "export",
+        "flags",
+        "trend",
+        "report",
+        "brief",
+        "record",
+        "settings",
+        "limits",
+        "check",
         "demo",
     ] {
         let line = text

@@ -61,6 +61,10 @@ pub enum Command {
     /// Add and list test instruments and their calibration dates
     #[command(subcommand)]
     Instrument(instrument::Cmd),
+    /// Import visit or observation files (CSV): all rows or nothing, with exact errors
+    Import(import::Args),
+    /// Export test records and observations as CSV or JSON, in the format import reads
+    Export(export::Args),
     /// List the visits in the history
     #[command(subcommand)]
     Visit(visit::Cmd),
@@ -70,6 +74,10 @@ pub enum Command {
     Trend(trend::Args),
     /// Write a property's trend report (HTML or JSON), or the portfolio index with --portfolio
     Report(report::Args),
+    /// The brief for a coming visit: what each circuit should read on the day, and what to test first
+    Brief(brief::Args),
+    /// Take readings on site into a pending visit, each compared at once with what was expected
+    Record(record::Args),
     /// Show or change this database's settings: the measured-value rule and the noise floors
     #[command(subcommand)]
     Settings(settings::Cmd),
@@ -77,16 +85,8 @@ pub enum Command {
     Limits(limits::Args),
     /// Judge one set of readings through the limits engine, to see what it concludes
     Check(check::Args),
-    /// Build an invented demo portfolio and write its trend report
+    /// Build an invented demo portfolio and write its trend reports and portfolio index
     Demo(demo::Args),
-    /// Import visit or observation files (CSV): all rows or nothing, with exact errors
-    Import(import::Args),
-    /// Export test records and observations as CSV or JSON, in the format import reads
-    Export(export::Args),
-    /// The brief for a coming visit: what each circuit should read on the day, and what to test first
-    Brief(brief::Args),
-    /// Take readings on site into a pending visit, each compared at once with what was expected
-    Record(record::Args),
 }
 
 /// What every command may need: where the database is, and where to print.
