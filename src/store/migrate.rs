@@ -10,6 +10,10 @@ pub const MIGRATIONS: &[(&str, &str)] = &[
         "002_circuit_board_index",
         include_str!("../../schema/002_circuit_board_index.sql"),
     ),
+    (
+        "003_drop_record_circuit_index",
+        include_str!("../../schema/003_drop_record_circuit_index.sql"),
+    ),
 ];
 
 /// The schema version this build writes and understands.

@@ -227,13 +227,8 @@ impl Store {
         ring_r1_ohm, ring_rn_ohm, ring_r2_ohm, zs_ohm, ir_ll_mohm, ir_ll_over, ir_le_mohm,
         ir_le_over, rcd_ms, rcd_5x_ms, limitations, note";
 
+    /// Decode a test record from the columns of [`Self::RECORD_COLS`], in order.
     pub(super) fn record_from_row(r: &Row) -> rusqlite::Result<TestRecord> {
-        Self::record_from_row_at(r, 0)
-    }
-
-    /// Decode a test record whose columns start at `o` in the row.
-    fn record_from_row_at(row: &Row, o: usize) -> rusqlite::Result<TestRecord> {
-        let r = At { row, o };
         let mohm = |v: Option<f64>, over: bool| {
             v.map(|value| Megohms {
                 value,
@@ -280,10 +275,13 @@ impl Store {
 
     /// Every test record of a circuit at completed visits, oldest visit first.
     pub fn circuit_records(&self, circuit_id: i64) -> Result<Vec<(Visit, TestRecord)>> {
+        // Reached through the property's visits, as the indexes are laid out: records are
+        // indexed by (visit, circuit), not by circuit alone.
         let sql = format!(
-            "SELECT {}, {} FROM test_record t JOIN visit v ON v.id = t.visit_id
-             WHERE t.circuit_id = ?1 AND v.state = 'complete' ORDER BY v.date",
-            Self::VISIT_COLS,
+            "SELECT {} FROM circuit c JOIN board b ON b.id = c.board_id
+             JOIN visit v ON v.property_id = b.property_id AND v.state = 'complete'
+             JOIN test_record t ON t.visit_id = v.id AND t.circuit_id = c.id
+             WHERE c.id = ?1 ORDER BY v.date",
             Self::RECORD_COLS
                 .split(',')
                 .map(|c| format!("t.{}", c.trim()))
@@ -291,12 +289,13 @@ impl Store {
                 .join(", ")
         );
         let mut stmt = self.conn.prepare(&sql)?;
-        let rows = stmt.query_map([circuit_id], |r| {
-            let visit = Self::visit_from_row(r)?;
-            let record = Self::record_from_row_at(r, 9)?;
-            Ok((visit, record))
-        })?;
-        Ok(rows.collect::<rusqlite::Result<_>>()?)
+        let records = stmt
+            .query_map([circuit_id], Self::record_from_row)?
+            .collect::<rusqlite::Result<Vec<_>>>()?;
+        records
+            .into_iter()
+            .map(|r| Ok((self.visit_by_id(r.visit_id)?, r)))
+            .collect()
     }
 
     pub fn add_observation(
@@ -366,16 +365,4 @@ pub fn validate_readings(r: &Readings) -> Result<()> {
         }
     }
     Ok(())
-}
-
-/// A row read from a column offset, so a joined row can be split between two decoders.
-struct At<'a, 'b> {
-    row: &'a Row<'b>,
-    o: usize,
-}
-
-impl At<'_, '_> {
-    fn get<T: rusqlite::types::FromSql>(&self, i: usize) -> rusqlite::Result<T> {
-        self.row.get(i + self.o)
-    }
 }
