@@ -21,7 +21,10 @@ fn chromium() -> PathBuf {
 /// Run Chromium headless on a file with the flags a root sandbox needs, returning stderr.
 fn run_chromium(page: &Path, extra: &[String]) -> String {
     let profile = tempfile::tempdir().unwrap();
-    let out = Process::new(chromium())
+    // A browser that hangs must fail the test, not stall the run: coreutils' timeout ends it.
+    let out = Process::new("timeout")
+        .arg("180")
+        .arg(chromium())
         .args([
             "--headless",
             "--no-sandbox",
