@@ -23,3 +23,9 @@ pub mod store;
 pub mod trend;
 
 pub use error::{Error, Result};
+
+/// The caution every output carries, printed or in a report: the figures support a competent
+/// person's judgement and never replace it, and the tool assigns no condition codes.
+pub const CAUTION: &str = "These figures support, and never replace, the judgement of a competent, \
+licensed person inspecting and testing to BS 7671 or the local code. ohmtrail assigns no condition \
+codes.";

@@ -259,6 +259,6 @@ fn print_text(b: &Brief, out: &mut dyn Write) -> Result<()> {
         writeln!(out, "Note: {n}")?;
     }
     writeln!(out)?;
-    writeln!(out, "{CAUTION}")?;
+    writeln!(out, "Caution: {CAUTION}")?;
     Ok(())
 }

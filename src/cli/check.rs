@@ -6,9 +6,10 @@ use anyhow::Result;
 use comfy_table::{CellAlignment, ContentArrangement, Table, presets};
 use serde::Serialize;
 
+use ohmtrail::CAUTION;
 use ohmtrail::limits::{
-    CAUTION, CircuitFacts, DisconnectionChoice, DisconnectionTime, FaultPathInputs,
-    FaultPathReport, MeasuredRule, PathOutcome, PathResult, TestConditions, default_disconnection,
+    CircuitFacts, DisconnectionChoice, DisconnectionTime, FaultPathInputs, FaultPathReport,
+    MeasuredRule, PathOutcome, PathResult, TestConditions, default_disconnection,
     evaluate_fault_paths,
 };
 use ohmtrail::model::{Device, Earthing, Insulation};
@@ -17,7 +18,7 @@ use super::limits::{Row, SourceList, write_notes, write_rows};
 
 /// Judge one circuit's readings (both fault paths) against its device, with sources.
 #[derive(clap::Args, Debug)]
-#[command(after_help = CAUTION)]
+#[command(after_help = super::caution_help())]
 pub struct Args {
     /// Protective device as written on a schedule: B16, RCBO C20, BS 88-3 32A
     #[arg(long)]
@@ -193,7 +194,7 @@ pub fn run(args: &Args, out: &mut dyn Write) -> Result<()> {
     notes.extend(report.notes.iter().cloned());
     write_notes(out, &notes)?;
     sources.write(out)?;
-    writeln!(out, "{CAUTION}")?;
+    writeln!(out, "Caution: {CAUTION}")?;
     Ok(())
 }
 

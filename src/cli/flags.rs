@@ -36,7 +36,7 @@ pub fn run(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
             out,
             "nothing to report: no circuit exceeds, approaches or has moved beyond the noise floor"
         )?;
-        writeln!(out, "{CAUTION}")?;
+        writeln!(out, "Caution: {CAUTION}")?;
         return Ok(());
     }
     let rows = flags
@@ -73,6 +73,6 @@ pub fn run(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
         rows,
     )?;
     writeln!(out)?;
-    writeln!(out, "{CAUTION}")?;
+    writeln!(out, "Caution: {CAUTION}")?;
     Ok(())
 }

@@ -5,15 +5,16 @@ use std::io::Write;
 use anyhow::Result;
 use serde::Serialize;
 
+use ohmtrail::CAUTION;
 use ohmtrail::limits::{
-    CAUTION, DisconnectionTime, MeasuredLimit, MeasuredRule, RcdZsLimit, Source, TestConditions,
-    ZsLimit, max_zs, measured_limit, tt_rcd_zs_max,
+    DisconnectionTime, MeasuredLimit, MeasuredRule, RcdZsLimit, Source, TestConditions, ZsLimit,
+    max_zs, measured_limit, tt_rcd_zs_max,
 };
 use ohmtrail::model::{Device, Insulation};
 
 /// Show the maximum Zs, Ia and measured-value limits for a protective device, with sources.
 #[derive(clap::Args, Debug)]
-#[command(after_help = CAUTION)]
+#[command(after_help = super::caution_help())]
 pub struct Args {
     /// Protective device as written on a schedule: B32, C16, RCBO B20, BS 88-3 32A, BS 3036 15A
     pub device: String,
@@ -157,7 +158,7 @@ pub fn run(args: &Args, out: &mut dyn Write) -> Result<()> {
     write_rows(out, &rows)?;
     write_notes(out, &notes)?;
     sources.write(out)?;
-    writeln!(out, "{CAUTION}")?;
+    writeln!(out, "Caution: {CAUTION}")?;
     Ok(())
 }
 

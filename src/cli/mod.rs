@@ -29,13 +29,17 @@ use clap::{Parser, Subcommand};
 
 use ohmtrail::store::Store;
 
-pub const CAUTION: &str = "Caution: ohmtrail's figures support, and never replace, the judgement of a competent, \
-licensed person inspecting and testing to BS 7671 or the local code. It assigns no condition codes.";
+pub use ohmtrail::CAUTION;
+
+/// The caution as `--help` shows it under the commands.
+pub fn caution_help() -> String {
+    format!("Caution: {CAUTION}")
+}
 
 /// Test history of rented homes' fixed wiring: see, visit after visit, which circuits are
 /// deteriorating before they fail a limit.
 #[derive(Parser, Debug)]
-#[command(name = "ohmtrail", version, about, after_help = CAUTION)]
+#[command(name = "ohmtrail", version, about, after_help = caution_help())]
 pub struct Cli {
     /// Database file [default: ohmtrail.db in the platform data directory]
     #[arg(long, global = true, env = "OHMTRAIL_DB", value_name = "PATH")]

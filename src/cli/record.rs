@@ -389,7 +389,7 @@ fn run_prompts(
         "finished: the visit of {} to {r} is complete with {n} value(s) and is now part of the history",
         visit.date
     )?;
-    writeln!(out, "{CAUTION}")?;
+    writeln!(out, "Caution: {CAUTION}")?;
     Ok(())
 }
 

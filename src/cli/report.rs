@@ -114,7 +114,7 @@ pub fn run(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
         write_atomic(&target, &body)?;
         writeln!(out, "wrote report {}", target.display())?;
     }
-    writeln!(out, "{CAUTION}")?;
+    writeln!(out, "Caution: {CAUTION}")?;
     Ok(())
 }
 

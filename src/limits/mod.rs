@@ -45,9 +45,6 @@ pub use zs::{
     ZsLimit, default_disconnection, max_zs, tt_rcd_zs_max,
 };
 
-/// The caution that goes with every figure the tool prints or reports.
-pub const CAUTION: &str = "These figures support, and never replace, the judgement of a competent person working to BS 7671; the tool assigns no condition codes";
-
 /// Why a limit could not be given. Messages name the value at fault and what is known.
 #[derive(Debug, Clone, PartialEq, thiserror::Error)]
 pub enum LimitsError {

@@ -267,7 +267,7 @@ pub fn brief(
         instruments: instrument_checks,
         instruments_known: instruments.len(),
         notes,
-        caution: limits::CAUTION,
+        caution: crate::CAUTION,
     }
 }
 
@@ -898,7 +898,7 @@ mod tests {
         assert_eq!(serials, ["MFT-A", "MFT-C"]);
         assert_eq!(b.observations.len(), 1);
         assert_eq!(b.observations[0].text, "No RCD on the lighting");
-        assert_eq!(b.caution, crate::limits::CAUTION);
+        assert_eq!(b.caution, crate::CAUTION);
         // Ze: no temperature correction; the last Ze is 0.20 at both visits.
         close(b.boards[0].ze.expected.unwrap(), 0.20);
     }

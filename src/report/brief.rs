@@ -342,7 +342,7 @@ mod tests {
             instruments: vec![],
             instruments_known: 0,
             notes: vec![],
-            caution: crate::limits::CAUTION,
+            caution: crate::CAUTION,
         };
         let h = brief_html(&b);
         assert!(!h.contains("<script>"));

@@ -24,11 +24,6 @@ pub use html::{file_stem, property_file_name};
 pub use model::{CAUTIONS, PropertyReport};
 pub use portfolio::{PortfolioEntry, PortfolioReport};
 
-/// The caution every report carries, as one paragraph.
-pub const CAUTION: &str = "These figures support, and never replace, the judgement of a competent, \
-licensed person inspecting and testing to BS 7671 or the local code. ohmtrail assigns no condition \
-codes; any reading that exceeds a limit needs prompt attention by a qualified electrician.";
-
 /// One property's report model, analysed on `settings.today`.
 pub fn property_report(
     store: &Store,

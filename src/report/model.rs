@@ -13,10 +13,8 @@ use crate::trend::{LimitKind, NoiseFloor, Quantity, Scale};
 
 /// The cautions every report carries, in the order they are printed.
 pub const CAUTIONS: [&str; 4] = [
-    "These figures support, and never replace, the judgement of a competent, licensed person \
-     inspecting and testing to BS 7671 or the local code.",
-    "ohmtrail assigns no condition codes. Any code shown (C1, C2, C3, FI) is exactly as the \
-     inspector recorded it at the visit.",
+    crate::CAUTION,
+    "Any code shown (C1, C2, C3, FI) is exactly as the inspector recorded it at the visit.",
     "Any reading that exceeds a limit needs prompt attention by a qualified electrician.",
     "A projection is a straight line through past readings. A circuit can get worse faster, for \
      example when a connection works loose between visits, so a projected date is not a promise.",
