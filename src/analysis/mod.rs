@@ -17,7 +17,7 @@ use serde::Serialize;
 
 use crate::error::Result;
 use crate::limits::{self, DisconnectionChoice, FaultPathReport, RingCheck, Source, ZsLimit};
-use crate::model::{Board, Circuit, Device, Observation, Property, Readings, Visit};
+use crate::model::{Board, Circuit, Observation, Property, Readings, Visit};
 use crate::store::{PropertyHistory, Store};
 use crate::trend::{self, Finding, FindingKind, SeriesReport, Severity};
 
@@ -215,7 +215,7 @@ pub(crate) fn analyse_detail(
     let mut flags: Vec<Flag> = Vec::new();
     if let (Some(s), Some(o)) = (&supply, origin) {
         for f in &s.report.findings {
-            flags.push(make_flag(&h.property, &o.designation, None, None, s, f));
+            flags.push(make_flag(&h.property, &o.designation, None, s, f));
         }
     }
     let mut counts = Counts {
@@ -298,7 +298,6 @@ fn make_flag(
     property: &Property,
     board: &str,
     circuit: Option<&Circuit>,
-    _device: Option<&Device>,
     s: &SeriesAnalysis,
     f: &Finding,
 ) -> Flag {

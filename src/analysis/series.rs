@@ -695,14 +695,7 @@ pub(super) fn circuit_analysis(
     let mut flags: Vec<Flag> = findings
         .iter()
         .map(|(i, f)| {
-            let mut flag = make_flag(
-                property,
-                &board_name,
-                Some(c),
-                c.device.as_ref(),
-                &out[*i],
-                f,
-            );
+            let mut flag = make_flag(property, &board_name, Some(c), &out[*i], f);
             if out[*i].quantity == "ring"
                 && f.kind == FindingKind::Exceeds
                 && f.projection.is_none()

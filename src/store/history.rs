@@ -83,10 +83,11 @@ fn queries(one: bool) -> Queries {
 
 fn all_queries() -> Queries {
     Queries {
-        properties: "SELECT p.id, p.ref, p.address, c.name, p.interval_months, p.notes
-             FROM property p LEFT JOIN client c ON c.id = p.client_id
-             WHERE ?1 IS NULL OR p.id = ?1 ORDER BY p.id"
-            .into(),
+        properties: format!(
+            "SELECT {} FROM property p LEFT JOIN client c ON c.id = p.client_id
+             WHERE ?1 IS NULL OR p.id = ?1 ORDER BY p.id",
+            Store::PROPERTY_COLS
+        ),
         boards: format!(
             "SELECT {} FROM board b WHERE ?1 IS NULL OR b.property_id = ?1 ORDER BY b.property_id, b.id",
             Store::BOARD_COLS
@@ -169,15 +170,6 @@ fn take<T>(s: &mut Stream<'_, T>, id: i64) -> Result<Vec<T>> {
 }
 
 impl Store {
-    /// Every property id, in reference order.
-    pub fn property_ids(&self) -> Result<Vec<i64>> {
-        let mut stmt = self
-            .conn
-            .prepare_cached("SELECT id FROM property ORDER BY ref")?;
-        let ids = stmt.query_map([], |r| r.get(0))?;
-        Ok(ids.collect::<rusqlite::Result<_>>()?)
-    }
-
     /// Load one property's history.
     pub fn history(&self, property_id: i64) -> Result<PropertyHistory> {
         let mut found = None;
@@ -215,16 +207,7 @@ impl Store {
         let mut st_ch = self.conn.prepare(&q.changes)?;
         let mut st_o = self.conn.prepare(&q.observations)?;
 
-        let properties = st_p.query_map([filter], |r| {
-            Ok(Property {
-                id: r.get(0)?,
-                reference: r.get(1)?,
-                address: r.get(2)?,
-                client: r.get(3)?,
-                interval_months: r.get(4)?,
-                notes: r.get(5)?,
-            })
-        })?;
+        let properties = st_p.query_map([filter], Store::property_from_row)?;
         let mut boards = stream(&mut st_b, filter, 1, Store::board_from_row)?;
         let mut circuits = stream(&mut st_c, filter, 15, Store::circuit_from_row)?;
         let mut visits = stream(&mut st_v, filter, 1, Store::visit_from_row)?;

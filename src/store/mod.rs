@@ -454,24 +454,32 @@ impl Store {
             .optional()?)
     }
 
+    pub(super) const PROPERTY_COLS: &'static str =
+        "p.id, p.ref, p.address, c.name, p.interval_months, p.notes";
+
+    /// Decode a property from [`Self::PROPERTY_COLS`] (client joined as `c`).
+    pub(super) fn property_from_row(r: &Row) -> rusqlite::Result<Property> {
+        Ok(Property {
+            id: r.get(0)?,
+            reference: r.get(1)?,
+            address: r.get(2)?,
+            client: r.get(3)?,
+            interval_months: r.get(4)?,
+            notes: r.get(5)?,
+        })
+    }
+
     /// The property with this reference, or a not-found error that suggests near matches.
     pub fn property(&self, reference: &str) -> Result<Property> {
         let found = self
             .conn
             .query_row(
-                "SELECT p.id, p.ref, p.address, c.name, p.interval_months, p.notes
-                 FROM property p LEFT JOIN client c ON c.id = p.client_id WHERE p.ref = ?1",
+                &format!(
+                    "SELECT {} FROM property p LEFT JOIN client c ON c.id = p.client_id WHERE p.ref = ?1",
+                    Self::PROPERTY_COLS
+                ),
                 [reference],
-                |r| {
-                    Ok(Property {
-                        id: r.get(0)?,
-                        reference: r.get(1)?,
-                        address: r.get(2)?,
-                        client: r.get(3)?,
-                        interval_months: r.get(4)?,
-                        notes: r.get(5)?,
-                    })
-                },
+                Self::property_from_row,
             )
             .optional()?;
         match found {
@@ -1058,20 +1066,6 @@ impl Store {
         Ok(self.conn.query_row(&sql, [id], Self::board_from_row)?)
     }
 
-    /// The circuit's lineage: the circuits it replaced, oldest first, ending with itself.
-    pub fn lineage(&self, circuit_id: i64) -> Result<Vec<Circuit>> {
-        let mut chain = vec![self.circuit_by_id(circuit_id)?];
-        while let Some(prev) = chain.last().and_then(|c| c.replaces) {
-            // A cycle cannot be written through this module, but never loop on a bad file.
-            if chain.iter().any(|c| c.id == prev) || chain.len() > 1000 {
-                break;
-            }
-            chain.push(self.circuit_by_id(prev)?);
-        }
-        chain.reverse();
-        Ok(chain)
-    }
-
     // ----- instruments -----
 
     pub fn add_instrument(
@@ -1310,8 +1304,9 @@ mod tests {
                 None,
             )
             .unwrap();
-        let line: Vec<i64> = s.lineage(new.id).unwrap().iter().map(|c| c.id).collect();
-        assert_eq!(line, vec![old.id, new.id]);
+        // The lineage link: the new circuit names the one it replaced.
+        assert_eq!(new.replaces, Some(old.id));
+        assert_eq!(s.circuit_by_id(new.id).unwrap().replaces, Some(old.id));
         assert_eq!(s.circuit_by_id(old.id).unwrap().status, Status::Retired);
         // The number is free again on the old board.
         s.add_circuit("P1", "DB1", "4", &CircuitDetails::default())
