@@ -4,6 +4,9 @@
 //! another process's import to finish. Register operations check their input and write nothing
 //! when it is wrong.
 
+#[macro_use]
+mod record;
+
 mod history;
 mod ingest;
 pub mod migrate;

@@ -5,9 +5,7 @@ use rusqlite::{OptionalExtension, Row, params};
 
 use super::Store;
 use crate::error::{Error, Result};
-use crate::model::{
-    Megohms, Observation, ObservationCode, Readings, TestRecord, Visit, VisitState,
-};
+use crate::model::{Observation, ObservationCode, Readings, TestRecord, Visit, VisitState};
 
 /// A visit to add to the history.
 #[derive(Debug, Clone, Default, PartialEq)]
@@ -177,89 +175,32 @@ impl Store {
             .optional()?)
     }
 
-    /// Write one circuit's readings at a visit, replacing any already there.
+    /// Write one circuit's readings at a visit, replacing any already there (the record keeps
+    /// its id).
     pub fn put_test_record(&self, visit_id: i64, circuit_id: i64, r: &Readings) -> Result<i64> {
-        validate_readings(r)?;
-        let (ll, ll_over) = split_mohm(r.ir_ll);
-        let (le, le_over) = split_mohm(r.ir_le);
-        self.conn.execute(
-            "INSERT INTO test_record (visit_id, circuit_id, r1r2_ohm, r2_ohm, r1rn_ohm, ring_r1_ohm,
-                 ring_rn_ohm, ring_r2_ohm, zs_ohm, ir_ll_mohm, ir_ll_over, ir_le_mohm, ir_le_over,
-                 rcd_ms, rcd_5x_ms, limitations, note)
-             VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11, ?12, ?13, ?14, ?15, ?16, ?17)
-             ON CONFLICT (visit_id, circuit_id) DO UPDATE SET
+        self.write_record(
+            concat!(
+                "INSERT INTO test_record (visit_id, circuit_id, ",
+                record_values!(),
+                ") VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11, ?12, ?13, ?14, ?15, ?16, ?17)
+                 ON CONFLICT (visit_id, circuit_id) DO UPDATE SET
                  r1r2_ohm = excluded.r1r2_ohm, r2_ohm = excluded.r2_ohm, r1rn_ohm = excluded.r1rn_ohm,
                  ring_r1_ohm = excluded.ring_r1_ohm, ring_rn_ohm = excluded.ring_rn_ohm,
                  ring_r2_ohm = excluded.ring_r2_ohm, zs_ohm = excluded.zs_ohm,
                  ir_ll_mohm = excluded.ir_ll_mohm, ir_ll_over = excluded.ir_ll_over,
                  ir_le_mohm = excluded.ir_le_mohm, ir_le_over = excluded.ir_le_over,
                  rcd_ms = excluded.rcd_ms, rcd_5x_ms = excluded.rcd_5x_ms,
-                 limitations = excluded.limitations, note = excluded.note",
-            params![
-                visit_id,
-                circuit_id,
-                r.r1r2_ohm,
-                r.r2_ohm,
-                r.r1rn_ohm,
-                r.ring_r1_ohm,
-                r.ring_rn_ohm,
-                r.ring_r2_ohm,
-                r.zs_ohm,
-                ll,
-                ll_over,
-                le,
-                le_over,
-                r.rcd_ms,
-                r.rcd_5x_ms,
-                r.limitations.join(","),
-                r.note,
-            ],
+                 limitations = excluded.limitations, note = excluded.note"
+            ),
+            visit_id,
+            circuit_id,
+            r,
         )?;
         Ok(self.conn.query_row(
             "SELECT id FROM test_record WHERE visit_id = ?1 AND circuit_id = ?2",
             params![visit_id, circuit_id],
             |row| row.get(0),
         )?)
-    }
-
-    pub(super) const RECORD_COLS: &'static str =
-        "id, visit_id, circuit_id, r1r2_ohm, r2_ohm, r1rn_ohm,
-        ring_r1_ohm, ring_rn_ohm, ring_r2_ohm, zs_ohm, ir_ll_mohm, ir_ll_over, ir_le_mohm,
-        ir_le_over, rcd_ms, rcd_5x_ms, limitations, note";
-
-    /// Decode a test record from the columns of [`Self::RECORD_COLS`], in order.
-    pub(super) fn record_from_row(r: &Row) -> rusqlite::Result<TestRecord> {
-        let mohm = |v: Option<f64>, over: bool| {
-            v.map(|value| Megohms {
-                value,
-                over_range: over,
-            })
-        };
-        let limitations: String = r.get(16)?;
-        Ok(TestRecord {
-            id: r.get(0)?,
-            visit_id: r.get(1)?,
-            circuit_id: r.get(2)?,
-            readings: Readings {
-                r1r2_ohm: r.get(3)?,
-                r2_ohm: r.get(4)?,
-                r1rn_ohm: r.get(5)?,
-                ring_r1_ohm: r.get(6)?,
-                ring_rn_ohm: r.get(7)?,
-                ring_r2_ohm: r.get(8)?,
-                zs_ohm: r.get(9)?,
-                ir_ll: mohm(r.get(10)?, r.get(11)?),
-                ir_le: mohm(r.get(12)?, r.get(13)?),
-                rcd_ms: r.get(14)?,
-                rcd_5x_ms: r.get(15)?,
-                limitations: limitations
-                    .split(',')
-                    .filter(|s| !s.is_empty())
-                    .map(String::from)
-                    .collect(),
-                note: r.get(17)?,
-            },
-        })
     }
 
     pub fn test_record(&self, visit_id: i64, circuit_id: i64) -> Result<Option<TestRecord>> {
@@ -330,13 +271,6 @@ fn state_str(s: VisitState) -> &'static str {
     match s {
         VisitState::Pending => "pending",
         VisitState::Complete => "complete",
-    }
-}
-
-fn split_mohm(m: Option<Megohms>) -> (Option<f64>, bool) {
-    match m {
-        Some(m) => (Some(m.value), m.over_range),
-        None => (None, false),
     }
 }
 
