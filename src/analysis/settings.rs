@@ -5,7 +5,7 @@ use chrono::NaiveDate;
 use serde::Serialize;
 
 use crate::error::{Error, Result};
-use crate::limits::{LimitsConfig, MeasuredRule};
+use crate::limits::LimitsConfig;
 use crate::store::Store;
 use crate::trend::TrendConfig;
 
@@ -18,15 +18,26 @@ pub struct Settings {
     pub today: NaiveDate,
 }
 
-/// A setting's key, what it means and its built-in default.
+/// Where a setting lives in [`Settings`].
+#[derive(Clone, Copy)]
+enum Slot {
+    MeasuredRule,
+    /// A number of zero or more inside the trend configuration.
+    Number(fn(&mut TrendConfig) -> &mut f64),
+}
+
+/// A setting's key, what it means, and where its value lives.
 pub struct Key {
     pub key: &'static str,
     pub help: &'static str,
-    pub default: fn() -> String,
+    slot: Slot,
 }
 
-fn d() -> TrendConfig {
-    TrendConfig::default()
+impl Key {
+    /// The built-in default, as text.
+    pub fn default_value(&self) -> String {
+        Settings::defaults(NaiveDate::MIN).get(self)
+    }
 }
 
 /// Every setting a database may hold.
@@ -34,44 +45,53 @@ pub const KEYS: &[Key] = &[
     Key {
         key: LimitsConfig::MEASURED_RULE_KEY,
         help: "measured-value rule for Zs: temperature_corrected (default) or rule_of_thumb_80",
-        default: || MeasuredRule::default().as_str().to_string(),
+        slot: Slot::MeasuredRule,
     },
     Key {
         key: "trend.resistance.resolution_ohm",
         help: "instrument resolution for resistances, Ω",
-        default: || d().resistance.resolution.to_string(),
+        slot: Slot::Number(|t| &mut t.resistance.resolution),
     },
     Key {
         key: "trend.resistance.absolute_ohm",
         help: "tolerance added to the resolution for resistances, Ω",
-        default: || d().resistance.absolute.to_string(),
+        slot: Slot::Number(|t| &mut t.resistance.absolute),
     },
     Key {
         key: "trend.resistance.relative",
         help: "tolerance for resistances as a fraction of the reading",
-        default: || d().resistance.relative.to_string(),
+        slot: Slot::Number(|t| &mut t.resistance.relative),
     },
     Key {
         key: "trend.ze.absolute_ohm",
         help: "tolerance added to the resolution for Ze, Ω",
-        default: || d().ze.absolute.to_string(),
+        slot: Slot::Number(|t| &mut t.ze.absolute),
     },
     Key {
         key: "trend.ze.relative",
         help: "tolerance for Ze as a fraction of the reading",
-        default: || d().ze.relative.to_string(),
+        slot: Slot::Number(|t| &mut t.ze.relative),
     },
     Key {
         key: "trend.ir.decades",
         help: "change in insulation resistance that counts, in decades (log10)",
-        default: || d().insulation_log10.absolute.to_string(),
+        slot: Slot::Number(|t| &mut t.insulation_log10.absolute),
     },
     Key {
         key: "trend.rcd.absolute_ms",
         help: "tolerance added to the resolution for RCD trip times, ms",
-        default: || d().rcd_ms.absolute.to_string(),
+        slot: Slot::Number(|t| &mut t.rcd_ms.absolute),
     },
 ];
+
+fn key(name: &str) -> Result<&'static Key> {
+    KEYS.iter().find(|k| k.key == name).ok_or_else(|| {
+        Error::invalid(format!(
+            "unknown setting {name:?}: known settings are {}",
+            KEYS.iter().map(|k| k.key).collect::<Vec<_>>().join(", ")
+        ))
+    })
+}
 
 impl Settings {
     /// Built-in defaults, for `today`.
@@ -95,64 +115,56 @@ impl Settings {
     }
 
     /// Apply one setting, checking its value.
-    pub fn apply(&mut self, key: &str, value: &str) -> Result<()> {
-        let num = || -> Result<f64> {
-            value
-                .trim()
-                .parse::<f64>()
-                .ok()
-                .filter(|v| v.is_finite() && *v >= 0.0)
-                .ok_or_else(|| {
-                    Error::invalid(format!(
-                        "setting {key}: {value:?} is not a number of zero or more"
-                    ))
-                })
-        };
-        match key {
-            LimitsConfig::MEASURED_RULE_KEY => {
-                self.limits.measured_rule = value
+    /// A value the rules refuse leaves the settings as they were.
+    pub fn apply(&mut self, name: &str, value: &str) -> Result<()> {
+        let k = key(name)?;
+        let mut next = self.clone();
+        match k.slot {
+            Slot::MeasuredRule => {
+                next.limits.measured_rule = value
                     .parse()
                     .map_err(|e: crate::limits::LimitsError| Error::invalid(e.to_string()))?
             }
-            "trend.resistance.resolution_ohm" => self.trend.resistance.resolution = num()?,
-            "trend.resistance.absolute_ohm" => self.trend.resistance.absolute = num()?,
-            "trend.resistance.relative" => self.trend.resistance.relative = num()?,
-            "trend.ze.absolute_ohm" => self.trend.ze.absolute = num()?,
-            "trend.ze.relative" => self.trend.ze.relative = num()?,
-            "trend.ir.decades" => self.trend.insulation_log10.absolute = num()?,
-            "trend.rcd.absolute_ms" => self.trend.rcd_ms.absolute = num()?,
-            _ => {
-                return Err(Error::invalid(format!(
-                    "unknown setting {key:?}: known settings are {}",
-                    KEYS.iter().map(|k| k.key).collect::<Vec<_>>().join(", ")
-                )));
+            Slot::Number(at) => {
+                *at(&mut next.trend) = value
+                    .trim()
+                    .parse::<f64>()
+                    .ok()
+                    .filter(|v| v.is_finite() && *v >= 0.0)
+                    .ok_or_else(|| {
+                        Error::invalid(format!(
+                            "setting {name}: {value:?} is not a number of zero or more"
+                        ))
+                    })?
             }
         }
-        self.trend
+        next.trend
             .validate()
-            .map_err(|e| Error::invalid(format!("setting {key}: {e}")))?;
+            .map_err(|e| Error::invalid(format!("setting {name}: {e}")))?;
+        *self = next;
         Ok(())
     }
 
     /// The current value of a setting as text.
-    pub fn value(&self, key: &str) -> Option<String> {
-        Some(match key {
-            LimitsConfig::MEASURED_RULE_KEY => self.limits.measured_rule.as_str().to_string(),
-            "trend.resistance.resolution_ohm" => self.trend.resistance.resolution.to_string(),
-            "trend.resistance.absolute_ohm" => self.trend.resistance.absolute.to_string(),
-            "trend.resistance.relative" => self.trend.resistance.relative.to_string(),
-            "trend.ze.absolute_ohm" => self.trend.ze.absolute.to_string(),
-            "trend.ze.relative" => self.trend.ze.relative.to_string(),
-            "trend.ir.decades" => self.trend.insulation_log10.absolute.to_string(),
-            "trend.rcd.absolute_ms" => self.trend.rcd_ms.absolute.to_string(),
-            _ => return None,
-        })
+    pub fn value(&self, name: &str) -> Option<String> {
+        key(name).ok().map(|k| self.get(k))
+    }
+
+    fn get(&self, k: &Key) -> String {
+        match k.slot {
+            Slot::MeasuredRule => self.limits.measured_rule.as_str().to_string(),
+            Slot::Number(at) => {
+                let mut trend = self.trend;
+                at(&mut trend).to_string()
+            }
+        }
     }
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::limits::MeasuredRule;
 
     #[test]
     fn settings_apply_and_refuse() {
@@ -167,7 +179,7 @@ mod tests {
         for k in KEYS {
             assert!(s.value(k.key).is_some(), "{}", k.key);
             let mut t = s.clone();
-            t.apply(k.key, &(k.default)()).unwrap();
+            t.apply(k.key, &k.default_value()).unwrap();
         }
     }
 }

@@ -37,7 +37,7 @@ pub fn run(cmd: &Cmd, ctx: &Context, out: &mut dyn Write) -> Result<()> {
                     (
                         k.key.to_string(),
                         s.value(k.key).unwrap_or_default(),
-                        (k.default)(),
+                        k.default_value(),
                         k.help.to_string(),
                     )
                 })
