@@ -84,7 +84,8 @@ pub const KEYS: &[Key] = &[
     },
 ];
 
-fn key(name: &str) -> Result<&'static Key> {
+/// The setting with this name, or an error listing the known ones.
+pub fn key(name: &str) -> Result<&'static Key> {
     KEYS.iter().find(|k| k.key == name).ok_or_else(|| {
         Error::invalid(format!(
             "unknown setting {name:?}: known settings are {}",

@@ -67,10 +67,7 @@ pub fn run(cmd: &Cmd, ctx: &Context, out: &mut dyn Write) -> Result<()> {
             writeln!(out, "{key} = {}", value.trim())?;
         }
         Cmd::Reset { key } => {
-            if !KEYS.iter().any(|k| k.key == key) {
-                let mut s = Settings::load(&store, today())?;
-                s.apply(key, "")?;
-            }
+            ohmtrail::analysis::settings::key(key)?;
             store.delete_setting(key)?;
             writeln!(out, "{key} reset to its default")?;
         }
