@@ -7,7 +7,7 @@ use chrono::NaiveDate;
 use super::{CircuitAnalysis, Flag, SeriesAnalysis, Settings, make_flag, note_limits_error};
 use crate::limits::{
     self, CircuitFacts, CircuitUse, FaultPathInputs, IrCircuit, MeasuredRule, RcdTest, RcdTiming,
-    RingReadings, RingTolerance, Source, SourceStatus, TestConditions,
+    RingFindingKind, RingReadings, RingTolerance, Source, SourceStatus, TestConditions,
 };
 use crate::model::{
     Board, ChangeKind, Circuit, CircuitChange, CircuitKind, Earthing, Megohms, Readings,
@@ -76,12 +76,10 @@ pub(super) fn supply_series(
         return None;
     }
     let advisory = origin.and_then(|b| b.earthing).map(limits::typical_max_ze);
-    let mut series = Series::new(Quantity::Ze, points);
-    // The declared maximum is advice, not a limit: it is shown, and a rise is reported, but it
-    // is not the basis of an "exceeds".
-    let report = trend::analyse(&series, horizon, &settings.trend).ok()?;
-    series.limit = None;
-    let mut report = report;
+    // The declared maximum is advice, not a limit: the series has none, so it is never the
+    // basis of an "exceeds"; a Ze above it is reported as a supply matter below.
+    let series = Series::new(Quantity::Ze, points);
+    let mut report = trend::analyse(&series, horizon, &settings.trend).ok()?;
     if let (Some(a), Some(last)) = (&advisory, report.points.last())
         && let Some(note) = a.note_for(last.value)
     {
@@ -99,14 +97,6 @@ pub(super) fn supply_series(
             .any(|x| x.kind == FindingKind::ZeRise)
         {
             report.findings.push(f);
-        }
-    }
-    for f in &mut report.findings {
-        if f.kind == FindingKind::ZeRise && !f.sentence.contains("network operator") {
-            f.sentence = format!(
-                "{}; a rising Ze is a supply or earthing matter to report to the network operator",
-                f.sentence.trim_end_matches('.')
-            );
         }
     }
     Some(SeriesAnalysis {
@@ -633,8 +623,11 @@ pub(super) fn circuit_analysis(
         }
     }
 
-    // The ring relations at the last visit where the ends were read.
+    // The ring relations at the last visit where the ends were read; each departure is a flag
+    // against its own tolerance.
     let mut ring_check = None;
+    let mut ring_flags: Vec<Flag> = Vec::new();
+    let tolerance = RingTolerance::default();
     if c.kind == CircuitKind::Ring
         && let Some(r) = rows
             .iter()
@@ -650,7 +643,7 @@ pub(super) fn circuit_analysis(
             r1r2_ohm: r.readings.r1r2_ohm,
             r1rn_ohm: r.readings.r1rn_ohm,
         };
-        match limits::check_ring(&rr, &RingTolerance::default()) {
+        match limits::check_ring(&rr, &tolerance) {
             Ok(check) => {
                 if let Some(i) = out.iter().position(|s| s.quantity == "ring")
                     && last.is_some_and(|l| l.visit.date == r.visit.date)
@@ -663,7 +656,18 @@ pub(super) fn circuit_analysis(
                             rf.text.clone(),
                         );
                         f.last_value = rr.r1_ohm;
-                        findings.push((i, f));
+                        let mut flag = make_flag(&h.property, &board_name, Some(c), &out[i], &f);
+                        flag.kind = "ring_check";
+                        // The ratio check is in per cent, not on the ohms of last_value.
+                        flag.limit = match rf.kind {
+                            RingFindingKind::LineNeutralEnds => Some(tolerance.ends_ohm),
+                            RingFindingKind::CrossR1R2 | RingFindingKind::CrossR1Rn => {
+                                Some(tolerance.cross_ohm)
+                            }
+                            RingFindingKind::CpcRatio => None,
+                        };
+                        flag.limit_source = Some(super::source_text(&rf.source));
+                        ring_flags.push(flag);
                     }
                 }
                 ring_check = Some(check);
@@ -691,22 +695,10 @@ pub(super) fn circuit_analysis(
         _ => None,
     };
 
-    let property = &h.property;
     let mut flags: Vec<Flag> = findings
         .iter()
-        .map(|(i, f)| {
-            let mut flag = make_flag(property, &board_name, Some(c), &out[*i], f);
-            if out[*i].quantity == "ring"
-                && f.kind == FindingKind::Exceeds
-                && f.projection.is_none()
-                && f.limit.is_none()
-            {
-                flag.kind = "ring_check";
-                flag.limit = Some(RingTolerance::default().ends_ohm);
-                flag.limit_source = ring_check.as_ref().map(|rc| super::source_text(&rc.source));
-            }
-            flag
-        })
+        .map(|(i, f)| make_flag(&h.property, &board_name, Some(c), &out[*i], f))
+        .chain(ring_flags)
         .collect();
     // The worklist keeps one flag per quantity: the most severe, and among changes the most
     // telling (a step before a divergence before a drift), the latest first. The report still
