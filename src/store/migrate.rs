@@ -14,7 +14,16 @@ pub const MIGRATIONS: &[(&str, &str)] = &[
         "003_drop_record_circuit_index",
         include_str!("../../schema/003_drop_record_circuit_index.sql"),
     ),
+    (
+        "004_checks_without_in_lists",
+        include_str!("../../schema/004_checks_without_in_lists.sql"),
+    ),
 ];
+
+/// A migration that rebuilds tables starts with this line: SQLite's procedure for changing a
+/// table's constraints needs foreign keys off while the old table is dropped, and the
+/// pragma has no effect inside a transaction, so the runner turns them off around it.
+const FOREIGN_KEYS_OFF: &str = "-- ohmtrail: foreign_keys off";
 
 /// The schema version this build writes and understands.
 pub fn latest_version() -> i64 {
@@ -36,6 +45,15 @@ pub fn apply(conn: &mut Connection) -> rusqlite::Result<Vec<&'static str>> {
         if version <= current {
             continue;
         }
+        if sql.starts_with(FOREIGN_KEYS_OFF) {
+            conn.pragma_update(None, "foreign_keys", false)?;
+            let result = apply_rebuild(conn, version, sql);
+            conn.pragma_update(None, "foreign_keys", true)?;
+            if result? {
+                applied.push(*name);
+            }
+            continue;
+        }
         let tx = conn.transaction_with_behavior(rusqlite::TransactionBehavior::Immediate)?;
         // Another process may have migrated while we waited for the write lock.
         if user_version(&tx)? >= version {
@@ -47,6 +65,30 @@ pub fn apply(conn: &mut Connection) -> rusqlite::Result<Vec<&'static str>> {
         applied.push(*name);
     }
     Ok(applied)
+}
+
+/// One table-rebuilding migration with foreign keys off; refuses to commit if the rebuilt
+/// tables break a foreign key. `Ok(false)` when another process applied it meanwhile.
+fn apply_rebuild(conn: &mut Connection, version: i64, sql: &str) -> rusqlite::Result<bool> {
+    let tx = conn.transaction_with_behavior(rusqlite::TransactionBehavior::Immediate)?;
+    if user_version(&tx)? >= version {
+        return Ok(false);
+    }
+    tx.execute_batch(sql)?;
+    let broken: i64 = tx.query_row("SELECT count(*) FROM pragma_foreign_key_check", [], |r| {
+        r.get(0)
+    })?;
+    if broken > 0 {
+        return Err(rusqlite::Error::SqliteFailure(
+            rusqlite::ffi::Error::new(rusqlite::ffi::SQLITE_CONSTRAINT_FOREIGNKEY),
+            Some(format!(
+                "migration {version} would leave {broken} broken foreign key(s); nothing changed"
+            )),
+        ));
+    }
+    tx.pragma_update(None, "user_version", version)?;
+    tx.commit()?;
+    Ok(true)
 }
 
 #[cfg(test)]
@@ -67,5 +109,142 @@ mod tests {
         for (i, (name, _)) in MIGRATIONS.iter().enumerate() {
             assert!(name.starts_with(&format!("{:03}_", i + 1)), "{name}");
         }
+    }
+
+    /// A database at version 3 with a register in it, as an earlier build left it.
+    fn at_version_3() -> Connection {
+        let conn = Connection::open_in_memory().unwrap();
+        conn.pragma_update(None, "foreign_keys", true).unwrap();
+        for (_, sql) in &MIGRATIONS[..3] {
+            conn.execute_batch(sql).unwrap();
+        }
+        conn.pragma_update(None, "user_version", 3).unwrap();
+        conn.execute_batch(
+            "INSERT INTO property (id, ref) VALUES (1, 'P1');
+             INSERT INTO board (id, property_id, designation, earthing) VALUES (1, 1, 'CU1', 'TN-C-S');
+             INSERT INTO board (id, property_id, designation, fed_from_board_id) VALUES (2, 1, 'DB2', 1);
+             INSERT INTO circuit (id, board_id, number, device, rcd_type) VALUES (1, 1, '1', 'B32', 'A');
+             INSERT INTO circuit (id, board_id, number, status) VALUES (2, 2, '1', 'retired');
+             INSERT INTO circuit (id, board_id, number, replaces_circuit_id) VALUES (3, 2, '1', 2);
+             INSERT INTO visit (id, property_id, date) VALUES (1, 1, '2024-05-01');
+             INSERT INTO test_record (visit_id, circuit_id, r1r2_ohm) VALUES (1, 1, 0.41);
+             INSERT INTO circuit_change (circuit_id, date, visit_id, kind, field, old_value, new_value)
+                 VALUES (1, '2024-05-01', 1, 'device_changed', 'device', 'B20', 'B32');
+             INSERT INTO observation (visit_id, board_id, circuit_id, code, text)
+                 VALUES (1, 1, 1, 'C3', 'no label');",
+        )
+        .unwrap();
+        conn
+    }
+
+    fn dump(conn: &Connection, sql: &str) -> Vec<String> {
+        let mut st = conn.prepare(sql).unwrap();
+        let n = st.column_count();
+        st.query_map([], |r| {
+            (0..n)
+                .map(|i| r.get_ref(i).map(|v| format!("{v:?}")))
+                .collect::<rusqlite::Result<Vec<_>>>()
+                .map(|v| v.join("|"))
+        })
+        .unwrap()
+        .collect::<rusqlite::Result<_>>()
+        .unwrap()
+    }
+
+    #[test]
+    fn rebuilding_the_checks_keeps_every_row_index_and_constraint() {
+        let mut conn = at_version_3();
+        let tables = [
+            "board",
+            "circuit",
+            "circuit_change",
+            "observation",
+            "test_record",
+        ];
+        let before: Vec<_> = tables
+            .iter()
+            .map(|t| dump(&conn, &format!("SELECT * FROM {t} ORDER BY id")))
+            .collect();
+        let indexes = "SELECT name FROM sqlite_schema WHERE type = 'index' ORDER BY name";
+        let indexes_before = dump(&conn, indexes);
+        assert_eq!(
+            apply(&mut conn).unwrap(),
+            vec!["004_checks_without_in_lists"]
+        );
+        assert_eq!(user_version(&conn).unwrap(), 4);
+        for (t, rows) in tables.iter().zip(&before) {
+            assert_eq!(
+                &dump(&conn, &format!("SELECT * FROM {t} ORDER BY id")),
+                rows,
+                "{t}"
+            );
+        }
+        assert_eq!(dump(&conn, indexes), indexes_before);
+        // No table of the old names is left behind, and no IN list of more than two values.
+        let sql = dump(&conn, "SELECT sql FROM sqlite_schema WHERE sql IS NOT NULL").join("\n");
+        assert!(!sql.contains("_004"), "{sql}");
+        assert!(!sql.contains("'TT')") && !sql.contains("'S')"), "{sql}");
+        // Foreign keys are on again and hold.
+        let fk: i64 = conn
+            .query_row("PRAGMA foreign_keys", [], |r| r.get(0))
+            .unwrap();
+        assert_eq!(fk, 1);
+        assert!(
+            conn.execute(
+                "INSERT INTO circuit (board_id, number) VALUES (99, '1')",
+                []
+            )
+            .is_err()
+        );
+        // The rewritten checks refuse and accept what the IN lists did.
+        let refuses = |sql: &str| conn.execute(sql, []).is_err();
+        assert!(refuses("UPDATE circuit SET rcd_type = 'X' WHERE id = 1"));
+        assert!(refuses("UPDATE circuit SET rcd_type = 'a' WHERE id = 1"));
+        assert!(!refuses("UPDATE circuit SET rcd_type = NULL WHERE id = 1"));
+        for t in ["AC", "A", "F", "B", "S"] {
+            assert!(!refuses(&format!(
+                "UPDATE circuit SET rcd_type = '{t}' WHERE id = 1"
+            )));
+        }
+        assert!(refuses("UPDATE board SET earthing = 'TN' WHERE id = 1"));
+        assert!(!refuses("UPDATE board SET earthing = 'TT' WHERE id = 1"));
+        assert!(!refuses("UPDATE board SET earthing = NULL WHERE id = 1"));
+        assert!(refuses(
+            "UPDATE circuit_change SET kind = 'moved' WHERE id = 1"
+        ));
+        assert!(!refuses(
+            "UPDATE circuit_change SET kind = 'retired' WHERE id = 1"
+        ));
+        assert!(refuses("UPDATE observation SET code = 'C4' WHERE id = 1"));
+        assert!(!refuses("UPDATE observation SET code = 'FI' WHERE id = 1"));
+        // The partial unique index still allows one circuit in service per number.
+        assert!(refuses(
+            "INSERT INTO circuit (board_id, number) VALUES (2, '1')"
+        ));
+    }
+
+    #[test]
+    fn a_rebuild_that_would_break_a_foreign_key_is_refused_whole() {
+        let mut conn = at_version_3();
+        // A dangling reference made while enforcement was off, as a damaged file might hold.
+        conn.pragma_update(None, "foreign_keys", false).unwrap();
+        conn.execute(
+            "INSERT INTO circuit (board_id, number) VALUES (77, '9')",
+            [],
+        )
+        .unwrap();
+        conn.pragma_update(None, "foreign_keys", true).unwrap();
+        let err = apply(&mut conn).unwrap_err().to_string();
+        assert!(err.contains("broken foreign key"), "{err}");
+        assert_eq!(user_version(&conn).unwrap(), 3);
+        let fk: i64 = conn
+            .query_row("PRAGMA foreign_keys", [], |r| r.get(0))
+            .unwrap();
+        assert_eq!(fk, 1);
+        let tables = dump(
+            &conn,
+            "SELECT name FROM sqlite_schema WHERE name LIKE '%_004'",
+        );
+        assert!(tables.is_empty(), "{tables:?}");
     }
 }
