@@ -509,6 +509,7 @@ fn visit_state<'a>(
 
 struct Importer<'a> {
     store: &'a Store,
+    inserts: crate::store::HeldInserts<'a>,
     opts: &'a ImportOptions,
     header: &'a Header,
     cache: Cache,
@@ -627,7 +628,7 @@ impl Importer<'_> {
                     latest: s.ingest_latest_record(id)?,
                 },
                 None => {
-                    let id = s.ingest_insert_circuit(board_id, &row.circuit, &row_details)?;
+                    let id = self.inserts.circuit(board_id, &row.circuit, &row_details)?;
                     eff.circuits += 1;
                     eff.wrote = true;
                     let mut details = row_details.clone();
@@ -855,7 +856,7 @@ impl Importer<'_> {
         };
         match stored {
             None => {
-                s.ingest_insert_record(visit_id, circuit_id, &row.readings)?;
+                self.inserts.record(visit_id, circuit_id, &row.readings)?;
                 eff.written += 1;
                 eff.wrote = true;
             }
@@ -1269,6 +1270,7 @@ pub fn import_file(
     let sidecar_file = sidecar_path(path);
     let mut importer = Importer {
         store,
+        inserts: store.ingest_inserts()?,
         opts,
         header: &header,
         cache: Cache::default(),

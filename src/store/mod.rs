@@ -15,7 +15,8 @@ mod visits;
 
 pub use history::PropertyHistory;
 pub use ingest::{
-    ExportObservation, ExportRecord, IngestBoard, IngestChange, IngestProperty, IngestVisit,
+    ExportObservation, ExportRecord, HeldInserts, IngestBoard, IngestChange, IngestProperty,
+    IngestVisit,
 };
 pub use pending::Abandoned;
 pub use visits::{NewVisit, validate_readings};

@@ -1,7 +1,7 @@
 //! A test record's columns, in one place: the list every statement uses, the decoder and the
 //! writer. Declared first in `store` so its macro is in scope for the other store files.
 
-use rusqlite::{Row, params};
+use rusqlite::{Row, Statement, params};
 
 use super::Store;
 use crate::error::Result;
@@ -71,33 +71,44 @@ impl Store {
         circuit_id: i64,
         r: &Readings,
     ) -> Result<()> {
-        super::validate_readings(r)?;
         let mut st = self.conn.prepare_cached(sql)?;
-        let split = |m: Option<Megohms>| match m {
-            Some(m) => (Some(m.value), m.over_range),
-            None => (None, false),
-        };
-        let (ll, ll_over) = split(r.ir_ll);
-        let (le, le_over) = split(r.ir_le);
-        st.execute(params![
-            visit_id,
-            circuit_id,
-            r.r1r2_ohm,
-            r.r2_ohm,
-            r.r1rn_ohm,
-            r.ring_r1_ohm,
-            r.ring_rn_ohm,
-            r.ring_r2_ohm,
-            r.zs_ohm,
-            ll,
-            ll_over,
-            le,
-            le_over,
-            r.rcd_ms,
-            r.rcd_5x_ms,
-            r.limitations.join(","),
-            r.note,
-        ])?;
-        Ok(())
+        execute_record(&mut st, visit_id, circuit_id, r)
     }
+}
+
+/// Run `st`, an insert whose parameters are (visit, circuit, the [`RECORD_VALUES`] in order),
+/// for one test record, after checking the readings.
+pub(super) fn execute_record(
+    st: &mut Statement,
+    visit_id: i64,
+    circuit_id: i64,
+    r: &Readings,
+) -> Result<()> {
+    super::validate_readings(r)?;
+    let split = |m: Option<Megohms>| match m {
+        Some(m) => (Some(m.value), m.over_range),
+        None => (None, false),
+    };
+    let (ll, ll_over) = split(r.ir_ll);
+    let (le, le_over) = split(r.ir_le);
+    st.execute(params![
+        visit_id,
+        circuit_id,
+        r.r1r2_ohm,
+        r.r2_ohm,
+        r.r1rn_ohm,
+        r.ring_r1_ohm,
+        r.ring_rn_ohm,
+        r.ring_r2_ohm,
+        r.zs_ohm,
+        ll,
+        ll_over,
+        le,
+        le_over,
+        r.rcd_ms,
+        r.rcd_5x_ms,
+        r.limitations.join(","),
+        r.note,
+    ])?;
+    Ok(())
 }
