@@ -122,6 +122,49 @@ fn init_creates_the_database_where_told() {
     assert!(other.exists());
 }
 
+/// The page size of a database file, read with SQLite itself.
+fn page_size(db: &std::path::Path) -> i64 {
+    rusqlite::Connection::open(db)
+        .unwrap()
+        .query_row("PRAGMA page_size", [], |r| r.get(0))
+        .unwrap()
+}
+
+#[test]
+fn a_new_database_gets_large_pages_and_an_old_one_keeps_its_own() {
+    let e = Env::new();
+    e.ok(&["init"]);
+    assert_eq!(page_size(&e.db()), ohmtrail::store::DEFAULT_PAGE_SIZE);
+
+    // A database an earlier build made with SQLite's default 4 KiB pages, at schema version 3.
+    let old = e.dir.path().join("old.db");
+    let conn = rusqlite::Connection::open(&old).unwrap();
+    for (_, sql) in &ohmtrail::store::migrate::MIGRATIONS[..3] {
+        conn.execute_batch(sql).unwrap();
+    }
+    conn.execute_batch("PRAGMA user_version = 3; INSERT INTO property (ref) VALUES ('OLD-1');")
+        .unwrap();
+    drop(conn);
+    assert_eq!(page_size(&old), 4096);
+    let run = |args: &[&str]| {
+        Command::cargo_bin("ohmtrail")
+            .unwrap()
+            .env_remove("OHMTRAIL_DB")
+            .arg("--db")
+            .arg(&old)
+            .args(args)
+            .assert()
+            .success()
+    };
+    run(&["property", "add", "OLD-2"]);
+    let listed = String::from_utf8(run(&["property", "list"]).get_output().stdout.clone()).unwrap();
+    assert!(
+        listed.contains("OLD-1") && listed.contains("OLD-2"),
+        "{listed}"
+    );
+    assert_eq!(page_size(&old), 4096);
+}
+
 #[test]
 fn property_add_list_show() {
     let e = Env::with_board();

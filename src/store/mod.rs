@@ -37,6 +37,9 @@ use crate::model::{
 /// How long a writer waits for another process's transaction before giving up.
 pub const BUSY_TIMEOUT: Duration = Duration::from_secs(60);
 
+/// The page size of a database ohmtrail creates, in bytes.
+pub const DEFAULT_PAGE_SIZE: i64 = 16_384;
+
 /// Test hook, not a setting: caps the database at this many pages (`PRAGMA max_page_count`)
 /// so that tests can fill the "disk" without filling the machine's.
 pub const MAX_PAGE_COUNT_ENV: &str = "OHMTRAIL_MAX_PAGE_COUNT";
@@ -272,6 +275,14 @@ impl Store {
             });
         }
         if path.as_os_str() != ":memory:" {
+            if found == 0 {
+                // A new database: 16 KiB pages (SQLite's default is 4 KiB) hold a visit's
+                // records in fewer pages, which took about a tenth off a large import. The
+                // size is fixed once the file has content, so this does nothing to an
+                // existing database; it has to come before WAL mode, which writes the header.
+                conn.pragma_update(None, "page_size", DEFAULT_PAGE_SIZE)
+                    .map_err(db_err)?;
+            }
             conn.query_row("PRAGMA journal_mode = WAL", [], |_| Ok(()))
                 .map_err(db_err)?;
             conn.pragma_update(None, "synchronous", "NORMAL")
