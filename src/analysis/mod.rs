@@ -10,6 +10,7 @@ pub mod settings;
 #[cfg(test)]
 mod tests;
 
+use std::borrow::Cow;
 use std::collections::HashMap;
 
 use chrono::{Months, NaiveDate};
@@ -65,12 +66,12 @@ impl Flag {
 #[derive(Debug, Clone, Serialize)]
 pub struct SeriesAnalysis {
     pub quantity: &'static str,
-    pub label: String,
+    pub label: Cow<'static, str>,
     /// How the points were formed, e.g. "Ze + R1+R2 (Zs not measured)".
-    pub basis: Option<String>,
+    pub basis: Option<Cow<'static, str>>,
     pub limit: Option<f64>,
     /// What the limit is, in words, e.g. "measured-value maximum Zs at 20 °C".
-    pub limit_words: Option<String>,
+    pub limit_words: Option<Cow<'static, str>>,
     pub limit_source: Option<Source>,
     /// Register events on this circuit's lineage: (date, what).
     pub events: Vec<(NaiveDate, String)>,
@@ -176,7 +177,8 @@ pub(crate) enum Detail {
     /// Everything a report shows.
     Full,
     /// Only what the flags need: the last visit's fault-path report (a report-only figure)
-    /// is left out.
+    /// and the words only a report shows (series labels, bases and limit texts, lineage
+    /// labels, register events) are left out; the flags are the same.
     Flags,
 }
 

@@ -1,5 +1,6 @@
 //! Building each circuit's series from the history, with the limit each is judged against.
 
+use std::borrow::Cow;
 use std::collections::{HashMap, HashSet};
 
 use chrono::NaiveDate;
@@ -101,12 +102,14 @@ pub(super) fn supply_series(
     }
     Some(SeriesAnalysis {
         quantity: "ze",
-        label: "Ze at the origin".into(),
-        basis: Some("as measured; Ze is not corrected for temperature".into()),
+        label: Cow::Borrowed("Ze at the origin"),
+        basis: Some(Cow::Borrowed(
+            "as measured; Ze is not corrected for temperature",
+        )),
         limit: advisory.as_ref().map(|a| a.typical_max_ze_ohm),
         limit_words: advisory
             .as_ref()
-            .map(|a| format!("typical maximum declared for {} (advisory)", a.earthing)),
+            .map(|a| format!("typical maximum declared for {} (advisory)", a.earthing).into()),
         limit_source: advisory.map(|a| a.source),
         events: Vec::new(),
         report,
@@ -186,10 +189,13 @@ pub(super) fn circuit_analysis(
     settings: &Settings,
     detail: super::Detail,
 ) -> CircuitAnalysis {
+    // Words only a report shows are not worked out for the worklist.
+    let words = detail == super::Detail::Full;
     let chain = lineage(c, &idx.by_id);
     let board_name = board.map(|b| b.designation.clone()).unwrap_or_default();
     let lineage_labels = chain
         .iter()
+        .filter(|_| words)
         .map(|x| {
             let b = idx
                 .boards
@@ -245,15 +251,17 @@ pub(super) fn circuit_analysis(
         if ch.kind == ChangeKind::Retired {
             continue;
         }
-        events.push((
-            ch.date,
-            event_words(
-                ch.kind,
-                ch.field.as_deref(),
-                ch.old_value.as_deref(),
-                ch.new_value.as_deref(),
-            ),
-        ));
+        if words {
+            events.push((
+                ch.date,
+                event_words(
+                    ch.kind,
+                    ch.field.as_deref(),
+                    ch.old_value.as_deref(),
+                    ch.new_value.as_deref(),
+                ),
+            ));
+        }
         if ch.kind.resets_baseline() {
             resets.push(ch.date);
         }
@@ -301,10 +309,12 @@ pub(super) fn circuit_analysis(
         match c.rcd_ma.map(limits::tt_rcd_zs_max) {
             Some(Ok(l)) => (
                 Some(l.zs_max_ohm),
-                Some(format!(
-                    "maximum Zs for a TT circuit with a {} mA RCD (50 V / IΔn)",
-                    l.rcd_ma
-                )),
+                words.then(|| {
+                    format!(
+                        "maximum Zs for a TT circuit with a {} mA RCD (50 V / IΔn)",
+                        l.rcd_ma
+                    )
+                }),
                 Some(l.source),
             ),
             Some(Err(e)) => {
@@ -329,7 +339,7 @@ pub(super) fn circuit_analysis(
         ) {
             Ok(m) => (
                 Some(m.limit_ohm),
-                Some(match settings.limits.measured_rule {
+                words.then(|| match settings.limits.measured_rule {
                     MeasuredRule::TemperatureCorrected => format!(
                         "measured-value maximum Zs for {} at 20 °C ({} tabulated)",
                         z.device_text, z.zs_max_ohm
@@ -371,11 +381,11 @@ pub(super) fn circuit_analysis(
     let mut out: Vec<SeriesAnalysis> = Vec::new();
     let mut run = |quantity: Quantity,
                    key: &'static str,
-                   label: &str,
-                   basis: Option<String>,
+                   label: &'static str,
+                   basis: Option<Cow<'static, str>>,
                    points: Vec<Point>,
                    limit: Option<Limit>,
-                   limit_words: Option<String>,
+                   limit_words: Option<Cow<'static, str>>,
                    source: Option<Source>,
                    notes: &mut Vec<String>| {
         if points.is_empty() {
@@ -387,10 +397,10 @@ pub(super) fn circuit_analysis(
         match trend::analyse(&s, horizon, &settings.trend) {
             Ok(report) => out.push(SeriesAnalysis {
                 quantity: key,
-                label: label.to_string(),
-                basis,
+                label: Cow::Borrowed(label),
+                basis: basis.filter(|_| words),
                 limit: limit.map(|l| l.value),
-                limit_words,
+                limit_words: limit_words.filter(|_| words),
                 limit_source: source,
                 events: events.clone(),
                 report,
@@ -425,23 +435,24 @@ pub(super) fn circuit_analysis(
             })
         })
         .collect();
-    let zs_basis = if derived == 0 {
-        "measured Zs".to_string()
-    } else if derived == zs_points.len() {
-        "Ze + R1+R2 (Zs not measured)".to_string()
-    } else {
-        format!("measured Zs; Ze + R1+R2 at {derived} visit(s) where Zs was not measured")
-    };
+    let zs_basis = words.then(|| {
+        let how = if derived == 0 {
+            "measured Zs".to_string()
+        } else if derived == zs_points.len() {
+            "Ze + R1+R2 (Zs not measured)".to_string()
+        } else {
+            format!("measured Zs; Ze + R1+R2 at {derived} visit(s) where Zs was not measured")
+        };
+        format!("{how}; circuit part corrected to 20 °C where the ambient was recorded").into()
+    });
     run(
         Quantity::Zs,
         "zs",
         "Zs",
-        Some(format!(
-            "{zs_basis}; circuit part corrected to 20 °C where the ambient was recorded"
-        )),
+        zs_basis,
         zs_points,
         loop_limit.map(Limit::max),
-        loop_words.clone(),
+        loop_words.clone().map(Cow::Owned),
         loop_source.clone(),
         &mut notes,
     );
@@ -449,7 +460,9 @@ pub(super) fn circuit_analysis(
         Quantity::R1r2,
         "r1r2",
         "R1+R2",
-        Some("corrected to 20 °C where the ambient was recorded".into()),
+        Some(Cow::Borrowed(
+            "corrected to 20 °C where the ambient was recorded",
+        )),
         resistance(&|r| r.r1r2_ohm),
         None,
         None,
@@ -460,7 +473,9 @@ pub(super) fn circuit_analysis(
         Quantity::R2,
         "r2",
         "R2",
-        Some("corrected to 20 °C where the ambient was recorded".into()),
+        Some(Cow::Borrowed(
+            "corrected to 20 °C where the ambient was recorded",
+        )),
         resistance(&|r| r.r2_ohm),
         None,
         None,
@@ -477,15 +492,18 @@ pub(super) fn circuit_analysis(
         Quantity::R1rn,
         "r1rn",
         "R1+Rn",
-        Some("corrected to 20 °C where the ambient was recorded".into()),
+        Some(Cow::Borrowed(
+            "corrected to 20 °C where the ambient was recorded",
+        )),
         resistance(&|r| r.r1rn_ohm),
         rn_limit.map(Limit::max),
-        rn_limit.map(|l| {
+        rn_limit.filter(|_| words).map(|l| {
             format!(
                 "line–neutral loop: {} less the latest Ze {:.2} Ω = {l:.2} Ω",
                 loop_words.clone().unwrap_or_default(),
                 last_ze.unwrap_or_default()
             )
+            .into()
         }),
         loop_source.clone(),
         &mut notes,
@@ -503,7 +521,9 @@ pub(super) fn circuit_analysis(
             Quantity::Ring(leg),
             "ring",
             label,
-            Some("end-to-end, corrected to 20 °C where the ambient was recorded".into()),
+            Some(Cow::Borrowed(
+                "end-to-end, corrected to 20 °C where the ambient was recorded",
+            )),
             resistance(&get),
             None,
             None,
@@ -529,13 +549,18 @@ pub(super) fn circuit_analysis(
             q,
             key,
             label,
-            Some("as measured; over-range readings are lower bounds".into()),
+            Some(Cow::Borrowed(
+                "as measured; over-range readings are lower bounds",
+            )),
             points,
             Some(Limit::min(ir_min.minimum_mohm)),
-            Some(format!(
-                "minimum for a circuit up to 500 V, {} V test",
-                ir_min.test_voltage_v
-            )),
+            words.then(|| {
+                format!(
+                    "minimum for a circuit up to 500 V, {} V test",
+                    ir_min.test_voltage_v
+                )
+                .into()
+            }),
             Some(ir_min.source.clone()),
             &mut notes,
         );
@@ -560,19 +585,26 @@ pub(super) fn circuit_analysis(
     run(
         Quantity::Rcd,
         "rcd",
-        &format!("RCD trip time at {}", test.as_str()),
-        Some(format!("as measured at {}", test.as_str())),
+        match test {
+            RcdTest::AtRated => "RCD trip time at 1 × IΔn",
+            RcdTest::AtTwice => "RCD trip time at 2 × IΔn",
+            RcdTest::AtFive => "RCD trip time at 5 × IΔn",
+        },
+        words.then(|| format!("as measured at {}", test.as_str()).into()),
         rcd_points,
         Some(Limit::max(rcd_max.max_ms)),
-        Some(format!(
-            "maximum for a {} RCD at {}",
-            if timing == RcdTiming::Delayed {
-                "time-delayed (S)"
-            } else {
-                "general"
-            },
-            test.as_str()
-        )),
+        words.then(|| {
+            format!(
+                "maximum for a {} RCD at {}",
+                if timing == RcdTiming::Delayed {
+                    "time-delayed (S)"
+                } else {
+                    "general"
+                },
+                test.as_str()
+            )
+            .into()
+        }),
         Some(rcd_max.source.clone()),
         &mut notes,
     );

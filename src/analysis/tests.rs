@@ -354,4 +354,17 @@ fn the_streamed_portfolio_matches_property_by_property() {
     }
     rank_flags(&mut one_by_one);
     assert_eq!(all, one_by_one);
+
+    // The worklist leaves out the words only a report shows; its flags are the full
+    // analysis's, figure for figure.
+    let mut full = Vec::new();
+    for p in s.list_properties().unwrap() {
+        full.extend(
+            analyse_property(&s, &p.property_ref, &settings())
+                .unwrap()
+                .flags,
+        );
+    }
+    rank_flags(&mut full);
+    assert_eq!(all, full);
 }

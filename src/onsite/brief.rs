@@ -433,7 +433,7 @@ fn zs_limit_at(
         Some(LimitAt {
             value: s.limit?,
             kind: LimitKind::Max,
-            words: s.limit_words.clone().unwrap_or_default(),
+            words: s.limit_words.as_deref().unwrap_or_default().to_string(),
             advisory: false,
         })
     })
@@ -682,7 +682,7 @@ fn ze_expectation(
         Some(LimitAt {
             value: s.limit?,
             kind: LimitKind::Max,
-            words: s.limit_words.clone().unwrap_or_default(),
+            words: s.limit_words.as_deref().unwrap_or_default().to_string(),
             advisory: true,
         })
     });

@@ -613,7 +613,7 @@ fn flagged(a: &PropertyAnalysis) -> Vec<FlaggedCircuit> {
             limit_words: if ring_check {
                 Some("tolerance between the ring's end-to-end readings and R1+R2".into())
             } else {
-                series.and_then(|s| s.limit_words.clone())
+                series.and_then(|s| s.limit_words.as_deref().map(String::from))
             },
             limit_source: if ring_check {
                 circuit
@@ -717,10 +717,10 @@ fn chart(s: &SeriesAnalysis, next_due: Option<NaiveDate>) -> Chart {
         _ => None,
     };
     Chart {
-        title: s.label.clone(),
+        title: s.label.to_string(),
         unit: r.unit,
         log_scale: r.scale == Scale::Log10,
-        basis: s.basis.clone(),
+        basis: s.basis.as_deref().map(String::from),
         points,
         limit: s.limit,
         limit_kind: s.limit.map(|_| limit_kind_key(r.quantity.limit_kind())),
