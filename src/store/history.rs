@@ -92,10 +92,12 @@ fn all_queries() -> Queries {
             "SELECT {} FROM board b WHERE ?1 IS NULL OR b.property_id = ?1 ORDER BY b.property_id, b.id",
             Store::BOARD_COLS
         ),
+        // Ordered by property only, which the indexes give without sorting the portfolio's
+        // circuits; each property's are put in register order as they are taken.
         circuits: format!(
-            "SELECT {}, b.property_id FROM circuit c JOIN board b ON b.id = c.board_id
+            "SELECT {}, b.property_id FROM board b JOIN circuit c ON c.board_id = b.id
              WHERE ?1 IS NULL OR b.property_id = ?1
-             ORDER BY b.property_id, b.id, c.status = 'retired', CAST(c.number AS INTEGER), c.number, c.id",
+             ORDER BY b.property_id",
             qualified(Store::CIRCUIT_COLS, "c")
         ),
         visits: format!(
@@ -142,6 +144,37 @@ fn stream<'s, T: 's>(
     let rows = stmt.query_map([filter], move |r| Ok((r.get::<_, i64>(pid)?, decode(r)?)))?;
     let boxed: Box<dyn Iterator<Item = rusqlite::Result<(i64, T)>> + 's> = Box::new(rows);
     Ok(boxed.peekable())
+}
+
+/// A property's circuits in register order: by board, those in service first, then by
+/// number as the register lists them (`ORDER BY board_id, status = 'retired',
+/// CAST(number AS INTEGER), number, id`).
+fn register_order(c: &Circuit) -> (i64, bool, i64, String, i64) {
+    (
+        c.board_id,
+        c.status == crate::model::Status::Retired,
+        sqlite_integer_prefix(&c.number),
+        c.number.clone(),
+        c.id,
+    )
+}
+
+/// SQLite's `CAST(text AS INTEGER)`: leading spaces skipped, then the longest prefix that reads
+/// as an integer (an optional sign and digits), 0 when there is none, clamped to the 64-bit
+/// range (https://www.sqlite.org/lang_expr.html#castexpr).
+fn sqlite_integer_prefix(text: &str) -> i64 {
+    let t = text.trim_start_matches([' ', '\t', '\n', '\r', '\x0c']);
+    let (negative, digits) = match t.as_bytes().first() {
+        Some(b'-') => (true, &t[1..]),
+        Some(b'+') => (false, &t[1..]),
+        _ => (false, t),
+    };
+    let mut value: i128 = 0;
+    for b in digits.bytes().take_while(u8::is_ascii_digit) {
+        value = (value * 10 + i128::from(b - b'0')).min(i128::from(i64::MAX) + 1);
+    }
+    let value = if negative { -value } else { value };
+    value.clamp(i128::from(i64::MIN), i128::from(i64::MAX)) as i64
 }
 
 /// Take every leading item of `s` that belongs to property `id`.
@@ -230,10 +263,12 @@ impl Store {
                     used.push((s.clone(), calibration.get(s).copied().flatten()));
                 }
             }
+            let mut property_circuits = take(&mut circuits, id)?;
+            property_circuits.sort_by_cached_key(register_order);
             f(PropertyHistory {
                 property,
                 boards: take(&mut boards, id)?,
-                circuits: take(&mut circuits, id)?,
+                circuits: property_circuits,
                 records: take(&mut records, id)?,
                 board_tests: take(&mut tests, id)?,
                 changes: take(&mut changes, id)?,
@@ -280,7 +315,119 @@ mod tests {
                 "{name} scans a table: {plan:?}"
             );
         }
+        // The portfolio's circuits are not sorted as a whole.
+        let mut stmt = store
+            .conn
+            .prepare(&format!("EXPLAIN QUERY PLAN {}", queries(false).circuits))
+            .unwrap();
+        let plan: Vec<String> = stmt
+            .query_map([None::<i64>], |r| r.get::<_, String>(3))
+            .unwrap()
+            .collect::<rusqlite::Result<_>>()
+            .unwrap();
+        assert!(!plan.iter().any(|p| p.contains("TEMP B-TREE")), "{plan:?}");
         // The portfolio queries keep the NULL guard so one statement serves every property.
         assert!(queries(false).visits.contains("?1 IS NULL OR"));
+    }
+
+    #[test]
+    fn the_integer_prefix_is_sqlites_cast() {
+        let conn = rusqlite::Connection::open_in_memory().unwrap();
+        for text in [
+            "1",
+            "10",
+            "2a",
+            "a2",
+            "",
+            " 3",
+            "\t7x",
+            "-4",
+            "+5",
+            "-",
+            "+",
+            " - 1",
+            "007",
+            "1.9",
+            "1e3",
+            "99999999999999999999",
+            "-99999999999999999999",
+            "9223372036854775807",
+            "9223372036854775808",
+            "-9223372036854775808",
+            "L1",
+            "١٢",
+        ] {
+            let expected: i64 = conn
+                .query_row("SELECT CAST(?1 AS INTEGER)", [text], |r| r.get(0))
+                .unwrap();
+            assert_eq!(sqlite_integer_prefix(text), expected, "{text:?}");
+        }
+    }
+
+    /// The order circuits are taken in is the register's SQL order, numbers that read as
+    /// numbers by value, retired circuits after those in service.
+    #[test]
+    fn circuits_come_in_register_order() {
+        use crate::store::{CircuitDetails, NewBoard, NewProperty};
+        let store = Store::open_in_memory().unwrap();
+        store
+            .add_property(&NewProperty {
+                reference: "P-1".into(),
+                ..Default::default()
+            })
+            .unwrap();
+        for board in ["DB2", "CU1"] {
+            store
+                .add_board(
+                    "P-1",
+                    &NewBoard {
+                        designation: board.into(),
+                        ..Default::default()
+                    },
+                )
+                .unwrap();
+        }
+        let mut retire = None;
+        for (board, number) in [
+            ("CU1", "10"),
+            ("DB2", "1"),
+            ("CU1", "2"),
+            ("CU1", "L1"),
+            ("CU1", "2a"),
+            ("CU1", "1"),
+            ("DB2", "A"),
+        ] {
+            let c = store
+                .add_circuit("P-1", board, number, &CircuitDetails::default())
+                .unwrap();
+            if number == "2" {
+                retire = Some(c.id);
+            }
+        }
+        let date = NaiveDate::from_ymd_opt(2024, 1, 1).unwrap();
+        store.retire_circuit(retire.unwrap(), date, None).unwrap();
+        let id = store.property("P-1").unwrap().id;
+        let taken: Vec<i64> = store
+            .history(id)
+            .unwrap()
+            .circuits
+            .iter()
+            .map(|c| c.id)
+            .collect();
+        let mut st = store
+            .conn
+            .prepare(
+                "SELECT c.id FROM circuit c JOIN board b ON b.id = c.board_id
+                 ORDER BY b.property_id, b.id, c.status = 'retired', CAST(c.number AS INTEGER),
+                 c.number, c.id",
+            )
+            .unwrap();
+        let sql: Vec<i64> = st
+            .query_map([], |r| r.get(0))
+            .unwrap()
+            .collect::<rusqlite::Result<_>>()
+            .unwrap();
+        assert_eq!(taken.len(), 7);
+        assert_eq!(taken, sql);
     }
 }

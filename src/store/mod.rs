@@ -664,11 +664,15 @@ impl Store {
         length_m, device, rcd_ma, rcd_type, insulation, disconnect_s, status, replaces_circuit_id";
 
     pub(super) fn circuit_from_row(r: &Row) -> rusqlite::Result<Circuit> {
-        let kind: String = r.get(4)?;
-        let device: Option<String> = r.get(8)?;
-        let rcd_type: Option<String> = r.get(10)?;
-        let insulation: Option<String> = r.get(11)?;
-        let status: String = r.get(13)?;
+        // The coded columns are read in place rather than copied out first.
+        let text = |i: usize| -> rusqlite::Result<Option<&str>> {
+            Ok(r.get_ref(i)?.as_str_or_null()?)
+        };
+        let kind = text(4)?.unwrap_or_default();
+        let device = text(8)?;
+        let rcd_type = text(10)?;
+        let insulation = text(11)?;
+        let status = text(13)?.unwrap_or_default();
         Ok(Circuit {
             id: r.get(0)?,
             board_id: r.get(1)?,

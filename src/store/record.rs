@@ -25,7 +25,8 @@ pub(super) fn readings_at(r: &Row, o: usize) -> rusqlite::Result<Readings> {
             over_range: over,
         })
     };
-    let limitations: String = r.get(o + 13)?;
+    // Read in place: almost every record has none, and a copy would cost an allocation each.
+    let limitations = r.get_ref(o + 13)?.as_str()?;
     Ok(Readings {
         r1r2_ohm: r.get(o)?,
         r2_ohm: r.get(o + 1)?,
