@@ -18,6 +18,10 @@ pub const MIGRATIONS: &[(&str, &str)] = &[
         "004_checks_without_in_lists",
         include_str!("../../schema/004_checks_without_in_lists.sql"),
     ),
+    (
+        "005_partial_replaces_index",
+        include_str!("../../schema/005_partial_replaces_index.sql"),
+    ),
 ];
 
 /// A migration that rebuilds tables starts with this line: SQLite's procedure for changing a
@@ -169,9 +173,9 @@ mod tests {
         let indexes_before = dump(&conn, indexes);
         assert_eq!(
             apply(&mut conn).unwrap(),
-            vec!["004_checks_without_in_lists"]
+            vec!["004_checks_without_in_lists", "005_partial_replaces_index"]
         );
-        assert_eq!(user_version(&conn).unwrap(), 4);
+        assert_eq!(user_version(&conn).unwrap(), 5);
         for (t, rows) in tables.iter().zip(&before) {
             assert_eq!(
                 &dump(&conn, &format!("SELECT * FROM {t} ORDER BY id")),
@@ -246,5 +250,19 @@ mod tests {
             "SELECT name FROM sqlite_schema WHERE name LIKE '%_004'",
         );
         assert!(tables.is_empty(), "{tables:?}");
+    }
+
+    #[test]
+    fn the_lineage_lookup_still_uses_the_partial_index() {
+        let mut conn = Connection::open_in_memory().unwrap();
+        apply(&mut conn).unwrap();
+        let plan: String = conn
+            .query_row(
+                "EXPLAIN QUERY PLAN SELECT id FROM circuit WHERE replaces_circuit_id = ?1",
+                [1],
+                |r| r.get(3),
+            )
+            .unwrap();
+        assert!(plan.contains("circuit_replaces"), "{plan}");
     }
 }

@@ -665,9 +665,8 @@ impl Store {
 
     pub(super) fn circuit_from_row(r: &Row) -> rusqlite::Result<Circuit> {
         // The coded columns are read in place rather than copied out first.
-        let text = |i: usize| -> rusqlite::Result<Option<&str>> {
-            Ok(r.get_ref(i)?.as_str_or_null()?)
-        };
+        let text =
+            |i: usize| -> rusqlite::Result<Option<&str>> { Ok(r.get_ref(i)?.as_str_or_null()?) };
         let kind = text(4)?.unwrap_or_default();
         let device = text(8)?;
         let rcd_type = text(10)?;
