@@ -1,6 +1,7 @@
 //! A test record's columns, in one place: the list every statement uses, the decoder and the
 //! writer. Declared first in `store` so its macro is in scope for the other store files.
 
+use rusqlite::types::ValueRef;
 use rusqlite::{Row, Statement, params};
 
 use super::Store;
@@ -19,6 +20,23 @@ pub(super) const RECORD_VALUES: &str = record_values!();
 
 /// Decode the [`RECORD_VALUES`] columns starting at `o`.
 pub(super) fn readings_at(r: &Row, o: usize) -> rusqlite::Result<Readings> {
+    // Each value is read once through `get_ref`; `get` would ask SQLite for the column count
+    // and type again for every one of the fifteen columns.
+    let real = |i: usize| -> rusqlite::Result<Option<f64>> {
+        Ok(match r.get_ref(o + i)? {
+            ValueRef::Null => None,
+            ValueRef::Real(v) => Some(v),
+            ValueRef::Integer(v) => Some(v as f64),
+            other => {
+                return Err(rusqlite::Error::InvalidColumnType(
+                    o + i,
+                    RECORD_VALUE_NAMES[i].into(),
+                    other.data_type(),
+                ));
+            }
+        })
+    };
+    let flag = |i: usize| -> rusqlite::Result<bool> { Ok(r.get_ref(o + i)?.as_i64()? != 0) };
     let mohm = |v: Option<f64>, over: bool| {
         v.map(|value| Megohms {
             value,
@@ -28,17 +46,17 @@ pub(super) fn readings_at(r: &Row, o: usize) -> rusqlite::Result<Readings> {
     // Read in place: almost every record has none, and a copy would cost an allocation each.
     let limitations = r.get_ref(o + 13)?.as_str()?;
     Ok(Readings {
-        r1r2_ohm: r.get(o)?,
-        r2_ohm: r.get(o + 1)?,
-        r1rn_ohm: r.get(o + 2)?,
-        ring_r1_ohm: r.get(o + 3)?,
-        ring_rn_ohm: r.get(o + 4)?,
-        ring_r2_ohm: r.get(o + 5)?,
-        zs_ohm: r.get(o + 6)?,
-        ir_ll: mohm(r.get(o + 7)?, r.get(o + 8)?),
-        ir_le: mohm(r.get(o + 9)?, r.get(o + 10)?),
-        rcd_ms: r.get(o + 11)?,
-        rcd_5x_ms: r.get(o + 12)?,
+        r1r2_ohm: real(0)?,
+        r2_ohm: real(1)?,
+        r1rn_ohm: real(2)?,
+        ring_r1_ohm: real(3)?,
+        ring_rn_ohm: real(4)?,
+        ring_r2_ohm: real(5)?,
+        zs_ohm: real(6)?,
+        ir_ll: mohm(real(7)?, flag(8)?),
+        ir_le: mohm(real(9)?, flag(10)?),
+        rcd_ms: real(11)?,
+        rcd_5x_ms: real(12)?,
         limitations: limitations
             .split(',')
             .filter(|s| !s.is_empty())
@@ -47,6 +65,25 @@ pub(super) fn readings_at(r: &Row, o: usize) -> rusqlite::Result<Readings> {
         note: r.get(o + 14)?,
     })
 }
+
+/// The [`RECORD_VALUES`] one by one, for error messages.
+const RECORD_VALUE_NAMES: [&str; 15] = [
+    "r1r2_ohm",
+    "r2_ohm",
+    "r1rn_ohm",
+    "ring_r1_ohm",
+    "ring_rn_ohm",
+    "ring_r2_ohm",
+    "zs_ohm",
+    "ir_ll_mohm",
+    "ir_ll_over",
+    "ir_le_mohm",
+    "ir_le_over",
+    "rcd_ms",
+    "rcd_5x_ms",
+    "limitations",
+    "note",
+];
 
 impl Store {
     /// A stored test record's columns: its keys, then the [`RECORD_VALUES`].
