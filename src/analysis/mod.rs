@@ -349,14 +349,78 @@ pub fn worklist(store: &Store, settings: &Settings, filter: &WorklistFilter) -> 
     Ok(flags)
 }
 
-/// Every property's flags. This thread streams the histories out of SQLite while worker threads
-/// analyse them; a bounded queue keeps only a few properties in memory at once.
+/// Every property's flags, on as many threads as the machine has cores (up to eight).
 fn portfolio_flags(store: &Store, settings: &Settings) -> Result<Vec<Flag>> {
-    use std::sync::{Mutex, mpsc};
     let workers = std::thread::available_parallelism()
         .map(|n| n.get())
         .unwrap_or(1)
         .clamp(1, 8);
+    if workers > 1
+        && let Some(flags) = flags_by_runs(store, settings, workers)?
+    {
+        return Ok(flags);
+    }
+    flags_by_queue(store, settings, workers)
+}
+
+/// The portfolio cut into runs of properties, each read on its own connection and analysed on
+/// its own thread, all from one snapshot of the database. `None` when that cannot be had (a
+/// database in memory or read-only, a writer at work, too few properties to share).
+fn flags_by_runs(store: &Store, settings: &Settings, workers: usize) -> Result<Option<Vec<Flag>>> {
+    let runs = store.property_id_runs(workers)?;
+    if runs.len() < 2 {
+        return Ok(None);
+    }
+    let mut others = Vec::new();
+    for _ in 1..runs.len() {
+        match store.reader()? {
+            Some(r) => others.push(r),
+            None => return Ok(None),
+        }
+    }
+    let all: Vec<&Store> = std::iter::once(store).chain(&others).collect();
+    if !Store::begin_shared_read(&all)? {
+        return Ok(None);
+    }
+    drop(all);
+    let analyse_run = |s: &Store, run: (i64, i64)| -> Result<Vec<Flag>> {
+        let mut flags = Vec::new();
+        let read = s.for_each_history_in(run, |h| {
+            flags.extend(analyse_detail(&h, settings, Detail::Flags).flags);
+            Ok(())
+        });
+        // The read transaction ends whether or not the run was read whole.
+        let ended = s.end_read();
+        read.and(ended).map(|()| flags)
+    };
+    let analyse_run = &analyse_run;
+    std::thread::scope(|scope| {
+        let handles: Vec<_> = others
+            .into_iter()
+            .zip(runs[1..].iter().copied())
+            .map(|(s, run)| scope.spawn(move || analyse_run(&s, run)))
+            .collect();
+        let mut flags = analyse_run(store, runs[0]);
+        for h in handles {
+            let more = match h.join() {
+                Ok(more) => more,
+                Err(p) => std::panic::resume_unwind(p),
+            };
+            if let Ok(all) = &mut flags {
+                match more {
+                    Ok(more) => all.extend(more),
+                    Err(e) => flags = Err(e),
+                }
+            }
+        }
+        flags.map(Some)
+    })
+}
+
+/// Every property's flags. This thread streams the histories out of SQLite while worker threads
+/// analyse them; a bounded queue keeps only a few properties in memory at once.
+fn flags_by_queue(store: &Store, settings: &Settings, workers: usize) -> Result<Vec<Flag>> {
+    use std::sync::{Mutex, mpsc};
     let (tx, rx) = mpsc::sync_channel::<PropertyHistory>(64);
     let rx = Mutex::new(rx);
     std::thread::scope(|scope| {

@@ -368,3 +368,55 @@ fn the_streamed_portfolio_matches_property_by_property() {
     rank_flags(&mut full);
     assert_eq!(all, full);
 }
+
+/// The demo portfolio in a database file, which other connections can share.
+fn demo_file() -> (tempfile::TempDir, Store) {
+    let dir = tempfile::tempdir().unwrap();
+    let s = Store::open(&dir.path().join("demo.db")).unwrap();
+    crate::demo::build(&s).unwrap();
+    (dir, s)
+}
+
+#[test]
+fn reading_in_runs_on_several_connections_gives_the_same_worklist() {
+    let (_dir, s) = demo_file();
+    let mut queued = flags_by_queue(&s, &settings(), 2).unwrap();
+    rank_flags(&mut queued);
+    assert!(!queued.is_empty());
+    for workers in [2, 3, 8] {
+        let mut runs = flags_by_runs(&s, &settings(), workers)
+            .unwrap()
+            .expect("a file database with no writer is read in runs");
+        rank_flags(&mut runs);
+        assert_eq!(runs, queued, "{workers} runs");
+    }
+    // Every read transaction was ended: the store can write again at once.
+    s.add_property(&NewProperty {
+        reference: "AFTER-1".into(),
+        ..Default::default()
+    })
+    .unwrap();
+}
+
+#[test]
+fn with_a_writer_at_work_the_worklist_is_read_on_one_connection() {
+    let (dir, s) = demo_file();
+    let writer = rusqlite::Connection::open(dir.path().join("demo.db")).unwrap();
+    writer.execute_batch("BEGIN IMMEDIATE").unwrap();
+    assert!(flags_by_runs(&s, &settings(), 2).unwrap().is_none());
+    let during = portfolio_flags(&s, &settings()).unwrap();
+    writer.execute_batch("ROLLBACK").unwrap();
+    let after = portfolio_flags(&s, &settings()).unwrap();
+    assert!(!during.is_empty());
+    let (mut during, mut after) = (during, after);
+    rank_flags(&mut during);
+    rank_flags(&mut after);
+    assert_eq!(during, after);
+}
+
+#[test]
+fn a_database_in_memory_is_read_on_one_connection() {
+    let s = Store::open_in_memory().unwrap();
+    crate::demo::build(&s).unwrap();
+    assert!(flags_by_runs(&s, &settings(), 2).unwrap().is_none());
+}

@@ -47,8 +47,8 @@ fn qualified(cols: &str, alias: &str) -> String {
         .join(", ")
 }
 
-/// The SQL of each stream. Every query takes `?1` (one property id, or NULL for all) and
-/// puts the property id in the column named at `pid`.
+/// The SQL of each stream. Every query takes `?1` (one property id, or NULL for all) and the
+/// run of property ids `?2` to `?3`, and puts the property id in the column named at `pid`.
 struct Queries {
     properties: String,
     boards: String,
@@ -85,36 +85,37 @@ fn all_queries() -> Queries {
     Queries {
         properties: format!(
             "SELECT {} FROM property p LEFT JOIN client c ON c.id = p.client_id
-             WHERE ?1 IS NULL OR p.id = ?1 ORDER BY p.id",
+             WHERE (?1 IS NULL OR p.id = ?1) AND p.id BETWEEN ?2 AND ?3 ORDER BY p.id",
             Store::PROPERTY_COLS
         ),
         boards: format!(
-            "SELECT {} FROM board b WHERE ?1 IS NULL OR b.property_id = ?1 ORDER BY b.property_id, b.id",
+            "SELECT {} FROM board b WHERE (?1 IS NULL OR b.property_id = ?1)
+             AND b.property_id BETWEEN ?2 AND ?3 ORDER BY b.property_id, b.id",
             Store::BOARD_COLS
         ),
         // Ordered by property only, which the indexes give without sorting the portfolio's
         // circuits; each property's are put in register order as they are taken.
         circuits: format!(
             "SELECT {}, b.property_id FROM board b JOIN circuit c ON c.board_id = b.id
-             WHERE ?1 IS NULL OR b.property_id = ?1
+             WHERE (?1 IS NULL OR b.property_id = ?1) AND b.property_id BETWEEN ?2 AND ?3
              ORDER BY b.property_id",
             qualified(Store::CIRCUIT_COLS, "c")
         ),
         visits: format!(
             "SELECT {} FROM visit v WHERE v.state = 'complete' AND (?1 IS NULL OR v.property_id = ?1)
-             ORDER BY v.property_id, v.date",
+             AND v.property_id BETWEEN ?2 AND ?3 ORDER BY v.property_id, v.date",
             Store::VISIT_COLS
         ),
         records: format!(
             "SELECT {}, v.property_id FROM visit v JOIN test_record t ON t.visit_id = v.id
              WHERE v.state = 'complete' AND (?1 IS NULL OR v.property_id = ?1)
-             ORDER BY v.property_id, v.date, t.circuit_id",
+             AND v.property_id BETWEEN ?2 AND ?3 ORDER BY v.property_id, v.date, t.circuit_id",
             qualified(Store::RECORD_COLS, "t")
         ),
         board_tests: "SELECT bt.visit_id, bt.board_id, bt.ze_ohm, bt.pfc_ka, v.property_id
              FROM visit v JOIN board_test bt ON bt.visit_id = v.id
              WHERE v.state = 'complete' AND (?1 IS NULL OR v.property_id = ?1)
-             ORDER BY v.property_id"
+             AND v.property_id BETWEEN ?2 AND ?3 ORDER BY v.property_id"
             .into(),
         changes: "SELECT ch.id, ch.circuit_id, ch.date, ch.kind, ch.field, ch.old_value, ch.new_value,
                     ch.note, b.property_id
@@ -122,13 +123,13 @@ fn all_queries() -> Queries {
              LEFT JOIN visit pv ON pv.id = ch.visit_id
              -- A change made during a visit still being recorded is not history yet.
              WHERE (ch.visit_id IS NULL OR pv.state = 'complete') AND (?1 IS NULL OR b.property_id = ?1)
-             ORDER BY b.property_id, ch.date, ch.id"
+             AND b.property_id BETWEEN ?2 AND ?3 ORDER BY b.property_id, ch.date, ch.id"
             .into(),
         observations: "SELECT o.id, o.visit_id, b.designation, c.number, o.code, o.text, v.property_id
              FROM visit v JOIN observation o ON o.visit_id = v.id
              LEFT JOIN board b ON b.id = o.board_id LEFT JOIN circuit c ON c.id = o.circuit_id
              WHERE v.state = 'complete' AND (?1 IS NULL OR v.property_id = ?1)
-             ORDER BY v.property_id, o.id"
+             AND v.property_id BETWEEN ?2 AND ?3 ORDER BY v.property_id, o.id"
             .into(),
     }
 }
@@ -137,11 +138,13 @@ type Stream<'s, T> = Peekable<Box<dyn Iterator<Item = rusqlite::Result<(i64, T)>
 
 fn stream<'s, T: 's>(
     stmt: &'s mut Statement<'_>,
-    filter: Option<i64>,
+    (filter, run): (Option<i64>, (i64, i64)),
     pid: usize,
     decode: fn(&Row) -> rusqlite::Result<T>,
 ) -> rusqlite::Result<Stream<'s, T>> {
-    let rows = stmt.query_map([filter], move |r| Ok((r.get::<_, i64>(pid)?, decode(r)?)))?;
+    let rows = stmt.query_map(rusqlite::params![filter, run.0, run.1], move |r| {
+        Ok((r.get::<_, i64>(pid)?, decode(r)?))
+    })?;
     let boxed: Box<dyn Iterator<Item = rusqlite::Result<(i64, T)>> + 's> = Box::new(rows);
     Ok(boxed.peekable())
 }
@@ -177,6 +180,9 @@ fn sqlite_integer_prefix(text: &str) -> i64 {
     value.clamp(i128::from(i64::MIN), i128::from(i64::MAX)) as i64
 }
 
+/// Every property id.
+const ALL: (i64, i64) = (i64::MIN, i64::MAX);
+
 /// Take every leading item of `s` that belongs to property `id`.
 fn take<T>(s: &mut Stream<'_, T>, id: i64) -> Result<Vec<T>> {
     let mut out = Vec::new();
@@ -206,7 +212,7 @@ impl Store {
     /// Load one property's history.
     pub fn history(&self, property_id: i64) -> Result<PropertyHistory> {
         let mut found = None;
-        self.histories(Some(property_id), |h| {
+        self.histories(Some(property_id), ALL, |h| {
             found = Some(h);
             Ok(())
         })?;
@@ -216,12 +222,34 @@ impl Store {
     /// Call `f` with each property's history in turn, in property-id order. One ordered query
     /// per table, merged as they stream, so only one property is in memory at a time.
     pub fn for_each_history(&self, f: impl FnMut(PropertyHistory) -> Result<()>) -> Result<()> {
-        self.histories(None, f)
+        self.histories(None, ALL, f)
+    }
+
+    /// [`Self::for_each_history`] over the properties whose ids run from `first` to `last`.
+    pub fn for_each_history_in(
+        &self,
+        (first, last): (i64, i64),
+        f: impl FnMut(PropertyHistory) -> Result<()>,
+    ) -> Result<()> {
+        self.histories(None, (first, last), f)
+    }
+
+    /// Property ids in `n` runs of about equal count, in order: (first, last) of each.
+    /// Fewer runs when there are fewer properties.
+    pub fn property_id_runs(&self, n: usize) -> Result<Vec<(i64, i64)>> {
+        let ids: Vec<i64> = {
+            let mut st = self.conn.prepare("SELECT id FROM property ORDER BY id")?;
+            st.query_map([], |r| r.get(0))?
+                .collect::<rusqlite::Result<_>>()?
+        };
+        let size = ids.len().div_ceil(n.max(1)).max(1);
+        Ok(ids.chunks(size).map(|c| (c[0], c[c.len() - 1])).collect())
     }
 
     fn histories(
         &self,
         filter: Option<i64>,
+        run: (i64, i64),
         mut f: impl FnMut(PropertyHistory) -> Result<()>,
     ) -> Result<()> {
         let q = queries(filter.is_some());
@@ -240,7 +268,11 @@ impl Store {
         let mut st_ch = self.conn.prepare(&q.changes)?;
         let mut st_o = self.conn.prepare(&q.observations)?;
 
-        let properties = st_p.query_map([filter], Store::property_from_row)?;
+        let properties = st_p.query_map(
+            rusqlite::params![filter, run.0, run.1],
+            Store::property_from_row,
+        )?;
+        let filter = (filter, run);
         let mut boards = stream(&mut st_b, filter, 1, Store::board_from_row)?;
         let mut circuits = stream(&mut st_c, filter, 15, Store::circuit_from_row)?;
         let mut visits = stream(&mut st_v, filter, 1, Store::visit_from_row)?;
@@ -306,7 +338,9 @@ mod tests {
                 .prepare(&format!("EXPLAIN QUERY PLAN {sql}"))
                 .unwrap();
             let plan: Vec<String> = stmt
-                .query_map([1_i64], |r| r.get::<_, String>(3))
+                .query_map(rusqlite::params![1_i64, ALL.0, ALL.1], |r| {
+                    r.get::<_, String>(3)
+                })
                 .unwrap()
                 .collect::<rusqlite::Result<_>>()
                 .unwrap();
@@ -321,7 +355,9 @@ mod tests {
             .prepare(&format!("EXPLAIN QUERY PLAN {}", queries(false).circuits))
             .unwrap();
         let plan: Vec<String> = stmt
-            .query_map([None::<i64>], |r| r.get::<_, String>(3))
+            .query_map(rusqlite::params![None::<i64>, 1, 5000], |r| {
+                r.get::<_, String>(3)
+            })
             .unwrap()
             .collect::<rusqlite::Result<_>>()
             .unwrap();
@@ -429,5 +465,72 @@ mod tests {
             .unwrap();
         assert_eq!(taken.len(), 7);
         assert_eq!(taken, sql);
+    }
+
+    fn with_properties(store: &Store, n: usize) {
+        for i in 0..n {
+            store
+                .add_property(&crate::store::NewProperty {
+                    reference: format!("P-{i}"),
+                    ..Default::default()
+                })
+                .unwrap();
+        }
+    }
+
+    #[test]
+    fn property_ids_are_cut_into_runs_of_about_equal_count() {
+        let store = Store::open_in_memory().unwrap();
+        assert!(store.property_id_runs(2).unwrap().is_empty());
+        with_properties(&store, 5);
+        assert_eq!(store.property_id_runs(2).unwrap(), vec![(1, 3), (4, 5)]);
+        assert_eq!(store.property_id_runs(1).unwrap(), vec![(1, 5)]);
+        assert_eq!(store.property_id_runs(8).unwrap().len(), 5);
+        let mut seen = Vec::new();
+        for run in store.property_id_runs(2).unwrap() {
+            store
+                .for_each_history_in(run, |h| {
+                    seen.push(h.property.id);
+                    Ok(())
+                })
+                .unwrap();
+        }
+        assert_eq!(seen, vec![1, 2, 3, 4, 5]);
+    }
+
+    #[test]
+    fn a_shared_read_sees_one_snapshot_until_it_ends() {
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join("t.db");
+        let a = Store::open(&path).unwrap();
+        with_properties(&a, 3);
+        let b = a.reader().unwrap().unwrap();
+        assert!(Store::begin_shared_read(&[&a, &b]).unwrap());
+        // A commit after the read began is not seen by either connection.
+        let writer = Store::open(&path).unwrap();
+        with_properties_named(&writer, "LATE");
+        let count = |s: &Store| -> i64 {
+            s.conn
+                .query_row("SELECT count(*) FROM property", [], |r| r.get(0))
+                .unwrap()
+        };
+        assert_eq!((count(&a), count(&b)), (3, 3));
+        a.end_read().unwrap();
+        b.end_read().unwrap();
+        assert_eq!((count(&a), count(&b)), (4, 4));
+        // A writer holding the lock means no shared read, and nothing left begun.
+        writer.conn.execute_batch("BEGIN IMMEDIATE").unwrap();
+        assert!(!Store::begin_shared_read(&[&a, &b]).unwrap());
+        assert!(a.conn.is_autocommit() && b.conn.is_autocommit());
+        writer.conn.execute_batch("ROLLBACK").unwrap();
+    }
+
+    fn with_properties_named(store: &Store, reference: &str) {
+        store
+            .add_property(&crate::store::NewProperty {
+                reference: reference.into(),
+                ..Default::default()
+            })
+            .unwrap();
     }
 }

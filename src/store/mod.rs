@@ -224,6 +224,60 @@ impl Store {
         Store::setup(conn, path.to_path_buf(), read_only)
     }
 
+    /// Another connection to the same database file, for reading beside this one on another
+    /// thread; `None` for a database in memory, which no other connection can see.
+    pub fn reader(&self) -> Result<Option<Store>> {
+        if self.path.as_os_str() == ":memory:" {
+            return Ok(None);
+        }
+        Store::open(&self.path).map(Some)
+    }
+
+    /// Begin one read transaction on each of `stores` (connections to one file), all on the
+    /// same snapshot: the write lock is held while they begin, so no commit can fall between
+    /// them. Returns `false`, with nothing begun, when the lock is not free at once (a writer
+    /// is at work) or the file cannot be written; end each with [`Store::end_read`].
+    pub fn begin_shared_read(stores: &[&Store]) -> Result<bool> {
+        let Some(first) = stores.first() else {
+            return Ok(true);
+        };
+        if first.read_only || first.path.as_os_str() == ":memory:" {
+            return Ok(false);
+        }
+        let lock = Connection::open_with_flags(
+            &first.path,
+            OpenFlags::SQLITE_OPEN_READ_WRITE | OpenFlags::SQLITE_OPEN_NO_MUTEX,
+        )?;
+        // No busy timeout (rusqlite's default is five seconds): when a writer holds the lock
+        // the caller reads on one connection instead of waiting.
+        lock.busy_timeout(Duration::ZERO)?;
+        if lock.execute_batch("BEGIN IMMEDIATE").is_err() {
+            return Ok(false);
+        }
+        let begun = stores.iter().try_for_each(|s| {
+            s.conn.execute_batch("BEGIN")?;
+            // The first read fixes the transaction's snapshot.
+            s.conn
+                .query_row("SELECT count(*) FROM sqlite_schema", [], |_| Ok(()))
+        });
+        lock.execute_batch("ROLLBACK")?;
+        if let Err(e) = begun {
+            for s in stores {
+                s.end_read()?;
+            }
+            return Err(e.into());
+        }
+        Ok(true)
+    }
+
+    /// End a read transaction begun by [`Store::begin_shared_read`].
+    pub fn end_read(&self) -> Result<()> {
+        if !self.conn.is_autocommit() {
+            self.conn.execute_batch("COMMIT")?;
+        }
+        Ok(())
+    }
+
     /// Whether this store was opened read-only (the file is marked read-only).
     pub fn is_read_only(&self) -> bool {
         self.read_only
