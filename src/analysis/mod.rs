@@ -187,6 +187,16 @@ pub(crate) fn analyse_detail(
     settings: &Settings,
     detail: Detail,
 ) -> PropertyAnalysis {
+    analyse_with(h, settings, detail, &mut series::LimitMemo::default())
+}
+
+/// [`analyse_detail`] with limits already worked out for earlier properties.
+fn analyse_with(
+    h: &PropertyHistory,
+    settings: &Settings,
+    detail: Detail,
+    memo: &mut series::LimitMemo,
+) -> PropertyAnalysis {
     let last_visit = h.visits.last().map(|v| v.date);
     let next_due = last_visit.map(|d| add_months(d, h.property.interval_months));
     // With no visit yet nothing is due from the history; trends need a date to project to.
@@ -202,6 +212,13 @@ pub(crate) fn analyse_detail(
     let supply = series::supply_series(h, origin, horizon, settings);
 
     let index = series::Index::new(h);
+    let ctx = series::PropertyContext {
+        h,
+        idx: &index,
+        horizon,
+        settings,
+        detail,
+    };
     let mut circuits = Vec::new();
     for c in h
         .circuits
@@ -209,9 +226,7 @@ pub(crate) fn analyse_detail(
         .filter(|c| c.status == crate::model::Status::InService)
     {
         let board = boards_by_id.get(&c.board_id).copied();
-        circuits.push(series::circuit_analysis(
-            h, &index, c, board, horizon, settings, detail,
-        ));
+        circuits.push(series::circuit_analysis(&ctx, c, board, memo));
     }
 
     let mut flags: Vec<Flag> = Vec::new();
@@ -385,8 +400,9 @@ fn flags_by_runs(store: &Store, settings: &Settings, workers: usize) -> Result<O
     drop(all);
     let analyse_run = |s: &Store, run: (i64, i64)| -> Result<Vec<Flag>> {
         let mut flags = Vec::new();
+        let mut memo = series::LimitMemo::default();
         let read = s.for_each_history_in(run, |h| {
-            flags.extend(analyse_detail(&h, settings, Detail::Flags).flags);
+            flags.extend(analyse_with(&h, settings, Detail::Flags, &mut memo).flags);
             Ok(())
         });
         // The read transaction ends whether or not the run was read whole.
@@ -428,13 +444,13 @@ fn flags_by_queue(store: &Store, settings: &Settings, workers: usize) -> Result<
             .map(|_| {
                 scope.spawn(|| {
                     let mut flags = Vec::new();
+                    let mut memo = series::LimitMemo::default();
                     loop {
                         // Hold the lock only to take the next history, not to analyse it.
                         let next = rx.lock().map(|r| r.recv());
                         match next {
-                            Ok(Ok(h)) => {
-                                flags.extend(analyse_detail(&h, settings, Detail::Flags).flags)
-                            }
+                            Ok(Ok(h)) => flags
+                                .extend(analyse_with(&h, settings, Detail::Flags, &mut memo).flags),
                             _ => return flags,
                         }
                     }

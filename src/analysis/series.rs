@@ -7,12 +7,13 @@ use chrono::NaiveDate;
 
 use super::{CircuitAnalysis, Flag, SeriesAnalysis, Settings, make_flag, note_limits_error};
 use crate::limits::{
-    self, CircuitFacts, CircuitUse, FaultPathInputs, IrCircuit, MeasuredRule, RcdTest, RcdTiming,
-    RingFindingKind, RingReadings, RingTolerance, Source, SourceStatus, TestConditions,
+    self, CircuitFacts, CircuitUse, DisconnectionChoice, FaultPathInputs, IrCircuit, MeasuredRule,
+    RcdTest, RcdTiming, RingFindingKind, RingReadings, RingTolerance, Source, SourceStatus,
+    TestConditions, ZsLimit,
 };
 use crate::model::{
-    Board, ChangeKind, Circuit, CircuitChange, CircuitKind, Earthing, Megohms, Readings,
-    TestRecord, Visit,
+    Board, ChangeKind, Circuit, CircuitChange, CircuitKind, Device, Earthing, Insulation, Megohms,
+    Readings, TestRecord, Visit,
 };
 use crate::store::PropertyHistory;
 use crate::trend::{self, Finding, FindingKind, Limit, Point, Quantity, RingLeg, Series, Severity};
@@ -180,15 +181,189 @@ impl<'a> Index<'a> {
     }
 }
 
+/// What a circuit's loop readings are judged against, from its register details alone.
+#[derive(Clone)]
+struct LoopLimits {
+    disconnection: Option<DisconnectionChoice>,
+    zs_limit: Option<ZsLimit>,
+    /// The measured-value maximum Zs at 20 °C (or the TT limit), with its words and source.
+    limit: Option<f64>,
+    words: Option<String>,
+    source: Option<Source>,
+    notes: Vec<String>,
+}
+
+/// Everything [`LoopLimits`] depend on.
+#[derive(Clone, Copy, PartialEq, Eq, Hash)]
+struct LoopKey {
+    ring: bool,
+    device: Option<Device>,
+    disconnect_s: Option<u64>,
+    earthing: Option<Earthing>,
+    rcd_ma: Option<u16>,
+    insulation: Option<Insulation>,
+    rule: MeasuredRule,
+    words: bool,
+}
+
+/// Limits already worked out, kept by one thread across the properties it analyses: most
+/// circuits of a portfolio share a few kinds of device, and working a limit out again means
+/// formatting its rule texts again (a tenth of the worklist's time).
+#[derive(Default)]
+pub(crate) struct LimitMemo {
+    loops: HashMap<LoopKey, LoopLimits>,
+}
+
+impl LimitMemo {
+    /// Enough for any real portfolio's variety; past it the memo starts again.
+    const CAPACITY: usize = 4096;
+
+    fn loop_limits(&mut self, k: LoopKey) -> LoopLimits {
+        if let Some(l) = self.loops.get(&k) {
+            return l.clone();
+        }
+        if self.loops.len() >= Self::CAPACITY {
+            self.loops.clear();
+        }
+        let l = loop_limits(&k);
+        self.loops.insert(k, l.clone());
+        l
+    }
+}
+
+fn loop_limits(k: &LoopKey) -> LoopLimits {
+    let mut notes = Vec::new();
+    let tt = k.earthing == Some(Earthing::Tt);
+
+    let disconnection = match limits::default_disconnection(&CircuitFacts {
+        circuit_use: k.ring.then_some(CircuitUse::Sockets),
+        rating_a: k.device.map(|d| d.rating_a()),
+        recorded_s: k.disconnect_s.map(f64::from_bits),
+        earthing: k.earthing,
+    }) {
+        Ok(d) => Some(d),
+        Err(e) => {
+            note_limits_error(&mut notes, "disconnection time", &e);
+            None
+        }
+    };
+
+    let zs_limit = match (k.device, &disconnection) {
+        (Some(d), Some(t)) if !tt => match limits::max_zs(&d, t.time) {
+            Ok(z) => Some(z),
+            Err(e) => {
+                note_limits_error(&mut notes, "maximum Zs", &e);
+                None
+            }
+        },
+        (None, _) => {
+            notes.push(
+                "protective device not recorded: Zs and R1+Rn are not judged against a limit"
+                    .into(),
+            );
+            None
+        }
+        _ => None,
+    };
+
+    // The Zs limit the series are compared with: readings are normalised to 20 °C, so the
+    // measured-value limit is taken at 20 °C.
+    let (limit, words, source): (Option<f64>, Option<String>, Option<Source>) = if tt {
+        match k.rcd_ma.map(limits::tt_rcd_zs_max) {
+            Some(Ok(l)) => (
+                Some(l.zs_max_ohm),
+                k.words.then(|| {
+                    format!(
+                        "maximum Zs for a TT circuit with a {} mA RCD (50 V / IΔn)",
+                        l.rcd_ma
+                    )
+                }),
+                Some(l.source),
+            ),
+            Some(Err(e)) => {
+                note_limits_error(&mut notes, "TT limit", &e);
+                (None, None, None)
+            }
+            None => {
+                notes.push(
+                    "TT circuit without an RCD recorded: earth fault loop not judged here".into(),
+                );
+                (None, None, None)
+            }
+        }
+    } else if let Some(z) = &zs_limit {
+        match limits::measured_limit(
+            z.zs_max_ohm,
+            k.rule,
+            &TestConditions {
+                temp_c: Some(20.0),
+                insulation: k.insulation,
+            },
+        ) {
+            Ok(m) => (
+                Some(m.limit_ohm),
+                k.words.then(|| match k.rule {
+                    MeasuredRule::TemperatureCorrected => format!(
+                        "measured-value maximum Zs for {} at 20 °C ({} tabulated)",
+                        z.device_text, z.zs_max_ohm
+                    ),
+                    MeasuredRule::RuleOfThumb80 => format!(
+                        "80 % of the tabulated {} Ω for {}",
+                        z.zs_max_ohm, z.device_text
+                    ),
+                }),
+                Some(Source {
+                    citation: format!("{}; {}", z.source.citation, m.source.citation).into(),
+                    status: if m.source.status == SourceStatus::Published {
+                        z.source.status
+                    } else {
+                        m.source.status
+                    },
+                    rule: m.source.rule.clone(),
+                }),
+            ),
+            Err(e) => {
+                note_limits_error(&mut notes, "measured-value limit", &e);
+                (None, None, None)
+            }
+        }
+    } else {
+        (None, None, None)
+    };
+
+    LoopLimits {
+        disconnection,
+        zs_limit,
+        limit,
+        words,
+        source,
+        notes,
+    }
+}
+
+/// What every circuit of one property is analysed with.
+pub(super) struct PropertyContext<'a> {
+    pub h: &'a PropertyHistory,
+    pub idx: &'a Index<'a>,
+    /// The date projections are judged against: the next due inspection.
+    pub horizon: NaiveDate,
+    pub settings: &'a Settings,
+    pub detail: super::Detail,
+}
+
 pub(super) fn circuit_analysis(
-    h: &PropertyHistory,
-    idx: &Index,
+    ctx: &PropertyContext,
     c: &Circuit,
     board: Option<&Board>,
-    horizon: NaiveDate,
-    settings: &Settings,
-    detail: super::Detail,
+    memo: &mut LimitMemo,
 ) -> CircuitAnalysis {
+    let &PropertyContext {
+        h,
+        idx,
+        horizon,
+        settings,
+        detail,
+    } = ctx;
     // Words only a report shows are not worked out for the worklist.
     let words = detail == super::Detail::Full;
     let chain = lineage(c, &idx.by_id);
@@ -267,106 +442,25 @@ pub(super) fn circuit_analysis(
         }
     }
 
-    let mut notes = Vec::new();
     let earthing = board.and_then(|b| b.earthing);
     let tt = earthing == Some(Earthing::Tt);
-
-    let disconnection = match limits::default_disconnection(&CircuitFacts {
-        circuit_use: (c.kind == CircuitKind::Ring).then_some(CircuitUse::Sockets),
-        rating_a: c.device.map(|d| d.rating_a()),
-        recorded_s: c.disconnect_s,
+    let LoopLimits {
+        disconnection,
+        zs_limit,
+        limit: loop_limit,
+        words: loop_words,
+        source: loop_source,
+        mut notes,
+    } = memo.loop_limits(LoopKey {
+        ring: c.kind == CircuitKind::Ring,
+        device: c.device,
+        disconnect_s: c.disconnect_s.map(f64::to_bits),
         earthing,
-    }) {
-        Ok(d) => Some(d),
-        Err(e) => {
-            note_limits_error(&mut notes, "disconnection time", &e);
-            None
-        }
-    };
-
-    let zs_limit = match (c.device, &disconnection) {
-        (Some(d), Some(t)) if !tt => match limits::max_zs(&d, t.time) {
-            Ok(z) => Some(z),
-            Err(e) => {
-                note_limits_error(&mut notes, "maximum Zs", &e);
-                None
-            }
-        },
-        (None, _) => {
-            notes.push(
-                "protective device not recorded: Zs and R1+Rn are not judged against a limit"
-                    .into(),
-            );
-            None
-        }
-        _ => None,
-    };
-
-    // The Zs limit the series are compared with: readings are normalised to 20 °C, so the
-    // measured-value limit is taken at 20 °C.
-    let (loop_limit, loop_words, loop_source): (Option<f64>, Option<String>, Option<Source>) = if tt
-    {
-        match c.rcd_ma.map(limits::tt_rcd_zs_max) {
-            Some(Ok(l)) => (
-                Some(l.zs_max_ohm),
-                words.then(|| {
-                    format!(
-                        "maximum Zs for a TT circuit with a {} mA RCD (50 V / IΔn)",
-                        l.rcd_ma
-                    )
-                }),
-                Some(l.source),
-            ),
-            Some(Err(e)) => {
-                note_limits_error(&mut notes, "TT limit", &e);
-                (None, None, None)
-            }
-            None => {
-                notes.push(
-                    "TT circuit without an RCD recorded: earth fault loop not judged here".into(),
-                );
-                (None, None, None)
-            }
-        }
-    } else if let Some(z) = &zs_limit {
-        match limits::measured_limit(
-            z.zs_max_ohm,
-            settings.limits.measured_rule,
-            &TestConditions {
-                temp_c: Some(20.0),
-                insulation: c.insulation,
-            },
-        ) {
-            Ok(m) => (
-                Some(m.limit_ohm),
-                words.then(|| match settings.limits.measured_rule {
-                    MeasuredRule::TemperatureCorrected => format!(
-                        "measured-value maximum Zs for {} at 20 °C ({} tabulated)",
-                        z.device_text, z.zs_max_ohm
-                    ),
-                    MeasuredRule::RuleOfThumb80 => format!(
-                        "80 % of the tabulated {} Ω for {}",
-                        z.zs_max_ohm, z.device_text
-                    ),
-                }),
-                Some(Source {
-                    citation: format!("{}; {}", z.source.citation, m.source.citation).into(),
-                    status: if m.source.status == SourceStatus::Published {
-                        z.source.status
-                    } else {
-                        m.source.status
-                    },
-                    rule: m.source.rule.clone(),
-                }),
-            ),
-            Err(e) => {
-                note_limits_error(&mut notes, "measured-value limit", &e);
-                (None, None, None)
-            }
-        }
-    } else {
-        (None, None, None)
-    };
+        rcd_ma: c.rcd_ma,
+        insulation: c.insulation,
+        rule: settings.limits.measured_rule,
+        words,
+    });
 
     let last_ze = rows.iter().rev().find_map(|r| r.ze);
 
