@@ -11,7 +11,7 @@ pub mod settings;
 mod tests;
 
 use std::borrow::Cow;
-use std::collections::HashMap;
+use foldhash::HashMap;
 
 use chrono::{Months, NaiveDate};
 use serde::Serialize;

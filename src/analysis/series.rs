@@ -1,7 +1,7 @@
 //! Building each circuit's series from the history, with the limit each is judged against.
 
 use std::borrow::Cow;
-use std::collections::{HashMap, HashSet};
+use foldhash::{HashMap, HashMapExt, HashSet};
 
 use chrono::NaiveDate;
 
@@ -120,7 +120,7 @@ pub(super) fn supply_series(
 /// The lineage of a circuit: the circuits it replaced, oldest first, then itself.
 fn lineage<'a>(c: &'a Circuit, by_id: &HashMap<i64, &'a Circuit>) -> Vec<&'a Circuit> {
     let mut chain = vec![c];
-    let mut seen = HashSet::from([c.id]);
+    let mut seen: HashSet<i64> = [c.id].into_iter().collect();
     while let Some(prev) = chain.last().and_then(|x| x.replaces) {
         match by_id.get(&prev) {
             Some(p) if seen.insert(p.id) => chain.push(p),
