@@ -1,7 +1,7 @@
 //! Building each circuit's series from the history, with the limit each is judged against.
 
-use std::borrow::Cow;
 use foldhash::{HashMap, HashMapExt, HashSet};
+use std::borrow::Cow;
 
 use chrono::NaiveDate;
 

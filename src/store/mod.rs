@@ -260,8 +260,9 @@ impl Store {
             s.conn
                 .query_row("SELECT count(*) FROM sqlite_schema", [], |_| Ok(()))
         });
-        lock.execute_batch("ROLLBACK")?;
-        if let Err(e) = begun {
+        let released = lock.execute_batch("ROLLBACK");
+        if let Err(e) = begun.and(released) {
+            // Leave every connection as it was, whichever step failed.
             for s in stores {
                 s.end_read()?;
             }
