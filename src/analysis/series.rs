@@ -687,18 +687,7 @@ pub(super) fn circuit_analysis(
         words.then(|| format!("as measured at {}", test.as_str()).into()),
         rcd_points,
         Some(Limit::max(rcd_max.max_ms)),
-        words.then(|| {
-            format!(
-                "maximum for a {} RCD at {}",
-                if timing == RcdTiming::Delayed {
-                    "time-delayed (S)"
-                } else {
-                    "general"
-                },
-                test.as_str()
-            )
-            .into()
-        }),
+        words.then(|| rcd_max.words().into()),
         Some(rcd_max.source.clone()),
         &mut notes,
     );

@@ -63,6 +63,17 @@ pub struct RcdMax {
     pub source: Source,
 }
 
+impl RcdMax {
+    /// The limit in words, e.g. "maximum for a general RCD at 5 × IΔn".
+    pub fn words(&self) -> String {
+        let kind = match self.timing {
+            RcdTiming::General => "general",
+            RcdTiming::Delayed => "time-delayed (S)",
+        };
+        format!("maximum for a {kind} RCD at {}", self.test)
+    }
+}
+
 /// Maximum operating time: general 300 / 150 / 40 ms, type S 500 / 200 / 150 ms at 1, 2, 5 × IΔn.
 pub fn rcd_max_ms(timing: RcdTiming, test: RcdTest) -> RcdMax {
     let max_ms = match (timing, test) {

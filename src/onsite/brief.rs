@@ -331,15 +331,7 @@ fn circuit_brief(
                     Some(LimitAt {
                         value: m.max_ms,
                         kind: LimitKind::Max,
-                        words: format!(
-                            "maximum for a {} RCD at {}",
-                            if timing == RcdTiming::Delayed {
-                                "time-delayed (S)"
-                            } else {
-                                "general"
-                            },
-                            test.as_str()
-                        ),
+                        words: m.words(),
                         advisory: false,
                     })
                 }
