@@ -318,6 +318,25 @@ fn legend_rows(
     rows
 }
 
+/// `n` legend dashes of `len` pixels every `step` pixels, from `(x, y)`.
+fn dashes(
+    area: &DrawingArea<SVGBackend<'_>, plotters::coord::Shift>,
+    (x, y): (i32, i32),
+    n: i32,
+    len: i32,
+    step: i32,
+    colour: RGBColor,
+) -> DrawResult {
+    for k in 0..n {
+        let a = x + k * step;
+        area.draw(&PathElement::new(
+            vec![(a, y), (a + len, y)],
+            colour.stroke_width(2),
+        ))?;
+    }
+    Ok(())
+}
+
 fn draw_legend(
     area: &DrawingArea<SVGBackend<'_>, plotters::coord::Shift>,
     rows: &[Vec<(i32, Marker, &'static str)>],
@@ -335,28 +354,12 @@ fn draw_legend(
                 Marker::OverRange => {
                     area.draw(&TriangleMarker::new((cx, y), 7, RAW.stroke_width(2)))?
                 }
-                Marker::Limit => {
-                    for k in 0..3 {
-                        let a = x + k * 9;
-                        area.draw(&PathElement::new(
-                            vec![(a, y), (a + 6, y)],
-                            LIMIT.stroke_width(2),
-                        ))?;
-                    }
-                }
+                Marker::Limit => dashes(&area, (x, y), 3, 6, 9, LIMIT)?,
                 Marker::Fit => area.draw(&PathElement::new(
                     vec![(x, y), (x + 24, y)],
                     FIT.stroke_width(2),
                 ))?,
-                Marker::Projection => {
-                    for k in 0..4 {
-                        let a = x + k * 6;
-                        area.draw(&PathElement::new(
-                            vec![(a, y), (a + 3, y)],
-                            FIT.stroke_width(2),
-                        ))?;
-                    }
-                }
+                Marker::Projection => dashes(&area, (x, y), 4, 3, 6, FIT)?,
                 Marker::Event => area.draw(&PathElement::new(
                     vec![(cx, y - 7), (cx, y + 7)],
                     EVENT.stroke_width(2),
