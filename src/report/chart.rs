@@ -354,12 +354,12 @@ fn draw_legend(
                 Marker::OverRange => {
                     area.draw(&TriangleMarker::new((cx, y), 7, RAW.stroke_width(2)))?
                 }
-                Marker::Limit => dashes(&area, (x, y), 3, 6, 9, LIMIT)?,
+                Marker::Limit => dashes(area, (x, y), 3, 6, 9, LIMIT)?,
                 Marker::Fit => area.draw(&PathElement::new(
                     vec![(x, y), (x + 24, y)],
                     FIT.stroke_width(2),
                 ))?,
-                Marker::Projection => dashes(&area, (x, y), 4, 3, 6, FIT)?,
+                Marker::Projection => dashes(area, (x, y), 4, 3, 6, FIT)?,
                 Marker::Event => area.draw(&PathElement::new(
                     vec![(cx, y - 7), (cx, y + 7)],
                     EVENT.stroke_width(2),
