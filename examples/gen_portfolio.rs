@@ -30,19 +30,13 @@ const CIRCUITS: [Kind; 12] = [
     ("Boiler spur", "no", "B16", 2.5, 1.5, 5.0, 15.0),
 ];
 
-/// Copper resistance at 20 °C in mΩ/m by csa, from IEC 60228 (as in the shared limits
-/// reference); the α of 0.00393 per K is IEC 60228's too.
+/// Copper resistance at 20 °C in mΩ/m (IEC 60228, the limits module's table); every size in
+/// [`CIRCUITS`] is tabulated.
 fn copper_mohm_per_m(csa: f64) -> f64 {
-    match csa {
-        x if x <= 1.0 => 18.10,
-        x if x <= 1.5 => 12.10,
-        x if x <= 2.5 => 7.41,
-        x if x <= 4.0 => 4.61,
-        x if x <= 6.0 => 3.08,
-        _ => 1.83,
-    }
+    ohmtrail::limits::copper_mohm_per_m(csa)
+        .expect("a tabulated size")
+        .mohm_per_m
 }
-const ALPHA: f64 = 0.00393;
 
 /// How one circuit ages over the visits: most stay as installed.
 #[derive(Clone, Copy, PartialEq)]
@@ -112,7 +106,8 @@ fn main() -> std::io::Result<()> {
             .collect();
         for (v, date) in dates.iter().enumerate() {
             let ambient: f64 = rng.random_range(5.0..25.0_f64).round();
-            let heat = 1.0 + ALPHA * (ambient - 20.0);
+            let heat =
+                ohmtrail::limits::temperature_factor(ambient).expect("an ambient from 5 to 25 °C");
             let ze = ze_base * rng.random_range(0.97..1.03);
             for (c, &(length, rcd, story)) in plan.iter().enumerate() {
                 let (desc, ring, device, live, cpc, _, _) = CIRCUITS[c % CIRCUITS.len()];

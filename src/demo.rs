@@ -40,23 +40,11 @@ fn seasonal_ambient(date: NaiveDate, rng: &mut ChaCha8Rng) -> f64 {
 
 /// A resistance at 20 °C as an instrument would show it at `t` °C, to 0.01 Ω.
 fn at_temp(r20: f64, t: f64) -> f64 {
-    round2(r20 * (1.0 + 0.00393 * (t - 20.0)))
+    round2(r20 * (1.0 + crate::limits::ALPHA_CU * (t - 20.0)))
 }
 
 fn round2(v: f64) -> f64 {
     (v * 100.0).round() / 100.0
-}
-
-/// Copper resistance at 20 °C in mΩ/m (IEC 60228), for the demo's sizes.
-fn rho(csa: f64) -> f64 {
-    match csa {
-        x if x <= 1.0 => 18.10,
-        x if x <= 1.5 => 12.10,
-        x if x <= 2.5 => 7.41,
-        x if x <= 4.0 => 4.61,
-        x if x <= 6.0 => 3.08,
-        _ => 1.83,
-    }
 }
 
 /// Extra resistance on each conductor at a visit (by index), and the insulation reading.
@@ -718,7 +706,12 @@ fn build_home(
             let circuit = s.find_circuit(home.reference, board, number)?;
             let e = (c.story)(i);
             let noise = |rng: &mut ChaCha8Rng| rng.random_range(-0.006..0.006);
-            let (rl, rc) = (rho(c.live), rho(c.cpc));
+            let rho = |csa| {
+                crate::limits::copper_mohm_per_m(csa)
+                    .map(|r| r.mohm_per_m)
+                    .map_err(|e| Error::invalid(e.to_string()))
+            };
+            let (rl, rc) = (rho(c.live)?, rho(c.cpc)?);
             let line = c.r1r2 * rl / (rl + rc);
             let cpc = c.r1r2 - line;
             let r1r2 = at_temp(line + cpc + e.line + e.cpc + noise(rng), ambient);
