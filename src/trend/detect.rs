@@ -140,7 +140,7 @@ impl<'a> Work<'a> {
 
     /// Median of the usable pairwise slopes of `y` (Theil–Sen, censor-aware).
     fn robust_slope(&self, y: &[f64]) -> Option<f64> {
-        let mut slopes = Vec::new();
+        let mut slopes = Vec::with_capacity(y.len() * y.len().saturating_sub(1) / 2);
         for i in 0..y.len() {
             for j in i + 1..y.len() {
                 let dx = self.x[j] - self.x[i];
@@ -166,8 +166,8 @@ impl<'a> Work<'a> {
     }
 
     fn uncensored(&self) -> (Vec<f64>, Vec<f64>) {
-        let mut xs = Vec::new();
-        let mut ys = Vec::new();
+        let mut xs = Vec::with_capacity(self.y.len());
+        let mut ys = Vec::with_capacity(self.y.len());
         for i in 0..self.y.len() {
             if !self.censored[i] {
                 xs.push(self.x[i]);
@@ -207,58 +207,73 @@ pub fn analyse(
     let points = series.sorted_points()?;
     let reset = series.last_reset();
     let base = current_baseline(&points, reset);
-    let mut report = SeriesReport {
+    let baseline_start = base.first().map(|p| p.date);
+    let baseline_len = base.len();
+    let not_normalised = if q.temperature_sensitive() {
+        base.iter()
+            .filter(|p| p.ambient_c.is_none() && !p.censored)
+            .count()
+    } else {
+        0
+    };
+    let report = |points, fit, projection, findings, note| SeriesReport {
         quantity: q,
         label: q.label(),
         unit: q.unit(),
         scale: q.scale(),
-        points: points.clone(),
+        points,
         reset,
-        baseline_start: base.first().map(|p| p.date),
-        baseline_len: base.len(),
-        not_normalised: if q.temperature_sensitive() {
-            base.iter()
-                .filter(|p| p.ambient_c.is_none() && !p.censored)
-                .count()
-        } else {
-            0
-        },
-        fit: None,
-        projection: None,
-        findings: Vec::new(),
-        note: None,
+        baseline_start,
+        baseline_len,
+        not_normalised,
+        fit,
+        projection,
+        findings,
+        note,
     };
     let Some(last) = base.last().copied() else {
-        report.note = Some(match (points.is_empty(), reset) {
+        let note = match (points.is_empty(), reset) {
             (true, _) | (false, None) => "no readings".to_string(),
             (false, Some(r)) => format!("no reading since the baseline was reset on {r}"),
-        });
-        return Ok(report);
+        };
+        return Ok(report(points, None, None, Vec::new(), Some(note)));
     };
     let floor = cfg.floor_for(q);
     let w = Work::new(q, base);
 
+    let mut note = None;
     let mut findings = Vec::new();
     let exceeds = limit_check(series, &last);
     let exceeded = exceeds.is_some();
     findings.extend(exceeds);
 
     if base.len() < 2 {
-        report.note = Some("one visit in this baseline: no trend yet".to_string());
+        note = Some("one visit in this baseline: no trend yet".to_string());
     }
 
-    let adjusted = steps(&w, floor, &mut findings);
-    findings.extend(drift(&w, &adjusted, floor));
+    let (adjusted, stepped) = steps(&w, floor, &mut findings);
+    let (drift_finding, drift_slope) = drift(&w, &adjusted, floor);
+    findings.extend(drift_finding);
 
+    let (mut fit, mut projection) = (None, None);
     let (ux, uy) = w.uncensored();
     if let Some(ls) = least_squares(&ux, &uy) {
         let sigma_floor = floor.at(ls.y_mean) / 2.0;
         let sigma = ls.residual_se.unwrap_or(0.0).max(sigma_floor);
         let slope_se = sigma / ls.sxx.sqrt();
-        report.fit = Some(Fit {
+        // With nothing censored and no step taken out, drift's robust slope was worked out
+        // over these very points.
+        let theil_sen_per_year = if ls.n < 3 {
+            None
+        } else if !stepped && ux.len() == w.x.len() {
+            drift_slope
+        } else {
+            theil_sen(&ux, &uy)
+        };
+        fit = Some(Fit {
             n: ls.n,
             least_squares_per_year: ls.slope,
-            theil_sen_per_year: (ls.n >= 3).then(|| theil_sen(&ux, &uy)).flatten(),
+            theil_sen_per_year,
             residual_se: ls.residual_se,
             slope_se_per_year: slope_se,
             intercept: ls.intercept,
@@ -276,10 +291,10 @@ pub fn analyse(
                 x_last,
                 horizon_years: cfg.horizon_years,
             };
-            report.projection = project(&inp);
+            projection = project(&inp);
             let span = ux.last().unwrap_or(&0.0) - ux.first().unwrap_or(&0.0);
             let beyond_noise = w.sign * ls.slope * span > floor.at(uy[0]);
-            if let Some(p) = report.projection
+            if let Some(p) = projection
                 && !exceeded
                 && beyond_noise
                 && p.date < next_due
@@ -288,7 +303,7 @@ pub fn analyse(
             }
         }
     } else if base.len() >= 2 {
-        report.note = Some("fewer than two uncensored readings: no fitted slope".to_string());
+        note = Some("fewer than two uncensored readings: no fitted slope".to_string());
     }
 
     let margin = series
@@ -301,8 +316,8 @@ pub fn analyse(
         f.margin_used = margin;
     }
     super::finding::rank(&mut findings);
-    report.findings = findings;
-    Ok(report)
+    drop(w);
+    Ok(report(points, fit, projection, findings, note))
 }
 
 fn margin_used(kind: LimitKind, limit: f64, value: f64) -> f64 {
@@ -342,9 +357,10 @@ fn limit_check(series: &Series, last: &Point) -> Option<Finding> {
 
 /// Finds steps, pushing a finding for each, and returns the working values with every found
 /// step taken out of the readings after it.
-fn steps(w: &Work<'_>, floor: &super::NoiseFloor, out: &mut Vec<Finding>) -> Vec<f64> {
+fn steps(w: &Work<'_>, floor: &super::NoiseFloor, out: &mut Vec<Finding>) -> (Vec<f64>, bool) {
     let q = w.q;
     let mut adj = w.y.clone();
+    let mut stepped = false;
     for i in 2..adj.len() {
         let prev = i - 1;
         let Some(jump) =
@@ -366,6 +382,7 @@ fn steps(w: &Work<'_>, floor: &super::NoiseFloor, out: &mut Vec<Finding>) -> Vec
         for v in &mut adj[i..] {
             *v -= shift;
         }
+        stepped = true;
         out.push(step_finding(
             q,
             from,
@@ -375,7 +392,7 @@ fn steps(w: &Work<'_>, floor: &super::NoiseFloor, out: &mut Vec<Finding>) -> Vec
             f,
         ));
     }
-    adj
+    (adj, stepped)
 }
 
 /// What the readings before `x` predict at `x`: their robust line when it is worsening and
@@ -459,13 +476,28 @@ fn step_finding(
     f
 }
 
-fn drift(w: &Work<'_>, adjusted: &[f64], floor: &super::NoiseFloor) -> Option<Finding> {
-    let q = w.q;
+/// The drift finding, if any, and the robust slope it was judged on.
+fn drift(
+    w: &Work<'_>,
+    adjusted: &[f64],
+    floor: &super::NoiseFloor,
+) -> (Option<Finding>, Option<f64>) {
     let n = adjusted.len();
     if n < 2 {
-        return None;
+        return (None, None);
     }
-    let slope = w.robust_slope(adjusted)?;
+    let slope = w.robust_slope(adjusted);
+    (slope.and_then(|b| drift_finding(w, adjusted, floor, b)), slope)
+}
+
+fn drift_finding(
+    w: &Work<'_>,
+    adjusted: &[f64],
+    floor: &super::NoiseFloor,
+    slope: f64,
+) -> Option<Finding> {
+    let q = w.q;
+    let n = adjusted.len();
     let years = w.x[n - 1] - w.x[0];
     let change = w.sign * slope * years;
     let f = floor.at(adjusted[0]);
