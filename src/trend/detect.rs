@@ -487,7 +487,10 @@ fn drift(
         return (None, None);
     }
     let slope = w.robust_slope(adjusted);
-    (slope.and_then(|b| drift_finding(w, adjusted, floor, b)), slope)
+    (
+        slope.and_then(|b| drift_finding(w, adjusted, floor, b)),
+        slope,
+    )
 }
 
 fn drift_finding(
