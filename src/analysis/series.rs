@@ -472,7 +472,7 @@ pub(super) fn circuit_analysis(
             .collect()
     };
 
-    let mut out: Vec<SeriesAnalysis> = Vec::new();
+    let mut out: Vec<SeriesAnalysis> = Vec::with_capacity(10);
     let mut run = |quantity: Quantity,
                    key: &'static str,
                    label: &'static str,
@@ -480,7 +480,7 @@ pub(super) fn circuit_analysis(
                    points: Vec<Point>,
                    limit: Option<Limit>,
                    limit_words: Option<Cow<'static, str>>,
-                   source: Option<Source>,
+                   source: Option<&Source>,
                    notes: &mut Vec<String>| {
         if points.is_empty() {
             return;
@@ -489,13 +489,19 @@ pub(super) fn circuit_analysis(
         s.baseline_resets = resets.clone();
         s.limit = limit;
         match trend::analyse(&s, horizon, &settings.trend) {
+            // The worklist keeps only the series with something to say, and those the
+            // cross-checks below read (R1+R2 and R1+Rn for the neutral, the ring's legs).
+            Ok(report)
+                if !words
+                    && report.findings.is_empty()
+                    && !matches!(key, "r1r2" | "r1rn" | "ring") => {}
             Ok(report) => out.push(SeriesAnalysis {
                 quantity: key,
                 label: Cow::Borrowed(label),
                 basis: basis.filter(|_| words),
                 limit: limit.map(|l| l.value),
                 limit_words: limit_words.filter(|_| words),
-                limit_source: source,
+                limit_source: source.cloned(),
                 events: events.clone(),
                 report,
             }),
@@ -547,7 +553,7 @@ pub(super) fn circuit_analysis(
         zs_points,
         loop_limit.map(Limit::max),
         loop_words.clone().map(Cow::Owned),
-        loop_source.clone(),
+        loop_source.as_ref(),
         &mut notes,
     );
     run(
@@ -599,7 +605,7 @@ pub(super) fn circuit_analysis(
             )
             .into()
         }),
-        loop_source.clone(),
+        loop_source.as_ref(),
         &mut notes,
     );
     for (leg, label, get) in [
@@ -655,7 +661,7 @@ pub(super) fn circuit_analysis(
                 )
                 .into()
             }),
-            Some(ir_min.source.clone()),
+            Some(&ir_min.source),
             &mut notes,
         );
     }
@@ -688,7 +694,7 @@ pub(super) fn circuit_analysis(
         rcd_points,
         Some(Limit::max(rcd_max.max_ms)),
         words.then(|| rcd_max.words().into()),
-        Some(rcd_max.source.clone()),
+        Some(&rcd_max.source),
         &mut notes,
     );
 

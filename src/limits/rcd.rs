@@ -84,16 +84,34 @@ pub fn rcd_max_ms(timing: RcdTiming, test: RcdTest) -> RcdMax {
         (RcdTiming::Delayed, RcdTest::AtTwice) => 200.0,
         (RcdTiming::Delayed, RcdTest::AtFive) => 150.0,
     };
-    let kind = match timing {
-        RcdTiming::General => "general (non-delayed) type",
-        RcdTiming::Delayed => "type S (time-delayed)",
+    // The rule as fixed text, so the worklist's many copies of it cost no allocation.
+    let rule = match (timing, test) {
+        (RcdTiming::General, RcdTest::AtRated) => {
+            "general (non-delayed) type: at most 300 ms at 1 × IΔn"
+        }
+        (RcdTiming::General, RcdTest::AtTwice) => {
+            "general (non-delayed) type: at most 150 ms at 2 × IΔn"
+        }
+        (RcdTiming::General, RcdTest::AtFive) => {
+            "general (non-delayed) type: at most 40 ms at 5 × IΔn"
+        }
+        (RcdTiming::Delayed, RcdTest::AtRated) => {
+            "type S (time-delayed): at most 500 ms at 1 × IΔn"
+        }
+        (RcdTiming::Delayed, RcdTest::AtTwice) => {
+            "type S (time-delayed): at most 200 ms at 2 × IΔn"
+        }
+        (RcdTiming::Delayed, RcdTest::AtFive) => "type S (time-delayed): at most 150 ms at 5 × IΔn",
     };
     RcdMax {
         timing,
         test,
         max_ms,
-        source: Source::new("BS EN 61008-1 / BS EN 61009-1", SourceStatus::Published, "")
-            .with_rule(format!("{kind}: at most {max_ms} ms at {test}")),
+        source: Source::new(
+            "BS EN 61008-1 / BS EN 61009-1",
+            SourceStatus::Published,
+            rule,
+        ),
     }
 }
 
@@ -227,7 +245,14 @@ mod tests {
             (Delayed, AtTwice, 200.0),
             (Delayed, AtFive, 150.0),
         ] {
-            assert_eq!(rcd_max_ms(timing, test).max_ms, want);
+            let m = rcd_max_ms(timing, test);
+            assert_eq!(m.max_ms, want);
+            // The rule in words carries the same figure and test.
+            assert!(
+                m.source
+                    .rule
+                    .contains(&format!("at most {want} ms at {test}"))
+            );
         }
         assert_eq!(RcdTiming::of(RcdType::S), Delayed);
         assert_eq!(RcdTiming::of(RcdType::A), General);
