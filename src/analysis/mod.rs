@@ -19,7 +19,7 @@ use serde::Serialize;
 use crate::error::Result;
 use crate::limits::{self, DisconnectionChoice, FaultPathReport, RingCheck, Source, ZsLimit};
 use crate::model::{Board, Circuit, Observation, Property, Readings, Visit};
-use crate::store::{PropertyHistory, Store};
+use crate::store::{HistoryParts, PropertyHistory, Store};
 use crate::trend::{self, Finding, FindingKind, SeriesReport, Severity};
 
 pub use settings::Settings;
@@ -403,7 +403,7 @@ fn flags_by_runs(store: &Store, settings: &Settings, workers: usize) -> Result<O
     let analyse_run = |s: &Store, run: (i64, i64)| -> Result<Vec<Flag>> {
         let mut flags = Vec::new();
         let mut memo = series::LimitMemo::default();
-        let read = s.for_each_history_in(run, |h| {
+        let read = s.for_each_history_in(run, HistoryParts::FOR_FLAGS, |h| {
             flags.extend(analyse_with(&h, settings, Detail::Flags, &mut memo).flags);
             Ok(())
         });
@@ -459,10 +459,11 @@ fn flags_by_queue(store: &Store, settings: &Settings, workers: usize) -> Result<
                 })
             })
             .collect();
-        let streamed = store.for_each_history(|h| {
-            tx.send(h)
-                .map_err(|_| crate::Error::invalid("the analysis workers stopped"))
-        });
+        let streamed =
+            store.for_each_history_in((i64::MIN, i64::MAX), HistoryParts::FOR_FLAGS, |h| {
+                tx.send(h)
+                    .map_err(|_| crate::Error::invalid("the analysis workers stopped"))
+            });
         drop(tx);
         let mut flags = Vec::new();
         for h in handles {

@@ -60,6 +60,22 @@ struct Queries {
     observations: String,
 }
 
+/// Which parts of a history to load.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct HistoryParts {
+    /// The visits' observations, which only reports show; the worklist goes without.
+    pub observations: bool,
+}
+
+impl HistoryParts {
+    /// Everything.
+    pub const ALL: HistoryParts = HistoryParts { observations: true };
+    /// What the worklist reads.
+    pub const FOR_FLAGS: HistoryParts = HistoryParts {
+        observations: false,
+    };
+}
+
 /// The queries for the whole portfolio (`one` false) or for one property. For one property the
 /// `?1 IS NULL OR` guard is dropped: SQLite cannot use an index through it, so it would scan
 /// every table of the portfolio to load one property.
@@ -212,7 +228,7 @@ impl Store {
     /// Load one property's history.
     pub fn history(&self, property_id: i64) -> Result<PropertyHistory> {
         let mut found = None;
-        self.histories(Some(property_id), ALL, |h| {
+        self.histories(Some(property_id), ALL, HistoryParts::ALL, |h| {
             found = Some(h);
             Ok(())
         })?;
@@ -222,16 +238,18 @@ impl Store {
     /// Call `f` with each property's history in turn, in property-id order. One ordered query
     /// per table, merged as they stream, so only one property is in memory at a time.
     pub fn for_each_history(&self, f: impl FnMut(PropertyHistory) -> Result<()>) -> Result<()> {
-        self.histories(None, ALL, f)
+        self.histories(None, ALL, HistoryParts::ALL, f)
     }
 
-    /// [`Self::for_each_history`] over the properties whose ids run from `first` to `last`.
+    /// [`Self::for_each_history`] over the properties whose ids run from `first` to `last`,
+    /// loading only `parts` (the rest left empty).
     pub fn for_each_history_in(
         &self,
         (first, last): (i64, i64),
+        parts: HistoryParts,
         f: impl FnMut(PropertyHistory) -> Result<()>,
     ) -> Result<()> {
-        self.histories(None, (first, last), f)
+        self.histories(None, (first, last), parts, f)
     }
 
     /// Property ids in `n` runs of about equal count, in order: (first, last) of each.
@@ -250,9 +268,14 @@ impl Store {
         &self,
         filter: Option<i64>,
         run: (i64, i64),
+        parts: HistoryParts,
         mut f: impl FnMut(PropertyHistory) -> Result<()>,
     ) -> Result<()> {
-        let q = queries(filter.is_some());
+        let mut q = queries(filter.is_some());
+        if !parts.observations {
+            // The same columns and parameters, no rows.
+            q.observations = q.observations.replace("WHERE ", "WHERE 0 AND ");
+        }
         let calibration: HashMap<String, Option<NaiveDate>> = self
             .instruments()?
             .into_iter()
@@ -489,7 +512,7 @@ mod tests {
         let mut seen = Vec::new();
         for run in store.property_id_runs(2).unwrap() {
             store
-                .for_each_history_in(run, |h| {
+                .for_each_history_in(run, HistoryParts::ALL, |h| {
                     seen.push(h.property.id);
                     Ok(())
                 })
