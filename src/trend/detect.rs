@@ -22,7 +22,7 @@ use serde::Serialize;
 use super::finding::{Finding, FindingKind, Projection, fmt_fold, fmt_value};
 use super::project::{ProjectionInput, project, recommended_interval, years_between};
 use super::series::current_baseline;
-use super::stats::{least_squares, median, median_intercept, theil_sen};
+use super::stats::{least_squares, median, median_intercept, theil_sen, theil_sen_in};
 use super::{LimitKind, Point, Quantity, Scale, Series, TrendConfig, TrendError, Worse};
 
 /// Slopes of the current baseline, in the working scale per year (decades per year for IR).
@@ -85,10 +85,28 @@ impl SeriesReport {
 struct Work<'a> {
     q: Quantity,
     pts: &'a [Point],
+    x: &'a [f64],
+    y: &'a [f64],
+    censored: &'a [bool],
+    sign: f64,
+}
+
+/// Buffers one thread reuses from series to series: the worklist analyses hundreds of
+/// thousands of short series, and a fresh allocation for each working vector would be a
+/// fifth of the time.
+#[derive(Default)]
+struct Scratch {
     x: Vec<f64>,
     y: Vec<f64>,
     censored: Vec<bool>,
-    sign: f64,
+    adjusted: Vec<f64>,
+    ux: Vec<f64>,
+    uy: Vec<f64>,
+    slopes: Vec<f64>,
+}
+
+thread_local! {
+    static SCRATCH: std::cell::RefCell<Scratch> = std::cell::RefCell::default();
 }
 
 fn to_work(q: Quantity, v: f64) -> f64 {
@@ -106,17 +124,27 @@ fn from_work(q: Quantity, w: f64) -> f64 {
 }
 
 impl<'a> Work<'a> {
-    fn new(q: Quantity, pts: &'a [Point]) -> Work<'a> {
+    fn new(
+        q: Quantity,
+        pts: &'a [Point],
+        (x, y, censored): (&'a mut Vec<f64>, &'a mut Vec<f64>, &'a mut Vec<bool>),
+    ) -> Work<'a> {
         let start = pts.first().map(|p| p.date);
+        x.clear();
+        x.extend(
+            pts.iter()
+                .map(|p| start.map_or(0.0, |s| years_between(s, p.date))),
+        );
+        y.clear();
+        y.extend(pts.iter().map(|p| to_work(q, p.value)));
+        censored.clear();
+        censored.extend(pts.iter().map(|p| p.censored));
         Work {
             q,
             pts,
-            x: pts
-                .iter()
-                .map(|p| start.map_or(0.0, |s| years_between(s, p.date)))
-                .collect(),
-            y: pts.iter().map(|p| to_work(q, p.value)).collect(),
-            censored: pts.iter().map(|p| p.censored).collect(),
+            x,
+            y,
+            censored,
             sign: match q.worse() {
                 Worse::Higher => 1.0,
                 Worse::Lower => -1.0,
@@ -139,8 +167,8 @@ impl<'a> Work<'a> {
     }
 
     /// Median of the usable pairwise slopes of `y` (Theil–Sen, censor-aware).
-    fn robust_slope(&self, y: &[f64]) -> Option<f64> {
-        let mut slopes = Vec::with_capacity(y.len() * y.len().saturating_sub(1) / 2);
+    fn robust_slope(&self, y: &[f64], slopes: &mut Vec<f64>) -> Option<f64> {
+        slopes.clear();
         for i in 0..y.len() {
             for j in i + 1..y.len() {
                 let dx = self.x[j] - self.x[i];
@@ -162,19 +190,18 @@ impl<'a> Work<'a> {
                 }
             }
         }
-        median(&mut slopes)
+        median(slopes)
     }
 
-    fn uncensored(&self) -> (Vec<f64>, Vec<f64>) {
-        let mut xs = Vec::with_capacity(self.y.len());
-        let mut ys = Vec::with_capacity(self.y.len());
+    fn uncensored(&self, xs: &mut Vec<f64>, ys: &mut Vec<f64>) {
+        xs.clear();
+        ys.clear();
         for i in 0..self.y.len() {
             if !self.censored[i] {
                 xs.push(self.x[i]);
                 ys.push(self.y[i]);
             }
         }
-        (xs, ys)
     }
 }
 
@@ -239,84 +266,95 @@ pub fn analyse(
         return Ok(report(points, None, None, Vec::new(), Some(note)));
     };
     let floor = cfg.floor_for(q);
-    let w = Work::new(q, base);
+    let (fit, projection, findings, note) = SCRATCH.with_borrow_mut(|scratch| {
+        let Scratch {
+            x,
+            y,
+            censored,
+            adjusted,
+            ux,
+            uy,
+            slopes,
+        } = scratch;
+        let w = Work::new(q, base, (x, y, censored));
 
-    let mut note = None;
-    let mut findings = Vec::new();
-    let exceeds = limit_check(series, &last);
-    let exceeded = exceeds.is_some();
-    findings.extend(exceeds);
+        let mut note = None;
+        let mut findings = Vec::new();
+        let exceeds = limit_check(series, &last);
+        let exceeded = exceeds.is_some();
+        findings.extend(exceeds);
 
-    if base.len() < 2 {
-        note = Some("one visit in this baseline: no trend yet".to_string());
-    }
-
-    let (adjusted, stepped) = steps(&w, floor, &mut findings);
-    let (drift_finding, drift_slope) = drift(&w, &adjusted, floor);
-    findings.extend(drift_finding);
-
-    let (mut fit, mut projection) = (None, None);
-    let (ux, uy) = w.uncensored();
-    if let Some(ls) = least_squares(&ux, &uy) {
-        let sigma_floor = floor.at(ls.y_mean) / 2.0;
-        let sigma = ls.residual_se.unwrap_or(0.0).max(sigma_floor);
-        let slope_se = sigma / ls.sxx.sqrt();
-        // With nothing censored and no step taken out, drift's robust slope was worked out
-        // over these very points.
-        let theil_sen_per_year = if ls.n < 3 {
-            None
-        } else if !stepped && ux.len() == w.x.len() {
-            drift_slope
-        } else {
-            theil_sen(&ux, &uy)
-        };
-        fit = Some(Fit {
-            n: ls.n,
-            least_squares_per_year: ls.slope,
-            theil_sen_per_year,
-            residual_se: ls.residual_se,
-            slope_se_per_year: slope_se,
-            intercept: ls.intercept,
-        });
-        if let Some(limit) = series.limit {
-            let x_last = *w.x.last().unwrap_or(&0.0);
-            let inp = ProjectionInput {
-                fit: &ls,
-                slope_se,
-                k: cfg.projection_k,
-                limit_work: to_work(q, limit.value),
-                limit: limit.value,
-                worse: q.worse(),
-                start: base[0].date,
-                x_last,
-                horizon_years: cfg.horizon_years,
-            };
-            projection = project(&inp);
-            let span = ux.last().unwrap_or(&0.0) - ux.first().unwrap_or(&0.0);
-            let beyond_noise = w.sign * ls.slope * span > floor.at(uy[0]);
-            if let Some(p) = projection
-                && !exceeded
-                && beyond_noise
-                && p.date < next_due
-            {
-                findings.push(approaching(q, &last, limit.value, &p, next_due));
-            }
+        if base.len() < 2 {
+            note = Some("one visit in this baseline: no trend yet".to_string());
         }
-    } else if base.len() >= 2 {
-        note = Some("fewer than two uncensored readings: no fitted slope".to_string());
-    }
 
-    let margin = series
-        .limit
-        .map(|l| margin_used(l.kind, l.value, last.value));
-    for f in &mut findings {
-        f.last_value = last.value;
-        f.last_censored = last.censored;
-        f.limit = series.limit;
-        f.margin_used = margin;
-    }
-    super::finding::rank(&mut findings);
-    drop(w);
+        let stepped = steps(&w, floor, &mut findings, adjusted);
+        let (drift_finding, drift_slope) = drift(&w, adjusted, floor, slopes);
+        findings.extend(drift_finding);
+
+        let (mut fit, mut projection) = (None, None);
+        w.uncensored(ux, uy);
+        if let Some(ls) = least_squares(ux, uy) {
+            let sigma_floor = floor.at(ls.y_mean) / 2.0;
+            let sigma = ls.residual_se.unwrap_or(0.0).max(sigma_floor);
+            let slope_se = sigma / ls.sxx.sqrt();
+            // With nothing censored and no step taken out, drift's robust slope was worked out
+            // over these very points.
+            let theil_sen_per_year = if ls.n < 3 {
+                None
+            } else if !stepped && ux.len() == w.x.len() {
+                drift_slope
+            } else {
+                theil_sen_in(ux, uy, slopes)
+            };
+            fit = Some(Fit {
+                n: ls.n,
+                least_squares_per_year: ls.slope,
+                theil_sen_per_year,
+                residual_se: ls.residual_se,
+                slope_se_per_year: slope_se,
+                intercept: ls.intercept,
+            });
+            if let Some(limit) = series.limit {
+                let x_last = *w.x.last().unwrap_or(&0.0);
+                let inp = ProjectionInput {
+                    fit: &ls,
+                    slope_se,
+                    k: cfg.projection_k,
+                    limit_work: to_work(q, limit.value),
+                    limit: limit.value,
+                    worse: q.worse(),
+                    start: base[0].date,
+                    x_last,
+                    horizon_years: cfg.horizon_years,
+                };
+                projection = project(&inp);
+                let span = ux.last().unwrap_or(&0.0) - ux.first().unwrap_or(&0.0);
+                let beyond_noise = w.sign * ls.slope * span > floor.at(uy[0]);
+                if let Some(p) = projection
+                    && !exceeded
+                    && beyond_noise
+                    && p.date < next_due
+                {
+                    findings.push(approaching(q, &last, limit.value, &p, next_due));
+                }
+            }
+        } else if base.len() >= 2 {
+            note = Some("fewer than two uncensored readings: no fitted slope".to_string());
+        }
+
+        let margin = series
+            .limit
+            .map(|l| margin_used(l.kind, l.value, last.value));
+        for f in &mut findings {
+            f.last_value = last.value;
+            f.last_censored = last.censored;
+            f.limit = series.limit;
+            f.margin_used = margin;
+        }
+        super::finding::rank(&mut findings);
+        (fit, projection, findings, note)
+    });
     Ok(report(points, fit, projection, findings, note))
 }
 
@@ -357,9 +395,17 @@ fn limit_check(series: &Series, last: &Point) -> Option<Finding> {
 
 /// Finds steps, pushing a finding for each, and returns the working values with every found
 /// step taken out of the readings after it.
-fn steps(w: &Work<'_>, floor: &super::NoiseFloor, out: &mut Vec<Finding>) -> (Vec<f64>, bool) {
+/// Finds steps, pushing a finding for each, and leaves in `adj` the working values with every
+/// found step taken out of the readings after it. True when a step was found.
+fn steps(
+    w: &Work<'_>,
+    floor: &super::NoiseFloor,
+    out: &mut Vec<Finding>,
+    adj: &mut Vec<f64>,
+) -> bool {
     let q = w.q;
-    let mut adj = w.y.clone();
+    adj.clear();
+    adj.extend_from_slice(w.y);
     let mut stepped = false;
     for i in 2..adj.len() {
         let prev = i - 1;
@@ -392,7 +438,7 @@ fn steps(w: &Work<'_>, floor: &super::NoiseFloor, out: &mut Vec<Finding>) -> (Ve
             f,
         ));
     }
-    (adj, stepped)
+    stepped
 }
 
 /// What the readings before `x` predict at `x`: their robust line when it is worsening and
@@ -481,12 +527,13 @@ fn drift(
     w: &Work<'_>,
     adjusted: &[f64],
     floor: &super::NoiseFloor,
+    slopes: &mut Vec<f64>,
 ) -> (Option<Finding>, Option<f64>) {
     let n = adjusted.len();
     if n < 2 {
         return (None, None);
     }
-    let slope = w.robust_slope(adjusted);
+    let slope = w.robust_slope(adjusted, slopes);
     (
         slope.and_then(|b| drift_finding(w, adjusted, floor, b)),
         slope,

@@ -107,6 +107,22 @@ pub fn theil_sen(xs: &[f64], ys: &[f64]) -> Option<f64> {
     median(&mut pairwise_slopes(xs, ys))
 }
 
+/// [`theil_sen`] with the pairwise slopes gathered in `buf` (cleared first), so a caller
+/// fitting many short series need not allocate for each.
+pub fn theil_sen_in(xs: &[f64], ys: &[f64], buf: &mut Vec<f64>) -> Option<f64> {
+    buf.clear();
+    let n = xs.len().min(ys.len());
+    for i in 0..n {
+        for j in i + 1..n {
+            let dx = xs[j] - xs[i];
+            if dx != 0.0 {
+                buf.push((ys[j] - ys[i]) / dx);
+            }
+        }
+    }
+    median(buf)
+}
+
 /// Intercept to go with a robust slope: the median of `y − slope × x`.
 pub fn median_intercept(xs: &[f64], ys: &[f64], slope: f64) -> Option<f64> {
     let mut r: Vec<f64> = xs.iter().zip(ys).map(|(x, y)| y - slope * x).collect();
@@ -207,6 +223,9 @@ mod tests {
             prop_assert!((ls.slope - b).abs() < 1e-9);
             let ts = theil_sen(&xs, &ys).unwrap();
             prop_assert!((ts - b).abs() < 1e-9);
+            // The buffered form gives the very same slope, whatever the buffer held.
+            let mut buf = vec![f64::NAN; 7];
+            prop_assert_eq!(theil_sen_in(&xs, &ys, &mut buf), Some(ts));
         }
 
         #[test]
