@@ -219,7 +219,7 @@ fn analyse_with(
         settings,
         detail,
     };
-    let mut circuits = Vec::new();
+    let mut circuits = Vec::with_capacity(h.circuits.len());
     for c in h
         .circuits
         .iter()

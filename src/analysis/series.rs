@@ -1,6 +1,6 @@
 //! Building each circuit's series from the history, with the limit each is judged against.
 
-use foldhash::{HashMap, HashMapExt, HashSet};
+use foldhash::{HashMap, HashMapExt};
 use std::borrow::Cow;
 
 use chrono::NaiveDate;
@@ -120,10 +120,10 @@ pub(super) fn supply_series(
 /// The lineage of a circuit: the circuits it replaced, oldest first, then itself.
 fn lineage<'a>(c: &'a Circuit, by_id: &HashMap<i64, &'a Circuit>) -> Vec<&'a Circuit> {
     let mut chain = vec![c];
-    let mut seen: HashSet<i64> = [c.id].into_iter().collect();
     while let Some(prev) = chain.last().and_then(|x| x.replaces) {
         match by_id.get(&prev) {
-            Some(p) if seen.insert(p.id) => chain.push(p),
+            // A chain is a few circuits long: a linear search for a loop costs less than a set.
+            Some(p) if !chain.iter().any(|x| x.id == p.id) => chain.push(p),
             _ => break,
         }
     }
@@ -465,11 +465,11 @@ pub(super) fn circuit_analysis(
     let last_ze = rows.iter().rev().find_map(|r| r.ze);
 
     let resistance = |get: &dyn Fn(&Readings) -> Option<f64>| -> Vec<Point> {
-        rows.iter()
-            .filter_map(|r| {
-                get(r.readings).and_then(|v| resistance_point(r.visit.date, v, r.visit.ambient_c))
-            })
-            .collect()
+        let mut points = Vec::with_capacity(rows.len());
+        points.extend(rows.iter().filter_map(|r| {
+            get(r.readings).and_then(|v| resistance_point(r.visit.date, v, r.visit.ambient_c))
+        }));
+        points
     };
 
     let mut out: Vec<SeriesAnalysis> = Vec::with_capacity(10);
