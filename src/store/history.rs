@@ -4,7 +4,6 @@
 //! property, so memory holds one property at a time and no query runs per property.
 
 use std::collections::HashMap;
-use std::iter::Peekable;
 
 use chrono::NaiveDate;
 use rusqlite::{Row, Statement};
@@ -157,19 +156,28 @@ fn all_queries() -> Queries {
     }
 }
 
-type Stream<'s, T> = Peekable<Box<dyn Iterator<Item = rusqlite::Result<(i64, T)>> + 's>>;
+/// One query's rows, taken property by property. Rows are decoded straight into the
+/// property's vector; only the first row of the next property waits, decoded, in `stash`.
+struct Stream<'s, T> {
+    rows: rusqlite::Rows<'s>,
+    /// The column holding the property id.
+    pid: usize,
+    decode: fn(&Row) -> rusqlite::Result<T>,
+    stash: Option<(i64, T)>,
+}
 
-fn stream<'s, T: 's>(
+fn stream<'s, T>(
     stmt: &'s mut Statement<'_>,
     (filter, run): (Option<i64>, (i64, i64)),
     pid: usize,
     decode: fn(&Row) -> rusqlite::Result<T>,
 ) -> rusqlite::Result<Stream<'s, T>> {
-    let rows = stmt.query_map(rusqlite::params![filter, run.0, run.1], move |r| {
-        Ok((r.get::<_, i64>(pid)?, decode(r)?))
-    })?;
-    let boxed: Box<dyn Iterator<Item = rusqlite::Result<(i64, T)>> + 's> = Box::new(rows);
-    Ok(boxed.peekable())
+    Ok(Stream {
+        rows: stmt.query(rusqlite::params![filter, run.0, run.1])?,
+        pid,
+        decode,
+        stash: None,
+    })
 }
 
 /// A property's circuits in register order: by board, those in service first, then by
@@ -209,26 +217,28 @@ const ALL: (i64, i64) = (i64::MIN, i64::MAX);
 /// Take every leading item of `s` that belongs to property `id`.
 fn take<T>(s: &mut Stream<'_, T>, id: i64) -> Result<Vec<T>> {
     let mut out = Vec::new();
-    loop {
-        match s.peek() {
-            Some(Ok((pid, _))) if *pid < id => {
-                // Rows of a property the outer stream does not have (cannot happen with
-                // foreign keys on); skip them rather than stall.
-                s.next();
+    match s.stash.take() {
+        Some((pid, v)) if pid > id => {
+            s.stash = Some((pid, v));
+            return Ok(out);
+        }
+        Some((pid, v)) if pid == id => out.push(v),
+        _ => {}
+    }
+    while let Some(row) = s.rows.next()? {
+        let pid: i64 = row.get(s.pid)?;
+        match pid.cmp(&id) {
+            // Rows of a property the outer stream does not have (cannot happen with foreign
+            // keys on); skip them rather than stall.
+            std::cmp::Ordering::Less => {}
+            std::cmp::Ordering::Equal => out.push((s.decode)(row)?),
+            std::cmp::Ordering::Greater => {
+                s.stash = Some((pid, (s.decode)(row)?));
+                break;
             }
-            Some(Ok((pid, _))) if *pid == id => {
-                if let Some(Ok((_, v))) = s.next() {
-                    out.push(v);
-                }
-            }
-            Some(Err(_)) => {
-                if let Some(Err(e)) = s.next() {
-                    return Err(e.into());
-                }
-            }
-            _ => return Ok(out),
         }
     }
+    Ok(out)
 }
 
 impl Store {
