@@ -472,6 +472,7 @@ pub(super) fn circuit_analysis(
         points
     };
 
+    let checked = settings.trend.checked();
     let mut out: Vec<SeriesAnalysis> = Vec::with_capacity(10);
     let mut run = |quantity: Quantity,
                    key: &'static str,
@@ -488,7 +489,11 @@ pub(super) fn circuit_analysis(
         let mut s = Series::new(quantity, points);
         s.baseline_resets = resets.clone();
         s.limit = limit;
-        match trend::analyse(&s, horizon, &settings.trend) {
+        let analysed = match &checked {
+            Ok(cfg) => trend::analyse_series(s, horizon, *cfg),
+            Err(e) => Err(e.clone()),
+        };
+        match analysed {
             // The worklist keeps only the series with something to say, and those the
             // cross-checks below read (R1+R2 and R1+Rn for the neutral, the ring's legs).
             Ok(report)

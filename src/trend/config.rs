@@ -41,6 +41,16 @@ impl NoiseFloor {
     }
 }
 
+/// A [`TrendConfig`] that has passed [`TrendConfig::validate`].
+#[derive(Debug, Clone, Copy)]
+pub struct Checked<'a>(&'a TrendConfig);
+
+impl Checked<'_> {
+    pub fn config(&self) -> &TrendConfig {
+        self.0
+    }
+}
+
 /// Thresholds for the trend analysis. `Default` gives the documented values.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
 pub struct TrendConfig {
@@ -109,6 +119,12 @@ impl TrendConfig {
             Quantity::Rcd => &self.rcd_ms,
             _ => &self.resistance,
         }
+    }
+
+    /// The configuration, checked once for a caller analysing many series under it.
+    pub fn checked(&self) -> Result<Checked<'_>, TrendError> {
+        self.validate()?;
+        Ok(Checked(self))
     }
 
     pub fn validate(&self) -> Result<(), TrendError> {

@@ -19,6 +19,7 @@
 use chrono::NaiveDate;
 use serde::Serialize;
 
+use super::config::Checked;
 use super::finding::{Finding, FindingKind, Projection, fmt_fold, fmt_value};
 use super::project::{ProjectionInput, project, recommended_interval, years_between};
 use super::series::current_baseline;
@@ -229,9 +230,30 @@ pub fn analyse(
     next_due: NaiveDate,
     cfg: &TrendConfig,
 ) -> Result<SeriesReport, TrendError> {
-    cfg.validate()?;
+    analyse_sorted(series, series.sorted_points()?, next_due, cfg.checked()?)
+}
+
+/// [`analyse`] for a caller analysing many series under one configuration: the series is
+/// taken by value, so its points are sorted where they are rather than copied, and the
+/// configuration was checked once beforehand.
+pub fn analyse_series(
+    mut series: Series,
+    next_due: NaiveDate,
+    cfg: Checked<'_>,
+) -> Result<SeriesReport, TrendError> {
+    let points = series.take_sorted_points()?;
+    analyse_sorted(&series, points, next_due, cfg)
+}
+
+/// The analysis of `points`, the series' points sorted and checked; the series gives the rest.
+fn analyse_sorted(
+    series: &Series,
+    points: Vec<Point>,
+    next_due: NaiveDate,
+    cfg: Checked<'_>,
+) -> Result<SeriesReport, TrendError> {
+    let cfg = cfg.config();
     let q = series.quantity;
-    let points = series.sorted_points()?;
     let reset = series.last_reset();
     let base = current_baseline(&points, reset);
     let baseline_start = base.first().map(|p| p.date);

@@ -23,8 +23,8 @@ mod tests;
 
 use chrono::NaiveDate;
 
-pub use config::{NoiseFloor, TrendConfig};
-pub use detect::{Fit, SeriesReport, analyse, neutral_divergence};
+pub use config::{Checked, NoiseFloor, TrendConfig};
+pub use detect::{Fit, SeriesReport, analyse, analyse_series, neutral_divergence};
 pub use finding::{Finding, FindingKind, Projection, Severity, compare_urgency, rank};
 pub use project::{recommended_interval, whole_months};
 pub use series::{Limit, LimitKind, Point, Quantity, RingLeg, Scale, Series, Worse};

@@ -19,7 +19,8 @@ pub(crate) fn date_at(start: NaiveDate, years: f64) -> Option<NaiveDate> {
 
 /// Years from `start` to `date`.
 pub(crate) fn years_between(start: NaiveDate, date: NaiveDate) -> f64 {
-    (date - start).num_days() as f64 / DAYS_PER_YEAR
+    // The same whole days as `(date - start).num_days()`, without building a duration.
+    f64::from(date.num_days_from_ce() - start.num_days_from_ce()) / DAYS_PER_YEAR
 }
 
 /// Whole calendar months from `from` to `to`, rounded down; 0 when `to` is not later.
@@ -103,6 +104,23 @@ mod tests {
 
     fn d(y: i32, m: u32, day: u32) -> NaiveDate {
         NaiveDate::from_ymd_opt(y, m, day).unwrap()
+    }
+
+    #[test]
+    fn years_count_whole_days_across_leap_years_and_backwards() {
+        let dates = [
+            d(1999, 12, 31),
+            d(2000, 2, 29),
+            d(2000, 3, 1),
+            d(2024, 2, 29),
+            d(2026, 12, 2),
+        ];
+        for a in dates {
+            for b in dates {
+                let days = (b - a).num_days() as f64;
+                assert_eq!(years_between(a, b), days / DAYS_PER_YEAR, "{a} {b}");
+            }
+        }
     }
 
     #[test]

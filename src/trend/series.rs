@@ -244,10 +244,22 @@ impl Series {
 
     /// The points sorted by date, checked for values the analysis cannot use.
     pub fn sorted_points(&self) -> Result<Vec<Point>, TrendError> {
-        let q = self.quantity;
         let mut pts = self.points.clone();
+        self.sort_and_check(&mut pts)?;
+        Ok(pts)
+    }
+
+    /// [`Self::sorted_points`] without the copy: the points are taken out of the series.
+    pub(crate) fn take_sorted_points(&mut self) -> Result<Vec<Point>, TrendError> {
+        let mut pts = std::mem::take(&mut self.points);
+        self.sort_and_check(&mut pts)?;
+        Ok(pts)
+    }
+
+    fn sort_and_check(&self, pts: &mut [Point]) -> Result<(), TrendError> {
+        let q = self.quantity;
         pts.sort_by_key(|p| p.date);
-        for p in &pts {
+        for p in pts.iter() {
             for (field, v) in [("raw", p.raw), ("value", p.value)] {
                 if !v.is_finite() {
                     return Err(TrendError::NotFinite {
@@ -302,7 +314,7 @@ impl Series {
                 });
             }
         }
-        Ok(pts)
+        Ok(())
     }
 
     /// The latest reset date, if any.

@@ -666,3 +666,40 @@ fn one_low_insulation_reading_between_over_range_ones_is_no_drift() {
         r.findings
     );
 }
+
+/// The by-value form the worklist uses gives the same report as `analyse`, points given in
+/// any order.
+#[test]
+fn analysing_by_value_gives_the_same_report() {
+    let mut s = raw_series(
+        Quantity::R1r2,
+        &[
+            (d(2022, 3, 1), 0.85),
+            (d(2012, 3, 1), 0.48),
+            (d(2024, 3, 1), 0.86),
+            (d(2017, 3, 1), 0.49),
+        ],
+    );
+    s.baseline_resets.push(d(2013, 1, 1));
+    let ir = Series::new(
+        Quantity::IrLe,
+        vec![
+            Point::over_range(d(2015, 1, 1), 200.0),
+            Point::raw(d(2020, 1, 1), 20.0),
+            Point::raw(d(2025, 1, 1), 2.0),
+        ],
+    )
+    .with_limit(Limit::min(1.0));
+    let c = cfg();
+    for s in [s, ir] {
+        let by_ref = analyse(&s, d(2027, 1, 1), &c).unwrap();
+        let by_value = analyse_series(s, d(2027, 1, 1), c.checked().unwrap()).unwrap();
+        assert_eq!(by_ref, by_value);
+    }
+    // A bad configuration is refused before any series is looked at.
+    let bad = TrendConfig {
+        projection_k: -1.0,
+        ..cfg()
+    };
+    assert!(bad.checked().is_err());
+}
