@@ -176,9 +176,10 @@ pub fn analyse(h: &PropertyHistory, settings: &Settings) -> PropertyAnalysis {
 pub(crate) enum Detail {
     /// Everything a report shows.
     Full,
-    /// Only what the flags need: the last visit's fault-path report (a report-only figure)
-    /// and the words only a report shows (series labels, bases and limit texts, lineage
-    /// labels, register events) are left out; the flags are the same.
+    /// Only what the flags need: the last visit's fault-path report (a report-only figure),
+    /// the words only a report shows (series labels, bases and limit texts, lineage labels,
+    /// register events) and the series with no finding (but for those the cross-checks read)
+    /// are left out; the flags are the same.
     Flags,
 }
 

@@ -415,8 +415,6 @@ fn limit_check(series: &Series, last: &Point) -> Option<Finding> {
     Some(f)
 }
 
-/// Finds steps, pushing a finding for each, and returns the working values with every found
-/// step taken out of the readings after it.
 /// Finds steps, pushing a finding for each, and leaves in `adj` the working values with every
 /// found step taken out of the readings after it. True when a step was found.
 fn steps(
