@@ -6,7 +6,8 @@
 #   3. `ohmtrail flags --json` (the whole analysis, from its database) against DuckDB's
 #      regr_slope of R1+R2 per circuit over the same CSV;
 #   4. `ohmtrail report PROPERTY -o FILE` for one property (30 circuits x 10 visits) in
-#      portfolios of 1,000 and 100,000 properties (skipped while the command is missing);
+#      portfolios of 1,000 and 100,000 properties, the median of seven runs (skipped while the
+#      command is missing);
 #   5. a table on stdout and the same rows in a CSV.
 #
 # Usage: bench/run.sh [--properties N] [--large N] [--report-sizes "A B"] [--no-report] [--out FILE]
@@ -15,7 +16,8 @@
 #   --report-sizes "A B"  portfolio sizes for step 4 (default "1000 100000")
 #   --out FILE          the CSV (default bench/results.csv)
 # Installs Debian's sqlite3 and time packages and DuckDB's Python package when missing.
-# Timings are wall-clock seconds of one run each; the machine is shared, so repeat to trust.
+# Timings are wall-clock seconds of one run each (step 4: the median); the machine is shared,
+# so repeat to trust.
 set -euo pipefail
 cd "$(dirname "$0")/.."
 
@@ -31,7 +33,7 @@ while [ $# -gt 0 ]; do
         --report-sizes) report_sizes="$2"; shift 2 ;;
         --no-report) do_report=0; shift ;;
         --out) out="$2"; shift 2 ;;
-        -h|--help) sed -n '2,18p' "$0"; exit 0 ;;
+        -h|--help) sed -n '2,20p' "$0"; exit 0 ;;
         *) echo "unknown option $1 (see --help)" >&2; exit 2 ;;
     esac
 done
@@ -68,6 +70,17 @@ measure() {
     fi
     end=$(date +%s.%N)
     awk -v a="$start" -v b="$end" 'BEGIN { printf "%.3f", b - a }' >"$work/$name.secs"
+}
+# measure_median NAME K CMD...: `measure` K times; NAME.secs gets the median wall seconds and
+# NAME.rss the largest peak RSS. For steps of a few milliseconds, where one run is mostly noise.
+measure_median() {
+    local name="$1" k="$2" i
+    shift 2
+    for i in $(seq 1 "$k"); do measure "$name-run$i" "$@"; done
+    for i in $(seq 1 "$k"); do cat "$work/$name-run$i.secs"; echo; done | sort -n |
+        awk '{ v[NR] = $1 } END { printf "%s", (NR % 2) ? v[(NR + 1) / 2] : (v[NR / 2] + v[NR / 2 + 1]) / 2 }' \
+        >"$work/$name.secs"
+    for i in $(seq 1 "$k"); do tail -n 1 "$work/$name-run$i.rss"; done | sort -n | tail -n 1 >"$work/$name.rss"
 }
 secs() { cat "$work/$1.secs"; }
 rss() { tail -n 1 "$work/$1.rss"; }
@@ -144,7 +157,7 @@ if [ "$do_report" -eq 1 ]; then
             "$bin" --db "$rdb" import "$(portfolio "$n")" >/dev/null
             "$bin" --db "$rdb" import "$target" >/dev/null
             "$bin" --db "$rdb" report RPT-00000 -o "$work/warm.html" >/dev/null # warm the cache
-            measure "report-$n" "$bin" --db "$rdb" report RPT-00000 -o "$work/report-$n.html"
+            measure_median "report-$n" 7 "$bin" --db "$rdb" report RPT-00000 -o "$work/report-$n.html"
             s=$(secs "report-$n")
             if [ -z "$base_s" ]; then
                 base_s="$s"; base_rss=$(rss "report-$n"); base_n="$n"
