@@ -2,6 +2,7 @@
 
 use foldhash::{HashMap, HashMapExt};
 use std::borrow::Cow;
+use std::rc::Rc;
 
 use chrono::NaiveDate;
 
@@ -211,22 +212,23 @@ struct LoopKey {
 /// formatting its rule texts again (a tenth of the worklist's time).
 #[derive(Default)]
 pub(crate) struct LimitMemo {
-    loops: HashMap<LoopKey, LoopLimits>,
+    /// Shared rather than copied out: the limits' texts would be an allocation each.
+    loops: HashMap<LoopKey, Rc<LoopLimits>>,
 }
 
 impl LimitMemo {
     /// Enough for any real portfolio's variety; past it the memo starts again.
     const CAPACITY: usize = 4096;
 
-    fn loop_limits(&mut self, k: LoopKey) -> LoopLimits {
+    fn loop_limits(&mut self, k: LoopKey) -> Rc<LoopLimits> {
         if let Some(l) = self.loops.get(&k) {
-            return l.clone();
+            return Rc::clone(l);
         }
         if self.loops.len() >= Self::CAPACITY {
             self.loops.clear();
         }
-        let l = loop_limits(&k);
-        self.loops.insert(k, l.clone());
+        let l = Rc::new(loop_limits(&k));
+        self.loops.insert(k, Rc::clone(&l));
         l
     }
 }
@@ -381,28 +383,35 @@ pub(super) fn circuit_analysis(
         })
         .collect();
 
-    let mut rows: Vec<(Row, i64)> = chain
-        .iter()
-        .flat_map(|x| {
-            idx.records
-                .get(&x.id)
-                .into_iter()
-                .flatten()
-                .map(move |r| (x, r))
-        })
-        .filter_map(|(x, r)| {
-            let visit = idx.visits.get(&r.visit_id)?;
-            let ze_board = idx.board_ze.get(&(r.visit_id, x.board_id)).copied();
-            Some((
-                Row {
-                    visit,
-                    readings: &r.readings,
-                    ze: ze_board.or(visit.ze_ohm),
-                },
-                r.circuit_id,
-            ))
-        })
-        .collect();
+    let mut rows: Vec<(Row, i64)> = Vec::with_capacity(
+        chain
+            .iter()
+            .map(|x| idx.records.get(&x.id).map_or(0, Vec::len))
+            .sum(),
+    );
+    rows.extend(
+        chain
+            .iter()
+            .flat_map(|x| {
+                idx.records
+                    .get(&x.id)
+                    .into_iter()
+                    .flatten()
+                    .map(move |r| (x, r))
+            })
+            .filter_map(|(x, r)| {
+                let visit = idx.visits.get(&r.visit_id)?;
+                let ze_board = idx.board_ze.get(&(r.visit_id, x.board_id)).copied();
+                Some((
+                    Row {
+                        visit,
+                        readings: &r.readings,
+                        ze: ze_board.or(visit.ze_ohm),
+                    },
+                    r.circuit_id,
+                ))
+            }),
+    );
     rows.sort_by_key(|(row, id)| (row.visit.date, *id == c.id));
     // Two lineage circuits read at one visit (should not happen): keep the later circuit's.
     rows.dedup_by(|later, earlier| {
@@ -444,14 +453,7 @@ pub(super) fn circuit_analysis(
 
     let earthing = board.and_then(|b| b.earthing);
     let tt = earthing == Some(Earthing::Tt);
-    let LoopLimits {
-        disconnection,
-        zs_limit,
-        limit: loop_limit,
-        words: loop_words,
-        source: loop_source,
-        mut notes,
-    } = memo.loop_limits(LoopKey {
+    let limits = memo.loop_limits(LoopKey {
         ring: c.kind == CircuitKind::Ring,
         device: c.device,
         disconnect_s: c.disconnect_s.map(f64::to_bits),
@@ -461,6 +463,16 @@ pub(super) fn circuit_analysis(
         rule: settings.limits.measured_rule,
         words,
     });
+    let LoopLimits {
+        disconnection,
+        zs_limit,
+        limit: loop_limit,
+        words: loop_words,
+        source: loop_source,
+        notes,
+    } = &*limits;
+    let loop_limit = *loop_limit;
+    let mut notes = notes.clone();
 
     let last_ze = rows.iter().rev().find_map(|r| r.ze);
 
@@ -802,7 +814,7 @@ pub(super) fn circuit_analysis(
         }
     }
 
-    let fault_paths = match (c.device, &disconnection, last) {
+    let fault_paths = match (c.device, disconnection, last) {
         (Some(device), Some(t), Some(l)) if detail == super::Detail::Full => {
             let mut inputs = FaultPathInputs::new(device, t.time);
             inputs.earthing = earthing;
@@ -850,8 +862,9 @@ pub(super) fn circuit_analysis(
         board: board_name,
         circuit: c.clone(),
         lineage: lineage_labels,
-        disconnection,
-        zs_limit,
+        // Report-only figures, left out of the worklist's analysis.
+        disconnection: words.then(|| disconnection.clone()).flatten(),
+        zs_limit: words.then(|| zs_limit.clone()).flatten(),
         fault_paths,
         ring_check,
         last_visit: last.map(|l| l.visit.date),

@@ -16,12 +16,14 @@
 //! is a rise of at least the bound. Two censored readings say nothing. Least squares, and so
 //! the projection, use uncensored readings only.
 
-use chrono::NaiveDate;
+use chrono::{Datelike, NaiveDate};
 use serde::Serialize;
 
 use super::config::Checked;
 use super::finding::{Finding, FindingKind, Projection, fmt_fold, fmt_value};
-use super::project::{ProjectionInput, project, recommended_interval, years_between};
+use super::project::{
+    DAYS_PER_YEAR, ProjectionInput, project, recommended_interval, years_between,
+};
 use super::series::current_baseline;
 use super::stats::{least_squares, median, median_intercept, theil_sen, theil_sen_in};
 use super::{LimitKind, Point, Quantity, Scale, Series, TrendConfig, TrendError, Worse};
@@ -130,11 +132,13 @@ impl<'a> Work<'a> {
         pts: &'a [Point],
         (x, y, censored): (&'a mut Vec<f64>, &'a mut Vec<f64>, &'a mut Vec<bool>),
     ) -> Work<'a> {
-        let start = pts.first().map(|p| p.date);
+        // Years from the first point, as `years_between` counts them, with the first
+        // point's day number worked out once.
+        let start = pts.first().map_or(0, |p| p.date.num_days_from_ce());
         x.clear();
         x.extend(
             pts.iter()
-                .map(|p| start.map_or(0.0, |s| years_between(s, p.date))),
+                .map(|p| f64::from(p.date.num_days_from_ce() - start) / DAYS_PER_YEAR),
         );
         y.clear();
         y.extend(pts.iter().map(|p| to_work(q, p.value)));
