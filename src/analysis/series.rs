@@ -159,7 +159,7 @@ pub(super) struct Index<'a> {
 
 impl<'a> Index<'a> {
     pub(super) fn new(h: &'a PropertyHistory) -> Index<'a> {
-        let mut records: HashMap<i64, Vec<&TestRecord>> = HashMap::new();
+        let mut records: HashMap<i64, Vec<&TestRecord>> = HashMap::with_capacity(h.circuits.len());
         for r in &h.records {
             records.entry(r.circuit_id).or_default().push(r);
         }
@@ -735,17 +735,20 @@ pub(super) fn circuit_analysis(
     ) {
         match expected_rn_ratio(c) {
             Some(ratio) => {
-                let mk = |s: &SeriesAnalysis, q| {
-                    let mut x = Series::new(q, s.report.points.clone());
-                    x.baseline_resets = resets.clone();
-                    x
-                };
-                if let Ok(Some(f)) = trend::neutral_divergence(
-                    &mk(&out[i12], Quantity::R1r2),
-                    &mk(&out[i1n], Quantity::R1rn),
-                    ratio,
-                    &settings.trend,
-                ) {
+                // Both reports hold their points sorted and checked, under the same resets,
+                // and the configuration passed its check (or there would be no reports).
+                let found = (ratio.is_finite() && ratio > 0.0)
+                    .then(|| {
+                        trend::divergence_sorted(
+                            (&out[i12].report.points, &out[i1n].report.points),
+                            resets.iter().copied().max(),
+                            ratio,
+                            None,
+                            &settings.trend,
+                        )
+                    })
+                    .flatten();
+                if let Some(f) = found {
                     // The divergence says it better than a bare R1+Rn step or drift.
                     findings.retain(|(j, g)| {
                         !(*j == i1n && matches!(g.kind, FindingKind::Step | FindingKind::Drift))

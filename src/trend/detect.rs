@@ -700,7 +700,25 @@ pub fn neutral_divergence(
     let a = r1r2.sorted_points()?;
     let b = r1rn.sorted_points()?;
     let reset = r1r2.last_reset().max(r1rn.last_reset());
-    let (a, b) = (current_baseline(&a, reset), current_baseline(&b, reset));
+    Ok(divergence_sorted(
+        (&a, &b),
+        reset,
+        expected_ratio,
+        r1rn.limit,
+        cfg,
+    ))
+}
+
+/// [`neutral_divergence`] over points already sorted and checked (as a [`SeriesReport`] holds
+/// them), with the latest reset of either series.
+pub(crate) fn divergence_sorted(
+    (a, b): (&[Point], &[Point]),
+    reset: Option<NaiveDate>,
+    expected_ratio: f64,
+    limit: Option<super::Limit>,
+    cfg: &TrendConfig,
+) -> Option<Finding> {
+    let (a, b) = (current_baseline(a, reset), current_baseline(b, reset));
     let pairs: Vec<(&Point, &Point)> = b
         .iter()
         .filter(|p| !p.censored)
@@ -710,11 +728,9 @@ pub fn neutral_divergence(
                 .map(|p2| (p2, pn))
         })
         .collect();
-    let Some(((last2, lastn), earlier)) = pairs.split_last() else {
-        return Ok(None);
-    };
+    let ((last2, lastn), earlier) = pairs.split_last()?;
     if earlier.is_empty() {
-        return Ok(None);
+        return None;
     }
     // Two views of the same question, and the neutral is blamed only when both agree:
     // - against the csa ratio, R1+Rn − ratio × R1+R2 stays put when both loops scale together
@@ -731,13 +747,13 @@ pub fn neutral_divergence(
         rise_of(&|p2, pn| pn.value - expected_ratio * p2.value),
         rise_of(&|p2, pn| pn.value - p2.value),
     ) else {
-        return Ok(None);
+        return None;
     };
     let rise = by_ratio.min(by_gap);
     let (first2, firstn) = earlier[0];
     let floor = cfg.floor_for(Quantity::R1rn).at(firstn.value);
     if rise <= floor {
-        return Ok(None);
+        return None;
     }
     let q = Quantity::R1rn;
     let sentence = format!(
@@ -761,8 +777,8 @@ pub fn neutral_divergence(
     f.last_censored = last.censored;
     f.change = Some(rise);
     f.floor = Some(floor);
-    f.limit = r1rn.limit;
-    Ok(Some(f))
+    f.limit = limit;
+    Some(f)
 }
 
 /// What a sudden rise in a quantity usually means on site, in words.

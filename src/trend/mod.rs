@@ -24,6 +24,7 @@ mod tests;
 use chrono::NaiveDate;
 
 pub use config::{Checked, NoiseFloor, TrendConfig};
+pub(crate) use detect::divergence_sorted;
 pub use detect::{Fit, SeriesReport, analyse, analyse_series, neutral_divergence};
 pub use finding::{Finding, FindingKind, Projection, Severity, compare_urgency, rank};
 pub use project::{recommended_interval, whole_months};
