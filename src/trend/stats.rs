@@ -90,6 +90,13 @@ pub fn median(values: &mut [f64]) -> Option<f64> {
 pub fn pairwise_slopes(xs: &[f64], ys: &[f64]) -> Vec<f64> {
     let n = xs.len().min(ys.len());
     let mut out = Vec::with_capacity(n * n.saturating_sub(1) / 2);
+    pairwise_slopes_into(xs, ys, &mut out);
+    out
+}
+
+/// [`pairwise_slopes`] appended to `out`.
+fn pairwise_slopes_into(xs: &[f64], ys: &[f64], out: &mut Vec<f64>) {
+    let n = xs.len().min(ys.len());
     for i in 0..n {
         for j in i + 1..n {
             let dx = xs[j] - xs[i];
@@ -98,7 +105,6 @@ pub fn pairwise_slopes(xs: &[f64], ys: &[f64]) -> Vec<f64> {
             }
         }
     }
-    out
 }
 
 /// Theil–Sen slope: the median of all pairwise slopes. One wild reading moves it little,
@@ -111,15 +117,7 @@ pub fn theil_sen(xs: &[f64], ys: &[f64]) -> Option<f64> {
 /// fitting many short series need not allocate for each.
 pub fn theil_sen_in(xs: &[f64], ys: &[f64], buf: &mut Vec<f64>) -> Option<f64> {
     buf.clear();
-    let n = xs.len().min(ys.len());
-    for i in 0..n {
-        for j in i + 1..n {
-            let dx = xs[j] - xs[i];
-            if dx != 0.0 {
-                buf.push((ys[j] - ys[i]) / dx);
-            }
-        }
-    }
+    pairwise_slopes_into(xs, ys, buf);
     median(buf)
 }
 
