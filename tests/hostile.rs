@@ -229,18 +229,46 @@ fn the_test_hook_refuses_a_value_that_is_not_a_page_count() {
     );
 }
 
+/// A regular file standing where a directory is wanted. Root may write anywhere, so a
+/// permission cannot be relied on to refuse a write; a file in the way can.
+struct Blocker(PathBuf);
+
+impl Blocker {
+    fn new(dir: &TempDir) -> Blocker {
+        let path = dir.path().join("file.txt");
+        std::fs::write(&path, "not a directory\n").unwrap();
+        Blocker(path)
+    }
+
+    /// A path that would need the file to be a directory.
+    fn under(&self, name: &str) -> PathBuf {
+        self.0.join(name)
+    }
+
+    fn assert_untouched(&self) {
+        assert_eq!(
+            std::fs::read_to_string(&self.0).unwrap(),
+            "not a directory\n"
+        );
+    }
+}
+
+/// An empty directory where a file is wanted.
+fn empty_dir(dir: &TempDir, name: &str) -> PathBuf {
+    let path = dir.path().join(name);
+    std::fs::create_dir(&path).unwrap();
+    path
+}
+
 #[test]
 fn export_to_a_path_that_cannot_be_written_is_a_clear_error() {
     let dir = TempDir::new().unwrap();
     let (db, _) = seeded(&dir);
     let before = std::fs::read(&db).unwrap();
-    // Root may write anywhere, so a regular file stands in for the directory.
-    let blocker = dir.path().join("file.txt");
-    std::fs::write(&blocker, "not a directory\n").unwrap();
-    let under_file = blocker.join("out.csv");
+    let blocker = Blocker::new(&dir);
+    let under_file = blocker.under("out.csv");
     let missing = dir.path().join("no/such/dir/out.csv");
-    let a_dir = dir.path().join("a-directory");
-    std::fs::create_dir(&a_dir).unwrap();
+    let a_dir = empty_dir(&dir, "a-directory");
     let cases: [(&Path, &str, &str); 4] = [
         (&under_file, "csv", "is a file, not a directory"),
         (&under_file, "json", "is a file, not a directory"),
@@ -255,10 +283,7 @@ fn export_to_a_path_that_cannot_be_written_is_a_clear_error() {
             &["cannot write", path.to_str().unwrap(), why],
         );
     }
-    assert_eq!(
-        std::fs::read_to_string(&blocker).unwrap(),
-        "not a directory\n"
-    );
+    blocker.assert_untouched();
     assert!(!dir.path().join("no").exists());
     assert_eq!(std::fs::read_dir(&a_dir).unwrap().count(), 0);
     assert_eq!(before, std::fs::read(&db).unwrap());
@@ -267,9 +292,8 @@ fn export_to_a_path_that_cannot_be_written_is_a_clear_error() {
 #[test]
 fn demo_into_a_directory_that_cannot_be_made_is_a_clear_error() {
     let dir = TempDir::new().unwrap();
-    let blocker = dir.path().join("file.txt");
-    std::fs::write(&blocker, "not a directory\n").unwrap();
-    let target = blocker.join("demo");
+    let blocker = Blocker::new(&dir);
+    let target = blocker.under("demo");
     let mut cmd = Command::cargo_bin("ohmtrail").unwrap();
     cmd.env_remove("OHMTRAIL_DB")
         .args(["demo", "--dir"])
@@ -278,32 +302,24 @@ fn demo_into_a_directory_that_cannot_be_made_is_a_clear_error() {
         &mut cmd,
         &["cannot create the demo directory", target.to_str().unwrap()],
     );
-    assert_eq!(
-        std::fs::read_to_string(&blocker).unwrap(),
-        "not a directory\n"
-    );
+    blocker.assert_untouched();
 }
 
 #[test]
 fn a_database_path_that_cannot_hold_a_database_is_a_clear_error() {
     let dir = TempDir::new().unwrap();
-    let blocker = dir.path().join("file.txt");
-    std::fs::write(&blocker, "not a directory\n").unwrap();
-    let under_file = blocker.join("t.db");
+    let blocker = Blocker::new(&dir);
+    let under_file = blocker.under("t.db");
     refused(
         bin(&under_file).args(["property", "list"]),
         &[under_file.to_str().unwrap(), "is a file, not a directory"],
     );
-    let a_dir = dir.path().join("dir.db");
-    std::fs::create_dir(&a_dir).unwrap();
+    let a_dir = empty_dir(&dir, "dir.db");
     refused(
         bin(&a_dir).arg("flags"),
         &[a_dir.to_str().unwrap(), "is a directory"],
     );
-    assert_eq!(
-        std::fs::read_to_string(&blocker).unwrap(),
-        "not a directory\n"
-    );
+    blocker.assert_untouched();
     assert_eq!(std::fs::read_dir(&a_dir).unwrap().count(), 0);
 }
 
@@ -333,12 +349,10 @@ fn a_report_to_a_path_that_cannot_be_written_is_a_clear_error() {
     let dir = TempDir::new().unwrap();
     let (db, _) = seeded(&dir);
     let before = std::fs::read(&db).unwrap();
-    let blocker = dir.path().join("file.txt");
-    std::fs::write(&blocker, "not a directory\n").unwrap();
-    let under_file = blocker.join("out.html");
+    let blocker = Blocker::new(&dir);
+    let under_file = blocker.under("out.html");
     let missing = dir.path().join("no/such/dir/out.html");
-    let a_dir = dir.path().join("a-directory");
-    std::fs::create_dir(&a_dir).unwrap();
+    let a_dir = empty_dir(&dir, "a-directory");
     let property = ["report", "A-0000", "-o"];
     let portfolio = ["report", "--portfolio", "-o"];
     let cases: [(&[&str], &Path, &str); 5] = [
@@ -354,10 +368,7 @@ fn a_report_to_a_path_that_cannot_be_written_is_a_clear_error() {
         let parent = path.parent().unwrap().to_str().unwrap();
         assert!(out.contains(named) || out.contains(parent), "{out}");
     }
-    assert_eq!(
-        std::fs::read_to_string(&blocker).unwrap(),
-        "not a directory\n"
-    );
+    blocker.assert_untouched();
     assert!(!dir.path().join("no").exists());
     assert_eq!(std::fs::read_dir(&a_dir).unwrap().count(), 0);
     assert_eq!(before, std::fs::read(&db).unwrap());
