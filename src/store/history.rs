@@ -64,21 +64,14 @@ struct Queries {
 pub struct HistoryParts {
     /// The visits' observations, which only reports show; the worklist goes without.
     pub observations: bool,
-    /// Each test record's id, note and limitations; without them the id reads 0 and the
-    /// others are empty.
-    pub record_details: bool,
 }
 
 impl HistoryParts {
     /// Everything.
-    pub const ALL: HistoryParts = HistoryParts {
-        observations: true,
-        record_details: true,
-    };
+    pub const ALL: HistoryParts = HistoryParts { observations: true };
     /// What the worklist reads.
     pub const FOR_FLAGS: HistoryParts = HistoryParts {
         observations: false,
-        record_details: false,
     };
 }
 
@@ -288,21 +281,7 @@ impl Store {
         parts: HistoryParts,
         mut f: impl FnMut(PropertyHistory) -> Result<()>,
     ) -> Result<()> {
-        let mut q = queries(filter.is_some());
-        if !parts.observations {
-            // The same columns and parameters, no rows.
-            q.observations = q.observations.replace("WHERE ", "WHERE 0 AND ");
-        }
-        if !parts.record_details {
-            // Constants in place of the columns left out, so the decoder stays the same.
-            let full = qualified(Store::RECORD_COLS, "t");
-            let lean = full
-                .replacen("t.id,", "0,", 1)
-                .replace("t.limitations", "''")
-                .replace("t.note", "NULL");
-            debug_assert!(lean != full && !lean.contains("t.note"));
-            q.records = q.records.replacen(&full, &lean, 1);
-        }
+        let q = queries(filter.is_some());
         let calibration: HashMap<String, Option<NaiveDate>> = self
             .instruments()?
             .into_iter()
@@ -316,7 +295,11 @@ impl Store {
         let mut st_r = self.conn.prepare(&q.records)?;
         let mut st_t = self.conn.prepare(&q.board_tests)?;
         let mut st_ch = self.conn.prepare(&q.changes)?;
-        let mut st_o = self.conn.prepare(&q.observations)?;
+        let mut st_o = if parts.observations {
+            Some(self.conn.prepare(&q.observations)?)
+        } else {
+            None
+        };
 
         let properties = st_p.query_map(
             rusqlite::params![filter, run.0, run.1],
@@ -331,7 +314,10 @@ impl Store {
             Ok((r.get(0)?, r.get(1)?, r.get(2)?, r.get(3)?))
         })?;
         let mut changes = stream(&mut st_ch, filter, 8, change_from_row)?;
-        let mut observations = stream(&mut st_o, filter, 6, observation_from_row)?;
+        let mut observations = match &mut st_o {
+            Some(st) => Some(stream(st, filter, 6, observation_from_row)?),
+            None => None,
+        };
 
         for property in properties {
             let property = property?;
@@ -354,7 +340,10 @@ impl Store {
                 records: take(&mut records, id)?,
                 board_tests: take(&mut tests, id)?,
                 changes: take(&mut changes, id)?,
-                observations: take(&mut observations, id)?,
+                observations: match &mut observations {
+                    Some(o) => take(o, id)?,
+                    None => Vec::new(),
+                },
                 visits,
                 calibration: used,
             })?;
@@ -612,13 +601,7 @@ mod tests {
         for (w, l) in whole.iter().zip(&lean) {
             assert!(l.observations.is_empty());
             assert_eq!(w.records.len(), l.records.len());
-            for (a, b) in w.records.iter().zip(&l.records) {
-                let mut a = a.clone();
-                a.id = 0;
-                a.readings.note = None;
-                a.readings.limitations.clear();
-                assert_eq!(&a, b);
-            }
+            assert_eq!(w.records, l.records);
             assert_eq!(w.circuits, l.circuits);
             assert_eq!(w.visits, l.visits);
             assert_eq!(w.changes, l.changes);
