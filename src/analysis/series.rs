@@ -366,13 +366,14 @@ pub(super) fn circuit_analysis(
         settings,
         detail,
     } = ctx;
-    // Words only a report shows are not worked out for the worklist.
-    let words = detail == super::Detail::Full;
+    // What only a report shows (words, report-only figures, series with nothing to say) is
+    // not worked out for the worklist.
+    let full = detail == super::Detail::Full;
     let chain = lineage(c, &idx.by_id);
     let board_name = board.map(|b| b.designation.clone()).unwrap_or_default();
     let lineage_labels = chain
         .iter()
-        .filter(|_| words)
+        .filter(|_| full)
         .map(|x| {
             let b = idx
                 .boards
@@ -435,7 +436,7 @@ pub(super) fn circuit_analysis(
         if ch.kind == ChangeKind::Retired {
             continue;
         }
-        if words {
+        if full {
             events.push((
                 ch.date,
                 event_words(
@@ -461,7 +462,7 @@ pub(super) fn circuit_analysis(
         rcd_ma: c.rcd_ma,
         insulation: c.insulation,
         rule: settings.limits.measured_rule,
-        words,
+        words: full,
     });
     let LoopLimits {
         disconnection,
@@ -509,15 +510,15 @@ pub(super) fn circuit_analysis(
             // The worklist keeps only the series with something to say, and those the
             // cross-checks below read (R1+R2 and R1+Rn for the neutral, the ring's legs).
             Ok(report)
-                if !words
+                if !full
                     && report.findings.is_empty()
                     && !matches!(key, "r1r2" | "r1rn" | "ring") => {}
             Ok(report) => out.push(SeriesAnalysis {
                 quantity: key,
                 label: Cow::Borrowed(label),
-                basis: basis.filter(|_| words),
+                basis: basis.filter(|_| full),
                 limit: limit.map(|l| l.value),
-                limit_words: limit_words.filter(|_| words),
+                limit_words: limit_words.filter(|_| full),
                 limit_source: source.cloned(),
                 events: events.clone(),
                 report,
@@ -552,7 +553,7 @@ pub(super) fn circuit_analysis(
             })
         })
         .collect();
-    let zs_basis = words.then(|| {
+    let zs_basis = full.then(|| {
         let how = if derived == 0 {
             "measured Zs".to_string()
         } else if derived == zs_points.len() {
@@ -614,7 +615,7 @@ pub(super) fn circuit_analysis(
         )),
         resistance(&|r| r.r1rn_ohm),
         rn_limit.map(Limit::max),
-        rn_limit.filter(|_| words).map(|l| {
+        rn_limit.filter(|_| full).map(|l| {
             format!(
                 "line–neutral loop: {} less the latest Ze {:.2} Ω = {l:.2} Ω",
                 loop_words.clone().unwrap_or_default(),
@@ -671,7 +672,7 @@ pub(super) fn circuit_analysis(
             )),
             points,
             Some(Limit::min(ir_min.minimum_mohm)),
-            words.then(|| {
+            full.then(|| {
                 format!(
                     "minimum for a circuit up to 500 V, {} V test",
                     ir_min.test_voltage_v
@@ -707,10 +708,10 @@ pub(super) fn circuit_analysis(
             RcdTest::AtTwice => "RCD trip time at 2 × IΔn",
             RcdTest::AtFive => "RCD trip time at 5 × IΔn",
         },
-        words.then(|| format!("as measured at {}", test.as_str()).into()),
+        full.then(|| format!("as measured at {}", test.as_str()).into()),
         rcd_points,
         Some(Limit::max(rcd_max.max_ms)),
-        words.then(|| rcd_max.words().into()),
+        full.then(|| rcd_max.words().into()),
         Some(&rcd_max.source),
         &mut notes,
     );
@@ -866,8 +867,8 @@ pub(super) fn circuit_analysis(
         circuit: c.clone(),
         lineage: lineage_labels,
         // Report-only figures, left out of the worklist's analysis.
-        disconnection: words.then(|| disconnection.clone()).flatten(),
-        zs_limit: words.then(|| zs_limit.clone()).flatten(),
+        disconnection: full.then(|| disconnection.clone()).flatten(),
+        zs_limit: full.then(|| zs_limit.clone()).flatten(),
         fault_paths,
         ring_check,
         last_visit: last.map(|l| l.visit.date),
