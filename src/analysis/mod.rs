@@ -19,7 +19,7 @@ use serde::Serialize;
 use crate::error::Result;
 use crate::limits::{self, DisconnectionChoice, FaultPathReport, RingCheck, Source, ZsLimit};
 use crate::model::{Board, Circuit, Observation, Property, Readings, Visit};
-use crate::store::{HistoryParts, PropertyHistory, Store};
+use crate::store::{ALL_PROPERTIES, HistoryParts, PropertyHistory, Store};
 use crate::trend::{self, Finding, FindingKind, SeriesReport, Severity};
 
 pub use settings::Settings;
@@ -460,11 +460,10 @@ fn flags_by_queue(store: &Store, settings: &Settings, workers: usize) -> Result<
                 })
             })
             .collect();
-        let streamed =
-            store.for_each_history_in((i64::MIN, i64::MAX), HistoryParts::FOR_FLAGS, |h| {
-                tx.send(h)
-                    .map_err(|_| crate::Error::invalid("the analysis workers stopped"))
-            });
+        let streamed = store.for_each_history_in(ALL_PROPERTIES, HistoryParts::FOR_FLAGS, |h| {
+            tx.send(h)
+                .map_err(|_| crate::Error::invalid("the analysis workers stopped"))
+        });
         drop(tx);
         let mut flags = Vec::new();
         for h in handles {

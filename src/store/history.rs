@@ -205,7 +205,7 @@ fn sqlite_integer_prefix(text: &str) -> i64 {
 }
 
 /// Every property id.
-const ALL: (i64, i64) = (i64::MIN, i64::MAX);
+pub const ALL_PROPERTIES: (i64, i64) = (i64::MIN, i64::MAX);
 
 /// Take every leading item of `s` that belongs to property `id`.
 fn take<T>(s: &mut Stream<'_, T>, id: i64) -> Result<Vec<T>> {
@@ -238,7 +238,7 @@ impl Store {
     /// Load one property's history.
     pub fn history(&self, property_id: i64) -> Result<PropertyHistory> {
         let mut found = None;
-        self.histories(Some(property_id), ALL, HistoryParts::ALL, |h| {
+        self.histories(Some(property_id), ALL_PROPERTIES, HistoryParts::ALL, |h| {
             found = Some(h);
             Ok(())
         })?;
@@ -248,7 +248,7 @@ impl Store {
     /// Call `f` with each property's history in turn, in property-id order. One ordered query
     /// per table, merged as they stream, so only one property is in memory at a time.
     pub fn for_each_history(&self, f: impl FnMut(PropertyHistory) -> Result<()>) -> Result<()> {
-        self.histories(None, ALL, HistoryParts::ALL, f)
+        self.histories(None, ALL_PROPERTIES, HistoryParts::ALL, f)
     }
 
     /// [`Self::for_each_history`] over the properties whose ids run from `first` to `last`,
@@ -377,9 +377,10 @@ mod tests {
                 .prepare(&format!("EXPLAIN QUERY PLAN {sql}"))
                 .unwrap();
             let plan: Vec<String> = stmt
-                .query_map(rusqlite::params![1_i64, ALL.0, ALL.1], |r| {
-                    r.get::<_, String>(3)
-                })
+                .query_map(
+                    rusqlite::params![1_i64, ALL_PROPERTIES.0, ALL_PROPERTIES.1],
+                    |r| r.get::<_, String>(3),
+                )
                 .unwrap()
                 .collect::<rusqlite::Result<_>>()
                 .unwrap();
@@ -578,14 +579,14 @@ mod tests {
             .unwrap();
         let mut whole = Vec::new();
         store
-            .for_each_history_in(ALL, HistoryParts::ALL, |h| {
+            .for_each_history_in(ALL_PROPERTIES, HistoryParts::ALL, |h| {
                 whole.push(h);
                 Ok(())
             })
             .unwrap();
         let mut lean = Vec::new();
         store
-            .for_each_history_in(ALL, HistoryParts::FOR_FLAGS, |h| {
+            .for_each_history_in(ALL_PROPERTIES, HistoryParts::FOR_FLAGS, |h| {
                 lean.push(h);
                 Ok(())
             })

@@ -13,7 +13,7 @@ pub mod migrate;
 mod pending;
 mod visits;
 
-pub use history::{HistoryParts, PropertyHistory};
+pub use history::{ALL_PROPERTIES, HistoryParts, PropertyHistory};
 pub use ingest::{
     ExportObservation, ExportRecord, HeldInserts, IngestBoard, IngestChange, IngestProperty,
     IngestVisit,
