@@ -291,97 +291,114 @@ fn analyse_sorted(
         };
         return Ok(report(points, None, None, Vec::new(), Some(note)));
     };
-    let floor = cfg.floor_for(q);
-    let (fit, projection, findings, note) = SCRATCH.with_borrow_mut(|scratch| {
-        let Scratch {
-            x,
-            y,
-            censored,
-            adjusted,
-            ux,
-            uy,
-            slopes,
-        } = scratch;
-        let w = Work::new(q, base, (x, y, censored));
-
-        let mut note = None;
-        let mut findings = Vec::new();
-        let exceeds = limit_check(series, &last);
-        let exceeded = exceeds.is_some();
-        findings.extend(exceeds);
-
-        if base.len() < 2 {
-            note = Some("one visit in this baseline: no trend yet".to_string());
-        }
-
-        let stepped = steps(&w, floor, &mut findings, adjusted);
-        let (drift_finding, drift_slope) = drift(&w, adjusted, floor, slopes);
-        findings.extend(drift_finding);
-
-        let (mut fit, mut projection) = (None, None);
-        w.uncensored(ux, uy);
-        if let Some(ls) = least_squares(ux, uy) {
-            let sigma_floor = floor.at(ls.y_mean) / 2.0;
-            let sigma = ls.residual_se.unwrap_or(0.0).max(sigma_floor);
-            let slope_se = sigma / ls.sxx.sqrt();
-            // With nothing censored and no step taken out, drift's robust slope was worked out
-            // over these very points.
-            let theil_sen_per_year = if ls.n < 3 {
-                None
-            } else if !stepped && ux.len() == w.x.len() {
-                drift_slope
-            } else {
-                theil_sen_in(ux, uy, slopes)
-            };
-            fit = Some(Fit {
-                n: ls.n,
-                least_squares_per_year: ls.slope,
-                theil_sen_per_year,
-                residual_se: ls.residual_se,
-                slope_se_per_year: slope_se,
-                intercept: ls.intercept,
-            });
-            if let Some(limit) = series.limit {
-                let x_last = *w.x.last().unwrap_or(&0.0);
-                let inp = ProjectionInput {
-                    fit: &ls,
-                    slope_se,
-                    k: cfg.projection_k,
-                    limit_work: to_work(q, limit.value),
-                    limit: limit.value,
-                    worse: q.worse(),
-                    start: base[0].date,
-                    x_last,
-                    horizon_years: cfg.horizon_years,
-                };
-                projection = project(&inp);
-                let span = ux.last().unwrap_or(&0.0) - ux.first().unwrap_or(&0.0);
-                let beyond_noise = w.sign * ls.slope * span > floor.at(uy[0]);
-                if let Some(p) = projection
-                    && !exceeded
-                    && beyond_noise
-                    && p.date < next_due
-                {
-                    findings.push(approaching(q, &last, limit.value, &p, next_due));
-                }
-            }
-        } else if base.len() >= 2 {
-            note = Some("fewer than two uncensored readings: no fitted slope".to_string());
-        }
-
-        let margin = series
-            .limit
-            .map(|l| margin_used(l.kind, l.value, last.value));
-        for f in &mut findings {
-            f.last_value = last.value;
-            f.last_censored = last.censored;
-            f.limit = series.limit;
-            f.margin_used = margin;
-        }
-        super::finding::rank(&mut findings);
-        (fit, projection, findings, note)
-    });
+    let (fit, projection, findings, note) = SCRATCH
+        .with_borrow_mut(|scratch| analyse_baseline(series, base, last, (next_due, cfg), scratch));
     Ok(report(points, fit, projection, findings, note))
+}
+
+/// What a series' current baseline `base` (ending in `last`) says: its fit, projection,
+/// findings (most urgent first) and a note when there is no trend.
+fn analyse_baseline(
+    series: &Series,
+    base: &[Point],
+    last: Point,
+    (next_due, cfg): (NaiveDate, &TrendConfig),
+    scratch: &mut Scratch,
+) -> (
+    Option<Fit>,
+    Option<Projection>,
+    Vec<Finding>,
+    Option<String>,
+) {
+    let q = series.quantity;
+    let floor = cfg.floor_for(q);
+    let Scratch {
+        x,
+        y,
+        censored,
+        adjusted,
+        ux,
+        uy,
+        slopes,
+    } = scratch;
+    let w = Work::new(q, base, (x, y, censored));
+
+    let mut note = None;
+    let mut findings = Vec::new();
+    let exceeds = limit_check(series, &last);
+    let exceeded = exceeds.is_some();
+    findings.extend(exceeds);
+
+    if base.len() < 2 {
+        note = Some("one visit in this baseline: no trend yet".to_string());
+    }
+
+    let stepped = steps(&w, floor, &mut findings, adjusted);
+    let (drift_finding, drift_slope) = drift(&w, adjusted, floor, slopes);
+    findings.extend(drift_finding);
+
+    let (mut fit, mut projection) = (None, None);
+    w.uncensored(ux, uy);
+    if let Some(ls) = least_squares(ux, uy) {
+        let sigma_floor = floor.at(ls.y_mean) / 2.0;
+        let sigma = ls.residual_se.unwrap_or(0.0).max(sigma_floor);
+        let slope_se = sigma / ls.sxx.sqrt();
+        // With nothing censored and no step taken out, drift's robust slope was worked out
+        // over these very points.
+        let theil_sen_per_year = if ls.n < 3 {
+            None
+        } else if !stepped && ux.len() == w.x.len() {
+            drift_slope
+        } else {
+            theil_sen_in(ux, uy, slopes)
+        };
+        fit = Some(Fit {
+            n: ls.n,
+            least_squares_per_year: ls.slope,
+            theil_sen_per_year,
+            residual_se: ls.residual_se,
+            slope_se_per_year: slope_se,
+            intercept: ls.intercept,
+        });
+        if let Some(limit) = series.limit {
+            let x_last = *w.x.last().unwrap_or(&0.0);
+            let inp = ProjectionInput {
+                fit: &ls,
+                slope_se,
+                k: cfg.projection_k,
+                limit_work: to_work(q, limit.value),
+                limit: limit.value,
+                worse: q.worse(),
+                start: base[0].date,
+                x_last,
+                horizon_years: cfg.horizon_years,
+            };
+            projection = project(&inp);
+            let span = ux.last().unwrap_or(&0.0) - ux.first().unwrap_or(&0.0);
+            let beyond_noise = w.sign * ls.slope * span > floor.at(uy[0]);
+            if let Some(p) = projection
+                && !exceeded
+                && beyond_noise
+                && p.date < next_due
+            {
+                findings.push(approaching(q, &last, limit.value, &p, next_due));
+            }
+        }
+    } else if base.len() >= 2 {
+        note = Some("fewer than two uncensored readings: no fitted slope".to_string());
+    }
+
+    let margin = series
+        .limit
+        .map(|l| margin_used(l.kind, l.value, last.value));
+    for f in &mut findings {
+        f.last_value = last.value;
+        f.last_censored = last.censored;
+        f.limit = series.limit;
+        f.margin_used = margin;
+    }
+    super::finding::rank(&mut findings);
+    (fit, projection, findings, note)
 }
 
 fn margin_used(kind: LimitKind, limit: f64, value: f64) -> f64 {
