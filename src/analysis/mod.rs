@@ -5,6 +5,8 @@
 //! returns every circuit's series, findings and flags. [`worklist`] walks the portfolio one
 //! property at a time, so memory stays bounded by the largest property.
 
+pub mod offsets;
+mod rcd_devices;
 mod series;
 pub mod settings;
 #[cfg(test)]
@@ -138,6 +140,9 @@ pub struct PropertyAnalysis {
     pub counts: Counts,
     /// Visits with no ambient temperature: their readings are compared as taken.
     pub visits_without_ambient: Vec<NaiveDate>,
+    /// Visits whose continuity readings all sit high by about the same amount (test leads not
+    /// nulled), each with its note; the trends take that amount off.
+    pub continuity_offsets: Vec<offsets::VisitOffset>,
     pub settings: Settings,
 }
 
@@ -158,6 +163,7 @@ fn kind_key(k: FindingKind) -> &'static str {
         FindingKind::ZeRise => "ze_rise",
         FindingKind::Exceeds => "exceeds",
         FindingKind::Approaching => "approaching",
+        FindingKind::Investigate => "investigate",
     }
 }
 
@@ -212,7 +218,8 @@ fn analyse_with(
 
     let supply = series::supply_series(h, origin, horizon, settings);
 
-    let index = series::Index::new(h);
+    let continuity_offsets = offsets::visit_offsets(h);
+    let index = series::Index::new(h, &continuity_offsets);
     let ctx = series::PropertyContext {
         h,
         idx: &index,
@@ -229,6 +236,7 @@ fn analyse_with(
         let board = boards_by_id.get(&c.board_id).copied();
         circuits.push(series::circuit_analysis(&ctx, c, board, memo));
     }
+    rcd_devices::merge_shared_rcds(&mut circuits);
 
     let mut flags: Vec<Flag> = Vec::new();
     if let (Some(s), Some(o)) = (&supply, origin) {
@@ -298,6 +306,7 @@ fn analyse_with(
             .filter(|v| v.ambient_c.is_none())
             .map(|v| v.date)
             .collect(),
+        continuity_offsets,
         settings: settings.clone(),
     }
 }

@@ -17,12 +17,31 @@ use crate::model::{
     Readings, TestRecord, Visit,
 };
 use crate::store::PropertyHistory;
-use crate::trend::{self, Finding, FindingKind, Limit, Point, Quantity, RingLeg, Series, Severity};
+use crate::trend::{
+    self, Concern, Finding, FindingKind, Limit, Point, Quantity, RingLeg, Series, Severity,
+};
+
+/// Insulation resistance below 2 MΩ is usually investigated and its source found, though it is
+/// above the Table 64 minimum of 1 MΩ (from memory: the trade's usual practice, as in IET
+/// Guidance Note 3).
+pub const IR_INVESTIGATION_MOHM: f64 = 2.0;
+
+const IR_CONCERN: Concern = Concern {
+    level: Limit {
+        value: IR_INVESTIGATION_MOHM,
+        kind: crate::trend::LimitKind::Min,
+    },
+    words: "the investigation level",
+    advice: "insulation this low is usually investigated and its source found, though it is above the Table 64 minimum of 1 MΩ",
+};
 
 /// One reading of the lineage: the visit and the circuit's readings at it.
 struct Row<'a> {
     visit: &'a Visit,
     readings: &'a Readings,
+    /// The visit's shared continuity offset (leads not nulled), taken off its continuity
+    /// readings; 0 at most visits.
+    offset: f64,
     /// Ze at the circuit's board at that visit (Zdb for a sub-board), else at the origin.
     ze: Option<f64>,
 }
@@ -78,6 +97,9 @@ pub(super) fn supply_series(
     if points.is_empty() {
         return None;
     }
+    if origin.and_then(|b| b.earthing) == Some(Earthing::Tt) {
+        return tt_supply_series(points, horizon, settings);
+    }
     let advisory = origin.and_then(|b| b.earthing).map(limits::typical_max_ze);
     // The declared maximum is advice, not a limit: the series has none, so it is never the
     // basis of an "exceeds"; a Ze above it is reported as a supply matter below.
@@ -90,17 +112,16 @@ pub(super) fn supply_series(
             FindingKind::ZeRise,
             Quantity::Ze,
             last.date,
-            format!("{note}: tell the network operator and check the main earthing and bonding"),
+            format!(
+                "{note}, at the last visit ({}): tell the network operator and check the main earthing and bonding.",
+                last.date
+            ),
         );
         f.last_value = last.value;
         f.limit = Some(Limit::max(a.typical_max_ze_ohm));
-        if !report
-            .findings
-            .iter()
-            .any(|x| x.kind == FindingKind::ZeRise)
-        {
-            report.findings.push(f);
-        }
+        f.margin_used = Some(last.value / a.typical_max_ze_ohm);
+        // Above the declared figure is the more telling reason; a rise within it stays beside.
+        report.findings.insert(0, f);
     }
     Some(SeriesAnalysis {
         quantity: "ze",
@@ -113,6 +134,45 @@ pub(super) fn supply_series(
             .as_ref()
             .map(|a| format!("typical maximum declared for {} (advisory)", a.earthing).into()),
         limit_source: advisory.map(|a| a.source),
+        events: Vec::new(),
+        report,
+    })
+}
+
+/// A TT electrode whose resistance is above 200 Ω may not be stable (BS 7671 Table 41.5,
+/// note 2; from memory for the note's number).
+pub const TT_ELECTRODE_STABLE_OHM: f64 = 200.0;
+
+const TT_CONCERN: Concern = Concern {
+    level: Limit {
+        value: TT_ELECTRODE_STABLE_OHM,
+        kind: crate::trend::LimitKind::Max,
+    },
+    words: "the level above which an earth electrode's resistance may not be stable (BS 7671 Table 41.5, note)",
+    advice: "the installation's earth electrode and its connection should be tested and, if need be, improved: the landlord's to put right, not the network operator's",
+};
+
+/// Ze of a TT installation: the supply's loop plus the installation's own electrode, judged on
+/// a log scale against seasonal swing, with the electrode named as the cause of a rise. The
+/// circuits' loop readings carry their own Table 41.5 limits with the RCD.
+fn tt_supply_series(
+    points: Vec<Point>,
+    horizon: NaiveDate,
+    settings: &Settings,
+) -> Option<SeriesAnalysis> {
+    let points = points.into_iter().filter(|p| p.value > 0.0).collect();
+    let mut series = Series::new(Quantity::ZeTt, points);
+    series.concern = Some(TT_CONCERN);
+    let report = trend::analyse(&series, horizon, &settings.trend).ok()?;
+    Some(SeriesAnalysis {
+        quantity: "ze",
+        label: Cow::Borrowed("Ze at the origin (TT: with the installation's earth electrode)"),
+        basis: Some(Cow::Borrowed(
+            "as measured; judged on a log scale, since an electrode's resistance swings with the seasons",
+        )),
+        limit: None,
+        limit_words: None,
+        limit_source: None,
         events: Vec::new(),
         report,
     })
@@ -155,10 +215,15 @@ pub(super) struct Index<'a> {
     /// Ze measured at a board at a visit: (visit_id, board_id) → Ω.
     board_ze: HashMap<(i64, i64), f64>,
     changes: HashMap<i64, Vec<&'a CircuitChange>>,
+    /// Visits whose continuity readings sit high by a shared amount (leads not nulled), Ω.
+    offsets: HashMap<i64, f64>,
 }
 
 impl<'a> Index<'a> {
-    pub(super) fn new(h: &'a PropertyHistory) -> Index<'a> {
+    pub(super) fn new(
+        h: &'a PropertyHistory,
+        offsets: &[super::offsets::VisitOffset],
+    ) -> Index<'a> {
         let mut records: HashMap<i64, Vec<&TestRecord>> = HashMap::with_capacity(h.circuits.len());
         for r in &h.records {
             records.entry(r.circuit_id).or_default().push(r);
@@ -178,6 +243,7 @@ impl<'a> Index<'a> {
                 .filter_map(|t| t.2.map(|z| ((t.0, t.1), z)))
                 .collect(),
             changes,
+            offsets: offsets.iter().map(|o| (o.visit_id, o.offset_ohm)).collect(),
         }
     }
 }
@@ -407,6 +473,7 @@ pub(super) fn circuit_analysis(
                     Row {
                         visit,
                         readings: &r.readings,
+                        offset: idx.offsets.get(&r.visit_id).copied().unwrap_or(0.0),
                         ze: ze_board.or(visit.ze_ohm),
                     },
                     r.circuit_id,
@@ -477,10 +544,16 @@ pub(super) fn circuit_analysis(
 
     let last_ze = rows.iter().rev().find_map(|r| r.ze);
 
+    // Continuity readings less the visit's shared offset, if any; the point keeps the reading
+    // as measured in `raw`.
     let resistance = |get: &dyn Fn(&Readings) -> Option<f64>| -> Vec<Point> {
         let mut points = Vec::with_capacity(rows.len());
         points.extend(rows.iter().filter_map(|r| {
-            get(r.readings).and_then(|v| resistance_point(r.visit.date, v, r.visit.ambient_c))
+            let raw = get(r.readings)?;
+            let mut p =
+                resistance_point(r.visit.date, (raw - r.offset).max(0.0), r.visit.ambient_c)?;
+            p.raw = raw;
+            Some(p)
         }));
         points
     };
@@ -502,6 +575,9 @@ pub(super) fn circuit_analysis(
         let mut s = Series::new(quantity, points);
         s.baseline_resets = resets.clone();
         s.limit = limit;
+        if matches!(quantity, Quantity::IrLl | Quantity::IrLe) {
+            s.concern = Some(IR_CONCERN);
+        }
         let analysed = match &checked {
             Ok(cfg) => trend::analyse_series(s, horizon, *cfg),
             Err(e) => Err(e.clone()),
@@ -534,7 +610,7 @@ pub(super) fn circuit_analysis(
         .iter()
         .filter_map(|r| {
             let amb = r.visit.ambient_c;
-            let r1r2 = r.readings.r1r2_ohm;
+            let r1r2 = r.readings.r1r2_ohm.map(|v| (v - r.offset).max(0.0));
             let (raw, circuit_raw, ze) = match (r.readings.zs_ohm, r.ze, r1r2) {
                 (Some(zs), ze, r12) => {
                     let part = r12.or(ze.map(|z| (zs - z).max(0.0))).unwrap_or(zs);
@@ -683,38 +759,43 @@ pub(super) fn circuit_analysis(
             &mut notes,
         );
     }
-    // RCD: the 5 × IΔn test where any was recorded (the required one since A2:2022), otherwise 1 × IΔn.
-    let five: Vec<Point> = rows
-        .iter()
-        .filter_map(|r| r.readings.rcd_5x_ms.map(|v| Point::raw(r.visit.date, v)))
-        .collect();
-    let (rcd_points, test) = if five.is_empty() {
-        (
-            rows.iter()
-                .filter_map(|r| r.readings.rcd_ms.map(|v| Point::raw(r.visit.date, v)))
-                .collect(),
-            RcdTest::AtRated,
-        )
-    } else {
-        (five, RcdTest::AtFive)
-    };
+    // RCD: the test at 1 × IΔn decides and is trended (BS 7671:2018+A2:2022 Reg 643.8). The
+    // 5 × IΔn test, where recorded, is supplementary: judged against its own maximum, never
+    // trended, and it never hides a 1 × IΔn reading.
     let timing = RcdTiming::of(c.rcd_type.unwrap_or(crate::model::RcdType::A));
-    let rcd_max = limits::rcd_max_ms(timing, test);
-    run(
-        Quantity::Rcd,
-        "rcd",
-        match test {
-            RcdTest::AtRated => "RCD trip time at 1 × IΔn",
-            RcdTest::AtTwice => "RCD trip time at 2 × IΔn",
-            RcdTest::AtFive => "RCD trip time at 5 × IΔn",
-        },
-        full.then(|| format!("as measured at {}", test.as_str()).into()),
-        rcd_points,
-        Some(Limit::max(rcd_max.max_ms)),
-        full.then(|| rcd_max.words().into()),
-        Some(&rcd_max.source),
-        &mut notes,
-    );
+    for (test, label, get) in [
+        (
+            RcdTest::AtRated,
+            "RCD trip time at 1 × IΔn",
+            (|r: &Readings| r.rcd_ms) as fn(&Readings) -> Option<f64>,
+        ),
+        (
+            RcdTest::AtFive,
+            "RCD trip time at 5 × IΔn (supplementary)",
+            |r: &Readings| r.rcd_5x_ms,
+        ),
+    ] {
+        let mut points: Vec<Point> = rows
+            .iter()
+            .filter_map(|r| get(r.readings).map(|v| Point::raw(r.visit.date, v)))
+            .collect();
+        if test == RcdTest::AtFive {
+            // Only the last reading is judged: a supplementary test is not trended.
+            points = points.split_off(points.len().saturating_sub(1));
+        }
+        let rcd_max = limits::rcd_max_ms(timing, test);
+        run(
+            Quantity::Rcd,
+            "rcd",
+            label,
+            full.then(|| format!("as measured at {}", test.as_str()).into()),
+            points,
+            Some(Limit::max(rcd_max.max_ms)),
+            full.then(|| rcd_max.words().into()),
+            Some(&rcd_max.source),
+            &mut notes,
+        );
+    }
 
     let last = rows.last();
     let mut findings: Vec<(usize, Finding)> = Vec::new();

@@ -78,9 +78,24 @@ pub const KEYS: &[Key] = &[
         slot: Slot::Number(|t| &mut t.insulation_log10.absolute),
     },
     Key {
+        key: "trend.ir.concern_mohm",
+        help: "insulation resistance at or above this (MΩ) is clear of concern: a fall to it is not reported",
+        slot: Slot::Number(|t| &mut t.insulation_concern_mohm),
+    },
+    Key {
         key: "trend.rcd.absolute_ms",
         help: "tolerance added to the resolution for RCD trip times, ms",
         slot: Slot::Number(|t| &mut t.rcd_ms.absolute),
+    },
+    Key {
+        key: "trend.rcd.relative",
+        help: "tolerance for RCD trip times as a fraction of the reading",
+        slot: Slot::Number(|t| &mut t.rcd_ms.relative),
+    },
+    Key {
+        key: "trend.ze_tt.decades",
+        help: "change in a TT installation's Ze that counts, in decades (log10), beyond seasonal swing",
+        slot: Slot::Number(|t| &mut t.ze_tt_log10.absolute),
     },
 ];
 

@@ -1,7 +1,9 @@
 //! RCD operating times (BS EN 61008-1 / 61009-1) and which test is judged.
 //!
-//! Since BS 7671:2018+A2:2022 Regulation 643.8 the test at 5 × IΔn is the required one; a
-//! 1 × IΔn result is still accepted and judged when it is all there is.
+//! BS 7671:2018+A2:2022 Regulation 643.8 verifies an RCD by a test at its rated residual
+//! operating current IΔn, against the maximum time for its type (300 ms general, 500 ms type S).
+//! The test at 5 × IΔn is no longer required; when it was recorded it is judged too, as a
+//! supplementary result, and it never hides the 1 × IΔn result.
 
 use std::fmt;
 
@@ -137,10 +139,10 @@ pub struct RcdJudgement {
     pub timing: RcdTiming,
     /// True when the type was not recorded and the stricter general times were used.
     pub timing_assumed: bool,
-    /// The test the judgement rests on: 5 × IΔn when recorded (Reg 643.8), else 1 × IΔn.
+    /// The test the judgement rests on: 1 × IΔn when recorded (Reg 643.8), else 5 × IΔn.
     pub judged: RcdTest,
     pub result: RcdTestResult,
-    /// The other test when both were recorded, judged too but not the basis.
+    /// The supplementary 5 × IΔn test when both were recorded, judged too but not the basis.
     pub also: Option<RcdTestResult>,
     pub notes: Vec<String>,
     pub source: Source,
@@ -177,7 +179,7 @@ fn result(timing: RcdTiming, test: RcdTest, ms: f64) -> RcdTestResult {
     }
 }
 
-/// Judge recorded RCD times, preferring the 5 × IΔn test.
+/// Judge recorded RCD times on the 1 × IΔn test (Reg 643.8); 5 × IΔn is supplementary.
 pub fn judge_rcd(r: &RcdReadings) -> Result<RcdJudgement, LimitsError> {
     let rated = r
         .at_rated_ms
@@ -197,18 +199,24 @@ pub fn judge_rcd(r: &RcdReadings) -> Result<RcdJudgement, LimitsError> {
             "RCD type not recorded: the stricter general (non-delayed) times are used".to_string(),
         );
     }
-    let (judged, res, also) = match (five, rated) {
-        (Some(f), rated) => (
-            RcdTest::AtFive,
-            result(timing, RcdTest::AtFive, f),
-            rated.map(|x| result(timing, RcdTest::AtRated, x)),
+    let (judged, res, also) = match (rated, five) {
+        (Some(x), five) => (
+            RcdTest::AtRated,
+            result(timing, RcdTest::AtRated, x),
+            five.map(|f| result(timing, RcdTest::AtFive, f)),
         ),
-        (None, Some(x)) => {
-            notes.push("only the 1 × IΔn test was recorded; BS 7671:2018+A2:2022 Reg 643.8 requires the 5 × IΔn test".to_string());
-            (RcdTest::AtRated, result(timing, RcdTest::AtRated, x), None)
+        (None, Some(f)) => {
+            notes.push("only the 5 × IΔn test was recorded; BS 7671:2018+A2:2022 Reg 643.8 verifies an RCD at 1 × IΔn, so the RCD has not been verified by the required test".to_string());
+            (RcdTest::AtFive, result(timing, RcdTest::AtFive, f), None)
         }
         (None, None) => return Err(LimitsError::NothingToJudge("no RCD trip time recorded")),
     };
+    if also.as_ref().is_some_and(|a| !a.within) {
+        notes.push(
+            "the supplementary 5 × IΔn result is over its maximum: the RCD should be checked"
+                .to_string(),
+        );
+    }
     // Minimum non-actuating time for type S at 1 × IΔn, 130 ms (from memory).
     if timing == RcdTiming::Delayed && rated.is_some_and(|x| x < 130.0) {
         notes.push("a type S RCD tripped at 1 × IΔn in under 130 ms, its minimum non-actuating time (from memory): check the device is type S".to_string());
@@ -223,7 +231,7 @@ pub fn judge_rcd(r: &RcdReadings) -> Result<RcdJudgement, LimitsError> {
         source: Source::new(
             "BS 7671:2018+A2:2022 Regulation 643.8",
             SourceStatus::Published,
-            "the test at 5 × IΔn is the required one; 1 × IΔn is accepted when it is the only one recorded",
+            "an RCD is verified by a test at 1 × IΔn against the maximum for its type; 5 × IΔn is supplementary",
         ),
     })
 }
@@ -259,27 +267,37 @@ mod tests {
     }
 
     #[test]
-    fn five_times_is_preferred_and_named() {
-        // Invented readings: type A, 1 × 350 ms (over 300) but 5 × 18 ms (within 40).
-        // Reg 643.8: the 5 × test is the one judged; the 1 × result is shown as well.
+    fn rated_current_decides_and_five_times_never_hides_it() {
+        // BS 7671:2018+A2:2022 Regulation 643.8: an RCD is verified at IΔn, at most 300 ms for a
+        // general type (Appendix 3 Table 3A); the 5 × IΔn test is no longer required.
+        // Invented readings: type A, 1 × 350 ms (over 300) with 5 × 18 ms (within 40).
         let j = judge_rcd(&RcdReadings {
             rcd_type: Some(RcdType::A),
             at_rated_ms: Some(350.0),
             at_five_ms: Some(18.0),
         })
         .unwrap();
-        assert_eq!(j.judged, RcdTest::AtFive);
-        assert!(j.result.within);
-        assert!(!j.also.as_ref().unwrap().within);
-        // Only 1 ×: judged, with a note.
+        assert_eq!(j.judged, RcdTest::AtRated);
+        assert!(!j.result.within, "350 ms at 1 × IΔn is over 300 ms");
+        assert!(j.also.as_ref().unwrap().within);
+        // 1 × within, 5 × over its 40 ms: judged on 1 ×, with the 5 × result noted.
         let j = judge_rcd(&RcdReadings {
             rcd_type: Some(RcdType::AC),
             at_rated_ms: Some(250.0),
-            at_five_ms: None,
+            at_five_ms: Some(45.0),
         })
         .unwrap();
         assert_eq!(j.judged, RcdTest::AtRated);
         assert!(j.result.within);
+        assert!(j.notes.iter().any(|n| n.contains("5 × IΔn")));
+        // Only 5 ×: judged, with a note that the required test is missing.
+        let j = judge_rcd(&RcdReadings {
+            rcd_type: Some(RcdType::AC),
+            at_rated_ms: None,
+            at_five_ms: Some(20.0),
+        })
+        .unwrap();
+        assert_eq!(j.judged, RcdTest::AtFive);
         assert!(j.notes[0].contains("643.8"));
     }
 

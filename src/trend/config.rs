@@ -62,18 +62,32 @@ pub struct TrendConfig {
     /// the floor reflects repeatability of one tester on one circuit, not the permitted
     /// error. Example: at 0.50 Ω the floor is 0.01 + 0.02 + 0.025 = 0.055 Ω.
     pub resistance: NoiseFloor,
-    /// Ze in Ω. Default 0.01 Ω + 0.02 Ω + 10 %: the supply impedance moves with the network's
-    /// load through the day, so its tolerance is doubled. Reasoned, no source.
+    /// Ze of a TN supply in Ω. Default 0.01 Ω + 0.03 Ω + 35 %: the supply impedance moves with
+    /// the network's load and with the test method by 10–20 % from one visit to the next
+    /// (common practice, no source), so two visits can differ by a third while nothing is
+    /// wrong. A supply concern is also raised when Ze passes the declared typical maximum.
     pub ze: NoiseFloor,
     /// Insulation resistance in decades (log10 MΩ). Default 0.3 decades, a factor of 2.
     /// Readings move with humidity and with what is left connected; a halving is the smallest
     /// change worth reporting. Resolution (0.01 MΩ) is below 0.01 decades above 1 MΩ, so it is
     /// folded in. Common practice, no source.
     pub insulation_log10: NoiseFloor,
-    /// RCD trip time in ms. Default 1 ms resolution + 5 ms + 10 %: trip times scatter from
-    /// one test to the next with the point on the wave at which the test starts. Reasoned,
-    /// no source.
+    /// RCD trip time in ms. Default 1 ms resolution + 40 ms + 20 %: trip times scatter by
+    /// 15–20 % from one test to the next with the point on the wave at which the test starts
+    /// (common practice, no source), and a change matters only when it moves the margin to the
+    /// 300 ms limit materially: 40 ms is about an eighth of it, so 18 ms becoming 31 ms is not
+    /// a finding and 25 ms becoming 150 ms is. Reasoned.
     pub rcd_ms: NoiseFloor,
+    /// Ze of a TT installation in decades (log10 Ω). Default 0.35 decades, a factor of about
+    /// 2.2: an electrode's resistance swings with the ground's moisture between a wet winter and
+    /// a dry summer by a factor of up to about 2 (common practice, no source), so a smaller rise
+    /// is the season, not the electrode.
+    pub ze_tt_log10: NoiseFloor,
+    /// Insulation resistance at or above this many MΩ is well clear of any level of concern:
+    /// healthy readings wander by a factor of several with humidity and what is left connected,
+    /// so a fall that ends up here is not reported (it still shows in the series). Default
+    /// 10 MΩ, five times the 2 MΩ investigation level. Reasoned, common practice, no source.
+    pub insulation_concern_mohm: f64,
     /// Half-width of the projection's slope range in standard errors. Default 2, about 95 %
     /// for normal errors. Reasoned.
     pub projection_k: f64,
@@ -91,8 +105,8 @@ impl Default for TrendConfig {
             },
             ze: NoiseFloor {
                 resolution: 0.01,
-                absolute: 0.02,
-                relative: 0.10,
+                absolute: 0.03,
+                relative: 0.35,
             },
             insulation_log10: NoiseFloor {
                 resolution: 0.0,
@@ -101,9 +115,15 @@ impl Default for TrendConfig {
             },
             rcd_ms: NoiseFloor {
                 resolution: 1.0,
-                absolute: 5.0,
-                relative: 0.10,
+                absolute: 40.0,
+                relative: 0.20,
             },
+            ze_tt_log10: NoiseFloor {
+                resolution: 0.0,
+                absolute: 0.35,
+                relative: 0.0,
+            },
+            insulation_concern_mohm: 10.0,
             projection_k: 2.0,
             horizon_years: 100.0,
         }
@@ -115,6 +135,7 @@ impl TrendConfig {
     pub fn floor_for(&self, q: Quantity) -> &NoiseFloor {
         match q {
             Quantity::Ze => &self.ze,
+            Quantity::ZeTt => &self.ze_tt_log10,
             Quantity::IrLl | Quantity::IrLe => &self.insulation_log10,
             Quantity::Rcd => &self.rcd_ms,
             _ => &self.resistance,
@@ -132,6 +153,13 @@ impl TrendConfig {
         self.ze.check("ze")?;
         self.insulation_log10.check("insulation_log10")?;
         self.rcd_ms.check("rcd_ms")?;
+        self.ze_tt_log10.check("ze_tt_log10")?;
+        if !self.insulation_concern_mohm.is_finite() || self.insulation_concern_mohm <= 0.0 {
+            return Err(TrendError::BadConfig {
+                field: "insulation_concern_mohm",
+                expected: "finite and above 0",
+            });
+        }
         if !self.projection_k.is_finite() || self.projection_k < 0.0 {
             return Err(TrendError::BadConfig {
                 field: "projection_k",

@@ -20,7 +20,7 @@ use chrono::{Datelike, NaiveDate};
 use serde::Serialize;
 
 use super::config::Checked;
-use super::finding::{Finding, FindingKind, Projection, fmt_fold, fmt_value};
+use super::finding::{Finding, FindingKind, Projection, fmt_fold, fmt_rate, fmt_value};
 use super::project::{
     DAYS_PER_YEAR, ProjectionInput, project, recommended_interval, years_between,
 };
@@ -112,6 +112,9 @@ thread_local! {
     static SCRATCH: std::cell::RefCell<Scratch> = std::cell::RefCell::default();
 }
 
+/// See [`Work::unknown_temperature`].
+const UNKNOWN_TEMPERATURE_SHARE: f64 = 0.04;
+
 fn to_work(q: Quantity, v: f64) -> f64 {
     match q.scale() {
         Scale::Linear => v,
@@ -196,6 +199,18 @@ impl<'a> Work<'a> {
             }
         }
         median(slopes)
+    }
+
+    /// What a conductor resistance compared across readings `idx` may be off by when one of
+    /// them had no ambient recorded and so was not corrected to 20 °C: 4 % of the larger
+    /// reading, about 10 °C of copper at 0.00393 per K (the spread of indoor temperatures
+    /// over a year; reasoned, no source). Nothing for other quantities or when every reading
+    /// was corrected.
+    fn unknown_temperature(&self, idx: &[usize]) -> f64 {
+        if !self.q.temperature_sensitive() || idx.iter().all(|&i| self.pts[i].ambient_c.is_some()) {
+            return 0.0;
+        }
+        UNKNOWN_TEMPERATURE_SHARE * idx.iter().map(|&i| self.y[i]).fold(0.0, f64::max)
     }
 
     fn uncensored(&self, xs: &mut Vec<f64>, ys: &mut Vec<f64>) {
@@ -328,14 +343,36 @@ fn analyse_baseline(
     let exceeds = limit_check(series, &last);
     let exceeded = exceeds.is_some();
     findings.extend(exceeds);
+    let concerned = concern_check(series, &last).filter(|_| !exceeded);
+    let past_concern = concerned.is_some();
+    findings.extend(concerned);
 
     if base.len() < 2 {
         note = Some("one visit in this baseline: no trend yet".to_string());
     }
 
-    let stepped = steps(&w, floor, &mut findings, adjusted);
-    let (drift_finding, drift_slope) = drift(&w, adjusted, floor, slopes);
+    let before_steps = findings.len();
+    let mut stepped = steps(&w, floor, &mut findings, adjusted);
+    let (mut drift_finding, mut drift_slope) = drift(&w, adjusted, floor, slopes);
+    // Two or more steps in one baseline that add up to a climb are told as one drift over the
+    // readings as they are, with its projection, not as a run of sudden rises.
+    if findings.len() - before_steps >= 2 {
+        let (climb, slope) = drift(&w, w.y, floor, slopes);
+        if climb.is_some() {
+            findings.truncate(before_steps);
+            adjusted.clear();
+            adjusted.extend_from_slice(w.y);
+            (drift_finding, drift_slope, stepped) = (climb, slope, false);
+        }
+    }
     findings.extend(drift_finding);
+    // Insulation that ends well clear of any level of concern has only wandered: healthy
+    // readings move by a factor of several with humidity and what is left connected.
+    if matches!(q, Quantity::IrLl | Quantity::IrLe)
+        && (last.censored || last.value >= cfg.insulation_concern_mohm)
+    {
+        findings.retain(|f| !matches!(f.kind, FindingKind::Step | FindingKind::Drift));
+    }
 
     let (mut fit, mut projection) = (None, None);
     w.uncensored(ux, uy);
@@ -360,7 +397,13 @@ fn analyse_baseline(
             slope_se_per_year: slope_se,
             intercept: ls.intercept,
         });
-        if let Some(limit) = series.limit {
+        // Projections aim at the level of concern while the last reading is short of it, then
+        // at the limit.
+        let target = match series.concern {
+            Some(c) if !past_concern && !exceeded => Some((c.level, Some(c.words))),
+            _ => series.limit.map(|l| (l, None)),
+        };
+        if let Some((limit, words)) = target {
             let x_last = *w.x.last().unwrap_or(&0.0);
             let inp = ProjectionInput {
                 fit: &ls,
@@ -381,7 +424,7 @@ fn analyse_baseline(
                 && beyond_noise
                 && p.date < next_due
             {
-                findings.push(approaching(q, &last, limit.value, &p, next_due));
+                findings.push(approaching(q, &last, (limit.value, words), &p, next_due));
             }
         }
     } else if base.len() >= 2 {
@@ -425,13 +468,48 @@ fn limit_check(series: &Series, last: &Point) -> Option<Finding> {
         LimitKind::Min => ("minimum", "below"),
     };
     let sentence = format!(
-        "{} at the last visit ({}) was {}, {side} the {word} of {}.",
+        "{} at the last visit ({}) was {}, {side} the {word} of {}{}.",
+        q.label(),
+        last.date,
+        reading_words(q, last),
+        fmt_value(q, limit.value, false),
+        if q.temperature_sensitive() {
+            " at 20 °C"
+        } else {
+            ""
+        },
+    );
+    let mut f = Finding::new(FindingKind::Exceeds, q, last.date, sentence);
+    f.to_value = Some(last.value);
+    Some(f)
+}
+
+/// The last reading past the series' level of concern (inside its limit is the caller's
+/// business: this is not asked when the limit is already exceeded).
+fn concern_check(series: &Series, last: &Point) -> Option<Finding> {
+    let q = series.quantity;
+    let c = series.concern?;
+    let past = match c.level.kind {
+        LimitKind::Max => last.value > c.level.value,
+        LimitKind::Min => !last.censored && last.value < c.level.value,
+    };
+    if !past {
+        return None;
+    }
+    let side = match c.level.kind {
+        LimitKind::Max => "above",
+        LimitKind::Min => "below",
+    };
+    let sentence = format!(
+        "{} at the last visit ({}) was {}, {side} {} of {}; {}.",
         q.label(),
         last.date,
         fmt_value(q, last.value, last.censored),
-        fmt_value(q, limit.value, false),
+        c.words,
+        fmt_value(q, c.level.value, false),
+        c.advice,
     );
-    let mut f = Finding::new(FindingKind::Exceeds, q, last.date, sentence);
+    let mut f = Finding::new(FindingKind::Investigate, q, last.date, sentence);
     f.to_value = Some(last.value);
     Some(f)
 }
@@ -455,7 +533,7 @@ fn steps(
         else {
             continue;
         };
-        let f = floor.at(w.y[prev]);
+        let f = floor.at(w.y[prev]) + w.unknown_temperature(&[prev, i]);
         if jump <= f {
             continue;
         }
@@ -470,11 +548,13 @@ fn steps(
             *v -= shift;
         }
         stepped = true;
+        // The prediction on the readings' own scale (with earlier steps put back), so that the
+        // reading less the prediction is the unexplained part the sentence names.
         out.push(step_finding(
             q,
             from,
             to,
-            from_work(q, predicted),
+            from_work(q, w.y[i] - shift),
             unexplained,
             f,
         ));
@@ -511,45 +591,38 @@ fn step_finding(
     unexplained: f64,
     floor: f64,
 ) -> Finding {
-    let verb = match q.worse() {
-        Worse::Higher => "rose",
-        Worse::Lower => "fell",
+    let (verb, noun) = match q.worse() {
+        Worse::Higher => ("rose", "rise"),
+        Worse::Lower => ("fell", "fall"),
     };
-    let sentence = match (q, q.scale()) {
-        (Quantity::Ze, _) => format!(
-            "Ze {verb} from {} to {} between the visits of {} and {}, {} more than the earlier readings predicted (noise floor {}); a rise in Ze is a supply or earthing matter to report to the network operator.",
-            fmt_value(q, from.value, from.censored),
-            fmt_value(q, to.value, to.censored),
-            from.date,
-            to.date,
-            fmt_value(q, unexplained, false),
-            fmt_value(q, floor, false),
-        ),
-        (_, Scale::Log10) => format!(
-            "{} {verb} from {} to {} between the visits of {} and {}, {} {} fall that the earlier readings do not explain (noise floor a factor of {:.1}).",
+    let (a, b) = (
+        fmt_value(q, from.value, from.censored),
+        fmt_value(q, to.value, to.censored),
+    );
+    let basis = basis_words(q, &[from, to]);
+    let sentence = match q.scale() {
+        Scale::Log10 => format!(
+            "{} {verb} from {a} to {b} between the visits of {} and {}, {} {} {noun} that the earlier readings do not explain (noise floor a factor of {:.1}){}.",
             q.label(),
-            fmt_value(q, from.value, from.censored),
-            fmt_value(q, to.value, to.censored),
             from.date,
             to.date,
             if from.censored { "at least a" } else { "a" },
             fmt_fold(10f64.powf(unexplained)),
             10f64.powf(floor),
+            meaning_tail(q),
         ),
-        _ => format!(
-            "{} {verb} from {} to {} between the visits of {} and {}, {} more than the earlier readings predicted (about {}, noise floor {}); {}.",
+        Scale::Linear => format!(
+            "{} {verb} from {a} to {b}{basis} between the visits of {} and {}, {} more than the earlier readings predicted (about {}), beyond the noise floor of {}{}.",
             q.label(),
-            fmt_value(q, from.value, from.censored),
-            fmt_value(q, to.value, to.censored),
             from.date,
             to.date,
             fmt_value(q, unexplained, false),
             fmt_value(q, predicted, false),
             fmt_value(q, floor, false),
-            step_meaning(q),
+            meaning_tail(q),
         ),
     };
-    let kind = if q == Quantity::Ze {
+    let kind = if matches!(q, Quantity::Ze | Quantity::ZeTt) {
         FindingKind::ZeRise
     } else {
         FindingKind::Step
@@ -561,6 +634,47 @@ fn step_finding(
     f.change = Some(unexplained);
     f.floor = Some(floor);
     f
+}
+
+/// A reading in words on the basis it is judged: for a conductor resistance, as measured and
+/// at 20 °C (or as measured only, with no ambient to correct it by).
+fn reading_words(q: Quantity, p: &Point) -> String {
+    let v = fmt_value(q, p.value, p.censored);
+    if !q.temperature_sensitive() {
+        return v;
+    }
+    match p.ambient_c {
+        Some(_) => format!(
+            "{} as measured, {v} at 20 °C",
+            fmt_value(q, p.raw, p.censored)
+        ),
+        None => format!("{v} as measured (no ambient recorded, so not corrected to 20 °C)"),
+    }
+}
+
+/// The basis of values shown side by side: at 20 °C, as measured, or a mix.
+fn basis_words(q: Quantity, pts: &[&Point]) -> &'static str {
+    if !q.temperature_sensitive() {
+        return "";
+    }
+    let with = pts.iter().filter(|p| p.ambient_c.is_some()).count();
+    if with == pts.len() {
+        " at 20 °C"
+    } else if with == 0 {
+        " as measured, no ambient recorded"
+    } else {
+        " at 20 °C where the ambient was recorded"
+    }
+}
+
+/// What a worsening of the quantity usually means, as the end of a sentence.
+fn meaning_tail(q: Quantity) -> String {
+    match q {
+        Quantity::Ze => "; a rise in Ze is a supply or earthing matter to report to the network operator".into(),
+        Quantity::ZeTt => "; on a TT installation Ze includes the installation's own earth electrode, so a rise like this points to the electrode or its connection, the landlord's to put right".into(),
+        Quantity::IrLl | Quantity::IrLe => String::new(),
+        _ => format!("; {}", step_meaning(q)),
+    }
 }
 
 /// The drift finding, if any, and the robust slope it was judged on.
@@ -591,7 +705,7 @@ fn drift_finding(
     let n = adjusted.len();
     let years = w.x[n - 1] - w.x[0];
     let change = w.sign * slope * years;
-    let f = floor.at(adjusted[0]);
+    let f = floor.at(adjusted[0]) + w.unknown_temperature(&[0, n - 1]);
     if change <= f {
         return None;
     }
@@ -600,35 +714,35 @@ fn drift_finding(
         Worse::Higher => "risen",
         Worse::Lower => "fallen",
     };
-    let sentence = match (q, q.scale()) {
-        (Quantity::Ze, _) => format!(
-            "Ze has {verb} by {} over {years:.1} years ({} a year, from {} to {}), beyond the noise floor of {}; a rise in Ze is a supply or earthing matter to report to the network operator.",
-            fmt_value(q, change, false),
-            fmt_value(q, slope, false),
-            fmt_value(q, first.value, first.censored),
-            fmt_value(q, last.value, last.censored),
-            fmt_value(q, f, false),
-        ),
-        (_, Scale::Log10) => format!(
-            "{} has {verb} {} {} over {years:.1} years (from {} to {}), beyond the noise floor of a factor of {:.1}.",
+    let (a, b) = (
+        fmt_value(q, first.value, first.censored),
+        fmt_value(q, last.value, last.censored),
+    );
+    let sentence = match q.scale() {
+        Scale::Log10 => format!(
+            "{} has {verb} {} {} over {years:.1} years on its fitted trend (readings from {a} to {b}), beyond the noise floor of a factor of {:.1}{}.",
             q.label(),
             if first.censored { "at least" } else { "about" },
             fmt_fold(10f64.powf(change)),
-            fmt_value(q, first.value, first.censored),
-            fmt_value(q, last.value, last.censored),
             10f64.powf(f),
+            meaning_tail(q),
         ),
-        _ => format!(
-            "{} has {verb} by {} over {years:.1} years ({} a year, from {} to {}), beyond the noise floor of {}.",
+        Scale::Linear => format!(
+            "{} has {verb} by {} over {years:.1} years, {} a year on its fitted trend (readings from {a} to {b}{}), beyond the noise floor of {}{}.",
             q.label(),
             fmt_value(q, change, false),
-            fmt_value(q, slope, false),
-            fmt_value(q, first.value, first.censored),
-            fmt_value(q, last.value, last.censored),
+            fmt_rate(q, w.sign * slope),
+            basis_words(q, &[first, last]),
             fmt_value(q, f, false),
+            if q == Quantity::Rcd {
+                String::new()
+            } else {
+                meaning_tail(q)
+            }
+            .replace("a sudden rise", "a rise"),
         ),
     };
-    let kind = if q == Quantity::Ze {
+    let kind = if matches!(q, Quantity::Ze | Quantity::ZeTt) {
         FindingKind::ZeRise
     } else {
         FindingKind::Drift
@@ -646,15 +760,15 @@ fn drift_finding(
 fn approaching(
     q: Quantity,
     last: &Point,
-    limit: f64,
+    (limit, words): (f64, Option<&'static str>),
     p: &Projection,
     next_due: NaiveDate,
 ) -> Finding {
     let months = recommended_interval(last.date, p.earliest, next_due);
-    let word = match q.worse() {
-        Worse::Higher => "maximum",
-        Worse::Lower => "minimum",
-    };
+    let word = words.unwrap_or(match q.worse() {
+        Worse::Higher => "its maximum",
+        Worse::Lower => "its minimum",
+    });
     let latest = p
         .latest
         .map_or("later".to_string(), |d| d.format("%Y-%m").to_string());
@@ -669,7 +783,7 @@ fn approaching(
         )
     };
     let sentence = format!(
-        "{} is projected to reach its {word} of {} around {} (between {} and {}), before the next inspection due {next_due}; {advice}.",
+        "{} is projected to reach {word} of {} around {} (between {} and {}), before the next inspection due {next_due}; {advice}.",
         q.label(),
         fmt_value(q, limit, false),
         p.date.format("%Y-%m"),

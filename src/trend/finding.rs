@@ -22,6 +22,9 @@ pub enum FindingKind {
     Exceeds,
     /// The fitted line reaches the limit before the next due inspection.
     Approaching,
+    /// Past a level that calls for investigation, though inside the limit (insulation below
+    /// 2 MΩ, a TT installation's Ze above 200 Ω).
+    Investigate,
 }
 
 /// How a finding ranks on the worklist. Ordered so that `Exceeds` is the greatest.
@@ -40,7 +43,7 @@ impl FindingKind {
     pub fn severity(self) -> Severity {
         match self {
             FindingKind::Exceeds => Severity::Exceeds,
-            FindingKind::Approaching => Severity::Approaching,
+            FindingKind::Approaching | FindingKind::Investigate => Severity::Approaching,
             _ => Severity::Changed,
         }
     }
@@ -180,6 +183,17 @@ pub(crate) fn fmt_value(q: Quantity, v: f64, censored: bool) -> String {
     } else {
         format!("{n} {}", q.unit())
     }
+}
+
+/// A rate per year in words, one place finer than [`fmt_value`] so that rate × years gives
+/// back the change: `0.031 Ω`, `0.6 ms`.
+pub(crate) fn fmt_rate(q: Quantity, v: f64) -> String {
+    let n = match q.unit() {
+        "ms" => format!("{v:.1}"),
+        _ if v.abs() >= 10.0 => format!("{v:.1}"),
+        _ => format!("{v:.3}"),
+    };
+    format!("{n} {}", q.unit())
 }
 
 /// A ratio in words: `12.5-fold`, `100-fold`.

@@ -28,7 +28,7 @@ pub(crate) use detect::divergence_sorted;
 pub use detect::{Fit, SeriesReport, analyse, analyse_series, neutral_divergence};
 pub use finding::{Finding, FindingKind, Projection, Severity, compare_urgency, rank};
 pub use project::{recommended_interval, whole_months};
-pub use series::{Limit, LimitKind, Point, Quantity, RingLeg, Scale, Series, Worse};
+pub use series::{Concern, Limit, LimitKind, Point, Quantity, RingLeg, Scale, Series, Worse};
 
 impl std::fmt::Display for LimitKind {
     fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {

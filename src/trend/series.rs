@@ -19,6 +19,9 @@ pub enum RingLeg {
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, PartialOrd, Ord)]
 pub enum Quantity {
     Ze,
+    /// Ze of a TT installation: the supply's loop and the installation's own earth electrode.
+    /// It swings with the seasons by a factor, so it is judged on a log scale.
+    ZeTt,
     Zs,
     R1r2,
     R1rn,
@@ -51,7 +54,7 @@ pub enum Scale {
 impl Quantity {
     pub fn key(self) -> &'static str {
         match self {
-            Quantity::Ze => "ze",
+            Quantity::Ze | Quantity::ZeTt => "ze",
             Quantity::Zs => "zs",
             Quantity::R1r2 => "r1r2",
             Quantity::R1rn => "r1rn",
@@ -67,6 +70,7 @@ impl Quantity {
     pub fn label(self) -> &'static str {
         match self {
             Quantity::Ze => "Ze",
+            Quantity::ZeTt => "Ze (TT, with the earth electrode)",
             Quantity::Zs => "Zs",
             Quantity::R1r2 => "R1+R2",
             Quantity::R1rn => "R1+Rn",
@@ -97,7 +101,7 @@ impl Quantity {
 
     pub fn scale(self) -> Scale {
         match self {
-            Quantity::IrLl | Quantity::IrLe => Scale::Log10,
+            Quantity::IrLl | Quantity::IrLe | Quantity::ZeTt => Scale::Log10,
             _ => Scale::Linear,
         }
     }
@@ -210,6 +214,18 @@ impl Point {
     }
 }
 
+/// A level short of the limit at which a reading already calls for investigation: 2 MΩ for
+/// insulation resistance, 200 Ω for a TT installation's Ze. Projections aim at it when the
+/// series has one.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct Concern {
+    pub level: Limit,
+    /// What the level is, in words: "the investigation level".
+    pub words: &'static str,
+    /// What a reading past it calls for, in words.
+    pub advice: &'static str,
+}
+
 /// Every reading of one quantity on one circuit (or origin), with the events that restart it.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct Series {
@@ -220,6 +236,7 @@ pub struct Series {
     /// replaced). The trend restarts from the first point on or after the latest reset.
     pub baseline_resets: Vec<NaiveDate>,
     pub limit: Option<Limit>,
+    pub concern: Option<Concern>,
 }
 
 impl Series {
@@ -229,6 +246,7 @@ impl Series {
             points,
             baseline_resets: Vec::new(),
             limit: None,
+            concern: None,
         }
     }
 

@@ -31,7 +31,9 @@ fn termination_loosening_at_the_third_visit_is_one_step() {
     // 0.48, 0.49, then 0.85 Ω. The jump 0.49 → 0.85 = 0.36 Ω; floor at 0.49 Ω is
     // 0.01 + 0.02 + 0.0245 = 0.0545 Ω. The earlier line rises 0.01 Ω in 5 years, so it
     // predicts about 0.50 Ω at 2022: 0.35 Ω unexplained, a step. The fourth visit (0.86)
-    // continues from the new level, so it is neither a second step nor a drift.
+    // continues from the new level, so it is neither a second step nor a drift. No ambient
+    // was recorded, so the floor gains 4 % of the larger reading for the unknown conductor
+    // temperature: 0.0545 + 0.04 × 0.85 = 0.0885 Ω.
     let s = raw_series(
         Quantity::R1r2,
         &[
@@ -49,7 +51,7 @@ fn termination_loosening_at_the_third_visit_is_one_step() {
     assert_eq!(f.severity, Severity::Changed);
     let change = f.change.unwrap();
     assert!((change - 0.35).abs() < 0.005, "{change}");
-    assert!((f.floor.unwrap() - 0.0545).abs() < 1e-9);
+    assert!((f.floor.unwrap() - 0.0885).abs() < 1e-9);
     assert!(f.sentence.contains("0.49 Ω to 0.85 Ω"), "{}", f.sentence);
     assert!(f.sentence.contains("termination"), "{}", f.sentence);
     assert_eq!(f.last_value, 0.86);
@@ -381,7 +383,7 @@ fn single_visit_has_no_trend_but_is_judged() {
     assert_eq!(f.severity, Severity::Exceeds);
     assert_eq!(
         f.sentence,
-        "Zs at the last visit (2024-03-05) was 1.20 Ω, above the maximum of 1.09 Ω."
+        "Zs at the last visit (2024-03-05) was 1.20 Ω as measured (no ambient recorded, so not corrected to 20 °C), above the maximum of 1.09 Ω at 20 °C."
     );
     assert!((f.margin_used.unwrap() - 1.20 / 1.09).abs() < 1e-12);
 
@@ -473,21 +475,38 @@ fn a_slope_inside_the_noise_projects_nothing() {
 
 #[test]
 fn rcd_times_step_and_exceed() {
-    // 5 × IΔn times 18, 20, 19, then 45 ms; general type at 5 × IΔn ≤ 40 ms
-    // (BS EN 61008-1 / 61009-1; BS 7671 Regulation 643.8). Floor at 19 ms:
-    // 1 + 5 + 1.9 = 7.9 ms; the 26 ms jump is a step, and 45 ms is past the maximum.
-    let s = raw_series(
+    // 1 × IΔn times of a general type RCD, at most 300 ms (BS 7671:2018+A2:2022 Reg 643.8;
+    // BS EN 61008-1 / 61009-1). Invented readings with ordinary point-on-wave scatter.
+    // Floor at 19 ms: 1 + 40 + 0.20 × 19 = 44.8 ms; 18 → 31 ms is scatter, not a finding.
+    let quiet = raw_series(
         Quantity::Rcd,
         &[
             (d(2012, 2, 1), 18.0),
-            (d(2016, 2, 1), 20.0),
+            (d(2016, 2, 1), 22.0),
             (d(2020, 2, 1), 19.0),
-            (d(2024, 2, 1), 45.0),
+            (d(2024, 2, 1), 31.0),
         ],
     )
-    .with_limit(Limit::max(40.0));
-    let r = analyse(&s, d(2029, 2, 1), &cfg()).unwrap();
-    assert_eq!(kinds(&r), vec![FindingKind::Exceeds, FindingKind::Step]);
+    .with_limit(Limit::max(300.0));
+    let r = analyse(&quiet, d(2029, 2, 1), &cfg()).unwrap();
+    assert!(r.findings.is_empty(), "{:#?}", r.findings);
+    // A jump to 150 ms is 131 ms over the earlier readings: a step, still within 300 ms.
+    let slow = raw_series(
+        Quantity::Rcd,
+        &[
+            (d(2012, 2, 1), 18.0),
+            (d(2016, 2, 1), 22.0),
+            (d(2020, 2, 1), 19.0),
+            (d(2024, 2, 1), 150.0),
+        ],
+    )
+    .with_limit(Limit::max(300.0));
+    let r = analyse(&slow, d(2029, 2, 1), &cfg()).unwrap();
+    assert_eq!(kinds(&r), vec![FindingKind::Step]);
+    // 5 × IΔn at 45 ms is past its 40 ms maximum (general type).
+    let five = raw_series(Quantity::Rcd, &[(d(2024, 2, 1), 45.0)]).with_limit(Limit::max(40.0));
+    let r = analyse(&five, d(2029, 2, 1), &cfg()).unwrap();
+    assert_eq!(kinds(&r), vec![FindingKind::Exceeds]);
     assert!(
         r.findings[0]
             .sentence
