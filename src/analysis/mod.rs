@@ -11,6 +11,8 @@ mod series;
 pub mod settings;
 #[cfg(test)]
 mod tests;
+#[cfg(test)]
+mod trust_tests;
 
 use foldhash::HashMap;
 use std::borrow::Cow;

@@ -928,11 +928,12 @@ pub(super) fn circuit_analysis(
     // shows every finding under its series.
     let telling = |k: &str| match k {
         "exceeds" | "ring_check" => 0,
-        "approaching" => 1,
-        "step" => 2,
-        "neutral_divergence" => 3,
-        "ze_rise" => 4,
-        _ => 5,
+        "investigate" => 1,
+        "approaching" => 2,
+        "step" => 3,
+        "neutral_divergence" => 4,
+        "ze_rise" => 5,
+        _ => 6,
     };
     flags.sort_by(|a, b| {
         a.quantity

@@ -6,16 +6,16 @@ use super::*;
 use crate::model::{ChangeKind, CircuitKind, Megohms, Readings, VisitState};
 use crate::store::{CircuitDetails, NewBoard, NewProperty, NewVisit, Store};
 
-fn d(y: i32, m: u32, day: u32) -> NaiveDate {
+pub(super) fn d(y: i32, m: u32, day: u32) -> NaiveDate {
     NaiveDate::from_ymd_opt(y, m, day).unwrap()
 }
 
-fn settings() -> Settings {
+pub(super) fn settings() -> Settings {
     Settings::defaults(d(2026, 6, 1))
 }
 
 /// A property with board CU1 (TN-C-S) and circuit 1: a 2.5/1.5 ring on a B32 with a 30 mA RCD.
-fn home() -> Store {
+pub(super) fn home() -> Store {
     let s = Store::open_in_memory().unwrap();
     s.add_property(&NewProperty {
         reference: "T-1".into(),
@@ -50,7 +50,7 @@ fn home() -> Store {
 }
 
 /// Record a visit with readings for (board, circuit) pairs.
-fn visit(
+pub(super) fn visit(
     s: &Store,
     date: NaiveDate,
     ambient: Option<f64>,
@@ -76,7 +76,7 @@ fn visit(
     }
 }
 
-fn loops(r1r2: f64, r1rn: f64) -> Readings {
+pub(super) fn loops(r1r2: f64, r1rn: f64) -> Readings {
     Readings {
         r1r2_ohm: Some(r1r2),
         r1rn_ohm: Some(r1rn),
@@ -84,7 +84,7 @@ fn loops(r1r2: f64, r1rn: f64) -> Readings {
     }
 }
 
-fn flags_of(s: &Store) -> Vec<Flag> {
+pub(super) fn flags_of(s: &Store) -> Vec<Flag> {
     worklist(s, &settings(), &WorklistFilter::default()).unwrap()
 }
 
