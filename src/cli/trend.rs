@@ -27,6 +27,7 @@ struct TrendOut<'a> {
     next_due: Option<chrono::NaiveDate>,
     recommended_next: Option<chrono::NaiveDate>,
     visits_without_ambient: &'a [chrono::NaiveDate],
+    continuity_offsets: &'a [ohmtrail::analysis::offsets::VisitOffset],
     supply: Option<&'a SeriesAnalysis>,
     circuits: Vec<&'a CircuitAnalysis>,
 }
@@ -69,6 +70,7 @@ pub fn run(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
                 next_due: a.next_due,
                 recommended_next: a.recommended_next,
                 visits_without_ambient: &a.visits_without_ambient,
+                continuity_offsets: &a.continuity_offsets,
                 supply: if args.circuit.is_none() {
                     a.supply.as_ref()
                 } else {
@@ -96,6 +98,9 @@ pub fn run(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
                 .collect::<Vec<_>>()
                 .join(", ")
         )?;
+    }
+    for o in &a.continuity_offsets {
+        writeln!(out, "{}", o.note)?;
     }
     if args.circuit.is_none()
         && let Some(s) = &a.supply

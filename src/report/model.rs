@@ -274,6 +274,8 @@ pub struct Method {
     pub noise_floors: Vec<FloorEntry>,
     pub trend_words: Vec<String>,
     pub visits_without_ambient: Vec<NaiveDate>,
+    /// One note per visit whose continuity readings all sat high together (leads not nulled).
+    pub continuity_offsets: Vec<String>,
 }
 
 #[derive(Debug, Clone, Serialize)]
@@ -993,6 +995,11 @@ fn method(a: &PropertyAnalysis) -> Method {
             ),
         ],
         visits_without_ambient: a.visits_without_ambient.clone(),
+        continuity_offsets: a
+            .continuity_offsets
+            .iter()
+            .map(|o| o.note.clone())
+            .collect(),
     }
 }
 

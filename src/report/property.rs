@@ -576,6 +576,9 @@ fn method(o: &mut String, r: &PropertyReport) {
             dates.join(", ")
         );
     }
+    for note in &m.continuity_offsets {
+        let _ = writeln!(o, "<dd>{}.</dd>", esc(&upper_first(note)));
+    }
     let _ = writeln!(
         o,
         "<dt>Limit for a Zs reading taken cold</dt><dd>{}</dd>",
@@ -624,4 +627,13 @@ pub(super) fn cautions(o: &mut String, cautions: &[String]) {
         let _ = writeln!(o, "<li>{}</li>", esc(c));
     }
     o.push_str("</ul>\n</aside>\n");
+}
+
+/// A note as a sentence: its first letter in capitals.
+fn upper_first(s: &str) -> String {
+    let mut c = s.chars();
+    match c.next() {
+        Some(f) => f.to_uppercase().chain(c).collect(),
+        None => String::new(),
+    }
 }

@@ -602,12 +602,13 @@ fn step_finding(
     let basis = basis_words(q, &[from, to]);
     let sentence = match q.scale() {
         Scale::Log10 => format!(
-            "{} {verb} from {a} to {b} between the visits of {} and {}, {} {} {noun} that the earlier readings do not explain (noise floor a factor of {:.1}){}.",
+            "{} {verb} from {a} to {b} between the visits of {} and {}, {} {} {noun} from what the earlier readings predicted (about {}), beyond the noise floor of a factor of {:.1}{}.",
             q.label(),
             from.date,
             to.date,
             if from.censored { "at least a" } else { "a" },
             fmt_fold(10f64.powf(unexplained)),
+            fmt_value(q, predicted, from.censored),
             10f64.powf(floor),
             meaning_tail(q),
         ),
@@ -869,17 +870,18 @@ pub(crate) fn divergence_sorted(
     // - the gap R1+Rn − R1+R2 is Rn − R2: a fault on the shared line conductor raises both
     //   loops alike and cancels there, where the ratio view would leak (1 − ratio) of it.
     // A neutral working loose raises both views by the same amount.
-    let rise_of = |excess: &dyn Fn(&Point, &Point) -> f64| -> Option<f64> {
+    // Each view as (median of the earlier visits, last visit).
+    let view = |excess: &dyn Fn(&Point, &Point) -> f64| -> Option<(f64, f64)> {
         let mut before: Vec<f64> = earlier.iter().map(|(p2, pn)| excess(p2, pn)).collect();
-        let base = median(&mut before)?;
-        Some(excess(last2, lastn) - base)
+        Some((median(&mut before)?, excess(last2, lastn)))
     };
-    let (Some(by_ratio), Some(by_gap)) = (
-        rise_of(&|p2, pn| pn.value - expected_ratio * p2.value),
-        rise_of(&|p2, pn| pn.value - p2.value),
+    let (Some(ratio_view), Some(gap_view)) = (
+        view(&|p2, pn| pn.value - expected_ratio * p2.value),
+        view(&|p2, pn| pn.value - p2.value),
     ) else {
         return None;
     };
+    let (by_ratio, by_gap) = (ratio_view.1 - ratio_view.0, gap_view.1 - gap_view.0);
     let rise = by_ratio.min(by_gap);
     let (first2, firstn) = earlier[0];
     let floor = cfg.floor_for(Quantity::R1rn).at(firstn.value);
@@ -887,14 +889,27 @@ pub(crate) fn divergence_sorted(
         return None;
     }
     let q = Quantity::R1rn;
+    // The sentence names the smaller of the two views, with the figures it was worked from.
+    let (what, (before, after)) = if by_gap <= by_ratio {
+        ("R1+Rn − R1+R2".to_string(), gap_view)
+    } else {
+        (format!("R1+Rn − {expected_ratio:.2} × R1+R2"), ratio_view)
+    };
     let sentence = format!(
-        "R1+Rn rose from {} to {} between {} and {} while R1+R2 went from {} to {}: R1+Rn gained {} more than R1+R2 (noise floor {}; for sound conductors of these sizes R1+Rn ≈ {:.2} × R1+R2), which points to the neutral path.",
+        "R1+Rn rose from {} to {} between {} and {} while R1+R2 went from {} to {}: {what} went from {} ({}) to {} at the last visit, a rise of {} beyond the noise floor of {} (for sound conductors of these sizes R1+Rn ≈ {:.2} × R1+R2), which points to the neutral path.",
         fmt_value(q, firstn.value, false),
         fmt_value(q, lastn.value, false),
         firstn.date,
         lastn.date,
         fmt_value(q, first2.value, false),
         fmt_value(q, last2.value, false),
+        fmt_signed(q, before),
+        if earlier.len() == 1 {
+            "the earlier visit".to_string()
+        } else {
+            format!("the median of the {} earlier visits", earlier.len())
+        },
+        fmt_signed(q, after),
         fmt_value(q, rise, false),
         fmt_value(q, floor, false),
         expected_ratio,
@@ -910,6 +925,15 @@ pub(crate) fn divergence_sorted(
     f.floor = Some(floor);
     f.limit = limit;
     Some(f)
+}
+
+/// A difference that may be negative, in words: `−0.14 Ω`.
+fn fmt_signed(q: Quantity, v: f64) -> String {
+    if v < 0.0 {
+        format!("−{}", fmt_value(q, -v, false))
+    } else {
+        fmt_value(q, v, false)
+    }
 }
 
 /// What a sudden rise in a quantity usually means on site, in words.
