@@ -1,0 +1,237 @@
+//! Every sentence adds up: the figures in each reason are parsed back out and re-computed, on
+//! the demo portfolio (and on any portfolio handed to [`check_all`]). A reason that no pattern
+//! knows fails too, so a new kind of sentence must come with its check.
+
+use chrono::NaiveDate;
+use regex::Regex;
+
+use ohmtrail::analysis::{self, Flag, Settings, WorklistFilter};
+use ohmtrail::store::Store;
+
+/// A displayed number and half a unit of its last place: what rounding may have moved it by.
+fn num(s: &str) -> (f64, f64) {
+    let t = s.replace('−', "-");
+    let v: f64 = t.parse().unwrap_or_else(|_| panic!("not a number: {s:?}"));
+    let places = t.split_once('.').map_or(0, |(_, f)| f.len());
+    (v, 0.5 * 10f64.powi(-(places as i32)) + 1e-9)
+}
+
+struct Checks {
+    exceeds: Regex,
+    step: Regex,
+    step_log: Regex,
+    drift: Regex,
+    drift_log: Regex,
+    approaching: Regex,
+    neutral: Regex,
+    advisory: Regex,
+    investigate: Regex,
+    ring_ends: Regex,
+    ring_ratio: Regex,
+    ring_cross: Regex,
+}
+
+const N: &str = r"(−?[0-9]+(?:\.[0-9]+)?)";
+
+impl Checks {
+    fn new() -> Checks {
+        let r = |p: &str| Regex::new(&p.replace("N", N)).unwrap();
+        Checks {
+            exceeds: r(
+                r"was (?:more than )?N (Ω|MΩ|ms)(?: as measured, N Ω at 20 °C)?[^,]*, (above|below) the (?:maximum|minimum) of N (?:Ω|MΩ|ms)",
+            ),
+            step: r(
+                r"from N (Ω|ms) to N (?:Ω|ms).* between the visits of .*?, N (?:Ω|ms) more than the earlier readings predicted \(about N (?:Ω|ms)\), beyond the noise floor of N",
+            ),
+            step_log: r(
+                r"from (?:more than )?N (?:MΩ|Ω) to N (?:MΩ|Ω) between the visits of .*?, (?:at least )?a N-fold (fall|rise) from what the earlier readings predicted \(about (?:more than )?N (?:MΩ|Ω)\)",
+            ),
+            drift: r(
+                r"has (?:risen|fallen) by N (?:Ω|ms) over N years, N (?:Ω|ms) a year on its fitted trend \(readings from N (?:Ω|ms) to N (?:Ω|ms)",
+            ),
+            drift_log: r(
+                r"has (?:risen|fallen) (?:about|at least) N-fold over N years on its fitted trend",
+            ),
+            approaching: r(
+                r"is projected to reach .* of N (?:Ω|MΩ|ms) around ([0-9]{4}-[0-9]{2}) \(between ([0-9]{4}-[0-9]{2}) and ([0-9]{4}-[0-9]{2}|later)\), before the next inspection due ([0-9]{4}-[0-9]{2})",
+            ),
+            neutral: r(
+                r"went from N Ω \([^)]*\) to N Ω at the last visit, a rise of N Ω beyond the noise floor of N Ω",
+            ),
+            advisory: r(r"Ze N Ω is above the N Ω typically declared"),
+            investigate: r(
+                r"at the last visit \([0-9-]+\) was N (?:MΩ|Ω), (below|above) the (?:investigation level|level above which) [^;]*?of N (?:MΩ|Ω);",
+            ),
+            ring_ends: r(r"r1 N Ω and rn N Ω differ by N Ω, more than the N Ω"),
+            ring_ratio: r(
+                r"r2 / r1 is N \(r2 N Ω, r1 N Ω\) against N expected for [^,]*, N % away, more than N %",
+            ),
+            ring_cross: r(r"highest R1\+R[2n] N Ω is N Ω below \([^)]*\) = N Ω, more than N Ω"),
+        }
+    }
+
+    /// Checks one reason; returns how many patterns recognised it.
+    fn check(&self, f: &Flag, reason: &str) -> usize {
+        let mut known = 0;
+        let c = |m: &regex::Captures, i: usize| num(&m[i]);
+        if let Some(m) = self.exceeds.captures(reason) {
+            known += 1;
+            let shown = c(&m, 1);
+            let judged = m.get(3).map_or(shown, |_| c(&m, 3));
+            let limit = c(&m, 5);
+            let ok = if &m[4] == "above" {
+                judged.0 + judged.1 > limit.0 - limit.1
+            } else {
+                judged.0 - judged.1 < limit.0 + limit.1
+            };
+            assert!(ok, "not past its limit: {reason}");
+            if f.kind == "exceeds" {
+                assert!(
+                    (f.last_value - judged.0).abs() <= judged.1,
+                    "last_value {} is not the judged figure: {reason}",
+                    f.last_value
+                );
+                assert_eq!(f.limit, Some(limit.0), "{reason}");
+            }
+        }
+        if let Some(m) = self.step.captures(reason) {
+            known += 1;
+            let (to, more, pred) = (c(&m, 3), c(&m, 4), c(&m, 5));
+            assert!(
+                (to.0 - pred.0 - more.0).abs() <= to.1 + pred.1 + more.1,
+                "reading − prediction ≠ the amount named: {reason}"
+            );
+            assert!(
+                more.0 > c(&m, 6).0 - c(&m, 6).1,
+                "not beyond the floor: {reason}"
+            );
+        }
+        if let Some(m) = self.step_log.captures(reason) {
+            known += 1;
+            let (to, fold, pred) = (c(&m, 2), c(&m, 3), c(&m, 5));
+            let ratio = if &m[4] == "fall" {
+                pred.0 / to.0
+            } else {
+                to.0 / pred.0
+            };
+            let slack = fold.0 * (pred.1 / pred.0 + to.1 / to.0) + fold.1;
+            assert!(
+                (ratio - fold.0).abs() <= slack + 1e-6,
+                "the fold is not prediction / reading ({ratio}): {reason}"
+            );
+        }
+        if let Some(m) = self.drift.captures(reason) {
+            known += 1;
+            let (change, years, rate) = (c(&m, 1), c(&m, 2), c(&m, 3));
+            let slack = rate.1 * years.0 + years.1 * rate.0.abs() + change.1;
+            assert!(
+                (rate.0 * years.0 - change.0).abs() <= slack,
+                "rate × years ≠ change: {reason}"
+            );
+        }
+        if self.drift_log.is_match(reason) {
+            known += 1;
+        }
+        if let Some(m) = self.approaching.captures(reason) {
+            known += 1;
+            let (at, early, late, due) = (&m[2], &m[3], &m[4], &m[5]);
+            assert!(early <= at, "earliest after the date: {reason}");
+            assert!(
+                late == "later" || at <= late,
+                "latest before the date: {reason}"
+            );
+            assert!(at <= due, "not before the next due date: {reason}");
+        }
+        if let Some(m) = self.neutral.captures(reason) {
+            known += 1;
+            let (g0, g1, rise, floor) = (c(&m, 1), c(&m, 2), c(&m, 3), c(&m, 4));
+            assert!(
+                (g1.0 - g0.0 - rise.0).abs() <= g0.1 + g1.1 + rise.1,
+                "last − earlier ≠ rise: {reason}"
+            );
+            assert!(rise.0 > floor.0 - floor.1, "{reason}");
+        }
+        if let Some(m) = self.advisory.captures(reason) {
+            known += 1;
+            assert!(c(&m, 1).0 > c(&m, 2).0, "{reason}");
+        }
+        if let Some(m) = self.investigate.captures(reason) {
+            known += 1;
+            let (v, level) = (c(&m, 1), c(&m, 3));
+            if &m[2] == "below" {
+                assert!(v.0 < level.0 + level.1, "{reason}");
+            } else {
+                assert!(v.0 > level.0 - level.1, "{reason}");
+            }
+        }
+        if let Some(m) = self.ring_ends.captures(reason) {
+            known += 1;
+            let (a, b, d, t) = (c(&m, 1), c(&m, 2), c(&m, 3), c(&m, 4));
+            assert!(
+                ((a.0 - b.0).abs() - d.0).abs() <= a.1 + b.1 + d.1,
+                "{reason}"
+            );
+            assert!(d.0 > t.0, "{reason}");
+        }
+        if let Some(m) = self.ring_ratio.captures(reason) {
+            known += 1;
+            let (q, r2, r1, want, pct, t) =
+                (c(&m, 1), c(&m, 2), c(&m, 3), c(&m, 4), c(&m, 5), c(&m, 6));
+            assert!((r2.0 / r1.0 - q.0).abs() <= 0.02 + q.1, "{reason}");
+            assert!(
+                ((q.0 / want.0 - 1.0).abs() * 100.0 - pct.0).abs() <= 2.0,
+                "{reason}"
+            );
+            assert!(pct.0 > t.0, "{reason}");
+        }
+        if let Some(m) = self.ring_cross.captures(reason) {
+            known += 1;
+            let (got, d, want) = (c(&m, 1), c(&m, 2), c(&m, 3));
+            assert!(
+                (want.0 - got.0 - d.0).abs() <= got.1 + d.1 + want.1,
+                "{reason}"
+            );
+        }
+        known
+    }
+}
+
+/// Checks every flag of the worklist, and every finding of every property's full analysis.
+pub fn check_all(store: &Store, settings: &Settings) -> usize {
+    let checks = Checks::new();
+    let shared = Regex::new(r"^One RCD, tested once for circuits [^:]*: ").unwrap();
+    let mut seen = 0;
+    let flags = analysis::worklist(store, settings, &WorklistFilter::default()).unwrap();
+    for f in &flags {
+        let reason = shared.replace(&f.reason, "");
+        assert!(
+            checks.check(f, &reason) > 0,
+            "no check knows this reason: {}",
+            f.reason
+        );
+        if let (Some(l), Some(m)) = (f.limit, f.margin_used_pct) {
+            let share = if f.quantity.starts_with("ir") {
+                l / f.last_value
+            } else {
+                f.last_value / l
+            };
+            assert!(
+                (share * 100.0 - m).abs() <= 0.051,
+                "margin {m} % is not last / limit ({} / {l}): {}",
+                f.last_value,
+                f.reason
+            );
+        }
+        seen += 1;
+    }
+    seen
+}
+
+#[test]
+fn every_reason_of_the_demo_adds_up() {
+    let store = Store::open_in_memory().unwrap();
+    ohmtrail::demo::build(&store).unwrap();
+    let today = NaiveDate::from_ymd_opt(2026, 12, 1).unwrap();
+    let seen = check_all(&store, &Settings::defaults(today));
+    assert!(seen >= 5, "only {seen} reasons checked");
+}
