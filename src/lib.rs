@@ -9,6 +9,8 @@
 //! - [`import`]: visit files in, with exact errors.
 //! - [`export`]: the same format out again.
 //! - [`onsite`]: the visit brief and the live comparison while testing; pure.
+//! - [`sim`]: a seeded portfolio simulator with site noise and planted faults, and the scoring
+//!   of the worklist and the brief against its truth.
 
 pub mod analysis;
 pub mod demo;
@@ -19,6 +21,7 @@ pub mod limits;
 pub mod model;
 pub mod onsite;
 pub mod report;
+pub mod sim;
 pub mod store;
 pub mod trend;
 
