@@ -34,7 +34,7 @@ struct Args {
     /// Noise multiplier (1.0 = the model's figures)
     #[arg(long, default_value_t = 1.0)]
     noise: f64,
-    /// Append the figures to this CSV file (header written when the file is new)
+    /// Append the figures to this CSV file (header written when the file is new or empty)
     #[arg(long, value_name = "OUT")]
     csv: Option<PathBuf>,
     /// Keep the visit files and databases in DIR instead of a temporary directory
@@ -285,7 +285,8 @@ fn write_csv(
     c: &sim::Scorecard,
     bt: Option<&sim::Backtest>,
 ) -> Result<()> {
-    let new = !path.exists();
+    // A new or empty file (such as one from mktemp) gets the header.
+    let new = std::fs::metadata(path).map_or(true, |m| m.len() == 0);
     let file = std::fs::OpenOptions::new()
         .create(true)
         .append(true)
