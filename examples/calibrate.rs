@@ -151,7 +151,7 @@ fn main() -> Result<()> {
     if let Some(bt) = &bt {
         writeln!(
             out,
-            "\nbrief backtest (last visit held out, {} homes)\n{:<8} {:>7} {:>9} {:>8} {:>12} {:>9} {:>11}",
+            "\nbrief backtest (last visit held out, {} homes)\n{:<8} {:>7} {:>9} {:>8} {:>12} {:>9} {:>11} {:>9} {:>11}",
             bt.homes,
             "quantity",
             "healthy",
@@ -159,19 +159,23 @@ fn main() -> Result<()> {
             "no band",
             "median width",
             "new fault",
+            "outside",
+            "unnulled",
             "outside"
         )?;
         for q in &bt.quantities {
             writeln!(
                 out,
-                "{:<8} {:>7} {:>9} {:>8} {:>12} {:>9} {:>11}",
+                "{:<8} {:>7} {:>9} {:>8} {:>12} {:>9} {:>11} {:>9} {:>11}",
                 q.quantity,
                 q.healthy,
                 pct(q.coverage),
                 q.no_band,
                 pct(q.median_width),
                 q.new_faults,
-                pct(q.new_outside_share)
+                pct(q.new_outside_share),
+                q.unnulled,
+                pct((q.unnulled > 0).then(|| q.unnulled_outside as f64 / q.unnulled as f64))
             )?;
         }
     }

@@ -43,6 +43,75 @@ const AGREE_REL: f64 = 0.04;
 const MIN_CIRCUITS: usize = 3;
 const MIN_SHARE: f64 = 0.7;
 
+/// The visit whose continuity readings stand highest above the others together, with the
+/// offsets already found (`taken`) taken off first; `None` when no visit stands out.
+fn clearest_offset(
+    h: &PropertyHistory,
+    by_circuit: &HashMap<i64, Vec<(i64, f64)>>,
+    taken: &HashMap<i64, f64>,
+) -> Option<VisitOffset> {
+    // Each circuit's departure at each visit from the median of its other visits.
+    let mut departures: HashMap<i64, Vec<(f64, f64)>> = HashMap::new();
+    let mut others = Vec::new();
+    let less = |visit: i64, v: f64| v - taken.get(&visit).copied().unwrap_or(0.0);
+    for readings in by_circuit.values().filter(|r| r.len() >= 2) {
+        for (i, &(visit, v)) in readings.iter().enumerate() {
+            if taken.contains_key(&visit) {
+                continue;
+            }
+            others.clear();
+            others.extend(
+                readings
+                    .iter()
+                    .enumerate()
+                    .filter(|&(j, _)| j != i)
+                    .map(|(_, &(w, x))| less(w, x)),
+            );
+            if let Some(m) = median(&mut others) {
+                departures.entry(visit).or_default().push((v - m, v));
+            }
+        }
+    }
+    let mut best: Option<VisitOffset> = None;
+    for visit in &h.visits {
+        let Some(d) = departures.get(&visit.id) else {
+            continue;
+        };
+        if d.len() < MIN_CIRCUITS {
+            continue;
+        }
+        let mut shifts: Vec<f64> = d.iter().map(|x| x.0).collect();
+        let Some(shift) = median(&mut shifts) else {
+            continue;
+        };
+        if shift < MIN_OFFSET_OHM || best.as_ref().is_some_and(|b| b.offset_ohm >= shift) {
+            continue;
+        }
+        let agreeing = d
+            .iter()
+            .filter(|(dep, v)| (dep - shift).abs() <= AGREE_ABS_OHM + AGREE_REL * v)
+            .count();
+        if agreeing < MIN_CIRCUITS || (agreeing as f64) < MIN_SHARE * d.len() as f64 {
+            continue;
+        }
+        // Rounded once, here: the note and the correction use the same figure.
+        let shown = (shift * 100.0).round() / 100.0;
+        best = Some(VisitOffset {
+            visit_id: visit.id,
+            date: visit.date,
+            offset_ohm: shown,
+            agreeing,
+            compared: d.len(),
+            note: format!(
+                "continuity readings at the visit of {} sit about {shown:.2} Ω above the other visits' on {agreeing} of {} circuits: test leads probably not nulled; that visit's continuity readings are taken less {shown:.2} Ω in the trends",
+                visit.date,
+                d.len()
+            ),
+        });
+    }
+    best
+}
+
 /// The readings of one circuit a visit offset is judged on: R1+R2 where read, else R1+Rn.
 fn probe(r: &Readings) -> Option<f64> {
     r.r1r2_ohm.or(r.r1rn_ohm).filter(|v| v.is_finite())
@@ -69,60 +138,16 @@ pub fn visit_offsets(h: &PropertyHistory) -> Vec<VisitOffset> {
             .or_default()
             .push((r.visit_id, v));
     }
-    // Each circuit's departure at each visit from the median of its other visits.
-    let mut departures: HashMap<i64, Vec<(f64, f64)>> = HashMap::new();
-    let mut others = Vec::new();
-    for readings in by_circuit.values().filter(|r| r.len() >= 2) {
-        for (i, &(visit, v)) in readings.iter().enumerate() {
-            others.clear();
-            others.extend(
-                readings
-                    .iter()
-                    .enumerate()
-                    .filter(|&(j, _)| j != i)
-                    .map(|(_, &(_, x))| x),
-            );
-            if let Some(m) = median(&mut others) {
-                departures.entry(visit).or_default().push((v - m, v));
-            }
-        }
-    }
-    let mut out = Vec::new();
-    for visit in &h.visits {
-        let Some(d) = departures.get(&visit.id) else {
-            continue;
+    // Several visits may have had unnulled leads, and each contaminates the others' medians:
+    // take the clearest one out, then look again, until no visit stands out.
+    let mut out: Vec<VisitOffset> = Vec::new();
+    for _ in 0..h.visits.len() {
+        let taken: HashMap<i64, f64> = out.iter().map(|o| (o.visit_id, o.offset_ohm)).collect();
+        let Some(next) = clearest_offset(h, &by_circuit, &taken) else {
+            break;
         };
-        if d.len() < MIN_CIRCUITS {
-            continue;
-        }
-        let mut shifts: Vec<f64> = d.iter().map(|x| x.0).collect();
-        let Some(shift) = median(&mut shifts) else {
-            continue;
-        };
-        if shift < MIN_OFFSET_OHM {
-            continue;
-        }
-        let agreeing = d
-            .iter()
-            .filter(|(dep, v)| (dep - shift).abs() <= AGREE_ABS_OHM + AGREE_REL * v)
-            .count();
-        if agreeing < MIN_CIRCUITS || (agreeing as f64) < MIN_SHARE * d.len() as f64 {
-            continue;
-        }
-        // Rounded once, here: the note and the correction use the same figure.
-        let shown = (shift * 100.0).round() / 100.0;
-        out.push(VisitOffset {
-            visit_id: visit.id,
-            date: visit.date,
-            offset_ohm: shown,
-            agreeing,
-            compared: d.len(),
-            note: format!(
-                "continuity readings at the visit of {} sit about {shown:.2} Ω above the other visits' on {agreeing} of {} circuits: test leads probably not nulled; that visit's continuity readings are taken less {shown:.2} Ω in the trends",
-                visit.date,
-                d.len()
-            ),
-        });
+        out.push(next);
     }
+    out.sort_by_key(|o| o.date);
     out
 }

@@ -857,14 +857,16 @@ pub(super) fn circuit_analysis(
             .rev()
             .find(|r| r.readings.ring_r1_ohm.is_some() && r.readings.ring_rn_ohm.is_some())
     {
+        // Less the visit's shared lead offset, which would skew the ratios.
+        let less = |v: Option<f64>| v.map(|x| (x - r.offset).max(0.0));
         let rr = RingReadings {
-            r1_ohm: r.readings.ring_r1_ohm.unwrap_or_default(),
-            rn_ohm: r.readings.ring_rn_ohm.unwrap_or_default(),
-            r2_ohm: r.readings.ring_r2_ohm,
+            r1_ohm: less(r.readings.ring_r1_ohm).unwrap_or_default(),
+            rn_ohm: less(r.readings.ring_rn_ohm).unwrap_or_default(),
+            r2_ohm: less(r.readings.ring_r2_ohm),
             live_mm2: c.live_mm2,
             cpc_mm2: c.cpc_mm2,
-            r1r2_ohm: r.readings.r1r2_ohm,
-            r1rn_ohm: r.readings.r1rn_ohm,
+            r1r2_ohm: less(r.readings.r1r2_ohm),
+            r1rn_ohm: less(r.readings.r1rn_ohm),
         };
         match limits::check_ring(&rr, &tolerance) {
             Ok(check) => {

@@ -210,6 +210,18 @@ fn a_visit_with_unnulled_leads_is_one_note_and_no_circuit_steps() {
         "{:#?}",
         a.flags
     );
+    // The visit brief expects the corrected level with a band as narrow as a steady circuit's:
+    // circuit 1 read 0.46, 0.47, 0.45 + 0.12, 0.46 Ω, so about 0.46 Ω. Taken as read, the
+    // offset visit would have spread its band by about ±0.1 Ω.
+    let b = crate::onsite::brief(&a, d(2026, 5, 1), Some(20.0), &[]);
+    let e = b.boards[0].circuits[0]
+        .expectations
+        .iter()
+        .find(|e| e.field == crate::onsite::Field::R1r2)
+        .unwrap();
+    let expected = e.expected.unwrap();
+    assert!((expected - 0.46).abs() <= 0.006, "{e:#?}");
+    assert!(e.band.unwrap().high.unwrap() - expected < 0.04, "{e:#?}");
     // Control: without the correction, the third visit would be a step on every circuit.
     let raw_steps = a
         .circuits

@@ -253,6 +253,17 @@ fn print_text(b: &Brief, out: &mut dyn Write) -> Result<()> {
             for f in &c.flags {
                 writeln!(out, "  {}/{}: {f}", board.designation, c.number)?;
             }
+            for e in c.expectations.iter() {
+                if let Some(w) = &e.wide {
+                    writeln!(
+                        out,
+                        "  {}/{} {}: band {w}",
+                        board.designation,
+                        c.number,
+                        e.field.label()
+                    )?;
+                }
+            }
         }
     }
     for n in &b.notes {

@@ -680,6 +680,7 @@ fn apply_line(
                         expected: None,
                         band: None,
                         basis: String::new(),
+                        wide: None,
                         limit: None,
                     };
                     &bare

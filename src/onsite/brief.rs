@@ -6,17 +6,15 @@ use chrono::NaiveDate;
 use serde::Serialize;
 
 use super::entry::{Field, Unit};
+use super::expect::expectation;
 use crate::analysis::{CircuitAnalysis, PropertyAnalysis, SeriesAnalysis};
 use crate::limits::{self, IrCircuit, MeasuredRule, RcdTest, RcdTiming, TestConditions, from_r20};
-use crate::model::{CircuitKind, Instrument, Megohms, Observation, RcdType, Readings, Status};
-use crate::trend::{LimitKind, Point, Scale, SeriesReport, TrendConfig, stats::least_squares};
+use crate::model::{CircuitKind, Instrument, Observation, RcdType, Readings, Status};
+use crate::trend::{LimitKind, TrendConfig};
 
 /// The ambient temperature assumed when none is given: a mild indoor day in a cool climate.
 /// Stated on every brief that uses it.
 pub const DEFAULT_TEMP_C: f64 = 15.0;
-
-/// Days in a year, as the trend engine counts them.
-const DAYS_PER_YEAR: f64 = 365.25;
 
 /// The last reading of a quantity.
 #[derive(Debug, Clone, PartialEq, Serialize)]
@@ -58,12 +56,22 @@ pub struct Expectation {
     pub band: Option<Band>,
     /// How the expectation was formed, in words.
     pub basis: String,
+    /// Why the band is wider than usual, in words, when it is ("only two earlier readings").
+    pub wide: Option<String>,
     pub limit: Option<LimitAt>,
 }
 
 impl Expectation {
     pub fn unit(&self) -> Unit {
         self.field.unit()
+    }
+
+    /// How the expectation was formed and, when the band is wide, why.
+    pub fn basis_words(&self) -> String {
+        match &self.wide {
+            Some(w) => format!("{}; band {w}", self.basis),
+            None => self.basis.clone(),
+        }
     }
 }
 
@@ -201,7 +209,7 @@ pub fn brief(
             .filter(|c| c.circuit.board_id == b.id)
             .map(|c| {
                 let ze_here = if origin { origin_ze } else { None };
-                circuit_brief(c, date, temp, rule, ze_here, cfg)
+                circuit_brief(c, date, (temp, temp_c.is_some()), rule, ze_here, cfg)
             })
             .collect::<Vec<_>>();
         if circuits.is_empty() && !origin {
@@ -290,7 +298,7 @@ pub fn fields_for(c: &CircuitAnalysis) -> Vec<Field> {
 fn circuit_brief(
     c: &CircuitAnalysis,
     date: NaiveDate,
-    temp: f64,
+    (temp, temp_known): (f64, bool),
     rule: MeasuredRule,
     ze: Option<f64>,
     cfg: &TrendConfig,
@@ -301,7 +309,14 @@ fn circuit_brief(
         .into_iter()
         .map(|f| {
             let series = series_for(c, f);
-            let mut e = expectation(f, series, c.last_readings.as_ref(), c.last_visit, date, cfg);
+            let mut e = expectation(
+                f,
+                series,
+                c.last_readings.as_ref(),
+                c.last_visit,
+                (date, temp_known),
+                cfg,
+            );
             if e.field.quantity().temperature_sensitive() {
                 convert_to(&mut e, temp, if f == Field::Zs { ze } else { None });
             }
@@ -367,7 +382,7 @@ fn series_for(c: &CircuitAnalysis, f: Field) -> Option<&SeriesAnalysis> {
         Field::RingR1 => "ring r1",
         Field::RingRn => "ring rn",
         Field::RingR2 => "ring r2",
-        Field::Rcd5x => "RCD trip time at 5 × IΔn",
+        Field::Rcd5x => "RCD trip time at 5 × IΔn (supplementary)",
         Field::Rcd => "RCD trip time at 1 × IΔn",
         _ => {
             let key = f.quantity().key();
@@ -460,187 +475,6 @@ fn r1rn_limit_at(
     })
 }
 
-fn years_between(a: NaiveDate, b: NaiveDate) -> f64 {
-    (b - a).num_days() as f64 / DAYS_PER_YEAR
-}
-
-fn to_work(scale: Scale, v: f64) -> f64 {
-    match scale {
-        Scale::Linear => v,
-        Scale::Log10 => v.log10(),
-    }
-}
-
-fn from_work(scale: Scale, w: f64) -> f64 {
-    match scale {
-        Scale::Linear => w,
-        Scale::Log10 => 10f64.powf(w),
-    }
-}
-
-/// The value expected on `date` at 20 °C (where the series is normalised), with its band, from
-/// the fitted line over the current baseline, or the last value when there is no trend.
-/// Converting to the visit's temperature is left to [`convert_to`].
-fn expectation(
-    f: Field,
-    series: Option<&SeriesAnalysis>,
-    last_readings: Option<&Readings>,
-    last_visit: Option<NaiveDate>,
-    date: NaiveDate,
-    cfg: &TrendConfig,
-) -> Expectation {
-    let q = f.quantity();
-    let scale = q.scale();
-    let floor = cfg.floor_for(q);
-    let unit = f.unit().symbol();
-    let Some(s) = series else {
-        // No series (e.g. RCD at 1 × IΔn when 5 × is trended): the last reading as taken.
-        let last = last_readings.and_then(|r| f.get(r)).zip(last_visit);
-        return match last {
-            Some((m, d)) => from_last_only(f, m, d, cfg),
-            None => Expectation {
-                field: f,
-                last: None,
-                expected: None,
-                band: None,
-                basis: "no reading on record: nothing to compare with yet".into(),
-                limit: None,
-            },
-        };
-    };
-    let report: &SeriesReport = &s.report;
-    let last = report.points.last().map(|p| LastReading {
-        date: p.date,
-        raw: p.raw,
-        over_range: p.censored,
-        ambient_c: p.ambient_c,
-    });
-    let base: Vec<&Point> = report
-        .points
-        .iter()
-        .filter(|p| report.baseline_start.is_none_or(|b| p.date >= b))
-        .collect();
-    let mut e = Expectation {
-        field: f,
-        last,
-        expected: None,
-        band: None,
-        basis: String::new(),
-        limit: None,
-    };
-    let Some(last_base) = base.last().copied() else {
-        e.basis = report
-            .note
-            .clone()
-            .unwrap_or_else(|| "no reading since the baseline was reset".into());
-        return e;
-    };
-    if last_base.censored {
-        // Over range last time: a lower bound, never a value. Expect at least the bound less
-        // the noise floor.
-        let lo = from_work(scale, to_work(scale, last_base.value) - floor.at(0.0));
-        e.band = Some(Band {
-            low: Some(lo),
-            high: None,
-        });
-        e.basis = format!(
-            "over range last time (>{} {unit}): at least {} {unit} expected",
-            super::entry::fmt_num(f.unit(), last_base.value),
-            super::entry::fmt_num(f.unit(), lo)
-        );
-        return e;
-    }
-    let start = base[0].date;
-    let (xs, ys): (Vec<f64>, Vec<f64>) = base
-        .iter()
-        .filter(|p| !p.censored)
-        .map(|p| (years_between(start, p.date), to_work(scale, p.value)))
-        .unzip();
-    let at20 = if last_base.ambient_c.is_some() {
-        " at 20 °C"
-    } else {
-        ""
-    };
-    let (y, half) = match (least_squares(&xs, &ys), &report.fit) {
-        (Some(ls), Some(fit)) => {
-            let x = years_between(start, date);
-            let y = ls.at(x);
-            // The fitted line's standard error at x, with the trend engine's residual spread
-            // (never less than half the noise floor): σ² / n + (SE(slope) × (x − x̄))².
-            let sigma = fit.slope_se_per_year * ls.sxx.sqrt();
-            let se = (sigma * sigma / ls.n as f64
-                + (fit.slope_se_per_year * (x - ls.x_mean)).powi(2))
-            .sqrt();
-            e.basis = format!(
-                "trend over {} readings since {start}: {:+.3} {}/year{at20}",
-                ls.n,
-                ls.slope,
-                if scale == Scale::Log10 {
-                    "decades"
-                } else {
-                    unit
-                }
-            );
-            (y, floor.at(y) + cfg.projection_k * se)
-        }
-        _ => {
-            let y = to_work(scale, last_base.value);
-            e.basis = format!("no trend yet: the last reading{at20}, {}", last_base.date);
-            (y, floor.at(y))
-        }
-    };
-    e.expected = Some(from_work(scale, y).max(0.0));
-    e.band = Some(match scale {
-        Scale::Linear => Band {
-            low: Some((y - half).max(0.0)),
-            high: Some(y + half),
-        },
-        // Higher insulation resistance is never worse: the band has no top.
-        Scale::Log10 => Band {
-            low: Some(from_work(scale, y - half)),
-            high: None,
-        },
-    });
-    if q.temperature_sensitive() && last_base.ambient_c.is_none() {
-        e.basis
-            .push_str("; no ambient recorded last time: not converted for temperature");
-    }
-    e
-}
-
-fn from_last_only(f: Field, m: Megohms, d: NaiveDate, cfg: &TrendConfig) -> Expectation {
-    let q = f.quantity();
-    let scale = q.scale();
-    let floor = cfg.floor_for(q);
-    let y = to_work(scale, m.value);
-    let half = floor.at(y);
-    Expectation {
-        field: f,
-        last: Some(LastReading {
-            date: d,
-            raw: m.value,
-            over_range: m.over_range,
-            ambient_c: None,
-        }),
-        expected: (!m.over_range).then_some(m.value),
-        band: Some(match (scale, m.over_range) {
-            (Scale::Linear, _) => Band {
-                low: Some((y - half).max(0.0)),
-                high: Some(y + half),
-            },
-            (Scale::Log10, over) => Band {
-                low: Some(from_work(
-                    scale,
-                    y - if over { floor.at(0.0) } else { half },
-                )),
-                high: None,
-            },
-        }),
-        basis: format!("the last reading as taken, {d}"),
-        limit: None,
-    }
-}
-
 /// Convert an expectation at 20 °C to the visit's temperature (R_t = R20 × (1 + α(t − 20))).
 /// For Zs only the circuit's part moves with temperature; Ze is the supply's.
 fn convert_to(e: &mut Expectation, temp: f64, ze: Option<f64>) {
@@ -666,7 +500,7 @@ fn ze_expectation(
     date: NaiveDate,
     cfg: &TrendConfig,
 ) -> Expectation {
-    let mut e = expectation(Field::Ze, supply, None, None, date, cfg);
+    let mut e = expectation(Field::Ze, supply, None, None, (date, true), cfg);
     if supply.is_none() {
         e.basis = "no Ze on record at this board".into();
     }
@@ -764,42 +598,44 @@ mod tests {
     }
 
     #[test]
-    fn expected_value_is_the_trend_then_the_temperature() {
-        // Two visits at 20 °C, four years apart (1461 days = 4.0 years of 365.25 days):
-        // R1+R2 0.50 → 0.54 Ω, Zs 0.70 → 0.74 Ω with Ze 0.20 Ω.
+    fn a_steady_circuit_s_band_by_hand() {
+        // Four invented readings at 20 °C (no correction), as noisy as ordinary site work:
+        // R1+R2 0.48, 0.50, 0.49, 0.51 Ω. Nothing moves beyond the noise floor, so the
+        // expectation is their median, 0.495 Ω.
         let (s, id) = invented(&[
-            ("2020-01-01", 20.0, 0.50, 0.70),
-            ("2024-01-01", 20.0, 0.54, 0.74),
+            ("2010-05-01", 20.0, 0.48, 0.68),
+            ("2014-05-01", 20.0, 0.50, 0.70),
+            ("2018-05-01", 20.0, 0.49, 0.69),
+            ("2022-05-01", 20.0, 0.51, 0.71),
         ]);
         let a = analyse(
             &s.history(id).unwrap(),
             &Settings::defaults(day("2025-01-01")),
         );
-        let b = brief(&a, day("2028-01-01"), Some(10.0), &[]);
+        let b = brief(&a, day("2026-05-01"), Some(20.0), &[]);
         let r = exp(&b, Field::R1r2);
-        // Trend: slope (0.54 − 0.50) / 4 = 0.01 Ω/year; on 2028-01-01 (2922 days = 8.0 years
-        // from the first visit) R20 = 0.50 + 0.01 × 8 = 0.58 Ω.
-        // Temperature (limits::from_r20, α = 0.00393 /K from IEC 60228):
-        // R10 = 0.58 × (1 + 0.00393 × (10 − 20)) = 0.58 × 0.9607 = 0.557206 Ω.
-        close(r.expected.unwrap(), 0.557206);
-        // Band: noise floor at 0.58 = 0.01 + 0.02 + 0.05 × 0.58 = 0.059 Ω (trend defaults).
-        // Trend uncertainty: two points, so σ = half the floor at the mean 0.52 Ω
-        // = (0.01 + 0.02 + 0.026) / 2 = 0.028; Sxx = 2² + 2² = 8; SE(slope) = 0.028 / √8
-        // = 0.0098995; SE of the line at x = 8 (x̄ = 2) = √(0.028² / 2 + (0.0098995 × 6)²)
-        // = √(0.000392 + 0.003528) = 0.0626099; k = 2 → 0.1252198.
-        // Half-width 0.059 + 0.1252198 = 0.1842198 → 0.3957802 to 0.7642198 Ω at 20 °C,
-        // × 0.9607 at 10 °C → 0.3802260 to 0.7341870 Ω.
+        close(r.expected.unwrap(), 0.495);
+        // The noise model (sim::noise): a² = 0.005² + 0.01² / 12 = 3.3333e-5;
+        // b² = 0.005² + 0.015² / 3 + 0.15 × (0.04)² + (0.00393 × 2.5)² = 4.3653e-4;
+        // σ_model at 0.495 = √(3.3333e-5 + 4.3653e-4 × 0.495²) = 0.0118446 Ω.
+        // The circuit's own scatter about the median: √((0.015² + 0.005² + 0.005² + 0.015²) / 3)
+        // = 0.0129099 Ω; weighed with the model as 4 readings against its 3 degrees of freedom:
+        // σ = √((4 × 0.0118446² + 3 × 0.0129099²) / 7) = 0.0123125 Ω. The median's own
+        // uncertainty 1.25 × σ / √4 = 0.0076953 Ω. Half-width 2 × √(σ² + 0.0076953²)
+        // = 2 × 0.0145194 = 0.0290389 Ω: the band 0.4659611 to 0.5240389 Ω, 11.7 % wide.
         let band = r.band.unwrap();
-        close(band.low.unwrap(), 0.3957802 * 0.9607);
-        close(band.high.unwrap(), 0.7642198 * 0.9607);
-        assert!(r.basis.contains("trend over 2 readings"), "{}", r.basis);
-        assert!(r.basis.contains("converted to 10 °C"), "{}", r.basis);
-        assert_eq!(r.last.as_ref().unwrap().raw, 0.54);
+        close(band.low.unwrap(), 0.4659611);
+        close(band.high.unwrap(), 0.5240389);
+        assert!(r.basis.contains("median of 4 readings"), "{}", r.basis);
+        assert_eq!(r.wide, None);
+        // A loose cpc termination adding 0.15 Ω would read 0.65 Ω: far outside.
+        assert!(0.645 > band.high.unwrap());
 
-        // Zs: only the circuit's part moves with temperature. Zs20 on the day = 0.70 + 0.01 × 8
-        // = 0.78 Ω; at 10 °C = Ze 0.20 + (0.78 − 0.20) × 0.9607 = 0.20 + 0.557206 = 0.757206 Ω.
-        let z = exp(&b, Field::Zs);
-        close(z.expected.unwrap(), 0.757206);
+        // Zs: only the circuit's part moves with temperature. Median Zs 0.695 Ω at 20 °C;
+        // at 10 °C = Ze 0.20 + (0.695 − 0.20) × 0.9607 = 0.675546 Ω.
+        let cold = brief(&a, day("2026-05-01"), Some(10.0), &[]);
+        let z = exp(&cold, Field::Zs);
+        close(z.expected.unwrap(), 0.20 + 0.495 * 0.9607);
         // Limit: B32 tabulated 1.37 Ω (BS 7671:2018+A2:2022 Table 41.3); measured-value limit
         // at 10 °C = 1.37 × 0.9607 / 1.20 = 1.0968 → 1.09 Ω, rounded down (On-Site Guide
         // Appendix I, k = 1.20 for 70 °C thermoplastic, from memory).
@@ -808,16 +644,16 @@ mod tests {
         assert_eq!(l.kind, LimitKind::Max);
         assert!(l.words.contains("at 10 °C"), "{}", l.words);
         // R1+Rn: the same loop limit less the latest Ze: 1.09 − 0.20 = 0.89 Ω.
-        assert_eq!(exp(&b, Field::R1rn).limit.as_ref().unwrap().value, 0.89);
+        assert_eq!(exp(&cold, Field::R1rn).limit.as_ref().unwrap().value, 0.89);
         // At 25 °C the limit is higher: 1.37 × 1.01965 / 1.20 = 1.1641 → 1.16 Ω.
-        let warm = brief(&a, day("2028-01-01"), Some(25.0), &[]);
+        let warm = brief(&a, day("2026-05-01"), Some(25.0), &[]);
         assert_eq!(exp(&warm, Field::Zs).limit.as_ref().unwrap().value, 1.16);
     }
 
     #[test]
-    fn one_visit_gives_the_last_value_at_20_converted() {
-        // One visit at 10 °C reading 0.4804 Ω: R20 = 0.4804 / 0.9607 = 0.50005 Ω; on any day,
-        // at 25 °C, expect 0.50005 × (1 + 0.00393 × 5) = 0.50005 × 1.01965 = 0.509876 Ω.
+    fn one_visit_gives_the_last_value_at_20_converted_with_a_wide_band() {
+        // One visit at 10 °C reading 0.4804 Ω: R20 = 0.4804 / 0.9607 = 0.5000520 Ω; on any
+        // day, at 25 °C, expect 0.5000520 × (1 + 0.00393 × 5) = 0.5098781 Ω.
         let (s, id) = invented(&[("2024-03-01", 10.0, 0.4804, 0.69)]);
         let a = analyse(
             &s.history(id).unwrap(),
@@ -826,10 +662,19 @@ mod tests {
         let b = brief(&a, day("2026-03-01"), Some(25.0), &[]);
         let r = exp(&b, Field::R1r2);
         close(r.expected.unwrap(), 0.4804 / 0.9607 * 1.01965);
-        // Band: the floor alone at R20, 0.01 + 0.02 + 0.05 × 0.50005 = 0.0550025 Ω each side.
-        let r20 = 0.4804 / 0.9607;
-        close(r.band.unwrap().high.unwrap(), (r20 + 0.0550025) * 1.01965);
-        assert!(r.basis.starts_with("no trend yet"), "{}", r.basis);
+        // σ_model at 0.5000520 = √(3.3333e-5 + 4.3653e-4 × 0.5000520²) = 0.0119369 Ω; one
+        // reading, so the level is as uncertain again (1.25 σ / √1): half-width
+        // 2 × σ × √(1 + 1.25²) = 0.0382166 Ω at 20 °C, then × 1.01965 at 25 °C.
+        let band = r.band.unwrap();
+        close(band.high.unwrap(), (0.5000520 + 0.0382166) * 1.01965);
+        close(band.low.unwrap(), (0.5000520 - 0.0382166) * 1.01965);
+        assert!(r.basis.starts_with("the last reading"), "{}", r.basis);
+        assert!(
+            r.wide
+                .as_deref()
+                .unwrap()
+                .contains("only one earlier reading")
+        );
         // Nothing recorded for insulation: no expectation, but the minimum is there
         // (BS 7671 Table 64: 1.0 MΩ for circuits up to 500 V).
         let ir = exp(&b, Field::IrLe);

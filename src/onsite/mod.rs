@@ -11,6 +11,7 @@
 
 pub mod brief;
 pub mod entry;
+mod expect;
 pub mod session;
 pub mod verdict;
 
@@ -69,7 +70,7 @@ pub fn csv_rows(b: &Brief) -> Vec<Vec<String>> {
             num(e.band.and_then(|x| x.low)),
             num(e.band.and_then(|x| x.high)),
             num(e.limit.as_ref().map(|l| l.value)),
-            safe(&e.basis),
+            safe(&e.basis_words()),
         ]);
     };
     for board in &b.boards {

@@ -95,6 +95,9 @@ pub fn expectation_text(e: &Expectation) -> String {
         (Some(x), None) => parts.push(format!("expect {}", fmt_in(u, x))),
         (None, None) => parts.push("no history".into()),
     }
+    if let Some(w) = &e.wide {
+        parts.push(format!("band {w}"));
+    }
     if let Some(l) = &e.limit {
         parts.push(limit_text(u, l));
     }
@@ -269,6 +272,7 @@ mod tests {
                 high: hi,
             }),
             basis: String::new(),
+            wide: None,
             limit,
         }
     }

@@ -64,7 +64,7 @@ fn row(h: &mut String, e: &Expectation) {
                 esc(&fmt_in(u, l.value))
             ))
             .unwrap_or_else(|| "–".into()),
-        esc(&e.basis),
+        esc(&e.basis_words()),
     );
 }
 
@@ -298,6 +298,7 @@ mod tests {
                 high: Some(0.6),
             }),
             basis: "<b>".into(),
+            wide: None,
             limit: Some(LimitAt {
                 value: 1.09,
                 kind: LimitKind::Max,

@@ -10,6 +10,8 @@
 //! it is one of the fault's quantities and the fault moves that reading (a ring joint counts on
 //! its own leg only). An over-range insulation reading is inside when its bound is at or above
 //! the band's low end, and left out when the band starts above it (it cannot be told).
+//! Continuity readings of a held-out visit whose test leads were not nulled are wrong readings,
+//! not a circuit's: they are kept out of the coverage and counted on their own.
 
 use std::path::Path;
 
@@ -48,6 +50,11 @@ pub struct QuantityBacktest {
     pub new_faults: usize,
     pub new_faults_outside: usize,
     pub new_outside_share: Option<f64>,
+    /// Continuity readings of sound circuits taken with the leads not nulled at the held-out
+    /// visit: kept out of `coverage` (the reading is wrong, not the circuit), and counted here
+    /// with how many the band put outside (a band that catches them is doing its job).
+    pub unnulled: usize,
+    pub unnulled_outside: usize,
 }
 
 /// The backtest over the whole portfolio.
@@ -139,6 +146,8 @@ struct Tally {
     widths: Vec<f64>,
     new_faults: usize,
     new_outside: usize,
+    unnulled: usize,
+    unnulled_outside: usize,
 }
 
 impl Tally {
@@ -159,6 +168,17 @@ impl Tally {
         if let Some(w) = width(e) {
             self.widths.push(w);
         }
+    }
+
+    fn unnulled(&mut self, e: Option<&Expectation>, value: f64) {
+        let Some(b) = e.and_then(|e| e.band) else {
+            return;
+        };
+        let Some(ok) = inside(&b, value, false) else {
+            return;
+        };
+        self.unnulled += 1;
+        self.unnulled_outside += usize::from(!ok);
     }
 
     fn new_fault(&mut self, e: Option<&Expectation>, value: f64, over: bool) {
@@ -192,6 +212,8 @@ impl Tally {
             new_faults: self.new_faults,
             new_faults_outside: self.new_outside,
             new_outside_share: share(self.new_outside, self.new_faults),
+            unnulled: self.unnulled,
+            unnulled_outside: self.unnulled_outside,
         }
     }
 }
@@ -254,7 +276,13 @@ pub fn backtest(p: &Portfolio, dir: &Path) -> Result<Backtest> {
                     } else {
                         faults.is_empty() && (supply_healthy || !on_supply)
                     };
-                    if healthy {
+                    let continuity = matches!(
+                        field,
+                        Field::R1r2 | Field::R1rn | Field::RingR1 | Field::RingRn | Field::RingR2
+                    );
+                    if healthy && continuity && last.lead_offset_ohm > 0.0 {
+                        tallies[qi].unnulled(e, value);
+                    } else if healthy {
                         tallies[qi].healthy(e, value, over);
                     } else if candidates
                         .iter()

@@ -419,9 +419,21 @@ fn analyse_baseline(
             projection = project(&inp);
             let span = ux.last().unwrap_or(&0.0) - ux.first().unwrap_or(&0.0);
             let beyond_noise = w.sign * ls.slope * span > floor.at(uy[0]);
+            // A line already past the level at the last visit while the reading is not says
+            // the line does not fit; and insulation resistance wanders too far for two
+            // readings to make a trend.
+            // Insulation is projected only once it is in the range of concern.
+            let fits = match q {
+                Quantity::IrLl | Quantity::IrLe => {
+                    ls.n >= 3 && last.value < cfg.insulation_concern_mohm
+                }
+                _ => q.scale() == Scale::Linear || ls.n >= 3,
+            };
             if let Some(p) = projection
                 && !exceeded
                 && beyond_noise
+                && fits
+                && p.date > last.date
                 && p.date < next_due
             {
                 findings.push(approaching(q, &last, (limit.value, words), &p, next_due));
