@@ -181,3 +181,193 @@ fn plural(n: i64, unit: &str) -> String {
         format!("{n} {unit}s")
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::model::{CircuitKind, Readings, VisitState};
+    use crate::store::{CircuitDetails, NewBoard, NewProperty, NewVisit, Store};
+
+    fn d(y: i32, m: u32, day: u32) -> NaiveDate {
+        NaiveDate::from_ymd_opt(y, m, day).unwrap()
+    }
+
+    /// A property with `n` radial circuits on CU1 and a 60-month interval: the longest the
+    /// private-rented rules in England allow (The Electrical Safety Standards in the Private
+    /// Rented Sector (England) Regulations 2020, regulation 3: at intervals of no more than 5
+    /// years).
+    fn property(n: usize) -> Store {
+        let s = Store::open_in_memory().unwrap();
+        s.add_property(&NewProperty {
+            reference: "P-1".into(),
+            interval_months: Some(60),
+            ..Default::default()
+        })
+        .unwrap();
+        s.add_board(
+            "P-1",
+            &NewBoard {
+                designation: "CU1".into(),
+                ..Default::default()
+            },
+        )
+        .unwrap();
+        for k in 1..=n {
+            s.add_circuit(
+                "P-1",
+                "CU1",
+                &k.to_string(),
+                &CircuitDetails {
+                    kind: Some(CircuitKind::Radial),
+                    device: Some("B16".parse().unwrap()),
+                    ..Default::default()
+                },
+            )
+            .unwrap();
+        }
+        s
+    }
+
+    /// A visit reading R1+R2 on the circuits numbered, each near its own value with a few per
+    /// cent of visit-to-visit wander.
+    fn visit(s: &Store, date: NaiveDate, circuits: &[usize], wander: f64) {
+        let p = s.property("P-1").unwrap();
+        let v = s
+            .add_visit(
+                p.id,
+                &NewVisit {
+                    date: Some(date),
+                    ambient_c: Some(16.0),
+                    ze_ohm: Some(0.24 * wander),
+                    ..Default::default()
+                },
+                VisitState::Complete,
+            )
+            .unwrap();
+        for k in circuits {
+            let c = s.find_circuit("P-1", "CU1", &k.to_string()).unwrap();
+            let r = ((0.35 + 0.09 * *k as f64) * wander * 100.0).round() / 100.0;
+            let readings = Readings {
+                r1r2_ohm: Some(r),
+                ..Default::default()
+            };
+            s.put_test_record(v.id, c.id, &readings).unwrap();
+        }
+    }
+
+    fn history(s: &Store) -> PropertyHistory {
+        s.history(s.property("P-1").unwrap().id).unwrap()
+    }
+
+    #[test]
+    fn months_are_counted_the_way_due_dates_are() {
+        // Exact arithmetic, no readings involved.
+        assert_eq!(months_between(d(2019, 6, 14), d(2024, 11, 20)), 65);
+        assert_eq!(months_between(d(2019, 6, 14), d(2024, 11, 13)), 64);
+        assert_eq!(months_between(d(2019, 6, 14), d(2019, 6, 14)), 0);
+        assert_eq!(months_between(d(2024, 1, 1), d(2019, 6, 14)), 0);
+        // 31 August plus 6 months is the end of February (add_months clamps), and that is
+        // 6 whole months on: the count agrees with the due date.
+        assert_eq!(add_months(d(2019, 8, 31), 6), d(2020, 2, 29));
+        assert_eq!(months_between(d(2019, 8, 31), d(2020, 2, 29)), 6);
+        assert_eq!(months_between(d(2019, 8, 31), d(2020, 2, 28)), 5);
+    }
+
+    #[test]
+    fn two_of_eight_circuits_a_year_later_is_a_partial_retest() {
+        let s = property(8);
+        visit(&s, d(2016, 3, 9), &[1, 2, 3, 4, 5, 6, 7, 8], 1.0);
+        visit(&s, d(2021, 3, 9), &[1, 2, 3, 4, 5, 6, 7, 8], 1.03);
+        visit(&s, d(2022, 3, 15), &[3, 7], 0.98);
+        let h = history(&s);
+        let c = coverage(&h);
+        assert_eq!((c[1].tested, c[1].in_service), (8, 8));
+        assert_eq!((c[2].tested, c[2].in_service), (2, 8));
+        assert!(c[1].is_full() && !c[2].is_full());
+        let sch = schedule(&h);
+        assert_eq!(sch.last_full, Some(d(2021, 3, 9)));
+        // Full inspection + 60 months, not the re-test + 60 months (2027-03-15).
+        assert_eq!(sch.next_due, Some(d(2026, 3, 9)));
+        assert_eq!(sch.partial_since, vec![c[2]]);
+        // The analysis uses it for the due date, and the re-test's readings still count for
+        // the trends: both circuits' series carry its points.
+        let a = super::super::analyse(&h, &super::super::Settings::defaults(d(2026, 6, 1)));
+        assert_eq!(a.last_visit, Some(d(2022, 3, 15)));
+        assert_eq!(a.last_full_inspection, Some(d(2021, 3, 9)));
+        assert_eq!(a.next_due, Some(d(2026, 3, 9)));
+        let c3 = a.circuits.iter().find(|c| c.circuit.number == "3").unwrap();
+        assert_eq!(c3.last_visit, Some(d(2022, 3, 15)));
+        let overdue: Vec<_> = a.flags.iter().filter(|f| f.kind == "overdue").collect();
+        assert_eq!(overdue.len(), 1);
+        // 2021-03-09 to 2026-06-01: 62 whole months, 2 past the 60-month interval.
+        assert_eq!(
+            overdue[0].reason,
+            "inspection due 2026-03-09, 2 months overdue; last full inspection 2021-03-09, \
+             interval 60 months; the partial re-test on 2022-03-15 (2 of 8 circuits) does not \
+             restart it"
+        );
+    }
+
+    #[test]
+    fn most_circuits_is_a_full_inspection_and_retired_circuits_do_not_count() {
+        // Circuit 9 is on the register but first read at the last visit (a new circuit).
+        let s = property(9);
+        visit(&s, d(2016, 3, 9), &[1, 2, 3, 4, 5, 6, 7, 8], 1.0);
+        // Two circuits inaccessible (a limitation): 6 of 8 is still a full inspection.
+        visit(&s, d(2019, 5, 20), &[1, 2, 3, 4, 5, 6], 0.97);
+        // Five circuits taken out with a kitchen refit; 3 of the 4 in service is full.
+        for k in 4..=8 {
+            let c = s.find_circuit("P-1", "CU1", &k.to_string()).unwrap();
+            s.retire_circuit(c.id, d(2020, 1, 10), None).unwrap();
+        }
+        visit(&s, d(2023, 4, 2), &[1, 2, 9], 1.04);
+        let h = history(&s);
+        let c = coverage(&h);
+        // Circuit 9, not yet read, does not count against the earlier visits.
+        assert_eq!((c[0].tested, c[0].in_service), (8, 8));
+        assert_eq!((c[1].tested, c[1].in_service), (6, 8));
+        assert_eq!((c[2].tested, c[2].in_service), (3, 4));
+        assert!(c.iter().all(Coverage::is_full));
+        assert_eq!(schedule(&h).next_due, Some(d(2028, 4, 2)));
+        assert!(schedule(&h).partial_since.is_empty());
+    }
+
+    #[test]
+    fn with_no_visit_nothing_is_due_or_overdue() {
+        let s = property(2);
+        let h = history(&s);
+        assert_eq!(schedule(&h), Schedule::default());
+        assert!(overdue_row(&h.property, "CU1", &Schedule::default(), d(2030, 1, 1)).is_none());
+    }
+
+    #[test]
+    fn the_overdue_sentence_adds_up() {
+        // Exact arithmetic on the figures of the sentence.
+        let s = property(1);
+        let p = history(&s).property;
+        let sch = |last: NaiveDate| Schedule {
+            last_full: Some(last),
+            next_due: Some(add_months(last, 60)),
+            partial_since: vec![],
+        };
+        let r = overdue_row(&p, "CU1", &sch(d(2019, 6, 14)), d(2024, 11, 20)).unwrap();
+        assert_eq!(
+            r.reason,
+            "inspection due 2024-06-14, 5 months overdue; last full inspection 2019-06-14, \
+             interval 60 months"
+        );
+        // 65 months since, against 60: 65 / 60 = 108.3 %.
+        assert_eq!((r.last_value, r.limit), (65.0, Some(60.0)));
+        assert_eq!(r.margin_used_pct, Some(108.3));
+        assert_eq!(r.last_value - r.limit.unwrap(), 5.0);
+        // Less than a month late is counted in days: 14 June to 20 June.
+        let r = overdue_row(&p, "CU1", &sch(d(2019, 6, 14)), d(2024, 6, 20)).unwrap();
+        assert!(
+            r.reason
+                .starts_with("inspection due 2024-06-14, 6 days overdue;")
+        );
+        assert_eq!((r.last_value, r.margin_used_pct), (60.0, Some(100.0)));
+        // Due today is not overdue yet.
+        assert!(overdue_row(&p, "CU1", &sch(d(2019, 6, 14)), d(2024, 6, 14)).is_none());
+    }
+}
