@@ -56,7 +56,10 @@ pub struct Header {
     pub interval_months: u32,
     pub boards: Vec<BoardHeader>,
     pub last_visit: Option<NaiveDate>,
-    /// Last visit plus the property's interval.
+    /// The last visit that was a full inspection; earlier than `last_visit` when the last
+    /// visit was a partial re-test, which does not restart the due date.
+    pub last_full_inspection: Option<NaiveDate>,
+    /// The last full inspection plus the property's interval.
     pub next_due: Option<NaiveDate>,
 }
 
@@ -347,6 +350,7 @@ pub fn build(a: &PropertyAnalysis) -> PropertyReport {
             })
             .collect(),
         last_visit: a.last_visit,
+        last_full_inspection: a.last_full_inspection,
         next_due: a.next_due,
     };
     let flagged = flagged(a);
