@@ -6,8 +6,6 @@
 //! A periodic inspection tests every circuit but for agreed limitations, and a re-test after
 //! repairs touches the few circuits worked on, so half sits well clear of both.
 
-use foldhash::{HashMap, HashSet};
-
 use chrono::NaiveDate;
 
 use super::{Flag, add_months};
@@ -40,50 +38,51 @@ pub struct Schedule {
     pub partial_since: Vec<Coverage>,
 }
 
-/// Each completed visit's coverage, oldest first. A circuit counts as in service at a visit's
-/// date when it had been read at or before that visit and had not been retired by then; the
-/// circuits read at the visit always count.
+/// Each completed visit's coverage, oldest first. A circuit counts as in service at a visit
+/// when it had been read at that visit or an earlier one and had not been retired by the
+/// visit's date; the circuits read at the visit always count.
 pub fn coverage(h: &PropertyHistory) -> Vec<Coverage> {
-    let visit_date: HashMap<i64, NaiveDate> = h.visits.iter().map(|v| (v.id, v.date)).collect();
-    let mut first_read: HashMap<i64, NaiveDate> = HashMap::default();
-    let mut tested: HashMap<i64, HashSet<i64>> = HashMap::default();
-    for r in &h.records {
-        let Some(&d) = visit_date.get(&r.visit_id) else {
-            continue;
-        };
-        first_read
-            .entry(r.circuit_id)
-            .and_modify(|f| *f = (*f).min(d))
-            .or_insert(d);
-        tested.entry(r.visit_id).or_default().insert(r.circuit_id);
-    }
-    let mut retired: HashMap<i64, NaiveDate> = HashMap::default();
-    for ch in h.changes.iter().filter(|ch| ch.kind == ChangeKind::Retired) {
-        retired
-            .entry(ch.circuit_id)
-            .and_modify(|r| *r = (*r).min(ch.date))
-            .or_insert(ch.date);
-    }
-    let empty = HashSet::default();
-    h.visits
+    let mut out: Vec<Coverage> = h
+        .visits
         .iter()
-        .map(|v| {
-            let at_visit = tested.get(&v.id).unwrap_or(&empty);
-            let others = first_read
-                .iter()
-                .filter(|(c, first)| {
-                    **first <= v.date
-                        && !at_visit.contains(*c)
-                        && retired.get(*c).is_none_or(|r| *r > v.date)
-                })
-                .count();
-            Coverage {
-                date: v.date,
-                tested: at_visit.len(),
-                in_service: at_visit.len() + others,
-            }
+        .map(|v| Coverage {
+            date: v.date,
+            tested: 0,
+            in_service: 0,
         })
-        .collect()
+        .collect();
+    // (circuit, visit index) for every reading, each pair once. A property has a handful of
+    // visits, so the index is found by a short scan.
+    let mut read: Vec<(i64, usize)> = h
+        .records
+        .iter()
+        .filter_map(|r| {
+            let i = h.visits.iter().position(|v| v.id == r.visit_id)?;
+            Some((r.circuit_id, i))
+        })
+        .collect();
+    read.sort_unstable();
+    read.dedup();
+    for one in read.chunk_by(|a, b| a.0 == b.0) {
+        let circuit = one[0].0;
+        let retired = h
+            .changes
+            .iter()
+            .filter(|ch| ch.circuit_id == circuit && ch.kind == ChangeKind::Retired)
+            .map(|ch| ch.date)
+            .min();
+        let mut at = one.iter().map(|&(_, i)| i).peekable();
+        for (i, c) in out.iter_mut().enumerate().skip(one[0].1) {
+            let tested = at.next_if_eq(&i).is_some();
+            if tested {
+                c.tested += 1;
+            }
+            if tested || retired.is_none_or(|r| r > c.date) {
+                c.in_service += 1;
+            }
+        }
+    }
+    out
 }
 
 /// The last full inspection, the next due date from it, and the partial re-tests since.

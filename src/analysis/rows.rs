@@ -6,7 +6,6 @@
 use std::cmp::Ordering;
 
 use chrono::NaiveDate;
-use foldhash::HashMap;
 use serde::{Serialize, Serializer};
 
 use super::Flag;
@@ -18,23 +17,18 @@ use crate::trend;
 pub fn group(mut flags: Vec<Flag>) -> Vec<Flag> {
     rank(&mut flags);
     let mut rows: Vec<Flag> = Vec::new();
-    let mut at: HashMap<(String, String, Option<String>, &'static str), usize> = HashMap::default();
     for f in flags {
-        // A property's inspection row never shares a row with its supply's.
-        let key = (
-            f.property_ref.clone(),
-            f.board.clone(),
-            f.circuit.clone(),
-            if f.quantity == "inspection" {
-                "inspection"
-            } else {
-                ""
-            },
-        );
-        match at.get(&key) {
-            Some(&i) => rows[i].findings.push(f),
+        // One property's rows are few: a scan finds the circuit's. A property's inspection
+        // row never shares a row with its supply's.
+        let same = |r: &&mut Flag| {
+            r.circuit == f.circuit
+                && r.board == f.board
+                && r.property_ref == f.property_ref
+                && (r.quantity == "inspection") == (f.quantity == "inspection")
+        };
+        match rows.iter_mut().find(same) {
+            Some(row) => row.findings.push(f),
             None => {
-                at.insert(key, rows.len());
                 let mut row = f.clone();
                 row.findings = vec![f];
                 rows.push(row);
