@@ -887,10 +887,13 @@ mod tests {
         let settings =
             crate::analysis::Settings::defaults(NaiveDate::from_ymd_opt(2026, 12, 1).unwrap());
         let flags = crate::analysis::worklist(&s, &settings, &Default::default()).unwrap();
+        // A circuit's row holds every finding on it, the most serious first.
         let has = |p: &str, c: Option<&str>, q: &str| {
-            flags
-                .iter()
-                .any(|f| f.property_ref == p && f.circuit.as_deref() == c && f.quantity == q)
+            flags.iter().any(|f| {
+                f.property_ref == p
+                    && f.circuit.as_deref() == c
+                    && f.findings.iter().any(|g| g.quantity == q)
+            })
         };
         assert!(has("QL-001", Some("1"), "r1r2"), "loose termination");
         assert!(has("QL-002", Some("2"), "r1rn"), "neutral");

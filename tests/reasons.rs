@@ -29,12 +29,27 @@ struct Checks {
     ring_ends: Regex,
     ring_ratio: Regex,
     ring_cross: Regex,
+    overdue: Regex,
+    /// The analysis date, which an overdue inspection's figures count to.
+    today: NaiveDate,
 }
 
 const N: &str = r"(−?[0-9]+(?:\.[0-9]+)?)";
 
+/// Whole calendar months from `a` to `b` as a due date counts them: the most `n` with
+/// `a + n months` (clamped to the month's end) not after `b`.
+fn months(a: NaiveDate, b: NaiveDate) -> u32 {
+    (0..=1200)
+        .take_while(|n| {
+            a.checked_add_months(chrono::Months::new(*n))
+                .is_some_and(|x| x <= b)
+        })
+        .last()
+        .unwrap_or(0)
+}
+
 impl Checks {
-    fn new() -> Checks {
+    fn new(today: NaiveDate) -> Checks {
         let r = |p: &str| Regex::new(&p.replace("N", N)).unwrap();
         Checks {
             exceeds: r(
@@ -67,6 +82,10 @@ impl Checks {
                 r"r2 / r1 is N \(r2 N Ω, r1 N Ω\) against N expected for [^,]*, N % away, more than N %",
             ),
             ring_cross: r(r"highest R1\+R[2n] N Ω is N Ω below \([^)]*\) = N Ω, more than N Ω"),
+            overdue: r(
+                r"^inspection due ([0-9-]{10}), N (months?|days?) overdue; last full inspection ([0-9-]{10}), interval N months",
+            ),
+            today,
         }
     }
 
@@ -184,6 +203,27 @@ impl Checks {
             );
             assert!(pct.0 > t.0, "{reason}");
         }
+        if let Some(m) = self.overdue.captures(reason) {
+            known += 1;
+            let date = |i: usize| m[i].parse::<NaiveDate>().unwrap();
+            let (due, late, last, interval) = (date(1), c(&m, 2).0, date(4), c(&m, 5).0);
+            let since = months(last, self.today);
+            assert_eq!(
+                last.checked_add_months(chrono::Months::new(interval as u32)),
+                Some(due),
+                "due ≠ last full inspection + interval: {reason}"
+            );
+            assert!(due < self.today, "not overdue: {reason}");
+            if m[3].starts_with("month") {
+                assert_eq!(late, f64::from(since) - interval, "{reason}");
+            } else {
+                assert_eq!(f64::from(since), interval, "a month or more late: {reason}");
+                assert_eq!(late, (self.today - due).num_days() as f64, "{reason}");
+            }
+            assert_eq!(f.last_value, f64::from(since), "{reason}");
+            assert_eq!(f.limit, Some(interval), "{reason}");
+            assert_eq!(f.last_date, last, "{reason}");
+        }
         if let Some(m) = self.ring_cross.captures(reason) {
             known += 1;
             let (got, d, want) = (c(&m, 1), c(&m, 2), c(&m, 3));
@@ -196,13 +236,14 @@ impl Checks {
     }
 }
 
-/// Checks every flag of the worklist, and every finding of every property's full analysis.
+/// Checks every finding of every worklist row (a row carries its most serious finding's
+/// figures, and every finding in `findings`).
 pub fn check_all(store: &Store, settings: &Settings) -> usize {
-    let checks = Checks::new();
+    let checks = Checks::new(settings.today);
     let shared = Regex::new(r"^One RCD, tested once for circuits [^:]*: ").unwrap();
     let mut seen = 0;
-    let flags = analysis::worklist(store, settings, &WorklistFilter::default()).unwrap();
-    for f in &flags {
+    let rows = analysis::worklist(store, settings, &WorklistFilter::default()).unwrap();
+    for f in rows.iter().flat_map(|r| &r.findings) {
         let reason = shared.replace(&f.reason, "");
         assert!(
             checks.check(f, &reason) > 0,
@@ -234,4 +275,19 @@ fn every_reason_of_the_demo_adds_up() {
     let today = NaiveDate::from_ymd_opt(2026, 12, 1).unwrap();
     let seen = check_all(&store, &Settings::defaults(today));
     assert!(seen >= 5, "only {seen} reasons checked");
+}
+
+#[test]
+fn the_demo_s_overdue_inspections_add_up_years_later() {
+    let store = Store::open_in_memory().unwrap();
+    ohmtrail::demo::build(&store).unwrap();
+    // Later dates at which some of the demo's homes are past their last full inspection plus
+    // their interval.
+    for today in ["2029-03-17", "2031-07-02"] {
+        let settings = Settings::defaults(today.parse().unwrap());
+        check_all(&store, &settings);
+        let rows = analysis::worklist(&store, &settings, &WorklistFilter::default()).unwrap();
+        let overdue = rows.iter().filter(|r| r.kind == "overdue").count();
+        assert!(overdue > 0, "nothing overdue at {today}");
+    }
 }

@@ -710,3 +710,60 @@ fn portfolio_index_links_every_property_report() {
         .success();
     assert_eq!(std::fs::read_dir(&only).unwrap().count(), 1);
 }
+
+#[test]
+fn a_partial_retest_is_shown_and_does_not_move_the_due_date() {
+    let store = Store::open_in_memory().unwrap();
+    fixture(&store, REF, "1 Invented Row");
+    // A remedial visit after the 2024 inspection: only the outside lights re-tested (1 of 5
+    // circuits), their insulation a little different from the last reading, as on site.
+    let p = store.property(REF).unwrap();
+    let v = store
+        .add_visit(
+            p.id,
+            &NewVisit {
+                date: Some(d("2025-03-02")),
+                ambient_c: Some(11.0),
+                ze_ohm: Some(0.24),
+                ..Default::default()
+            },
+            VisitState::Complete,
+        )
+        .unwrap();
+    let outside = store.find_circuit(REF, "CU1", "4").unwrap();
+    store
+        .put_test_record(
+            v.id,
+            outside.id,
+            &Readings {
+                r1r2_ohm: ohm(1.13),
+                r1rn_ohm: ohm(0.94),
+                ir_le: mohm(0.75, false),
+                ..Default::default()
+            },
+        )
+        .unwrap();
+    // 2030-01-15 is past 2024-06-18 + 60 months (2029-06-18), though not past the re-test's
+    // 2025-03-02 + 60 months.
+    let r = report::property_report(&store, REF, &settings("2030-01-15")).unwrap();
+    assert_eq!(r.header.last_visit, Some(d("2025-03-02")));
+    assert_eq!(r.header.last_full_inspection, Some(d("2024-06-18")));
+    assert_eq!(r.header.next_due, Some(d("2029-06-18")));
+    assert!(r.summary.next_inspection_overdue);
+    // The overdue inspection is in the summary's lines, not a flagged circuit or the supply.
+    assert!(r.flagged.iter().all(|f| f.circuit.is_some()));
+    assert!(!r.summary.supply_flagged);
+    let html = report::property::render(&r);
+    assert!(html.contains("Last full inspection"), "{}", outline(&html));
+    // Every finding of every worklist row is in the report.
+    let a = ohmtrail::analysis::analyse_property(&store, REF, &settings("2030-01-15")).unwrap();
+    let in_rows: usize = a
+        .flags
+        .iter()
+        .filter(|f| f.quantity != "inspection")
+        .map(|f| f.findings.len())
+        .sum();
+    let in_report: usize = r.flagged.iter().map(|f| f.findings.len()).sum();
+    assert_eq!(in_report, in_rows);
+    assert!(a.flags.iter().any(|f| f.kind == "overdue"));
+}

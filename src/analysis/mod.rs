@@ -5,8 +5,10 @@
 //! returns every circuit's series, findings and flags. [`worklist`] walks the portfolio one
 //! property at a time, so memory stays bounded by the largest property.
 
+pub mod due;
 pub mod offsets;
 mod rcd_devices;
+pub mod rows;
 mod series;
 pub mod settings;
 #[cfg(test)]
@@ -24,25 +26,27 @@ use crate::error::Result;
 use crate::limits::{self, DisconnectionChoice, FaultPathReport, RingCheck, Source, ZsLimit};
 use crate::model::{Board, Circuit, Observation, Property, Readings, Visit};
 use crate::store::{ALL_PROPERTIES, HistoryParts, PropertyHistory, Store};
-use crate::trend::{self, Finding, FindingKind, SeriesReport, Severity};
+use crate::trend::{Finding, FindingKind, SeriesReport, Severity};
 
 pub use settings::Settings;
 
-/// One entry of the worklist: a reading against a limit, or a change, on one circuit.
+/// One finding on the worklist: a reading against a limit, or a change, on one circuit; or an
+/// overdue inspection. A worklist row is a `Flag` too: the fields of its most serious finding,
+/// with every finding of the circuit in `findings` ([`rows::group`]).
 /// The field names are a contract (see the README's `flags` schema).
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct Flag {
     pub property_ref: String,
     pub board: String,
-    /// `None` for a supply (Ze) flag, which belongs to the board's origin.
+    /// `None` for a supply (Ze) flag or an overdue inspection, which belong to the origin.
     pub circuit: Option<String>,
     pub description: Option<String>,
-    /// One of `ze`, `zs`, `r1r2`, `r1rn`, `r2`, `ring`, `ir_ll`, `ir_le`, `rcd`.
+    /// One of `ze`, `zs`, `r1r2`, `r1rn`, `r2`, `ring`, `ir_ll`, `ir_le`, `rcd`, `inspection`.
     pub quantity: &'static str,
     /// `exceeds`, `approaching` or `changed`.
     pub severity: &'static str,
     /// What was found: `exceeds`, `approaching`, `step`, `drift`, `neutral_divergence`, `ze_rise`,
-    /// `ring_check`.
+    /// `ring_check`, `overdue`.
     pub kind: &'static str,
     /// One sentence with the figures.
     pub reason: String,
@@ -55,14 +59,21 @@ pub struct Flag {
     /// Share of the limit used by the last reading, in per cent.
     pub margin_used_pct: Option<f64>,
     pub recommended_interval_months: Option<u32>,
+    /// On a worklist row: every finding grouped in it, most serious first (the first is the
+    /// row's own). Empty on a flag not yet grouped.
+    #[serde(
+        skip_serializing_if = "Vec::is_empty",
+        serialize_with = "rows::serialize_findings"
+    )]
+    pub findings: Vec<Flag>,
     #[serde(skip)]
-    finding: Finding,
+    finding: Option<Finding>,
 }
 
 impl Flag {
-    /// The trend finding behind the flag, for ranking.
-    pub fn finding(&self) -> &Finding {
-        &self.finding
+    /// The trend finding behind the flag, for ranking; `None` for an overdue inspection.
+    pub fn finding(&self) -> Option<&Finding> {
+        self.finding.as_ref()
     }
 }
 
@@ -128,7 +139,10 @@ pub struct PropertyAnalysis {
     pub boards: Vec<Board>,
     pub visits: Vec<VisitInfo>,
     pub last_visit: Option<NaiveDate>,
-    /// Last visit plus the property's interval.
+    /// The last visit that was a full inspection (see [`due`]): a partial re-test counts for
+    /// the trends but does not restart the due date.
+    pub last_full_inspection: Option<NaiveDate>,
+    /// The last full inspection plus the property's interval.
     pub next_due: Option<NaiveDate>,
     /// The next inspection ohmtrail recommends: earlier than `next_due` when a projection
     /// reaches a limit before it.
@@ -137,7 +151,8 @@ pub struct PropertyAnalysis {
     /// Ze at the origin, visit by visit.
     pub supply: Option<SeriesAnalysis>,
     pub circuits: Vec<CircuitAnalysis>,
-    /// Every flag on the property, most urgent first.
+    /// The property's worklist rows, most urgent first: one per circuit with findings, one for
+    /// the supply, one for an overdue inspection. Every finding is in its row's `findings`.
     pub flags: Vec<Flag>,
     pub counts: Counts,
     /// Visits with no ambient temperature: their readings are compared as taken.
@@ -207,7 +222,8 @@ fn analyse_with(
     memo: &mut series::LimitMemo,
 ) -> PropertyAnalysis {
     let last_visit = h.visits.last().map(|v| v.date);
-    let next_due = last_visit.map(|d| add_months(d, h.property.interval_months));
+    let schedule = due::schedule(h);
+    let next_due = schedule.next_due;
     // With no visit yet nothing is due from the history; trends need a date to project to.
     let horizon = next_due.unwrap_or(settings.today);
 
@@ -246,29 +262,42 @@ fn analyse_with(
             flags.push(make_flag(&h.property, &o.designation, None, s, f));
         }
     }
-    let mut counts = Counts {
-        circuits: circuits.len(),
-        ..Default::default()
-    };
     for c in &circuits {
-        match c.flags.iter().map(|f| f.finding.severity).max() {
-            Some(Severity::Exceeds) => counts.exceeds += 1,
-            Some(Severity::Approaching) => counts.approaching += 1,
-            Some(Severity::Changed) => counts.changed += 1,
-            None => {}
-        }
         flags.extend(c.flags.iter().cloned());
     }
-    rank_flags(&mut flags);
-
     let recommended_interval_months = flags
         .iter()
         .filter_map(|f| f.recommended_interval_months)
         .min();
     let recommended_next = match (last_visit, recommended_interval_months) {
-        (Some(l), Some(m)) => Some(add_months(l, m.max(1))),
+        (Some(l), Some(m)) => {
+            let r = add_months(l, m.max(1));
+            Some(next_due.map_or(r, |d| d.min(r)))
+        }
         _ => next_due,
     };
+
+    let mut flags = rows::group(flags);
+    // A circuit counts once, at its most serious finding: its row's.
+    let mut counts = Counts {
+        circuits: circuits.len(),
+        ..Default::default()
+    };
+    for row in flags.iter().filter(|r| r.circuit.is_some()) {
+        match row.finding.as_ref().map(|f| f.severity) {
+            Some(Severity::Exceeds) => counts.exceeds += 1,
+            Some(Severity::Approaching) => counts.approaching += 1,
+            Some(Severity::Changed) => counts.changed += 1,
+            None => {}
+        }
+    }
+    let origin_board = origin.map(|o| o.designation.as_str()).unwrap_or_default();
+    if let Some(row) = due::overdue_row(&h.property, origin_board, &schedule, settings.today) {
+        flags.push(row.clone());
+        let last = flags.len() - 1;
+        flags[last].findings = vec![row];
+    }
+    rank_flags(&mut flags);
 
     let visits = h
         .visits
@@ -295,6 +324,7 @@ fn analyse_with(
         boards: h.boards.clone(),
         visits,
         last_visit,
+        last_full_inspection: schedule.last_full,
         next_due,
         recommended_next,
         recommended_interval_months,
@@ -313,14 +343,10 @@ fn analyse_with(
     }
 }
 
-/// Sort flags most urgent first: exceeds, then approaching, then changed.
-pub fn rank_flags(flags: &mut [Flag]) {
-    flags.sort_by(|a, b| {
-        trend::compare_urgency(&a.finding, &b.finding)
-            .then_with(|| a.property_ref.cmp(&b.property_ref))
-            .then_with(|| a.board.cmp(&b.board))
-            .then_with(|| a.circuit.cmp(&b.circuit))
-    });
+/// Sort flags or worklist rows most urgent first: exceeds, then approaching, then changed
+/// ([`rows::rank`]).
+pub fn rank_flags(flags: &mut Vec<Flag>) {
+    rows::rank(flags);
 }
 
 fn make_flag(
@@ -348,7 +374,8 @@ fn make_flag(
         limit_source: limit.and(s.limit_source.as_ref()).map(source_text),
         margin_used_pct: f.margin_used.map(|m| (m * 1000.0).round() / 10.0),
         recommended_interval_months: f.recommended_interval_months,
-        finding: f.clone(),
+        findings: Vec::new(),
+        finding: Some(f.clone()),
     }
 }
 
@@ -363,7 +390,8 @@ pub struct WorklistFilter {
     pub property: Option<String>,
 }
 
-/// The portfolio worklist: every flag, most urgent first, one property in memory at a time.
+/// The portfolio worklist: one row per circuit with findings (and per supply, and per overdue
+/// inspection), most urgent first, one property in memory at a time.
 pub fn worklist(store: &Store, settings: &Settings, filter: &WorklistFilter) -> Result<Vec<Flag>> {
     let mut flags = match &filter.property {
         Some(r) => {

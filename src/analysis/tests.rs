@@ -206,8 +206,13 @@ fn a_breaker_change_changes_the_limit_and_resets_the_baseline() {
         "{:?}",
         zs.events
     );
-    // The drop from 0.55 to 0.30 after the work is not "improving" and not a step.
-    assert!(a.flags.is_empty(), "{:#?}", a.flags);
+    // The drop from 0.55 to 0.30 after the work is not "improving" and not a step. (The
+    // inspection itself is overdue at the analysis date: 2020 + 5 years.)
+    assert!(
+        a.flags.iter().all(|f| f.quantity == "inspection"),
+        "{:#?}",
+        a.flags
+    );
 }
 
 #[test]

@@ -7,6 +7,7 @@ use super::tests::{d, flags_of, home, loops, settings, visit};
 use super::*;
 use crate::model::{CircuitKind, Earthing, Megohms, Readings};
 use crate::store::{CircuitDetails, NewBoard, NewProperty, Store};
+use crate::trend;
 
 fn rcd(rated: Option<f64>, five: Option<f64>) -> Readings {
     Readings {

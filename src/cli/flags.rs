@@ -3,7 +3,7 @@ use std::io::Write;
 use anyhow::Result;
 use clap::Args as ClapArgs;
 
-use ohmtrail::analysis::{Settings, WorklistFilter, worklist};
+use ohmtrail::analysis::{Flag, Settings, WorklistFilter, worklist};
 
 use super::output::{json, table};
 use super::{CAUTION, Context, today};
@@ -34,7 +34,8 @@ pub fn run(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
     if flags.is_empty() {
         writeln!(
             out,
-            "nothing to report: no circuit exceeds, approaches or has moved beyond the noise floor"
+            "nothing to report: no circuit exceeds, approaches or has moved beyond the noise floor, \
+             and no inspection is overdue"
         )?;
         writeln!(out, "Caution: {CAUTION}")?;
         return Ok(());
@@ -55,7 +56,7 @@ pub fn run(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
                 f.projected_date
                     .map(|d| d.to_string())
                     .unwrap_or_else(|| "-".into()),
-                f.reason.clone(),
+                reason_with_others(f),
             ]
         })
         .collect();
@@ -75,4 +76,19 @@ pub fn run(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
     writeln!(out)?;
     writeln!(out, "Caution: {CAUTION}")?;
     Ok(())
+}
+
+/// The row's reason, then its other findings in brief: "also: r1rn step (changed), ...".
+fn reason_with_others(f: &Flag) -> String {
+    let others: Vec<String> = f
+        .findings
+        .iter()
+        .skip(1)
+        .map(|g| format!("{} {} ({})", g.quantity, g.kind, g.severity))
+        .collect();
+    if others.is_empty() {
+        f.reason.clone()
+    } else {
+        format!("{} [also: {}]", f.reason, others.join(", "))
+    }
 }

@@ -72,7 +72,7 @@ pub enum Command {
     /// List the visits in the history
     #[command(subcommand)]
     Visit(visit::Cmd),
-    /// The portfolio worklist: circuits past, approaching or moving toward their limits, most urgent first
+    /// The portfolio worklist, one row per circuit: circuits past, approaching or moving toward their limits, and overdue inspections, most urgent first
     Flags(flags::Args),
     /// Every series of a property's circuits with its points, slopes and findings
     Trend(trend::Args),

@@ -24,6 +24,7 @@ pub struct Args {
 struct TrendOut<'a> {
     property_ref: &'a str,
     last_visit: Option<chrono::NaiveDate>,
+    last_full_inspection: Option<chrono::NaiveDate>,
     next_due: Option<chrono::NaiveDate>,
     recommended_next: Option<chrono::NaiveDate>,
     visits_without_ambient: &'a [chrono::NaiveDate],
@@ -67,6 +68,7 @@ pub fn run(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
             &TrendOut {
                 property_ref: &a.property.reference,
                 last_visit: a.last_visit,
+                last_full_inspection: a.last_full_inspection,
                 next_due: a.next_due,
                 recommended_next: a.recommended_next,
                 visits_without_ambient: &a.visits_without_ambient,
@@ -80,9 +82,18 @@ pub fn run(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
             },
         );
     }
+    // A partial re-test does not restart the due date: say which visit it runs from.
+    let partial = if a.last_full_inspection != a.last_visit {
+        format!(
+            " (a partial re-test; last full inspection {})",
+            opt(a.last_full_inspection)
+        )
+    } else {
+        String::new()
+    };
     writeln!(
         out,
-        "{} — last visit {}, next due {}, recommended next inspection {}",
+        "{} — last visit {}{partial}, next due {}, recommended next inspection {}",
         a.property.reference,
         opt(a.last_visit),
         opt(a.next_due),

@@ -226,9 +226,12 @@ pub fn brief(
         });
     }
 
+    // Every finding of every circuit; an overdue inspection is not a reading to take.
     let test_first = analysis
         .flags
         .iter()
+        .flat_map(|row| &row.findings)
+        .filter(|f| f.finding().is_some())
         .map(|f| Priority {
             board: f.board.clone(),
             circuit: f.circuit.clone(),

@@ -56,7 +56,10 @@ pub struct Header {
     pub interval_months: u32,
     pub boards: Vec<BoardHeader>,
     pub last_visit: Option<NaiveDate>,
-    /// Last visit plus the property's interval.
+    /// The last visit that was a full inspection; earlier than `last_visit` when the last
+    /// visit was a partial re-test, which does not restart the due date.
+    pub last_full_inspection: Option<NaiveDate>,
+    /// The last full inspection plus the property's interval.
     pub next_due: Option<NaiveDate>,
 }
 
@@ -347,6 +350,7 @@ pub fn build(a: &PropertyAnalysis) -> PropertyReport {
             })
             .collect(),
         last_visit: a.last_visit,
+        last_full_inspection: a.last_full_inspection,
         next_due: a.next_due,
     };
     let flagged = flagged(a);
@@ -389,7 +393,8 @@ fn summary(a: &PropertyAnalysis, flagged: &[FlaggedCircuit], today: NaiveDate) -
         .saturating_sub(flagged_circuits)
         .saturating_sub(not_tested);
     let supply_flagged = flagged.iter().any(|f| f.circuit.is_none());
-    let worst = worst(a.flags.iter().map(|f| f.severity));
+    // The summary's own lines say when the inspection is due (and overdue).
+    let worst = worst(trend_rows(a).map(|f| f.severity));
 
     let names = |sev: &str| -> Vec<String> {
         flagged
@@ -467,9 +472,9 @@ fn summary(a: &PropertyAnalysis, flagged: &[FlaggedCircuit], today: NaiveDate) -
     let approaching = names("approaching");
     if !approaching.is_empty() {
         // Re-test before the earliest projected crossing.
-        let by = a
-            .flags
-            .iter()
+        let by = trend_rows(a)
+            .filter(|r| r.severity == "approaching")
+            .flat_map(|r| &r.findings)
             .filter(|f| f.severity == "approaching")
             .filter_map(|f| {
                 f.recommended_interval_months
@@ -477,9 +482,12 @@ fn summary(a: &PropertyAnalysis, flagged: &[FlaggedCircuit], today: NaiveDate) -
             })
             .min();
         let soon = by.is_none_or(|d| d <= today)
-            || a.flags.iter().any(|f| {
-                f.severity == "approaching" && f.projected_earliest.is_some_and(|e| e <= today)
-            });
+            || trend_rows(a)
+                .filter(|r| r.severity == "approaching")
+                .flat_map(|r| &r.findings)
+                .any(|f| {
+                    f.severity == "approaching" && f.projected_earliest.is_some_and(|e| e <= today)
+                });
         actions.push(Action {
             severity: Some("approaching"),
             what: format!(
@@ -583,10 +591,20 @@ fn p_interval_words(months: u32) -> String {
     }
 }
 
-/// Flags grouped by circuit, most urgent circuit first (the flags arrive ranked).
+/// The worklist rows of a circuit or the supply: those with trend findings behind them (an
+/// overdue inspection is in the summary's own lines instead).
+pub(super) fn trend_rows(a: &PropertyAnalysis) -> impl Iterator<Item = &Flag> {
+    a.flags.iter().filter(|r| r.finding().is_some())
+}
+
+/// Every finding by circuit, most urgent circuit first (the rows arrive ranked, each with its
+/// findings most serious first).
 fn flagged(a: &PropertyAnalysis) -> Vec<FlaggedCircuit> {
     let mut out: Vec<FlaggedCircuit> = Vec::new();
-    for f in &a.flags {
+    for f in trend_rows(a).flat_map(|r| &r.findings) {
+        let Some(found) = f.finding() else {
+            continue;
+        };
         let pos = out
             .iter()
             .position(|g| g.board == f.board && g.circuit == f.circuit);
@@ -603,14 +621,14 @@ fn flagged(a: &PropertyAnalysis) -> Vec<FlaggedCircuit> {
             label: if ring_check {
                 "ring check"
             } else {
-                f.finding().label
+                found.label
             },
             severity: f.severity,
             kind: f.kind,
             reason: f.reason.clone(),
             last_value: f.last_value,
             last_date: f.last_date,
-            unit: f.finding().quantity.unit(),
+            unit: found.quantity.unit(),
             limit: f.limit,
             limit_words: if ring_check {
                 Some("tolerance between the ring's end-to-end readings and R1+R2".into())
@@ -663,7 +681,7 @@ fn flagged(a: &PropertyAnalysis) -> Vec<FlaggedCircuit> {
 }
 
 fn find_series<'a>(a: &'a PropertyAnalysis, f: &Flag) -> Option<&'a SeriesAnalysis> {
-    let q = f.finding().quantity;
+    let q = f.finding()?.quantity;
     match &f.circuit {
         None => a.supply.as_ref(),
         Some(n) => a

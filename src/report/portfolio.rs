@@ -59,7 +59,7 @@ pub struct PortfolioEntry {
 /// One index line from a property's analysis and report; `ext` is the report files' extension.
 pub fn entry(a: &PropertyAnalysis, r: &PropertyReport, ext: &str) -> PortfolioEntry {
     let s = &r.summary;
-    let top = a.flags.first();
+    let top = super::model::trend_rows(a).next();
     PortfolioEntry {
         rank: 0,
         property_ref: r.header.property_ref.clone(),
@@ -81,7 +81,7 @@ pub fn entry(a: &PropertyAnalysis, r: &PropertyReport, ext: &str) -> PortfolioEn
             Some(c) => format!("{}/{c}: {}", f.board, f.reason),
             None => format!("{} supply: {}", f.board, f.reason),
         }),
-        top: top.map(|f| f.finding().clone()),
+        top: top.and_then(|f| f.finding().cloned()),
     }
 }
 

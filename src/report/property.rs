@@ -109,6 +109,13 @@ fn masthead(o: &mut String, r: &PropertyReport) {
         },
     );
     fact(o, "Last visit", time_or(h.last_visit, "none yet"));
+    if let Some(full) = h
+        .last_full_inspection
+        .filter(|_| h.last_full_inspection != h.last_visit)
+    {
+        // The due date runs from here, not from a later partial re-test.
+        fact(o, "Last full inspection", time(full));
+    }
     fact(
         o,
         "Routine inspection due",

@@ -1,8 +1,10 @@
 //! Scoring a worklist against the simulator's truth.
 //!
-//! A flag counts for a planted fault only when it is on that fault's circuit (any circuit a
-//! slow RCD protects; the home's supply, circuit `None`, for a supply fault) and on one of the
-//! fault's quantities ([`super::faults::FaultKind::quantities`]). Every other row is classed:
+//! A row counts for a planted fault only when it is on that fault's circuit (any circuit a
+//! slow RCD protects; the home's supply, circuit `None`, for a supply fault) and one of its
+//! findings (the row's own or a supporting one: the worklist gives a circuit one row) is on one
+//! of the fault's quantities ([`super::faults::FaultKind::quantities`]). Every other row is
+//! classed by its own quantity:
 //!
 //! - `true`: counts for a fault as above;
 //! - `consequence`: Zs or R1+Rn on a circuit of a home whose supply fault is present (the
@@ -32,6 +34,8 @@ pub struct FlagKey {
     pub quantity: String,
     pub kind: String,
     pub reason: String,
+    /// The quantities of every finding grouped in the row, its own first.
+    pub quantities: Vec<String>,
 }
 
 impl From<&Flag> for FlagKey {
@@ -43,6 +47,11 @@ impl From<&Flag> for FlagKey {
             quantity: f.quantity.to_string(),
             kind: f.kind.to_string(),
             reason: f.reason.clone(),
+            quantities: if f.findings.is_empty() {
+                vec![f.quantity.to_string()]
+            } else {
+                f.findings.iter().map(|g| g.quantity.to_string()).collect()
+            },
         }
     }
 }
@@ -151,7 +160,12 @@ pub fn score(truth: &Truth, flags: &[FlagKey]) -> Scored {
         let here: &[&PlantedFault] = at.get(&key).map_or(&[], |v| v.as_slice());
         let matching: Vec<usize> = here
             .iter()
-            .filter(|p| present(p) && p.quantities.contains(&f.quantity.as_str()))
+            .filter(|p| {
+                present(p)
+                    && f.quantities
+                        .iter()
+                        .any(|q| p.quantities.contains(&q.as_str()))
+            })
             .map(|p| p.id)
             .collect();
         let supply_fault_present = home_of
@@ -360,6 +374,7 @@ mod tests {
             quantity: quantity.into(),
             kind: "step".into(),
             reason: "r".into(),
+            quantities: vec![quantity.into()],
         }
     }
 
@@ -393,6 +408,18 @@ mod tests {
         assert_eq!(c.per_kind["rcd_slowing"].recall, Some(1.0));
         assert_eq!(c.per_kind["ring_leg"].recall, None);
         assert!(s.missed.is_empty());
+    }
+
+    #[test]
+    fn a_row_counts_for_a_fault_on_a_supporting_finding() {
+        let t = tiny();
+        // Circuit 1's row is led by its IR finding; the loose cpc shows on its Zs, supporting.
+        let mut row = flag(Some("1"), "ir_le");
+        row.quantities = vec!["ir_le".into(), "zs".into()];
+        let s = score(&t, &[row]);
+        assert_eq!(s.classes, vec![RowClass::True]);
+        assert_eq!(s.card.found, 1);
+        assert_eq!(s.missed, vec![1]);
     }
 
     #[test]
