@@ -11,6 +11,7 @@ mod rcd_devices;
 pub mod rows;
 mod series;
 pub mod settings;
+mod supply;
 #[cfg(test)]
 mod tests;
 #[cfg(test)]
@@ -234,7 +235,7 @@ fn analyse_with(
         .find(|b| b.fed_from.is_none() && b.status == crate::model::Status::InService)
         .or_else(|| h.boards.first());
 
-    let supply = series::supply_series(h, origin, horizon, settings);
+    let supply = supply::supply_series(h, origin, horizon, settings);
 
     let continuity_offsets = offsets::visit_offsets(h);
     let index = series::Index::new(h, &continuity_offsets);

@@ -20,10 +20,9 @@ use chrono::{Datelike, NaiveDate};
 use serde::Serialize;
 
 use super::config::Checked;
-use super::finding::{Finding, FindingKind, Projection, fmt_fold, fmt_rate, fmt_value};
-use super::project::{
-    DAYS_PER_YEAR, ProjectionInput, project, recommended_interval, years_between,
-};
+use super::finding::{Finding, FindingKind, Projection};
+use super::project::{DAYS_PER_YEAR, ProjectionInput, project, years_between};
+use super::sentences::{approaching, concern_check, drift_finding, limit_check, step_finding};
 use super::series::current_baseline;
 use super::stats::{least_squares, median, median_intercept, theil_sen, theil_sen_in};
 use super::{LimitKind, Point, Quantity, Scale, Series, TrendConfig, TrendError, Worse};
@@ -85,13 +84,13 @@ impl SeriesReport {
 }
 
 /// The baseline in the working scale, x in years from the baseline's first point.
-struct Work<'a> {
-    q: Quantity,
-    pts: &'a [Point],
-    x: &'a [f64],
-    y: &'a [f64],
-    censored: &'a [bool],
-    sign: f64,
+pub(super) struct Work<'a> {
+    pub(super) q: Quantity,
+    pub(super) pts: &'a [Point],
+    pub(super) x: &'a [f64],
+    pub(super) y: &'a [f64],
+    pub(super) censored: &'a [bool],
+    pub(super) sign: f64,
 }
 
 /// Buffers one thread reuses from series to series: the worklist analyses hundreds of
@@ -206,7 +205,7 @@ impl<'a> Work<'a> {
     /// reading, about 10 °C of copper at 0.00393 per K (the spread of indoor temperatures
     /// over a year; reasoned, no source). Nothing for other quantities or when every reading
     /// was corrected.
-    fn unknown_temperature(&self, idx: &[usize]) -> f64 {
+    pub(super) fn unknown_temperature(&self, idx: &[usize]) -> f64 {
         if !self.q.temperature_sensitive() || idx.iter().all(|&i| self.pts[i].ambient_c.is_some()) {
             return 0.0;
         }
@@ -463,69 +462,6 @@ fn margin_used(kind: LimitKind, limit: f64, value: f64) -> f64 {
     }
 }
 
-fn limit_check(series: &Series, last: &Point) -> Option<Finding> {
-    let q = series.quantity;
-    let limit = series.limit?;
-    let past = match limit.kind {
-        // A lower bound above a maximum is past it; one below says nothing.
-        LimitKind::Max => last.value > limit.value,
-        // A lower bound can never show a reading below a minimum.
-        LimitKind::Min => !last.censored && last.value < limit.value,
-    };
-    if !past {
-        return None;
-    }
-    let (word, side) = match limit.kind {
-        LimitKind::Max => ("maximum", "above"),
-        LimitKind::Min => ("minimum", "below"),
-    };
-    let sentence = format!(
-        "{} at the last visit ({}) was {}, {side} the {word} of {}{}.",
-        q.label(),
-        last.date,
-        reading_words(q, last),
-        fmt_value(q, limit.value, false),
-        if q.temperature_sensitive() {
-            " at 20 °C"
-        } else {
-            ""
-        },
-    );
-    let mut f = Finding::new(FindingKind::Exceeds, q, last.date, sentence);
-    f.to_value = Some(last.value);
-    Some(f)
-}
-
-/// The last reading past the series' level of concern (inside its limit is the caller's
-/// business: this is not asked when the limit is already exceeded).
-fn concern_check(series: &Series, last: &Point) -> Option<Finding> {
-    let q = series.quantity;
-    let c = series.concern?;
-    let past = match c.level.kind {
-        LimitKind::Max => last.value > c.level.value,
-        LimitKind::Min => !last.censored && last.value < c.level.value,
-    };
-    if !past {
-        return None;
-    }
-    let side = match c.level.kind {
-        LimitKind::Max => "above",
-        LimitKind::Min => "below",
-    };
-    let sentence = format!(
-        "{} at the last visit ({}) was {}, {side} {} of {}; {}.",
-        q.label(),
-        last.date,
-        fmt_value(q, last.value, last.censored),
-        c.words,
-        fmt_value(q, c.level.value, false),
-        c.advice,
-    );
-    let mut f = Finding::new(FindingKind::Investigate, q, last.date, sentence);
-    f.to_value = Some(last.value);
-    Some(f)
-}
-
 /// Finds steps, pushing a finding for each, and leaves in `adj` the working values with every
 /// found step taken out of the readings after it. True when a step was found.
 fn steps(
@@ -595,101 +531,6 @@ fn predict(w: &Work<'_>, earlier: &[f64], x: f64) -> f64 {
     }
 }
 
-fn step_finding(
-    q: Quantity,
-    from: &Point,
-    to: &Point,
-    predicted: f64,
-    unexplained: f64,
-    floor: f64,
-) -> Finding {
-    let (verb, noun) = match q.worse() {
-        Worse::Higher => ("rose", "rise"),
-        Worse::Lower => ("fell", "fall"),
-    };
-    let (a, b) = (
-        fmt_value(q, from.value, from.censored),
-        fmt_value(q, to.value, to.censored),
-    );
-    let basis = basis_words(q, &[from, to]);
-    let sentence = match q.scale() {
-        Scale::Log10 => format!(
-            "{} {verb} from {a} to {b} between the visits of {} and {}, {} {} {noun} from what the earlier readings predicted (about {}), beyond the noise floor of a factor of {:.1}{}.",
-            q.label(),
-            from.date,
-            to.date,
-            if from.censored { "at least a" } else { "a" },
-            fmt_fold(10f64.powf(unexplained)),
-            fmt_value(q, predicted, from.censored),
-            10f64.powf(floor),
-            meaning_tail(q),
-        ),
-        Scale::Linear => format!(
-            "{} {verb} from {a} to {b}{basis} between the visits of {} and {}, {} more than the earlier readings predicted (about {}), beyond the noise floor of {}{}.",
-            q.label(),
-            from.date,
-            to.date,
-            fmt_value(q, unexplained, false),
-            fmt_value(q, predicted, false),
-            fmt_value(q, floor, false),
-            meaning_tail(q),
-        ),
-    };
-    let kind = if matches!(q, Quantity::Ze | Quantity::ZeTt) {
-        FindingKind::ZeRise
-    } else {
-        FindingKind::Step
-    };
-    let mut f = Finding::new(kind, q, to.date, sentence);
-    f.from_date = Some(from.date);
-    f.from_value = Some(from.value);
-    f.to_value = Some(to.value);
-    f.change = Some(unexplained);
-    f.floor = Some(floor);
-    f
-}
-
-/// A reading in words on the basis it is judged: for a conductor resistance, as measured and
-/// at 20 °C (or as measured only, with no ambient to correct it by).
-fn reading_words(q: Quantity, p: &Point) -> String {
-    let v = fmt_value(q, p.value, p.censored);
-    if !q.temperature_sensitive() {
-        return v;
-    }
-    match p.ambient_c {
-        Some(_) => format!(
-            "{} as measured, {v} at 20 °C",
-            fmt_value(q, p.raw, p.censored)
-        ),
-        None => format!("{v} as measured (no ambient recorded, so not corrected to 20 °C)"),
-    }
-}
-
-/// The basis of values shown side by side: at 20 °C, as measured, or a mix.
-fn basis_words(q: Quantity, pts: &[&Point]) -> &'static str {
-    if !q.temperature_sensitive() {
-        return "";
-    }
-    let with = pts.iter().filter(|p| p.ambient_c.is_some()).count();
-    if with == pts.len() {
-        " at 20 °C"
-    } else if with == 0 {
-        " as measured, no ambient recorded"
-    } else {
-        " at 20 °C where the ambient was recorded"
-    }
-}
-
-/// What a worsening of the quantity usually means, as the end of a sentence.
-fn meaning_tail(q: Quantity) -> String {
-    match q {
-        Quantity::Ze => "; a rise in Ze is a supply or earthing matter to report to the network operator".into(),
-        Quantity::ZeTt => "; on a TT installation Ze includes the installation's own earth electrode, so a rise like this points to the electrode or its connection, the landlord's to put right".into(),
-        Quantity::IrLl | Quantity::IrLe => String::new(),
-        _ => format!("; {}", step_meaning(q)),
-    }
-}
-
 /// The drift finding, if any, and the robust slope it was judged on.
 fn drift(
     w: &Work<'_>,
@@ -706,260 +547,4 @@ fn drift(
         slope.and_then(|b| drift_finding(w, adjusted, floor, b)),
         slope,
     )
-}
-
-fn drift_finding(
-    w: &Work<'_>,
-    adjusted: &[f64],
-    floor: &super::NoiseFloor,
-    slope: f64,
-) -> Option<Finding> {
-    let q = w.q;
-    let n = adjusted.len();
-    let years = w.x[n - 1] - w.x[0];
-    let change = w.sign * slope * years;
-    let f = floor.at(adjusted[0]) + w.unknown_temperature(&[0, n - 1]);
-    if change <= f {
-        return None;
-    }
-    let (first, last) = (&w.pts[0], &w.pts[n - 1]);
-    let verb = match q.worse() {
-        Worse::Higher => "risen",
-        Worse::Lower => "fallen",
-    };
-    let (a, b) = (
-        fmt_value(q, first.value, first.censored),
-        fmt_value(q, last.value, last.censored),
-    );
-    let sentence = match q.scale() {
-        Scale::Log10 => format!(
-            "{} has {verb} {} {} over {years:.1} years on its fitted trend (readings from {a} to {b}), beyond the noise floor of a factor of {:.1}{}.",
-            q.label(),
-            if first.censored { "at least" } else { "about" },
-            fmt_fold(10f64.powf(change)),
-            10f64.powf(f),
-            meaning_tail(q),
-        ),
-        Scale::Linear => format!(
-            "{} has {verb} by {} over {years:.1} years, {} a year on its fitted trend (readings from {a} to {b}{}), beyond the noise floor of {}{}.",
-            q.label(),
-            fmt_value(q, change, false),
-            fmt_rate(q, w.sign * slope),
-            basis_words(q, &[first, last]),
-            fmt_value(q, f, false),
-            if q == Quantity::Rcd {
-                String::new()
-            } else {
-                meaning_tail(q)
-            }
-            .replace("a sudden rise", "a rise"),
-        ),
-    };
-    let kind = if matches!(q, Quantity::Ze | Quantity::ZeTt) {
-        FindingKind::ZeRise
-    } else {
-        FindingKind::Drift
-    };
-    let mut out = Finding::new(kind, q, last.date, sentence);
-    out.from_date = Some(first.date);
-    out.from_value = Some(first.value);
-    out.to_value = Some(last.value);
-    out.change = Some(change);
-    out.floor = Some(f);
-    out.slope_per_year = Some(slope);
-    Some(out)
-}
-
-fn approaching(
-    q: Quantity,
-    last: &Point,
-    (limit, words): (f64, Option<&'static str>),
-    p: &Projection,
-    next_due: NaiveDate,
-) -> Finding {
-    let months = recommended_interval(last.date, p.earliest, next_due);
-    let word = words.unwrap_or(match q.worse() {
-        Worse::Higher => "its maximum",
-        Worse::Lower => "its minimum",
-    });
-    let latest = p
-        .latest
-        .map_or("later".to_string(), |d| d.format("%Y-%m").to_string());
-    let advice = if p.earliest <= last.date {
-        "the earliest projected crossing is already past, so it should be re-tested promptly"
-            .to_string()
-    } else if months <= 1 {
-        "a re-test within a month would come before the earliest projected crossing".to_string()
-    } else {
-        format!(
-            "an interval of {months} months would re-test before the earliest projected crossing"
-        )
-    };
-    let sentence = format!(
-        "{} is projected to reach {word} of {} around {} (between {} and {}), before the next inspection due {next_due}; {advice}.",
-        q.label(),
-        fmt_value(q, limit, false),
-        p.date.format("%Y-%m"),
-        p.earliest.format("%Y-%m"),
-        latest,
-    );
-    let mut f = Finding::new(FindingKind::Approaching, q, last.date, sentence);
-    f.to_value = Some(last.value);
-    f.slope_per_year = Some(p.slope_per_year);
-    f.projection = Some(*p);
-    f.recommended_interval_months = Some(months);
-    f
-}
-
-/// R1+Rn rising relative to R1+R2 beyond what the conductor sizes predict.
-///
-/// `expected_ratio` is R1+Rn / R1+R2 for sound conductors, from their cross-sectional areas
-/// (for 2.5/1.5 cable (7.41 + 7.41) / (7.41 + 12.10) = 0.76 from IEC 60228). At each visit
-/// where both were read in both current baselines, two excesses are formed: `R1+Rn − ratio ×
-/// R1+R2` (steady when both loops scale together) and `R1+Rn − R1+R2` = Rn − R2 (steady when
-/// only the shared line conductor changes). A neutral working loose raises both while R1+R2
-/// stays. Flagged when the smaller of the two rises, last excess over the median of the earlier
-/// ones, is more than the noise floor at the first R1+Rn reading. A constant offset from the first visit
-/// (a different route, an approximate ratio) is not flagged: only a rise is.
-pub fn neutral_divergence(
-    r1r2: &Series,
-    r1rn: &Series,
-    expected_ratio: f64,
-    cfg: &TrendConfig,
-) -> Result<Option<Finding>, TrendError> {
-    cfg.validate()?;
-    for (s, want) in [(r1r2, Quantity::R1r2), (r1rn, Quantity::R1rn)] {
-        if s.quantity != want {
-            return Err(TrendError::WrongQuantity {
-                expected: want,
-                found: s.quantity,
-            });
-        }
-    }
-    if !expected_ratio.is_finite() || expected_ratio <= 0.0 {
-        return Err(TrendError::BadRatio {
-            value: expected_ratio,
-        });
-    }
-    let a = r1r2.sorted_points()?;
-    let b = r1rn.sorted_points()?;
-    let reset = r1r2.last_reset().max(r1rn.last_reset());
-    Ok(divergence_sorted(
-        (&a, &b),
-        reset,
-        expected_ratio,
-        r1rn.limit,
-        cfg,
-    ))
-}
-
-/// [`neutral_divergence`] over points already sorted and checked (as a [`SeriesReport`] holds
-/// them), with the latest reset of either series.
-pub(crate) fn divergence_sorted(
-    (a, b): (&[Point], &[Point]),
-    reset: Option<NaiveDate>,
-    expected_ratio: f64,
-    limit: Option<super::Limit>,
-    cfg: &TrendConfig,
-) -> Option<Finding> {
-    let (a, b) = (current_baseline(a, reset), current_baseline(b, reset));
-    let pairs: Vec<(&Point, &Point)> = b
-        .iter()
-        .filter(|p| !p.censored)
-        .filter_map(|pn| {
-            a.iter()
-                .find(|p2| p2.date == pn.date && !p2.censored)
-                .map(|p2| (p2, pn))
-        })
-        .collect();
-    let ((last2, lastn), earlier) = pairs.split_last()?;
-    if earlier.is_empty() {
-        return None;
-    }
-    // Two views of the same question, and the neutral is blamed only when both agree:
-    // - against the csa ratio, R1+Rn − ratio × R1+R2 stays put when both loops scale together
-    //   (a longer route, a warmer cable);
-    // - the gap R1+Rn − R1+R2 is Rn − R2: a fault on the shared line conductor raises both
-    //   loops alike and cancels there, where the ratio view would leak (1 − ratio) of it.
-    // A neutral working loose raises both views by the same amount.
-    // Each view as (median of the earlier visits, last visit).
-    let view = |excess: &dyn Fn(&Point, &Point) -> f64| -> Option<(f64, f64)> {
-        let mut before: Vec<f64> = earlier.iter().map(|(p2, pn)| excess(p2, pn)).collect();
-        Some((median(&mut before)?, excess(last2, lastn)))
-    };
-    let (Some(ratio_view), Some(gap_view)) = (
-        view(&|p2, pn| pn.value - expected_ratio * p2.value),
-        view(&|p2, pn| pn.value - p2.value),
-    ) else {
-        return None;
-    };
-    let (by_ratio, by_gap) = (ratio_view.1 - ratio_view.0, gap_view.1 - gap_view.0);
-    let rise = by_ratio.min(by_gap);
-    let (first2, firstn) = earlier[0];
-    let floor = cfg.floor_for(Quantity::R1rn).at(firstn.value);
-    if rise <= floor {
-        return None;
-    }
-    let q = Quantity::R1rn;
-    // The sentence names the smaller of the two views, with the figures it was worked from.
-    let (what, (before, after)) = if by_gap <= by_ratio {
-        ("R1+Rn − R1+R2".to_string(), gap_view)
-    } else {
-        (format!("R1+Rn − {expected_ratio:.2} × R1+R2"), ratio_view)
-    };
-    let sentence = format!(
-        "R1+Rn rose from {} to {} between {} and {} while R1+R2 went from {} to {}: {what} went from {} ({}) to {} at the last visit, a rise of {} beyond the noise floor of {} (for sound conductors of these sizes R1+Rn ≈ {:.2} × R1+R2), which points to the neutral path.",
-        fmt_value(q, firstn.value, false),
-        fmt_value(q, lastn.value, false),
-        firstn.date,
-        lastn.date,
-        fmt_value(q, first2.value, false),
-        fmt_value(q, last2.value, false),
-        fmt_signed(q, before),
-        if earlier.len() == 1 {
-            "the earlier visit".to_string()
-        } else {
-            format!("the median of the {} earlier visits", earlier.len())
-        },
-        fmt_signed(q, after),
-        fmt_value(q, rise, false),
-        fmt_value(q, floor, false),
-        expected_ratio,
-    );
-    let mut f = Finding::new(FindingKind::NeutralDivergence, q, lastn.date, sentence);
-    f.from_date = Some(firstn.date);
-    f.from_value = Some(firstn.value);
-    f.to_value = Some(lastn.value);
-    let last = b.last().unwrap_or(lastn);
-    f.last_value = last.value;
-    f.last_censored = last.censored;
-    f.change = Some(rise);
-    f.floor = Some(floor);
-    f.limit = limit;
-    Some(f)
-}
-
-/// A difference that may be negative, in words: `−0.14 Ω`.
-fn fmt_signed(q: Quantity, v: f64) -> String {
-    if v < 0.0 {
-        format!("−{}", fmt_value(q, -v, false))
-    } else {
-        fmt_value(q, v, false)
-    }
-}
-
-/// What a sudden rise in a quantity usually means on site, in words.
-fn step_meaning(q: Quantity) -> &'static str {
-    match q {
-        Quantity::Rcd => {
-            "an RCD that has become slower to operate should be tested again and its condition checked"
-        }
-        Quantity::R1rn => {
-            "a sudden rise like this often means a line or neutral termination working loose"
-        }
-        Quantity::R2 => {
-            "a sudden rise like this often means a protective conductor connection working loose"
-        }
-        _ => "a sudden rise like this often means a termination working loose",
-    }
 }

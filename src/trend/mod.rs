@@ -14,7 +14,9 @@
 mod config;
 mod detect;
 mod finding;
+mod neutral;
 mod project;
+mod sentences;
 mod series;
 pub mod stats;
 
@@ -24,9 +26,10 @@ mod tests;
 use chrono::NaiveDate;
 
 pub use config::{Checked, NoiseFloor, TrendConfig};
-pub(crate) use detect::divergence_sorted;
-pub use detect::{Fit, SeriesReport, analyse, analyse_series, neutral_divergence};
+pub use detect::{Fit, SeriesReport, analyse, analyse_series};
 pub use finding::{Finding, FindingKind, Projection, Severity, compare_urgency, rank};
+pub(crate) use neutral::divergence_sorted;
+pub use neutral::neutral_divergence;
 pub use project::{recommended_interval, whole_months};
 pub use series::{Concern, Limit, LimitKind, Point, Quantity, RingLeg, Scale, Series, Worse};
 
