@@ -78,13 +78,20 @@ pub fn run(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
     Ok(())
 }
 
-/// The row's reason, then its other findings in brief: "also: r1rn step (changed), ...".
+/// The row's reason, then its other findings in brief: "also: r1rn step (changed), r1r2
+/// approaching, ...".
 fn reason_with_others(f: &Flag) -> String {
     let others: Vec<String> = f
         .findings
         .iter()
         .skip(1)
-        .map(|g| format!("{} {} ({})", g.quantity, g.kind, g.severity))
+        .map(|g| {
+            if g.kind == g.severity {
+                format!("{} {}", g.quantity, g.kind)
+            } else {
+                format!("{} {} ({})", g.quantity, g.kind, g.severity)
+            }
+        })
         .collect();
     if others.is_empty() {
         f.reason.clone()

@@ -117,7 +117,7 @@ pub fn run(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
         && let Some(s) = &a.supply
     {
         writeln!(out)?;
-        series(out, "origin", s)?;
+        series(out, "", s)?;
     }
     for c in circuits {
         writeln!(out)?;

@@ -801,22 +801,21 @@ fn boards(a: &PropertyAnalysis) -> Vec<BoardTable> {
                     LimitKind::Max => p.value / l * 100.0,
                     LimitKind::Min => l / p.value * 100.0,
                 });
-                cells.insert(
-                    s.report.label,
-                    Cell {
-                        raw: p.raw,
-                        over_range: p.censored,
-                        at_20c: p.ambient_c.map(|_| p.value),
-                        unit: s.report.unit,
-                        limit: s.limit,
-                        limit_kind: s
-                            .limit
-                            .map(|_| limit_kind_key(s.report.quantity.limit_kind())),
-                        share_of_limit_pct: share.map(|x| (x * 10.0).round() / 10.0),
-                        calculated: s.report.quantity == Quantity::Zs
-                            && c.last_readings.as_ref().is_some_and(|r| r.zs_ohm.is_none()),
-                    },
-                );
+                // The RCD's column is the test at IΔn, analysed before the supplementary
+                // 5 × IΔn one: the first series of a quantity keeps its cell.
+                cells.entry(s.report.label).or_insert(Cell {
+                    raw: p.raw,
+                    over_range: p.censored,
+                    at_20c: p.ambient_c.map(|_| p.value),
+                    unit: s.report.unit,
+                    limit: s.limit,
+                    limit_kind: s
+                        .limit
+                        .map(|_| limit_kind_key(s.report.quantity.limit_kind())),
+                    share_of_limit_pct: share.map(|x| (x * 10.0).round() / 10.0),
+                    calculated: s.report.quantity == Quantity::Zs
+                        && c.last_readings.as_ref().is_some_and(|r| r.zs_ohm.is_none()),
+                });
             }
             rows.push(CircuitRow {
                 circuit: c.circuit.number.clone(),
