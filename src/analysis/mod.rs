@@ -29,6 +29,7 @@ use crate::model::{Board, Circuit, Observation, Property, Readings, Visit};
 use crate::store::{ALL_PROPERTIES, HistoryParts, PropertyHistory, Store};
 use crate::trend::{Finding, FindingKind, SeriesReport, Severity};
 
+pub use series::RCD_FIVE_LABEL;
 pub use settings::Settings;
 
 /// One finding on the worklist: a reading against a limit, or a change, on one circuit; or an

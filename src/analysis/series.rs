@@ -35,6 +35,11 @@ const IR_CONCERN: Concern = Concern {
     advice: "insulation this low is usually investigated and its source found, though it is above the Table 64 minimum of 1 MΩ",
 };
 
+/// How a supplementary series' label ends.
+const SUPPLEMENTARY: &str = "(supplementary)";
+/// The label of the RCD's supplementary series at 5 × IΔn.
+pub const RCD_FIVE_LABEL: &str = "RCD trip time at 5 × IΔn (supplementary)";
+
 /// One reading of the lineage: the visit and the circuit's readings at it.
 struct Row<'a> {
     visit: &'a Visit,
@@ -470,10 +475,17 @@ pub(super) fn circuit_analysis(
         if matches!(quantity, Quantity::IrLl | Quantity::IrLe) {
             s.concern = Some(IR_CONCERN);
         }
-        let analysed = match &checked {
+        let mut analysed = match &checked {
             Ok(cfg) => trend::analyse_series(s, horizon, *cfg),
             Err(e) => Err(e.clone()),
         };
+        // A supplementary test (RCD at 5 × IΔn) is judged on its last reading only, never
+        // trended.
+        if label.ends_with(SUPPLEMENTARY)
+            && let Ok(r) = &mut analysed
+        {
+            r.findings.retain(|f| f.kind == FindingKind::Exceeds);
+        }
         match analysed {
             // The worklist keeps only the series with something to say, and those the
             // cross-checks below read (R1+R2 and R1+Rn for the neutral, the ring's legs).
@@ -661,20 +673,12 @@ pub(super) fn circuit_analysis(
             "RCD trip time at 1 × IΔn",
             (|r: &Readings| r.rcd_ms) as fn(&Readings) -> Option<f64>,
         ),
-        (
-            RcdTest::AtFive,
-            "RCD trip time at 5 × IΔn (supplementary)",
-            |r: &Readings| r.rcd_5x_ms,
-        ),
+        (RcdTest::AtFive, RCD_FIVE_LABEL, |r: &Readings| r.rcd_5x_ms),
     ] {
-        let mut points: Vec<Point> = rows
+        let points: Vec<Point> = rows
             .iter()
             .filter_map(|r| get(r.readings).map(|v| Point::raw(r.visit.date, v)))
             .collect();
-        if test == RcdTest::AtFive {
-            // Only the last reading is judged: a supplementary test is not trended.
-            points = points.split_off(points.len().saturating_sub(1));
-        }
         let rcd_max = limits::rcd_max_ms(timing, test);
         run(
             Quantity::Rcd,

@@ -385,7 +385,7 @@ fn series_for(c: &CircuitAnalysis, f: Field) -> Option<&SeriesAnalysis> {
         Field::RingR1 => "ring r1",
         Field::RingRn => "ring rn",
         Field::RingR2 => "ring r2",
-        Field::Rcd5x => "RCD trip time at 5 × IΔn (supplementary)",
+        Field::Rcd5x => crate::analysis::RCD_FIVE_LABEL,
         Field::Rcd => "RCD trip time at 1 × IΔn",
         _ => {
             let key = f.quantity().key();

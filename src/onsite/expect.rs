@@ -273,7 +273,11 @@ impl Level {
             let ss: f64 = resid.iter().map(|r| r * r).sum();
             (ss / (resid.len() - 1) as f64).sqrt()
         };
-        let drifting = step.is_none() && (has(FindingKind::Drift) || has(FindingKind::Approaching));
+        let drifting = step.is_none()
+            && (has(FindingKind::Drift)
+                || has(FindingKind::Approaching)
+                || has(FindingKind::NeutralDivergence)
+                || has(FindingKind::ZeRise));
         if drifting && ys.len() >= 2 {
             let xs: Vec<f64> = pts.iter().map(|p| years_between(since, p.date)).collect();
             if let Some(ls) = least_squares(&xs, &ys) {
