@@ -48,6 +48,7 @@ fn run_chromium(page: &Path, extra: &[String]) -> String {
 fn demo_files(dir: &Path) -> (Vec<PathBuf>, PathBuf) {
     let out = Command::cargo_bin("ohmtrail")
         .unwrap()
+        .env_remove("OHMTRAIL_DB")
         .args(["demo", "--dir"])
         .arg(dir)
         .assert()

@@ -7,6 +7,7 @@ fn demo() -> (tempfile::TempDir, std::path::PathBuf) {
     let dir = tempfile::tempdir().unwrap();
     Command::cargo_bin("ohmtrail")
         .unwrap()
+        .env_remove("OHMTRAIL_DB")
         .args(["demo", "--dir"])
         .arg(dir.path())
         .assert()

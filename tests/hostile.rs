@@ -296,6 +296,7 @@ fn demo_into_a_directory_that_cannot_be_made_is_a_clear_error() {
     let target = blocker.under("demo");
     let mut cmd = Command::cargo_bin("ohmtrail").unwrap();
     cmd.env_remove("OHMTRAIL_DB")
+        .env_remove("OHMTRAIL_DB")
         .args(["demo", "--dir"])
         .arg(&target);
     refused(

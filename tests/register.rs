@@ -354,6 +354,7 @@ fn demo_builds_a_database_and_reports() {
     let dir = e.dir.path().join("demo");
     let out = Command::cargo_bin("ohmtrail")
         .unwrap()
+        .env_remove("OHMTRAIL_DB")
         .args(["demo", "--dir"])
         .arg(&dir)
         .assert()
@@ -372,11 +373,61 @@ fn demo_builds_a_database_and_reports() {
     // Running it again starts from nothing and gives the same database contents.
     Command::cargo_bin("ohmtrail")
         .unwrap()
+        .env_remove("OHMTRAIL_DB")
         .args(["demo", "--dir"])
         .arg(&dir)
         .assert()
         .success();
     assert_eq!(html, std::fs::read_to_string(report).unwrap());
+}
+
+#[test]
+fn demo_names_its_database_in_the_next_commands_and_refuses_another() {
+    let e = Env::new();
+    let dir = e.dir.path().join("demo");
+    let out = Command::cargo_bin("ohmtrail")
+        .unwrap()
+        .env_remove("OHMTRAIL_DB")
+        .args(["demo", "--dir"])
+        .arg(&dir)
+        .assert()
+        .success()
+        .get_output()
+        .stdout
+        .clone();
+    let out = String::from_utf8(out).unwrap();
+    let db = dir.join("demo.db");
+    // Each suggested command names the demo's database, and runs as printed.
+    let next: Vec<&str> = out
+        .lines()
+        .filter_map(|l| l.trim().strip_prefix("ohmtrail "))
+        .collect();
+    assert_eq!(next.len(), 3, "{out}");
+    for cmd in next {
+        let args: Vec<&str> = cmd.split_whitespace().collect();
+        assert_eq!(args[..2], ["--db", db.to_str().unwrap()], "{cmd}");
+        Command::cargo_bin("ohmtrail")
+            .unwrap()
+            .env_remove("OHMTRAIL_DB")
+            .args(&args)
+            .assert()
+            .success();
+    }
+    // Pointed at another database, the demo refuses and leaves it alone: it wipes its own.
+    let other = e.dir.path().join("mine.db");
+    Command::cargo_bin("ohmtrail")
+        .unwrap()
+        .env_remove("OHMTRAIL_DB")
+        .arg("--db")
+        .arg(&other)
+        .args(["demo", "--dir"])
+        .arg(&dir)
+        .assert()
+        .code(1)
+        .stderr(predicate::str::contains(
+            "never uses the database named by --db",
+        ));
+    assert!(!other.exists());
 }
 
 #[test]

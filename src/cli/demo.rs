@@ -17,8 +17,16 @@ pub struct Args {
     pub dir: PathBuf,
 }
 
-pub fn run(args: &Args, out: &mut dyn Write) -> Result<()> {
+pub fn run(args: &Args, ctx: &super::Context, out: &mut dyn Write) -> Result<()> {
     let dir = &args.dir;
+    // The demo wipes and rebuilds its own database: it must never be pointed at a real one.
+    if let Some(db) = &ctx.db {
+        bail!(
+            "demo builds its own database in its --dir ({}) and never uses the database named by --db or OHMTRAIL_DB ({}): run it without them",
+            dir.join("demo.db").display(),
+            db.display()
+        );
+    }
     std::fs::create_dir_all(dir)
         .with_context(|| format!("cannot create the demo directory {}", dir.display()))?;
     let db = dir.join("demo.db");
@@ -64,5 +72,20 @@ pub fn run(args: &Args, out: &mut dyn Write) -> Result<()> {
     )?;
     writeln!(out, "wrote portfolio index {}", index_path.display())?;
     writeln!(out, "open first: {}", index_path.display())?;
+    // The next commands, spelled out with the demo's database: a plain `flags` would read the
+    // default database, which the demo does not touch.
+    let first = summary
+        .properties
+        .first()
+        .map(String::as_str)
+        .unwrap_or("QL-001");
+    writeln!(out, "then try, on the demo's database:")?;
+    for cmd in [
+        "flags".to_string(),
+        format!("trend {first}"),
+        format!("brief {first} --temp 12"),
+    ] {
+        writeln!(out, "  ohmtrail --db {} {cmd}", db.display())?;
+    }
     Ok(())
 }

@@ -95,7 +95,7 @@ pub enum Command {
 
 /// What every command may need: where the database is, and where to print.
 pub struct Context {
-    db: Option<PathBuf>,
+    pub db: Option<PathBuf>,
 }
 
 impl Context {
@@ -136,7 +136,7 @@ pub fn run(cli: Cli, out: &mut dyn Write) -> Result<()> {
         Command::Settings(cmd) => settings::run(&cmd, &ctx, out),
         Command::Limits(args) => limits::run(&args, out),
         Command::Check(args) => check::run(&args, out),
-        Command::Demo(args) => demo::run(&args, out),
+        Command::Demo(args) => demo::run(&args, &ctx, out),
         Command::Import(args) => import::run(&args, &ctx, out),
         Command::Export(args) => export::run(&args, &ctx, out),
         Command::Brief(args) => brief::run(&args, &ctx, out),
