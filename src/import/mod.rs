@@ -377,16 +377,19 @@ struct CircuitState {
     id: i64,
     /// The register now, typed for the common case of a row that agrees with it.
     details: CircuitDetails,
-    current: [Option<String>; 7],
+    /// The register now as text, made when a row first disagrees with `details`.
+    current: Option<[Option<String>; 7]>,
     changes: Vec<IngestChange>,
-    latest: Option<NaiveDate>,
+    /// The date of the circuit's latest test record, once looked up: only a row that
+    /// disagrees with the register needs it, so most rows never ask.
+    latest: Option<Option<NaiveDate>>,
 }
 
 struct BoardState {
     id: i64,
-    /// Created by this import, so its only circuits are the ones cached here.
-    created: bool,
     earthing: Option<String>,
+    /// Every circuit in service on the board: read whole when the board is first met, so a
+    /// number missing here is a new circuit.
     circuits: HashMap<String, CircuitState>,
 }
 
@@ -566,12 +569,29 @@ impl Importer<'_> {
                 s.ingest_board(property_id, &row.board)?
             };
             let state = match stored {
-                Some(b) => BoardState {
-                    id: b.id,
-                    created: false,
-                    earthing: b.earthing,
-                    circuits: HashMap::new(),
-                },
+                Some(b) => {
+                    let mut circuits = HashMap::new();
+                    for (number, id, details, changed) in s.ingest_board_circuits(b.id)? {
+                        let changes = if changed {
+                            s.ingest_changes(id)?
+                        } else {
+                            Vec::new()
+                        };
+                        let state = CircuitState {
+                            id,
+                            current: None,
+                            details,
+                            changes,
+                            latest: None,
+                        };
+                        circuits.insert(number, state);
+                    }
+                    BoardState {
+                        id: b.id,
+                        earthing: b.earthing,
+                        circuits,
+                    }
+                }
                 None => {
                     let e = row.earthing.map(|e| e.as_str());
                     let id = s.ingest_insert_board(property_id, &row.board, e)?;
@@ -579,7 +599,6 @@ impl Importer<'_> {
                     eff.wrote = true;
                     BoardState {
                         id,
-                        created: true,
                         earthing: e.map(String::from),
                         circuits: HashMap::new(),
                     }
@@ -614,33 +633,17 @@ impl Importer<'_> {
         // Circuit, and whether the row disagrees with the register as it stood on the date.
         let row_details = row_register_details(&row.register);
         if !b.circuits.contains_key(&row.circuit) {
-            let stored = if b.created {
-                None
-            } else {
-                s.ingest_circuit(board_id, &row.circuit)?
-            };
-            let state = match stored {
-                Some((id, details)) => CircuitState {
-                    id,
-                    current: register_texts(&details),
-                    details,
-                    changes: s.ingest_changes(id)?,
-                    latest: s.ingest_latest_record(id)?,
-                },
-                None => {
-                    let id = self.inserts.circuit(board_id, &row.circuit, &row_details)?;
-                    eff.circuits += 1;
-                    eff.wrote = true;
-                    let mut details = row_details.clone();
-                    details.kind = Some(details.kind.unwrap_or(crate::model::CircuitKind::Radial));
-                    CircuitState {
-                        id,
-                        current: register_texts(&details),
-                        details,
-                        changes: Vec::new(),
-                        latest: None,
-                    }
-                }
+            let id = self.inserts.circuit(board_id, &row.circuit, &row_details)?;
+            eff.circuits += 1;
+            eff.wrote = true;
+            let mut details = row_details.clone();
+            details.kind = Some(details.kind.unwrap_or(crate::model::CircuitKind::Radial));
+            let state = CircuitState {
+                id,
+                current: None,
+                details,
+                changes: Vec::new(),
+                latest: Some(None),
             };
             b.circuits.insert(row.circuit.clone(), state);
         }
@@ -654,7 +657,11 @@ impl Importer<'_> {
             (Default::default(), Default::default())
         } else {
             (
-                register_at(&c.current, &c.changes, date),
+                register_at(
+                    c.current.get_or_insert_with(|| register_texts(&c.details)),
+                    &c.changes,
+                    date,
+                ),
                 register_texts(&row_details),
             )
         };
@@ -671,7 +678,11 @@ impl Importer<'_> {
                 .iter()
                 .find(|ch| ch.date > date && ch.field.as_deref() == Some(field))
                 .map(|ch| ch.date);
-            let later = later_change.or(c.latest.filter(|d| *d > date));
+            let latest = match c.latest {
+                Some(known) => known,
+                None => *c.latest.insert(s.ingest_latest_record(circuit_id)?),
+            };
+            let later = later_change.or(latest.filter(|d| *d > date));
             if let Some(later) = later {
                 faults.push(Fault {
                     column: Some(*col),
@@ -819,7 +830,8 @@ impl Importer<'_> {
                 if let (Some(c), Some(field)) = (c.as_deref_mut(), ch.field.as_deref())
                     && let Some(i) = REGISTER.iter().position(|(_, f)| *f == field)
                 {
-                    c.current[i] = ch.new_value.clone();
+                    c.current.get_or_insert_with(|| register_texts(&c.details))[i] =
+                        ch.new_value.clone();
                     apply_text(&mut c.details, field, ch.new_value.as_deref());
                     c.changes.push(IngestChange {
                         date,
@@ -907,7 +919,10 @@ impl Importer<'_> {
                 .get_mut(&row.board)
                 .and_then(|b| b.circuits.get_mut(&row.circuit))
             {
-                c.latest = c.latest.max(Some(date));
+                // Unknown stays unknown: the stored records may be later than this one.
+                if let Some(known) = c.latest.as_mut() {
+                    *known = (*known).max(Some(date));
+                }
             }
         }
         Ok(eff)
