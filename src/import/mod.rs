@@ -5,6 +5,7 @@
 //! [`crate::store`] to write it.
 
 pub mod cell;
+mod reading;
 pub mod row;
 
 use std::collections::VecDeque;
@@ -21,13 +22,14 @@ use serde::Serialize;
 pub use cell::{
     Cell, CellError, Column, ParseOptions, escape, format_number, parse_cell, unescape,
 };
+pub use reading::reading_text;
+use reading::{copy_reading, same_reading};
 pub use row::{
     FieldError, FileKind, Header, ObservationRow, RowRegister, VisitRow, parse_header,
     parse_observation_row, parse_visit_row,
 };
 
 use crate::error::{Error, Result};
-use crate::model::{Megohms, Readings};
 use crate::store::{CircuitDetails, IngestChange, IngestVisit, Store, fmt_num};
 
 /// At most this many errors are printed; the rest are counted.
@@ -292,69 +294,6 @@ pub const READING_COLUMNS: [Column; 13] = [
     Column::Rcd5xMs,
     Column::Note,
 ];
-
-/// A reading's cell text as export writes it (`LIM` for a limitation), or `None`.
-/// For `ze_ohm` only the limitation lives in the record; its value is a board test.
-pub fn reading_text(r: &Readings, c: Column) -> Option<String> {
-    if r.limitations.iter().any(|l| l == c.name()) {
-        return Some("LIM".to_string());
-    }
-    let num = |v: Option<f64>| v.map(format_number);
-    let mohm = |m: Option<Megohms>| {
-        m.map(|m| {
-            if m.over_range {
-                format!(">{}", format_number(m.value))
-            } else {
-                format_number(m.value)
-            }
-        })
-    };
-    match c {
-        Column::RingR1Ohm => num(r.ring_r1_ohm),
-        Column::RingRnOhm => num(r.ring_rn_ohm),
-        Column::RingR2Ohm => num(r.ring_r2_ohm),
-        Column::R1r2Ohm => num(r.r1r2_ohm),
-        Column::R2Ohm => num(r.r2_ohm),
-        Column::R1rnOhm => num(r.r1rn_ohm),
-        Column::ZsOhm => num(r.zs_ohm),
-        Column::IrLlMohm => mohm(r.ir_ll),
-        Column::IrLeMohm => mohm(r.ir_le),
-        Column::RcdMs => num(r.rcd_ms),
-        Column::Rcd5xMs => num(r.rcd_5x_ms),
-        Column::Note => r.note.clone(),
-        _ => None,
-    }
-}
-
-/// Copy one reading column (value and limitation mark) from `src` into `dst`.
-fn copy_reading(dst: &mut Readings, src: &Readings, c: Column) {
-    match c {
-        Column::RingR1Ohm => dst.ring_r1_ohm = src.ring_r1_ohm,
-        Column::RingRnOhm => dst.ring_rn_ohm = src.ring_rn_ohm,
-        Column::RingR2Ohm => dst.ring_r2_ohm = src.ring_r2_ohm,
-        Column::R1r2Ohm => dst.r1r2_ohm = src.r1r2_ohm,
-        Column::R2Ohm => dst.r2_ohm = src.r2_ohm,
-        Column::R1rnOhm => dst.r1rn_ohm = src.r1rn_ohm,
-        Column::ZsOhm => dst.zs_ohm = src.zs_ohm,
-        Column::IrLlMohm => dst.ir_ll = src.ir_ll,
-        Column::IrLeMohm => dst.ir_le = src.ir_le,
-        Column::RcdMs => dst.rcd_ms = src.rcd_ms,
-        Column::Rcd5xMs => dst.rcd_5x_ms = src.rcd_5x_ms,
-        Column::Note => dst.note = src.note.clone(),
-        _ => {}
-    }
-    dst.limitations.retain(|l| l != c.name());
-    if src.limitations.iter().any(|l| l == c.name()) {
-        dst.limitations.push(c.name().to_string());
-    }
-    let mut cols: Vec<Column> = dst
-        .limitations
-        .iter()
-        .filter_map(|l| Column::from_name(l))
-        .collect();
-    cols.sort();
-    dst.limitations = cols.iter().map(|c| c.name().to_string()).collect();
-}
 
 fn shown(v: &Option<String>) -> String {
     match v {
@@ -881,7 +820,7 @@ impl Importer<'_> {
                 let differ: Vec<Column> = present
                     .iter()
                     .copied()
-                    .filter(|c| reading_text(&stored, *c) != reading_text(&row.readings, *c))
+                    .filter(|c| !same_reading(&stored, &row.readings, *c))
                     .collect();
                 if differ.is_empty() {
                     eff.unchanged += 1;
