@@ -373,3 +373,101 @@ fn a_report_to_a_path_that_cannot_be_written_is_a_clear_error() {
     assert_eq!(std::fs::read_dir(&a_dir).unwrap().count(), 0);
     assert_eq!(before, std::fs::read(&db).unwrap());
 }
+
+/// Make a special file in `dir` with the system's own tool (`mkfifo`, or `mknod NAME c MAJOR
+/// MINOR` for a character device, which needs root); `None` when the tool refuses.
+fn special(dir: &TempDir, name: &str, tool: &str, args: &[&str]) -> Option<PathBuf> {
+    let path = dir.path().join(name);
+    let ok = std::process::Command::new(tool)
+        .arg(&path)
+        .args(args)
+        .status()
+        .is_ok_and(|s| s.success());
+    ok.then_some(path)
+}
+
+fn is_fifo(path: &Path) -> bool {
+    use std::os::unix::fs::FileTypeExt;
+    std::fs::metadata(path).is_ok_and(|m| m.file_type().is_fifo())
+}
+
+fn is_char_device(path: &Path) -> bool {
+    use std::os::unix::fs::FileTypeExt;
+    std::fs::metadata(path).is_ok_and(|m| m.file_type().is_char_device())
+}
+
+/// Output to a pipe is written into the pipe, never renamed over it; the portfolio, whose
+/// property reports go beside the index, is refused there.
+#[test]
+fn output_to_a_pipe_streams_into_it_and_leaves_it_a_pipe() {
+    let dir = TempDir::new().unwrap();
+    let (db, _) = seeded(&dir);
+    let fifo = special(&dir, "out.fifo", "mkfifo", &[]).expect("mkfifo");
+    let cases: [(&[&str], &str); 3] = [
+        (&["export", "-o"], "property_ref,address,board"),
+        (&["export", "--format", "json", "-o"], "\"visits\""),
+        (&["report", "A-0000", "-o"], "<html"),
+    ];
+    for (args, expected) in cases {
+        // The reader waits for a writer; it is started first so the writer does not wait.
+        let reader = std::process::Command::new("cat")
+            .arg(&fifo)
+            .stdout(std::process::Stdio::piped())
+            .spawn()
+            .unwrap();
+        let out = bin(&db).args(args).arg(&fifo).output().unwrap();
+        let still_fifo = is_fifo(&fifo);
+        if !still_fifo {
+            let mut reader = reader;
+            let _ = reader.kill();
+            let _ = reader.wait();
+            panic!(
+                "{args:?} replaced the pipe; stderr: {}",
+                String::from_utf8_lossy(&out.stderr)
+            );
+        }
+        assert!(out.status.success(), "{args:?}: {out:?}");
+        let read = reader.wait_with_output().unwrap();
+        let text = String::from_utf8_lossy(&read.stdout);
+        assert!(text.contains(expected), "{args:?}: {text:.200}");
+    }
+    refused(
+        bin(&db).args(["report", "--portfolio", "-o"]).arg(&fifo),
+        &["not a regular file", "--index-only"],
+    );
+    assert!(is_fifo(&fifo));
+    let names: Vec<_> = std::fs::read_dir(dir.path())
+        .unwrap()
+        .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+        .collect();
+    assert!(!names.iter().any(|n| n.starts_with("report-")), "{names:?}");
+}
+
+/// A device that is always full (the kernel's `full` device, made here with `mknod`, so the
+/// real one is never at risk) must give "no space", not "wrote"; the null device takes the
+/// output and stays a device. Needs root for `mknod`; skipped, saying so, without it.
+#[test]
+fn output_to_a_device_is_written_into_it_and_a_full_one_is_an_error() {
+    let dir = TempDir::new().unwrap();
+    let (db, _) = seeded(&dir);
+    // Linux's memory devices: 1,3 is null and 1,7 is full (the kernel's devices.txt).
+    let (Some(full), Some(null)) = (
+        special(&dir, "full", "mknod", &["c", "1", "7"]),
+        special(&dir, "null", "mknod", &["c", "1", "3"]),
+    ) else {
+        eprintln!("skipped: mknod needs root here");
+        return;
+    };
+    for args in [
+        &["export", "-o"][..],
+        &["export", "--format", "json", "-o"][..],
+        &["report", "A-0000", "-o"][..],
+    ] {
+        let err = refused(bin(&db).args(args).arg(&full), &["No space left"]);
+        assert!(!err.contains("wrote"), "{err}");
+        assert!(is_char_device(&full), "{args:?} replaced the device");
+        let out = bin(&db).args(args).arg(&null).output().unwrap();
+        assert!(out.status.success(), "{args:?}: {out:?}");
+        assert!(is_char_device(&null), "{args:?} replaced the device");
+    }
+}

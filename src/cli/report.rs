@@ -12,13 +12,13 @@
 use std::io::Write;
 use std::path::PathBuf;
 
-use anyhow::{Result, anyhow};
+use anyhow::{Result, anyhow, bail};
 use clap::{ArgGroup, Args as ClapArgs, ValueEnum};
 
 use ohmtrail::analysis::Settings;
 use ohmtrail::report::{self, portfolio, property};
 
-use super::output::{output_dir, write_atomic};
+use super::output::{is_special, output_dir, write_atomic};
 use super::{CAUTION, Context, today};
 
 #[derive(ValueEnum, Clone, Copy, Debug, PartialEq, Eq)]
@@ -66,6 +66,12 @@ pub fn run(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
     };
     // Check where the output goes before any work, so a wrong -o fails at once.
     let dir = output_dir(&target)?;
+    if args.portfolio && !args.index_only && is_special(&target) {
+        bail!(
+            "cannot write the portfolio to {}: it is not a regular file, and the property reports go beside the index: give -o a file in a directory, or pass --index-only",
+            target.display()
+        );
+    }
     let store = ctx.open()?;
     let settings = Settings::load(&store, today())?;
 
