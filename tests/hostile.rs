@@ -471,3 +471,52 @@ fn output_to_a_device_is_written_into_it_and_a_full_one_is_an_error() {
         assert!(is_char_device(&null), "{args:?} replaced the device");
     }
 }
+
+/// `record` refuses a register change dated before a visit already recorded, as import does:
+/// it would alter what that later visit shows, and export could not give it back.
+#[test]
+fn record_refuses_a_change_that_would_rewrite_a_later_visit() {
+    let dir = TempDir::new().unwrap();
+    let (db, _) = seeded(&dir);
+    let changes = |db: &Path| {
+        let s = Store::open(db).unwrap();
+        s.row_counts()
+            .unwrap()
+            .into_iter()
+            .find(|(t, _)| *t == "circuit_change")
+            .unwrap()
+            .1
+    };
+    let out = bin(&db)
+        .args(["record", "A-0001", "--date", "2022-05-01", "--temp", "20"])
+        .write_stdin("DB1,1,device,B20\n")
+        .output()
+        .unwrap();
+    let text = format!(
+        "{}{}",
+        String::from_utf8_lossy(&out.stdout),
+        String::from_utf8_lossy(&out.stderr)
+    );
+    assert!(!out.status.success(), "{text}");
+    assert!(text.contains("later visit (2024-03-01)"), "{text}");
+    assert_eq!(changes(&db), 0);
+    // Every exported row of the property still shows the device it was tested with.
+    let export = bin(&db)
+        .args(["export", "--property", "A-0001"])
+        .output()
+        .unwrap();
+    let csv = String::from_utf8(export.stdout).unwrap();
+    assert!(csv.lines().skip(1).all(|l| l.contains(",B16,")), "{csv}");
+
+    // After the latest visit, the same change is the latest word and is recorded.
+    bin(&db)
+        .args(["record", "A-0001", "--abandon"])
+        .assert()
+        .success();
+    bin(&db)
+        .args(["record", "A-0001", "--date", "2025-01-10", "--temp", "20"])
+        .write_stdin("DB1,1,device,B20\nDB1,1,r1r2_ohm,0.15\n")
+        .assert()
+        .success();
+    assert_eq!(changes(&db), 1);
+}

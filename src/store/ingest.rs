@@ -267,6 +267,34 @@ impl Store {
         Ok(st.query_row([circuit_id], |r| r.get(0))?)
     }
 
+    /// The earliest date after `date` at which the circuit's history already holds something
+    /// a register change dated `date` would alter: a test record at another visit, or a
+    /// recorded change of one of `fields`. `None` when the change would be the latest word.
+    pub fn later_history(
+        &self,
+        circuit_id: i64,
+        date: NaiveDate,
+        fields: &[&str],
+    ) -> Result<Option<NaiveDate>> {
+        let mut st = self.conn.prepare_cached(
+            "SELECT min(v.date) FROM circuit c
+             CROSS JOIN board b CROSS JOIN visit v CROSS JOIN test_record t
+             WHERE c.id = ?1 AND b.id = c.board_id AND v.property_id = b.property_id
+               AND v.date > ?2 AND t.visit_id = v.id AND t.circuit_id = c.id",
+        )?;
+        let record: Option<NaiveDate> = st.query_row(params![circuit_id, date], |r| r.get(0))?;
+        let change = self
+            .ingest_changes(circuit_id)?
+            .into_iter()
+            .filter(|ch| ch.date > date && ch.field.as_deref().is_some_and(|f| fields.contains(&f)))
+            .map(|ch| ch.date)
+            .min();
+        Ok(match (record, change) {
+            (Some(a), Some(b)) => Some(a.min(b)),
+            (a, b) => a.or(b),
+        })
+    }
+
     pub fn ingest_visit(&self, property_id: i64, date: NaiveDate) -> Result<Option<IngestVisit>> {
         let mut st = self.conn.prepare_cached(
             "SELECT v.id, v.inspector, i.serial, v.ambient_c FROM visit v
