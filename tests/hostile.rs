@@ -520,3 +520,31 @@ fn record_refuses_a_change_that_would_rewrite_a_later_visit() {
         .success();
     assert_eq!(changes(&db), 1);
 }
+
+/// Two rows of one file that give one visit, one Ze or one record two values are refused even
+/// with --replace, which overwrites what is stored, not what the same file says twice.
+#[test]
+fn a_file_that_contradicts_itself_is_refused_even_with_replace() {
+    let dir = TempDir::new().unwrap();
+    let (db, _) = seeded(&dir);
+    let before = dump(&db);
+    let bad = Path::new(env!("CARGO_MANIFEST_DIR")).join("fixtures/bad");
+    for (file, needle) in [
+        ("visit_details_conflict_in_file.csv", "inspector"),
+        ("ze_conflict_in_file.csv", "ze_ohm"),
+        ("duplicate_row_conflict.csv", "r1r2_ohm"),
+    ] {
+        let out = bin(&db)
+            .args(["import", "--replace"])
+            .arg(bad.join(file))
+            .output()
+            .unwrap();
+        let err = String::from_utf8_lossy(&out.stderr);
+        assert_eq!(out.status.code(), Some(1), "{file}: {err}");
+        assert!(
+            err.contains(needle) && err.contains("an earlier row of this file"),
+            "{err}"
+        );
+    }
+    assert_eq!(before, dump(&db));
+}

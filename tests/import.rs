@@ -150,7 +150,12 @@ bad! {
         "conflict.csv:2:6: zs_ohm: conflicts with the stored record for SMP-001 DB1/1 on 2024-05-20: stored \"0.724\", file \"0.73\" (pass --replace to overwrite)",
     ];
     conflicting_visit_field: "conflict_inspector.csv" => ["conflict_inspector.csv:2:5: inspector: conflicts with the visit to SMP-001 on 2024-05-20: stored \"C. Leadbetter\", file \"D. Sparkford\" (pass --replace to overwrite)"];
-    duplicate_row_in_one_file: "duplicate_row_conflict.csv" => ["duplicate_row_conflict.csv:3:6: r1r2_ohm: conflicts with the stored record for SMP-009 DB1/1 on 2024-05-20: stored \"0.42\", file \"0.44\" (pass --replace to overwrite)"];
+    duplicate_row_in_one_file: "duplicate_row_conflict.csv" => ["duplicate_row_conflict.csv:3:6: r1r2_ohm: conflicts with an earlier row of this file for SMP-009 DB1/1 on 2024-05-20: earlier \"0.42\", this row \"0.44\""];
+    visit_details_conflict_in_one_file: "visit_details_conflict_in_file.csv" => [
+        "visit_details_conflict_in_file.csv:3:5: inspector: conflicts with an earlier row of this file for the visit to SMP-077 on 2024-05-20: earlier \"E. Northcote\", this row \"F. Southwell\"",
+        "visit_details_conflict_in_file.csv:3:6: ambient_c: conflicts with an earlier row of this file for the visit to SMP-077 on 2024-05-20: earlier \"18\", this row \"25\"",
+    ];
+    ze_conflict_in_one_file: "ze_conflict_in_file.csv" => ["ze_conflict_in_file.csv:3:5: ze_ohm: conflicts with an earlier row of this file for Ze at board DB1 on 2024-05-20: earlier \"0.21\", this row \"0.23\""];
     register_change_out_of_order: "out_of_order_change.csv" => ["out_of_order_change.csv:2:5: device: SMP-001 DB1/3 on 2018-03-01 has \"B40\" but the register has \"B32\" and a later visit (2024-05-20) is already recorded: import visit files oldest first, or record the change with `ohmtrail circuit edit`"];
     observation_code: "observation_bad_code.csv" => ["observation_bad_code.csv:2:3: code: unknown observation code \"C4\": expected C1, C2, C3 or FI as recorded"];
     observation_unknown_board: "observation_unknown_board.csv" => ["observation_unknown_board.csv:2:3: board: board \"DB7\" not found at property SMP-001: import its visit file first"];

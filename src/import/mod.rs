@@ -302,6 +302,15 @@ fn shown(v: &Option<String>) -> String {
     }
 }
 
+/// Two rows of one file that give one thing two values.
+fn in_file_conflict(what: &str, earlier: &Option<String>, this: &Option<String>) -> String {
+    format!(
+        "conflicts with an earlier row of this file for {what}: earlier {}, this row {}",
+        shown(earlier),
+        shown(this)
+    )
+}
+
 fn conflict(what: &str, stored: &Option<String>, file: &Option<String>) -> String {
     format!(
         "conflicts with {what}: stored {}, file {} (pass --replace to overwrite)",
@@ -339,6 +348,10 @@ struct VisitState {
     /// Created by this import, so it holds only records this import wrote.
     created: bool,
     written: HashSet<i64>,
+    /// Inspector, instrument and ambient as set by a row of this file, not found stored.
+    from_file: [bool; 3],
+    /// Boards whose Ze a row of this file set.
+    ze_from_file: HashSet<i64>,
 }
 
 struct PropertyState {
@@ -428,6 +441,8 @@ fn visit_state<'a>(
                 ze: HashMap::new(),
                 created: false,
                 written: HashSet::new(),
+                from_file: [false; 3],
+                ze_from_file: HashSet::new(),
             },
             None => {
                 let id = s.ingest_insert_visit(p.id, date, wanted, instrument_id)?;
@@ -441,6 +456,8 @@ fn visit_state<'a>(
                     ze: HashMap::new(),
                     created: true,
                     written: HashSet::new(),
+                    from_file: [false; 3],
+                    ze_from_file: HashSet::new(),
                 }
             }
         };
@@ -642,52 +659,60 @@ impl Importer<'_> {
         // Visit.
         let v = visit_state(s, p, date, &wanted, instrument_id, &mut eff)?;
         let visit_id = v.v.id;
-        if !v.created {
+        // The visit's own fields: cheap comparisons first, since almost every row agrees.
+        let ambient_differs = row.ambient_c.is_some()
+            && row.ambient_c.map(f64::to_bits) != v.v.ambient_c.map(f64::to_bits)
+            && row.ambient_c.map(format_number) != v.v.ambient_c.map(format_number);
+        let differs = [
+            row.inspector.is_some() && row.inspector != v.v.inspector,
+            row.instrument.is_some() && row.instrument != v.v.instrument,
+            ambient_differs,
+        ];
+        if differs.contains(&true) {
             let mut next = v.v.clone();
             let mut faults = Vec::new();
-            let mut check = |col: Column, stored: Option<String>, file: Option<String>| {
-                if file.is_some() && stored != file {
-                    if stored.is_none() || replace {
-                        true
-                    } else {
-                        faults.push(Fault {
-                            column: Some(col),
-                            message: conflict(
-                                &format!("the visit to {} on {date}", row.property_ref),
-                                &stored,
-                                &file,
-                            ),
-                        });
-                        false
-                    }
-                } else {
-                    false
-                }
-            };
+            let fields = [
+                (
+                    Column::Inspector,
+                    v.v.inspector.clone(),
+                    row.inspector.clone(),
+                ),
+                (
+                    Column::Instrument,
+                    v.v.instrument.clone(),
+                    row.instrument.clone(),
+                ),
+                (
+                    Column::AmbientC,
+                    v.v.ambient_c.map(format_number),
+                    row.ambient_c.map(format_number),
+                ),
+            ];
             let mut dirty = false;
-            if check(
-                Column::Inspector,
-                v.v.inspector.clone(),
-                row.inspector.clone(),
-            ) {
-                next.inspector = row.inspector.clone();
-                dirty = true;
-            }
-            if check(
-                Column::Instrument,
-                v.v.instrument.clone(),
-                row.instrument.clone(),
-            ) {
-                next.instrument = row.instrument.clone();
-                dirty = true;
-            }
-            if check(
-                Column::AmbientC,
-                v.v.ambient_c.map(format_number),
-                row.ambient_c.map(format_number),
-            ) {
-                next.ambient_c = row.ambient_c;
-                dirty = true;
+            for (i, (col, stored, file)) in fields.into_iter().enumerate() {
+                if !differs[i] {
+                    continue;
+                }
+                let what = format!("the visit to {} on {date}", row.property_ref);
+                if stored.is_some() && (v.created || v.from_file[i]) {
+                    // Two rows of this file disagree: --replace cannot say which one is right.
+                    faults.push(Fault {
+                        column: Some(col),
+                        message: in_file_conflict(&what, &stored, &file),
+                    });
+                } else if stored.is_none() || replace {
+                    match col {
+                        Column::Inspector => next.inspector = file,
+                        Column::Instrument => next.instrument = file,
+                        _ => next.ambient_c = row.ambient_c,
+                    }
+                    dirty = true;
+                } else {
+                    faults.push(Fault {
+                        column: Some(col),
+                        message: conflict(&what, &stored, &file),
+                    });
+                }
             }
             if !faults.is_empty() {
                 return Err(Faults::Row(faults));
@@ -704,6 +729,9 @@ impl Importer<'_> {
                     && let Some(v) = p.visits.get_mut(&date)
                 {
                     v.v = next;
+                    for (i, d) in differs.iter().enumerate() {
+                        v.from_file[i] |= *d;
+                    }
                 }
             }
         }
@@ -724,7 +752,20 @@ impl Importer<'_> {
                 Some(z) => z,
                 None => s.ingest_board_ze(visit_id, board_id)?.flatten(),
             };
+            let set_by_file = v
+                .as_ref()
+                .is_some_and(|v| v.created || v.ze_from_file.contains(&board_id));
             if stored != Some(ze) {
+                if stored.is_some() && set_by_file {
+                    return fault(
+                        Column::ZeOhm,
+                        in_file_conflict(
+                            &format!("Ze at board {} on {date}", row.board),
+                            &stored.map(format_number),
+                            &Some(format_number(ze)),
+                        ),
+                    );
+                }
                 if stored.is_none() || replace {
                     s.ingest_set_board_ze(visit_id, board_id, ze)?;
                     eff.wrote = true;
@@ -746,6 +787,7 @@ impl Importer<'_> {
                 .and_then(|p| p.visits.get_mut(&date))
             {
                 v.ze.insert(board_id, Some(ze));
+                v.ze_from_file.insert(board_id);
             }
         }
 
@@ -794,12 +836,15 @@ impl Importer<'_> {
         }
 
         // The test record.
-        let fresh = self
+        let (fresh, by_file) = self
             .cache
             .properties
             .get(&row.property_ref)
             .and_then(|p| p.visits.get(&date))
-            .is_some_and(|v| v.created && !v.written.contains(&circuit_id));
+            .map_or((false, false), |v| {
+                let by_file = v.written.contains(&circuit_id);
+                (v.created && !by_file, by_file)
+            });
         let stored = if fresh {
             None
         } else {
@@ -824,6 +869,22 @@ impl Importer<'_> {
                     .collect();
                 if differ.is_empty() {
                     eff.unchanged += 1;
+                } else if by_file {
+                    // Two rows of this file for one circuit and visit: --replace cannot say
+                    // which one is right.
+                    return Err(Faults::Row(
+                        differ
+                            .iter()
+                            .map(|c| Fault {
+                                column: Some(*c),
+                                message: in_file_conflict(
+                                    &format!("{} on {date}", where_()),
+                                    &reading_text(&stored, *c),
+                                    &reading_text(&row.readings, *c),
+                                ),
+                            })
+                            .collect(),
+                    ));
                 } else if replace {
                     let mut merged = stored.clone();
                     for c in &present {
