@@ -197,7 +197,88 @@ fn one_megabyte_field() {
     refuse_in(
         dir.path(),
         "big_field.csv",
-        &["big_field.csv:2:5: note: is 1048576 bytes long: expected at most 10000"],
+        &[&format!("big_field.csv:2:1: {TOO_LONG}")],
+    );
+}
+
+const TOO_LONG: &str = "row is longer than 65536 bytes (64 KiB): expected one row of a visit or observation file per line; check the file is one, and that every quote is closed";
+
+/// A cell over the limit in a row under the row limit is the cell's own error.
+#[test]
+fn a_cell_over_its_limit() {
+    let dir = TempDir::new().unwrap();
+    let note = "x".repeat(20_000);
+    std::fs::write(
+        dir.path().join("long_note.csv"),
+        format!("property_ref,board,circuit,visit_date,note\nSMP-009,DB1,1,2024-05-20,{note}\n"),
+    )
+    .unwrap();
+    refuse_in(
+        dir.path(),
+        "long_note.csv",
+        &["long_note.csv:2:5: note: is 20000 bytes long: expected at most 10000"],
+    );
+}
+
+/// Input with no end to its lines is refused at the row limit, not read whole: a file with
+/// no newline at all, an unclosed quote that swallows the lines after it, and a header name
+/// or a header too wide to be one.
+#[test]
+fn unbounded_input_is_refused_at_a_limit() {
+    let dir = TempDir::new().unwrap();
+    let write = |name: &str, body: &[u8]| std::fs::write(dir.path().join(name), body).unwrap();
+    write("no_newline.csv", &vec![b'x'; 8 << 20]);
+    refuse_in(
+        dir.path(),
+        "no_newline.csv",
+        &[&format!("no_newline.csv:1:1: {TOO_LONG}")],
+    );
+    let mut unclosed = b"property_ref,board,circuit,visit_date,note\nSMP-009,DB1,1,2024-05-20,ok\nSMP-009,DB1,2,2024-05-20,\"open\n".to_vec();
+    for _ in 0..20_000 {
+        unclosed.extend_from_slice(b"SMP-009,DB1,3,2024-05-20,ok\n");
+    }
+    write("unclosed_quote.csv", &unclosed);
+    refuse_in(
+        dir.path(),
+        "unclosed_quote.csv",
+        &[&format!("unclosed_quote.csv:3:1: {TOO_LONG}")],
+    );
+    let long_name = "y".repeat(2 << 20);
+    write(
+        "long_name.csv",
+        format!("property_ref,board,circuit,visit_date,{long_name}\nSMP-009,DB1,1,2024-05-20,1\n")
+            .as_bytes(),
+    );
+    refuse_in(
+        dir.path(),
+        "long_name.csv",
+        &[&format!("long_name.csv:1:1: {TOO_LONG}")],
+    );
+    let name = "z".repeat(5_000);
+    write(
+        "wide_name.csv",
+        format!("property_ref,board,circuit,visit_date,{name}\nSMP-009,DB1,1,2024-05-20,1\n")
+            .as_bytes(),
+    );
+    refuse_in(
+        dir.path(),
+        "wide_name.csv",
+        &[&format!(
+            "wide_name.csv:1:5: unknown column \"{}\"… (5000 bytes long): expected one of property_ref, address, board, earthing, circuit, description, ring, device, rcd_ma, live_mm2, cpc_mm2, length_m, visit_date, inspector, instrument, ambient_c, ze_ohm, ring_r1_ohm, ring_rn_ohm, ring_r2_ohm, r1r2_ohm, r2_ohm, r1rn_ohm, zs_ohm, ir_ll_mohm, ir_le_mohm, rcd_ms, rcd_5x_ms, note (or pass --ignore-unknown)",
+            "z".repeat(60)
+        )],
+    );
+    let wide = format!(
+        "property_ref,board,circuit,visit_date{}\n",
+        ",c".repeat(30_000)
+    );
+    write("wide_header.csv", wide.as_bytes());
+    refuse_in(
+        dir.path(),
+        "wide_header.csv",
+        &[
+            "wide_header.csv:1:257: the header has 30004 columns: expected at most 256 (a visit file has 29 known columns)",
+        ],
     );
 }
 

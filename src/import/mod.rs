@@ -1030,6 +1030,61 @@ struct NewlineTap<R> {
     offset: u64,
     line_has_text: bool,
     newlines: VecDeque<(u64, bool)>,
+    /// Inside a quoted field, where a newline does not end the row (quote parity: a doubled
+    /// quote inside a field flips it twice).
+    quoted: bool,
+    /// Where the row being read began, and its line; every newline counted so far.
+    row_start: u64,
+    row_line: u64,
+    newline_count: u64,
+}
+
+impl<R> NewlineTap<R> {
+    fn new(inner: R) -> NewlineTap<R> {
+        NewlineTap {
+            inner,
+            offset: 0,
+            line_has_text: false,
+            newlines: VecDeque::new(),
+            quoted: false,
+            row_start: 0,
+            row_line: 1,
+            newline_count: 0,
+        }
+    }
+}
+
+/// The longest row read: a real row is at most a few cells of [`cell::MAX_CELL_BYTES`] and
+/// short values, so anything longer is not a visit file (a file with no newline at all, say),
+/// and reading on would hold all of it in memory.
+pub const MAX_ROW_BYTES: u64 = 64 * 1024;
+
+/// A row longer than [`MAX_ROW_BYTES`], carried through the CSV reader as an I/O error.
+#[derive(Debug)]
+struct RowTooLong {
+    line: u64,
+}
+
+impl std::fmt::Display for RowTooLong {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        write!(
+            f,
+            "row is longer than {MAX_ROW_BYTES} bytes (64 KiB): expected one row of a visit or observation file per line; check the file is one, and that every quote is closed"
+        )
+    }
+}
+
+impl std::error::Error for RowTooLong {}
+
+/// The line of a row that was too long, when that is what `e` is.
+fn row_too_long(e: &csv::Error) -> Option<u64> {
+    match e.kind() {
+        csv::ErrorKind::Io(io) => io
+            .get_ref()
+            .and_then(|inner| inner.downcast_ref::<RowTooLong>())
+            .map(|r| r.line),
+        _ => None,
+    }
 }
 
 impl<R: Read> Read for NewlineTap<R> {
@@ -1041,12 +1096,29 @@ impl<R: Read> Read for NewlineTap<R> {
                 b'\n' => {
                     q.push_back((self.offset + i as u64, !self.line_has_text));
                     self.line_has_text = false;
+                    self.newline_count += 1;
+                    if !self.quoted {
+                        self.row_start = self.offset + i as u64 + 1;
+                        self.row_line = self.newline_count + 1;
+                    }
                 }
                 b'\r' => {}
+                b'"' => {
+                    self.quoted = !self.quoted;
+                    self.line_has_text = true;
+                }
                 _ => self.line_has_text = true,
             }
         }
         self.offset += n as u64;
+        if self.offset - self.row_start > MAX_ROW_BYTES {
+            return Err(std::io::Error::new(
+                std::io::ErrorKind::InvalidData,
+                RowTooLong {
+                    line: self.row_line,
+                },
+            ));
+        }
         Ok(n)
     }
 }
@@ -1071,6 +1143,12 @@ impl Lines {
 
 /// Rows per batch handed from the reading thread to the writing one.
 const BATCH_ROWS: usize = 1024;
+/// A batch also ends once its rows hold this many bytes, and a reused record that grew past
+/// [`cell::MAX_CELL_BYTES`] is dropped, so that long rows cannot multiply the memory held.
+const BATCH_BYTES: usize = 1 << 20;
+/// The widest header read: the known columns, with room for many a file's own extra columns
+/// under `--ignore-unknown`.
+pub const MAX_COLUMNS: usize = 256;
 /// Batches parsed ahead of the writer; with the one being written and the one being read,
 /// this bounds the rows in memory whatever the file's size.
 const BATCHES_IN_FLIGHT: usize = 2;
@@ -1125,12 +1203,16 @@ fn read_rows(
             },
         };
         let mut done = false;
-        while batch.rows.len() < BATCH_ROWS {
+        let mut bytes = 0;
+        while batch.rows.len() < BATCH_ROWS && bytes < BATCH_BYTES {
             let i = batch.rows.len();
             if batch.records.len() == i {
                 batch.records.push(csv::ByteRecord::new());
             }
             let record = &mut batch.records[i];
+            if record.as_slice().len() > cell::MAX_CELL_BYTES {
+                *record = csv::ByteRecord::new();
+            }
             match csv.read_byte_record(record) {
                 Ok(true) => {}
                 Ok(false) => {
@@ -1142,6 +1224,7 @@ fn read_rows(
                     return;
                 }
             }
+            bytes += record.as_slice().len();
             let byte = record.position().map(|p| p.byte()).unwrap_or(0);
             let line = lines.at(&mut csv.get_mut().newlines, byte);
             let fields: Vec<&[u8]> = record.iter().collect();
@@ -1195,12 +1278,7 @@ pub fn import_file(
     let mut reader = BufReader::with_capacity(1 << 16, file);
     let delimiter = sniff_delimiter(reader.fill_buf().map_err(io_err)?);
     let mut lines = Lines { passed: 0 };
-    let reader = NewlineTap {
-        inner: reader,
-        offset: 0,
-        line_has_text: false,
-        newlines: VecDeque::new(),
-    };
+    let reader = NewlineTap::new(reader);
     let mut csv = csv::ReaderBuilder::new()
         .has_headers(false)
         .flexible(true)
@@ -1217,7 +1295,35 @@ pub fn import_file(
     };
 
     let mut record = csv::ByteRecord::new();
-    if !csv.read_byte_record(&mut record).map_err(csv_err)? {
+    let first = match csv.read_byte_record(&mut record) {
+        Err(e) if let Some(line) = row_too_long(&e) => {
+            Errors {
+                file: &name,
+                summary: &mut summary,
+            }
+            .push(line, 1, None, &RowTooLong { line }.to_string());
+            return Ok(summary);
+        }
+        other => other.map_err(csv_err)?,
+    };
+    if record.len() > MAX_COLUMNS {
+        Errors {
+            file: &name,
+            summary: &mut summary,
+        }
+        .push(
+            1,
+            MAX_COLUMNS + 1,
+            None,
+            &format!(
+                "the header has {} columns: expected at most {MAX_COLUMNS} (a visit file has {} known columns)",
+                record.len(),
+                Column::VISIT.len()
+            ),
+        );
+        return Ok(summary);
+    }
+    if !first {
         Errors {
             file: &name,
             summary: &mut summary,
@@ -1303,7 +1409,23 @@ pub fn import_file(
         scope.spawn(move || read_rows(csv, lines, header, &parse, &full_tx, &free_rx));
         let outcome = store.atomic(|s| {
             for received in full_rx.iter() {
-                let batch = received.map_err(csv_err)?;
+                let batch = match received {
+                    Err(e) if let Some(line) = row_too_long(&e) => {
+                        Errors {
+                            file: &name,
+                            summary: &mut summary,
+                        }
+                        .push(
+                            line,
+                            1,
+                            None,
+                            &RowTooLong { line }.to_string(),
+                        );
+                        refused = true;
+                        return Err(Error::invalid("rolled back"));
+                    }
+                    other => other.map_err(csv_err)?,
+                };
                 for (i, item) in batch.rows.iter().enumerate() {
                     let record = &batch.records[i];
                     let line = item.line;
