@@ -548,3 +548,72 @@ fn a_file_that_contradicts_itself_is_refused_even_with_replace() {
     }
     assert_eq!(before, dump(&db));
 }
+
+/// A SQLite file that another program made is refused by every command, byte for byte
+/// untouched (not even switched to WAL), with a short message, including when its tables
+/// share names with ohmtrail's.
+#[test]
+fn another_programs_database_is_refused_untouched() {
+    let dir = TempDir::new().unwrap();
+    let a = dir.path().join("a.csv");
+    visits(&a, "A", 1);
+    for (name, sql) in [
+        (
+            "shop.db",
+            "CREATE TABLE customer (id INTEGER PRIMARY KEY, name TEXT);",
+        ),
+        (
+            "clash.db",
+            "CREATE TABLE property (id INTEGER PRIMARY KEY, owner TEXT, price REAL);",
+        ),
+        ("marked.db", "PRAGMA application_id = 1234;"),
+    ] {
+        let db = dir.path().join(name);
+        let conn = Connection::open(&db).unwrap();
+        conn.execute_batch(sql).unwrap();
+        conn.execute_batch(
+            "CREATE TABLE IF NOT EXISTS note (t TEXT); INSERT INTO note VALUES ('kept');",
+        )
+        .unwrap();
+        drop(conn);
+        let before = std::fs::read(&db).unwrap();
+        for args in [
+            &["import", a.to_str().unwrap()][..],
+            &["property", "list"][..],
+            &["flags"][..],
+        ] {
+            let err = refused(
+                bin(&db).args(args),
+                &[
+                    db.to_str().unwrap(),
+                    "ohmtrail did not make",
+                    "left untouched",
+                ],
+            );
+            assert!(err.len() < 400, "{err}");
+            assert_eq!(before, std::fs::read(&db).unwrap(), "{name} {args:?}");
+            assert!(!dir.path().join(format!("{name}-wal")).exists());
+        }
+    }
+}
+
+/// A database ohmtrail made before it marked its files is still opened, and marked.
+#[test]
+fn an_unmarked_ohmtrail_database_from_before_the_mark_is_opened_and_marked() {
+    let dir = TempDir::new().unwrap();
+    let db = dir.path().join("old.db");
+    let mut conn = Connection::open(&db).unwrap();
+    let tx = conn.transaction().unwrap();
+    for (_, sql) in &ohmtrail::store::migrate::MIGRATIONS[..5] {
+        tx.execute_batch(sql).unwrap();
+    }
+    tx.pragma_update(None, "user_version", 5).unwrap();
+    tx.commit().unwrap();
+    drop(conn);
+    bin(&db).args(["property", "list"]).assert().success();
+    let id: i32 = Connection::open(&db)
+        .unwrap()
+        .query_row("PRAGMA application_id", [], |r| r.get(0))
+        .unwrap();
+    assert_eq!(id, ohmtrail::store::APPLICATION_ID);
+}

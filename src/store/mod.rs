@@ -165,6 +165,51 @@ pub struct VisitSummary {
     pub observations: i64,
 }
 
+/// ohmtrail's mark in the SQLite header (`PRAGMA application_id`), set by migration 006:
+/// "ohmt" in ASCII.
+pub const APPLICATION_ID: i32 = 0x6F68_6D74;
+
+/// Tables every ohmtrail database has had since its first version.
+const OWN_TABLES: [&str; 5] = ["property", "board", "circuit", "visit", "test_record"];
+
+/// Why the open database is not ohmtrail's, or `None` when it is (marked, or from before the
+/// mark with ohmtrail's tables) or empty. Reads only, so a refused file stays byte-identical.
+fn check_ownership(conn: &Connection, version: i64) -> rusqlite::Result<Option<String>> {
+    let id: i32 = conn.query_row("PRAGMA application_id", [], |r| r.get(0))?;
+    if id == APPLICATION_ID {
+        return Ok(None);
+    }
+    if id != 0 {
+        return Ok(Some(format!(
+            "its application id is {id:#010x}, not ohmtrail's {APPLICATION_ID:#010x}"
+        )));
+    }
+    let mut st = conn.prepare(
+        "SELECT name FROM sqlite_schema WHERE type = 'table' AND name NOT LIKE 'sqlite_%'
+         ORDER BY name",
+    )?;
+    let tables: Vec<String> = st
+        .query_map([], |r| r.get(0))?
+        .collect::<rusqlite::Result<_>>()?;
+    if tables.is_empty() && version == 0 {
+        return Ok(None);
+    }
+    let ours = OWN_TABLES.iter().all(|t| tables.iter().any(|x| x == t));
+    if ours && (1..=migrate::UNMARKED_VERSIONS).contains(&version) {
+        return Ok(None);
+    }
+    let mut shown: Vec<&str> = tables.iter().take(5).map(String::as_str).collect();
+    if tables.len() > 5 {
+        shown.push("…");
+    }
+    Ok(Some(format!(
+        "it has no ohmtrail mark and holds {} table{}: {}",
+        tables.len(),
+        if tables.len() == 1 { "" } else { "s" },
+        shown.join(", ")
+    )))
+}
+
 impl Store {
     /// Open (creating when absent) the database at `path` and bring its schema up to date.
     /// A database stamped by a newer ohmtrail is refused before anything is written to it.
@@ -304,6 +349,9 @@ impl Store {
         // Read the version before anything that writes (journal_mode=WAL writes the header),
         // so a database from a newer version stays byte-identical.
         let found = migrate::user_version(&conn).map_err(db_err)?;
+        if let Some(what) = check_ownership(&conn, found).map_err(db_err)? {
+            return Err(Error::ForeignDatabase { path, what });
+        }
         let supported = migrate::latest_version();
         if found > supported {
             return Err(Error::NewerSchema {
