@@ -617,3 +617,73 @@ fn an_unmarked_ohmtrail_database_from_before_the_mark_is_opened_and_marked() {
         .unwrap();
     assert_eq!(id, ohmtrail::store::APPLICATION_ID);
 }
+
+/// Makes a directory unwritable, even for root, with the file system's immutable attribute
+/// (`chattr +i`); undone when dropped, so the temporary directory can be removed.
+struct Immutable(PathBuf);
+
+impl Immutable {
+    fn set(dir: &Path) -> Option<Immutable> {
+        let ok = std::process::Command::new("chattr")
+            .arg("+i")
+            .arg(dir)
+            .status()
+            .is_ok_and(|s| s.success());
+        ok.then(|| Immutable(dir.to_path_buf()))
+    }
+}
+
+impl Drop for Immutable {
+    fn drop(&mut self) {
+        let _ = std::process::Command::new("chattr")
+            .arg("-i")
+            .arg(&self.0)
+            .status();
+    }
+}
+
+/// In a directory that cannot be written, reading commands work (the database is opened
+/// read-only) and writing ones say in words why they cannot. Needs `chattr +i` (root on a
+/// file system that has it); skipped, saying so, without it.
+#[test]
+fn a_read_only_directory_can_be_read_and_writing_is_refused_in_words() {
+    let dir = TempDir::new().unwrap();
+    let inner = dir.path().join("ro");
+    std::fs::create_dir(&inner).unwrap();
+    let db = inner.join("t.db");
+    let a = dir.path().join("a.csv");
+    visits(&a, "A", 2);
+    bin(&db).arg("import").arg(&a).assert().success();
+    let before = std::fs::read(&db).unwrap();
+    let Some(_guard) = Immutable::set(&inner) else {
+        eprintln!("skipped: chattr +i is not available here");
+        return;
+    };
+    let out = bin(&db).args(["property", "list"]).output().unwrap();
+    assert!(out.status.success(), "{out:?}");
+    assert!(String::from_utf8_lossy(&out.stdout).contains("A-0001"));
+    let html = dir.path().join("r.html");
+    let html = html.to_str().unwrap();
+    for args in [
+        &["flags", "--json"][..],
+        &["export"][..],
+        &["report", "A-0000", "-o", html][..],
+    ] {
+        let out = bin(&db).args(args).output().unwrap();
+        assert!(out.status.success(), "{args:?}: {out:?}");
+    }
+    for args in [
+        &["import", a.to_str().unwrap()][..],
+        &["property", "add", "B-1"][..],
+    ] {
+        let err = refused(
+            bin(&db).args(args),
+            &["is read-only", "its directory", "cannot be written"],
+        );
+        assert!(
+            !err.contains("attempt to write a readonly database"),
+            "{err}"
+        );
+    }
+    assert_eq!(before, std::fs::read(&db).unwrap());
+}

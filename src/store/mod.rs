@@ -66,6 +66,8 @@ pub struct Store {
     conn: Connection,
     path: PathBuf,
     read_only: bool,
+    /// Opened read-only because its directory cannot be written, though the file could be.
+    in_read_only_dir: bool,
 }
 
 /// A new property for the register.
@@ -165,6 +167,21 @@ pub struct VisitSummary {
     pub observations: i64,
 }
 
+/// A file path as the path of a SQLite URI (https://www.sqlite.org/uri.html): every byte but
+/// letters, digits, `/` and `-._~` percent-encoded, so `?`, `#` and `%` keep their meaning.
+fn uri_path(path: &Path) -> String {
+    use std::os::unix::ffi::OsStrExt;
+    let mut out = String::new();
+    for &b in path.as_os_str().as_bytes() {
+        if b.is_ascii_alphanumeric() || b"/-._~".contains(&b) {
+            out.push(b as char);
+        } else {
+            out.push_str(&format!("%{b:02X}"));
+        }
+    }
+    out
+}
+
 /// ohmtrail's mark in the SQLite header (`PRAGMA application_id`), set by migration 006:
 /// "ohmt" in ASCII.
 pub const APPLICATION_ID: i32 = 0x6F68_6D74;
@@ -262,11 +279,54 @@ impl Store {
                 | OpenFlags::SQLITE_OPEN_CREATE
                 | OpenFlags::SQLITE_OPEN_NO_MUTEX
         };
-        let conn = Connection::open_with_flags(path, flags).map_err(db_err)?;
-        if !read_only {
-            limit_pages_for_tests(&conn, path)?;
+        let opened = Connection::open_with_flags(path, flags)
+            .map_err(db_err)
+            .and_then(|conn| {
+                if !read_only {
+                    limit_pages_for_tests(&conn, path)?;
+                }
+                Store::setup(conn, path.to_path_buf(), read_only)
+            });
+        match opened {
+            // SQLite keeps a database's journal files beside it: in a directory that cannot
+            // be written it cannot open even to read, unless told to open read-only.
+            Err(Error::Database { source, .. })
+                if !read_only
+                    && path.is_file()
+                    && matches!(
+                        source.sqlite_error_code(),
+                        Some(rusqlite::ErrorCode::CannotOpen | rusqlite::ErrorCode::ReadOnly)
+                    ) =>
+            {
+                Store::open_in_read_only_dir(path)
+            }
+            other => other,
         }
-        Store::setup(conn, path.to_path_buf(), read_only)
+    }
+
+    /// Open a database whose directory cannot be written, read-only. With no write-ahead log
+    /// beside it nobody can be writing it (a writer would have to create one there), so
+    /// SQLite is told the file will not change and needs no shared-memory file either
+    /// (https://www.sqlite.org/uri.html#uriimmutable).
+    fn open_in_read_only_dir(path: &Path) -> Result<Store> {
+        let mut wal = path.as_os_str().to_owned();
+        wal.push("-wal");
+        let immutable = if Path::new(&wal).exists() {
+            ""
+        } else {
+            "&immutable=1"
+        };
+        let uri = format!("file:{}?mode=ro{immutable}", uri_path(path));
+        let flags = OpenFlags::SQLITE_OPEN_READ_ONLY
+            | OpenFlags::SQLITE_OPEN_URI
+            | OpenFlags::SQLITE_OPEN_NO_MUTEX;
+        let conn = Connection::open_with_flags(&uri, flags).map_err(|source| Error::Database {
+            path: path.to_path_buf(),
+            source,
+        })?;
+        let mut store = Store::setup(conn, path.to_path_buf(), true)?;
+        store.in_read_only_dir = true;
+        Ok(store)
     }
 
     /// Another connection to the same database file, for reading beside this one on another
@@ -363,7 +423,8 @@ impl Store {
         conn.pragma_update(None, "foreign_keys", true)
             .map_err(db_err)?;
         if read_only {
-            if found < supported {
+            // Versions from the last unmarked one on differ only by the mark: readable.
+            if found < supported.min(migrate::UNMARKED_VERSIONS) {
                 return Err(Error::ReadOnly {
                     path,
                     why: format!(
@@ -375,6 +436,7 @@ impl Store {
                 conn,
                 path,
                 read_only,
+                in_read_only_dir: false,
             });
         }
         if path.as_os_str() != ":memory:" {
@@ -396,6 +458,7 @@ impl Store {
             conn,
             path,
             read_only,
+            in_read_only_dir: false,
         })
     }
 
@@ -436,9 +499,20 @@ impl Store {
             };
         }
         if self.read_only {
+            let why = if self.in_read_only_dir {
+                let dir = match self.path.parent() {
+                    Some(d) if !d.as_os_str().is_empty() => d.display().to_string(),
+                    _ => ".".into(),
+                };
+                format!(
+                    "this command writes to it, but its directory {dir} cannot be written (SQLite keeps its journal files beside the database)"
+                )
+            } else {
+                "this command writes to it".into()
+            };
             return Err(Error::ReadOnly {
                 path: self.path.clone(),
-                why: "this command writes to it".into(),
+                why,
             });
         }
         self.conn
