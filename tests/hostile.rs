@@ -687,3 +687,74 @@ fn a_read_only_directory_can_be_read_and_writing_is_refused_in_words() {
     }
     assert_eq!(before, std::fs::read(&db).unwrap());
 }
+
+/// `--skip-invalid`: the sidecar replaces a symbolic link planted at its name instead of
+/// writing through it, protects text from formula injection as export does, and the summary
+/// counts only the rows written as imported.
+#[test]
+fn skip_invalid_sidecar_is_safe_and_the_summary_counts_what_was_written() {
+    let dir = TempDir::new().unwrap();
+    let (db, _) = seeded(&dir);
+    let file = dir.path().join("mixed.csv");
+    std::fs::write(
+        &file,
+        format!(
+            "{HEADER}\nB-0001,DB1,1,2024-03-01,B16,0.15,0.19,>200,fine\n\
+             B-0001,DB1,2,2024-03-01,B16,bad,0.29,>200,=cmd|' /C calc'!A0\n\
+             B-0001,DB1,3,2024-03-01,B16,0.35,bad,>200,@SUM(1)\n"
+        ),
+    )
+    .unwrap();
+    let victim = dir.path().join("victim.txt");
+    std::fs::write(&victim, "keep me\n").unwrap();
+    let sidecar = dir.path().join("mixed.rejected.csv");
+    std::os::unix::fs::symlink(&victim, &sidecar).unwrap();
+    let out = bin(&db)
+        .args(["import", "--skip-invalid"])
+        .arg(&file)
+        .output()
+        .unwrap();
+    let stdout = String::from_utf8_lossy(&out.stdout);
+    assert!(out.status.success(), "{out:?}");
+    assert_eq!(std::fs::read_to_string(&victim).unwrap(), "keep me\n");
+    assert!(!sidecar.symlink_metadata().unwrap().is_symlink());
+    let side = std::fs::read_to_string(&sidecar).unwrap();
+    assert!(side.contains(",'=cmd|"), "{side}");
+    assert!(side.contains(",'@SUM(1)"), "{side}");
+    assert!(!side.contains(",=cmd"), "{side}");
+    assert!(
+        stdout.contains("imported 1 rows; 2 skipped as invalid"),
+        "{stdout}"
+    );
+    assert!(stdout.contains("rows skipped (invalid)   2"), "{stdout}");
+}
+
+/// `--replace` that changes a stored visit's details says so in the summary, instead of
+/// reporting nothing but an unchanged record.
+#[test]
+fn replace_that_changes_a_visits_details_is_counted() {
+    let dir = TempDir::new().unwrap();
+    let (db, _) = seeded(&dir);
+    let first = dir.path().join("v1.csv");
+    std::fs::write(
+        &first,
+        "property_ref,board,circuit,visit_date,ambient_c,r1r2_ohm\nC-1,DB1,1,2024-03-01,18,0.15\n",
+    )
+    .unwrap();
+    bin(&db).arg("import").arg(&first).assert().success();
+    let second = dir.path().join("v2.csv");
+    std::fs::write(
+        &second,
+        "property_ref,board,circuit,visit_date,ambient_c,r1r2_ohm\nC-1,DB1,1,2024-03-01,22,0.15\n",
+    )
+    .unwrap();
+    let out = bin(&db)
+        .args(["import", "--replace"])
+        .arg(&second)
+        .output()
+        .unwrap();
+    let stdout = String::from_utf8_lossy(&out.stdout);
+    assert!(out.status.success(), "{out:?}");
+    assert!(stdout.contains("details replaced         1"), "{stdout}");
+    assert!(!stdout.contains("nothing new"), "{stdout}");
+}

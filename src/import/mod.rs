@@ -90,6 +90,9 @@ pub struct Summary {
     pub test_records_written: u64,
     pub test_records_replaced: u64,
     pub test_records_unchanged: u64,
+    /// Stored details overwritten with `--replace`: a visit's inspector, instrument or
+    /// ambient, Ze at a board, a property's address, a board's earthing (one a row).
+    pub details_replaced: u64,
     pub observations_written: u64,
     pub observations_unchanged: u64,
     pub changes: Vec<RegisterChange>,
@@ -117,6 +120,7 @@ impl Summary {
         self.test_records_written += e.written;
         self.test_records_replaced += e.replaced;
         self.test_records_unchanged += e.unchanged;
+        self.details_replaced += e.details_replaced;
         self.observations_written += e.observations;
         self.observations_unchanged += e.observations_unchanged;
         self.changes.extend(e.changes.iter().cloned());
@@ -136,6 +140,7 @@ struct Effect {
     written: u64,
     replaced: u64,
     unchanged: u64,
+    details_replaced: u64,
     observations: u64,
     observations_unchanged: u64,
     changes: Vec<RegisterChange>,
@@ -501,6 +506,9 @@ impl Importer<'_> {
             && p.address.as_ref() != Some(a)
         {
             if p.address.is_none() || replace {
+                if p.address.is_some() {
+                    eff.details_replaced += 1;
+                }
                 s.ingest_set_address(p.id, a)?;
                 p.address = Some(a.clone());
                 eff.wrote = true;
@@ -567,6 +575,9 @@ impl Importer<'_> {
             && b.earthing.as_ref() != Some(&e)
         {
             if b.earthing.is_none() || replace {
+                if b.earthing.is_some() {
+                    eff.details_replaced += 1;
+                }
                 s.ingest_set_earthing(b.id, &e)?;
                 b.earthing = Some(e);
                 eff.wrote = true;
@@ -689,6 +700,7 @@ impl Importer<'_> {
                 ),
             ];
             let mut dirty = false;
+            let mut overwrote = false;
             for (i, (col, stored, file)) in fields.into_iter().enumerate() {
                 if !differs[i] {
                     continue;
@@ -701,6 +713,7 @@ impl Importer<'_> {
                         message: in_file_conflict(&what, &stored, &file),
                     });
                 } else if stored.is_none() || replace {
+                    overwrote |= stored.is_some();
                     match col {
                         Column::Inspector => next.inspector = file,
                         Column::Instrument => next.instrument = file,
@@ -724,6 +737,9 @@ impl Importer<'_> {
                 };
                 s.ingest_update_visit(&next, instrument_id)?;
                 eff.wrote = true;
+                if overwrote {
+                    eff.details_replaced += 1;
+                }
                 // The cache borrow ended above; look the visit up again to keep it current.
                 if let Some(p) = self.cache.properties.get_mut(&row.property_ref)
                     && let Some(v) = p.visits.get_mut(&date)
@@ -767,6 +783,9 @@ impl Importer<'_> {
                     );
                 }
                 if stored.is_none() || replace {
+                    if stored.is_some() {
+                        eff.details_replaced += 1;
+                    }
                     s.ingest_set_board_ze(visit_id, board_id, ze)?;
                     eff.wrote = true;
                 } else {
@@ -1387,7 +1406,10 @@ pub fn import_file(
     summary.kind = Some(header.kind);
 
     store.ingest_prepare()?;
-    let mut sidecar: Option<csv::Writer<File>> = None;
+    // Rejected rows are written to a temporary file beside the sidecar's name and renamed
+    // onto it at the end: a rename replaces whatever stands at the name (a symbolic link
+    // planted there included) instead of writing through it.
+    let mut sidecar: Option<csv::Writer<tempfile::NamedTempFile>> = None;
     let sidecar_file = sidecar_path(path);
     let mut importer = Importer {
         store,
@@ -1463,12 +1485,18 @@ pub fn import_file(
                             if opts.skip_invalid {
                                 summary.rows_rejected += 1;
                                 if sidecar.is_none() {
-                                    let f = File::create(&sidecar_file).map_err(|source| {
-                                        Error::Io {
+                                    let dir = match sidecar_file.parent() {
+                                        Some(d) if !d.as_os_str().is_empty() => d,
+                                        _ => Path::new("."),
+                                    };
+                                    let f = tempfile::Builder::new()
+                                        .prefix(".ohmtrail-rejected-")
+                                        .suffix(".tmp")
+                                        .tempfile_in(dir)
+                                        .map_err(|source| Error::Io {
                                             path: sidecar_file.clone(),
                                             source,
-                                        }
-                                    })?;
+                                        })?;
                                     let mut w = csv::Writer::from_writer(f);
                                     let mut head = csv::ByteRecord::from(header_raw.clone());
                                     head.push_field(b"reason");
@@ -1476,8 +1504,16 @@ pub fn import_file(
                                     sidecar = Some(w);
                                 }
                                 if let Some(w) = sidecar.as_mut() {
-                                    let mut out = record.clone();
-                                    out.push_field(reasons.join("; ").as_bytes());
+                                    // Text is protected against formula injection as export
+                                    // protects it; import removes the mark again.
+                                    let mut out = csv::ByteRecord::new();
+                                    for field in record.iter() {
+                                        match std::str::from_utf8(field) {
+                                            Ok(t) => out.push_field(escape(t).as_bytes()),
+                                            Err(_) => out.push_field(field),
+                                        }
+                                    }
+                                    out.push_field(escape(&reasons.join("; ")).as_bytes());
                                     w.write_byte_record(&out).map_err(csv_err)?;
                                 }
                             }
@@ -1511,11 +1547,24 @@ pub fn import_file(
         outcome
     });
     progress(size, size);
-    if let Some(mut w) = sidecar {
-        w.flush().map_err(|source| Error::Io {
+    if let Some(w) = sidecar
+        && outcome.is_ok()
+    {
+        let io_err = |source| Error::Io {
             path: sidecar_file.clone(),
             source,
-        })?;
+        };
+        let tmp = w
+            .into_inner()
+            .map_err(|e| io_err(std::io::Error::other(e.to_string())))?;
+        #[cfg(unix)]
+        {
+            use std::os::unix::fs::PermissionsExt;
+            let _ = tmp
+                .as_file()
+                .set_permissions(std::fs::Permissions::from_mode(0o644));
+        }
+        tmp.persist(&sidecar_file).map_err(|e| io_err(e.error))?;
         summary.sidecar = Some(sidecar_file);
     }
     match outcome {
