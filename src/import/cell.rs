@@ -253,6 +253,10 @@ pub enum CellError {
     MarkAsKey(String),
     #[error("is {0} bytes long: expected at most {MAX_CELL_BYTES}")]
     TooLong(usize),
+    #[error(
+        "has control character U+{code:04X} at offset {offset} in the cell: remove it (only a tab or a line break may stand in free text)"
+    )]
+    Control { code: u32, offset: usize },
     #[error("{text:?} is not a number: expected {expected}")]
     NotANumber { text: String, expected: String },
     #[error("{0:?} is not a reading: expected a finite number")]
@@ -331,6 +335,19 @@ pub fn parse_cell(column: Column, text: &str, opts: &ParseOptions) -> Result<Cel
         return Err(CellError::TooLong(text.len()));
     }
     let kind = column.kind();
+    // Control characters would be stored, printed raw to a terminal (where an escape sequence
+    // acts) and written into HTML, where most are not allowed; free text may keep a tab or a
+    // line break, which a quoted cell may hold.
+    let allowed = |c: char| kind == Kind::Text && matches!(c, '\t' | '\n' | '\r');
+    if let Some((offset, c)) = text
+        .char_indices()
+        .find(|&(_, c)| c.is_control() && !allowed(c))
+    {
+        return Err(CellError::Control {
+            code: c as u32,
+            offset,
+        });
+    }
     if kind == Kind::Text {
         // Free text keeps its spaces; only a blank cell or a not-recorded mark is missing.
         if is_missing_mark(text.trim()) {
