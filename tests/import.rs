@@ -159,6 +159,13 @@ bad! {
     register_change_out_of_order: "out_of_order_change.csv" => ["out_of_order_change.csv:2:5: device: SMP-001 DB1/3 on 2018-03-01 has \"B40\" but the register has \"B32\" and a later visit (2024-05-20) is already recorded: import visit files oldest first, or record the change with `ohmtrail circuit edit`"];
     control_character_in_text: "control_character_in_note.csv" => ["control_character_in_note.csv:2:6: note: has control character U+001B at offset 4 in the cell: remove it (only a tab or a line break may stand in free text)"];
     nul_in_a_reference: "nul_in_reference.csv" => ["nul_in_reference.csv:2:1: property_ref: has control character U+0000 at offset 5 in the cell: remove it (only a tab or a line break may stand in free text)"];
+    observation_for_an_unknown_property: "observation_unknown_property.csv" => ["observation_unknown_property.csv:2:1: property_ref: property \"SMP-404\" not found: import its visit file first"];
+    readings_and_dates_out_of_range: "out_of_range_readings.csv" => [
+        "out_of_range_readings.csv:2:5: r1r2_ohm: \"99999999999999999999\" is out of range: expected at most 2000 Ω for a reading",
+        "out_of_range_readings.csv:2:6: ir_le_mohm: \">0\" is an over-range mark with no range: expected the instrument's top of range, such as >200",
+        "out_of_range_readings.csv:3:4: visit_date: \"1899-12-30\" is before 1950-01-01: expected the date of an inspection and test, which no record in use predates",
+        "out_of_range_readings.csv:3:7: rcd_ms: \"99999\" is out of range: expected at most 5000 ms for a reading",
+    ];
     observation_code: "observation_bad_code.csv" => ["observation_bad_code.csv:2:3: code: unknown observation code \"C4\": expected C1, C2, C3 or FI as recorded"];
     observation_unknown_board: "observation_unknown_board.csv" => ["observation_unknown_board.csv:2:3: board: board \"DB7\" not found at property SMP-001: import its visit file first"];
     observation_with_reading_column: "observation_mixed_columns.csv" => ["observation_mixed_columns.csv:1:5: column zs_ohm does not belong in an observation file (it has a code column): split readings and observations into two files, or pass --ignore-unknown"];

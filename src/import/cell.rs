@@ -435,11 +435,28 @@ pub fn parse_cell(column: Column, text: &str, opts: &ParseOptions) -> Result<Cel
             if n.negative {
                 return Err(CellError::Negative(t.to_string()));
             }
+            let most = match kind {
+                Kind::Ohms => Some((MAX_OHMS, "Ω")),
+                Kind::Megohms => Some((MAX_MEGOHMS, "MΩ")),
+                Kind::Millis => Some((MAX_MILLIS, "ms")),
+                _ => None,
+            };
+            if let Some((most, unit)) = most
+                && n.value > most
+            {
+                return Err(CellError::Value(format!(
+                    "{t:?} is out of range: expected at most {most} {unit} for a reading"
+                )));
+            }
             if n.over {
-                return if kind == Kind::Megohms {
-                    Ok(Cell::OverRange(n.value))
-                } else {
+                return if kind != Kind::Megohms {
                     Err(CellError::OverRangeNotAllowed(t.to_string()))
+                } else if n.value <= 0.0 {
+                    Err(CellError::Value(format!(
+                        "{t:?} is an over-range mark with no range: expected the instrument's top of range, such as >200"
+                    )))
+                } else {
+                    Ok(Cell::OverRange(n.value))
                 };
             }
             match kind {
@@ -655,8 +672,29 @@ pub fn parse_date(t: &str, today: NaiveDate) -> Result<NaiveDate, CellError> {
     if date > today {
         return Err(CellError::Future { date, today });
     }
+    if date < EARLIEST_VISIT {
+        return Err(CellError::Value(format!(
+            "{t:?} is before {EARLIEST_VISIT}: expected the date of an inspection and test, which no record in use predates"
+        )));
+    }
     Ok(date)
 }
+
+/// The earliest visit date read. Recorded periodic inspection and testing of homes is far
+/// younger than this; an earlier date is a slip (a year of 1899, or 1, from a spreadsheet's
+/// empty date). Common practice, no source.
+pub const EARLIEST_VISIT: NaiveDate = match NaiveDate::from_ymd_opt(1950, 1, 1) {
+    Some(d) => d,
+    None => panic!("a valid date"),
+};
+
+/// The largest value read in each unit of reading. Above these the number is not a reading
+/// a test instrument gives but a slip (a serial number in the wrong column, digits run
+/// together): continuity and loop testers read up to a few kilohms, insulation testers up to
+/// some gigohms, RCD testers stop timing within a few seconds. Common practice, no source.
+pub const MAX_OHMS: f64 = 2_000.0;
+pub const MAX_MEGOHMS: f64 = 10_000.0;
+pub const MAX_MILLIS: f64 = 5_000.0;
 
 /// Text of a number as export writes it: the shortest decimal that reads back the same.
 pub fn format_number(v: f64) -> String {
@@ -868,6 +906,7 @@ mod tests {
         #[test]
         fn free_text_round_trips_through_escape(s in any_text()) {
             prop_assume!(!s.trim().is_empty());
+            prop_assume!(!s.chars().any(|c| c.is_control() && !matches!(c, '\t' | '\n' | '\r')));
             let cell = parse_cell(Column::Note, &escape(&s), &opts()).unwrap();
             prop_assert_eq!(cell, Cell::Text(s));
         }
@@ -879,11 +918,35 @@ mod tests {
         }
 
         #[test]
-        fn readings_round_trip_through_their_text(v in 0.0f64..1.0e6) {
+        fn readings_round_trip_through_their_text(v in 0.0f64..=MAX_OHMS) {
             let text = format_number(v);
             prop_assert_eq!(p(Column::ZsOhm, &text), Ok(Cell::Number(v)));
             let over = format!(">{text}");
-            prop_assert_eq!(p(Column::IrLlMohm, &over), Ok(Cell::OverRange(v)));
+            if v > 0.0 {
+                prop_assert_eq!(p(Column::IrLlMohm, &over), Ok(Cell::OverRange(v)));
+            } else {
+                prop_assert!(p(Column::IrLlMohm, &over).is_err());
+            }
+        }
+
+        #[test]
+        fn readings_past_their_range_are_refused(v in 0.0f64..1.0e9) {
+            let text = format_number(v);
+            prop_assert_eq!(p(Column::ZsOhm, &text).is_ok(), v <= MAX_OHMS);
+            prop_assert_eq!(p(Column::IrLeMohm, &text).is_ok(), v <= MAX_MEGOHMS);
+            prop_assert_eq!(p(Column::RcdMs, &text).is_ok(), v <= MAX_MILLIS);
+        }
+
+        #[test]
+        fn control_characters_are_refused_except_tab_and_line_breaks(s in any::<String>()) {
+            let bad = s.chars().any(|c| c.is_control() && !matches!(c, '\t' | '\n' | '\r'));
+            if bad {
+                let is_control_error = matches!(
+                    parse_cell(Column::Note, &s, &opts()),
+                    Err(CellError::Control { .. }) | Err(CellError::TooLong(_))
+                );
+                prop_assert!(is_control_error);
+            }
         }
 
         #[test]

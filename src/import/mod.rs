@@ -960,6 +960,18 @@ impl Importer<'_> {
     fn apply_observation(&mut self, row: &ObservationRow) -> RowResult<Effect> {
         let s = self.store;
         let mut eff = Effect::default();
+        // An observation belongs to a property's inspection: it never adds a property.
+        if !self.cache.properties.contains_key(&row.property_ref)
+            && s.ingest_property(&row.property_ref)?.is_none()
+        {
+            return fault(
+                Column::PropertyRef,
+                format!(
+                    "property {:?} not found: import its visit file first",
+                    row.property_ref
+                ),
+            );
+        }
         let p = self.cache.property(s, &row.property_ref, None, &mut eff)?;
         let property_id = p.id;
         let blank = IngestVisit {
