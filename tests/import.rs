@@ -540,3 +540,49 @@ fn two_processes_import_into_one_database_at_once() {
     assert_eq!(count(&db, "property"), 600);
     assert_eq!(count(&db, "test_record"), 12_000);
 }
+
+/// `1`, `01` and `1.0` are one circuit; two circuits stored before numbers were read this way
+/// (`1` and `01`) make a row for either ambiguous, and it is refused rather than guessed.
+#[test]
+fn circuit_numbers_written_differently_are_one_circuit() {
+    let dir = TempDir::new().unwrap();
+    let db = dir.path().join("t.db");
+    let file = dir.path().join("v.csv");
+    std::fs::write(
+        &file,
+        "property_ref,board,circuit,visit_date,r1r2_ohm\n\
+         N-1,DB1,01,2020-03-01,0.41\nN-1,DB1,1.0,2022-03-01,0.43\nN-1,DB1,1,2024-03-01,0.42\n\
+         N-1,DB1,010,2024-03-01,0.9\n",
+    )
+    .unwrap();
+    bin(&db).arg("import").arg(&file).assert().success();
+    let store = Store::open(&db).unwrap();
+    let c = store.find_circuit("N-1", "DB1", "1").unwrap();
+    assert_eq!(store.circuit_records(c.id).unwrap().len(), 3);
+    assert!(store.find_circuit("N-1", "DB1", "10").is_ok());
+    assert!(store.find_circuit("N-1", "DB1", "01").is_err());
+    let board = c.board_id;
+    drop(store);
+
+    // A circuit stored as "01" before numbers were normalised, beside "1".
+    rusqlite::Connection::open(&db)
+        .unwrap()
+        .execute(
+            "INSERT INTO circuit (board_id, number) VALUES (?1, '01')",
+            [board],
+        )
+        .unwrap();
+    let again = dir.path().join("w.csv");
+    std::fs::write(
+        &again,
+        "property_ref,board,circuit,visit_date,r1r2_ohm\nN-1,DB1,1,2025-03-01,0.44\n",
+    )
+    .unwrap();
+    let out = bin(&db).arg("import").arg(&again).output().unwrap();
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert_eq!(out.status.code(), Some(1), "{err}");
+    assert!(
+        err.contains("could be any of the stored circuits \"1\", \"01\""),
+        "{err}"
+    );
+}

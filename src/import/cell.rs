@@ -363,6 +363,9 @@ pub fn parse_cell(column: Column, text: &str, opts: &ParseOptions) -> Result<Cel
         if is_missing_mark(t) {
             return Err(CellError::MarkAsKey(t.to_string()));
         }
+        if column == Column::Circuit {
+            return Ok(Cell::Text(normalise_circuit(t)));
+        }
         return Ok(Cell::Text(t.to_string()));
     }
     if is_missing_mark(t) {
@@ -680,6 +683,26 @@ pub fn parse_date(t: &str, today: NaiveDate) -> Result<NaiveDate, CellError> {
     Ok(date)
 }
 
+/// A circuit number as stored: a whole number loses its leading zeros and a decimal part of
+/// zeros (`01`, `1.0` and `1` are one circuit, as a spreadsheet may write it any of those
+/// ways); anything else (`1L2`, `2.1`, `A`) is kept as written.
+pub fn normalise_circuit(t: &str) -> String {
+    let whole = match t.split_once('.') {
+        Some((w, frac)) if !frac.is_empty() && frac.bytes().all(|b| b == b'0') => w,
+        Some(_) => return t.to_string(),
+        None => t,
+    };
+    if whole.is_empty() || !whole.bytes().all(|b| b.is_ascii_digit()) {
+        return t.to_string();
+    }
+    let trimmed = whole.trim_start_matches('0');
+    if trimmed.is_empty() {
+        "0".to_string()
+    } else {
+        trimmed.to_string()
+    }
+}
+
 /// The earliest visit date read. Recorded periodic inspection and testing of homes is far
 /// younger than this; an earlier date is a slip (a year of 1899, or 1, from a spreadsheet's
 /// empty date). Common practice, no source.
@@ -888,6 +911,30 @@ mod tests {
             Just("-".to_string()),
             Just("LIM".to_string()),
         ]
+    }
+
+    #[test]
+    fn circuit_numbers_are_one_number_however_written() {
+        for (given, stored) in [
+            ("1", "1"),
+            ("01", "1"),
+            ("001", "1"),
+            ("1.0", "1"),
+            ("01.00", "1"),
+            ("0", "0"),
+            ("00", "0"),
+            ("10", "10"),
+            ("2.1", "2.1"),
+            ("1L2", "1L2"),
+            ("A", "A"),
+            (".0", ".0"),
+            ("1.", "1."),
+        ] {
+            assert_eq!(normalise_circuit(given), stored, "{given}");
+            if given != ".0" {
+                assert_eq!(p(Column::Circuit, given), Ok(Cell::Text(stored.into())));
+            }
+        }
     }
 
     proptest! {

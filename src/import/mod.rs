@@ -20,7 +20,8 @@ use foldhash::{HashMap, HashMapExt, HashSet, HashSetExt};
 use serde::Serialize;
 
 pub use cell::{
-    Cell, CellError, Column, ParseOptions, escape, format_number, parse_cell, unescape,
+    Cell, CellError, Column, ParseOptions, escape, format_number, normalise_circuit, parse_cell,
+    unescape,
 };
 pub use reading::reading_text;
 use reading::{copy_reading, same_reading};
@@ -341,9 +342,12 @@ struct CircuitState {
 struct BoardState {
     id: i64,
     earthing: Option<String>,
-    /// Every circuit in service on the board: read whole when the board is first met, so a
-    /// number missing here is a new circuit.
+    /// Every circuit in service on the board, by its number as import reads it: read whole
+    /// when the board is first met, so a number missing here is a new circuit.
     circuits: HashMap<String, CircuitState>,
+    /// Numbers that two stored circuits share once read as import reads them (`1` and `01`
+    /// stored before numbers were normalised), with the stored numbers: rows cannot say which.
+    ambiguous: HashMap<String, Vec<String>>,
 }
 
 struct VisitState {
@@ -535,7 +539,20 @@ impl Importer<'_> {
             let state = match stored {
                 Some(b) => {
                     let mut circuits = HashMap::new();
+                    let mut ambiguous: HashMap<String, Vec<String>> = HashMap::new();
+                    let mut stored_as: HashMap<String, String> = HashMap::new();
                     for (number, id, details, changed) in s.ingest_board_circuits(b.id)? {
+                        let key = normalise_circuit(&number);
+                        if let Some(other) = stored_as.get(&key) {
+                            let both = ambiguous.entry(key.clone()).or_default();
+                            if both.is_empty() {
+                                both.push(other.clone());
+                            }
+                            both.push(number);
+                            continue;
+                        }
+                        stored_as.insert(key.clone(), number);
+                        let number = key;
                         let changes = if changed {
                             s.ingest_changes(id)?
                         } else {
@@ -554,6 +571,7 @@ impl Importer<'_> {
                         id: b.id,
                         earthing: b.earthing,
                         circuits,
+                        ambiguous,
                     }
                 }
                 None => {
@@ -565,6 +583,7 @@ impl Importer<'_> {
                         id,
                         earthing: e.map(String::from),
                         circuits: HashMap::new(),
+                        ambiguous: HashMap::new(),
                     }
                 }
             };
@@ -596,6 +615,22 @@ impl Importer<'_> {
             }
         }
         let board_id = b.id;
+        if let Some(numbers) = b.ambiguous.get(&row.circuit) {
+            return fault(
+                Column::Circuit,
+                format!(
+                    "circuit {:?} of board {} at {} could be any of the stored circuits {}: circuit numbers are now read as numbers (01 and 1.0 are 1); renumber all but one with `ohmtrail circuit replace`",
+                    row.circuit,
+                    row.board,
+                    row.property_ref,
+                    numbers
+                        .iter()
+                        .map(|n| format!("{n:?}"))
+                        .collect::<Vec<_>>()
+                        .join(", ")
+                ),
+            );
+        }
 
         // Circuit, and whether the row disagrees with the register as it stood on the date.
         let row_details = row_register_details(&row.register);

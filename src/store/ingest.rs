@@ -232,7 +232,7 @@ impl Store {
             "SELECT c.number, c.id, c.description, c.kind, c.live_mm2, c.cpc_mm2, c.length_m,
                     c.device, c.rcd_ma,
                     EXISTS (SELECT 1 FROM circuit_change ch WHERE ch.circuit_id = c.id)
-             FROM circuit c WHERE c.board_id = ?1 AND c.status = 'in_service'",
+             FROM circuit c WHERE c.board_id = ?1 AND c.status = 'in_service' ORDER BY c.id",
         )?;
         let rows = st.query_map([board_id], |r| {
             Ok((r.get(0)?, r.get(1)?, details_at(r, 2)?, r.get(9)?))
