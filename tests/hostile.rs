@@ -758,3 +758,59 @@ fn replace_that_changes_a_visits_details_is_counted() {
     assert!(stdout.contains("details replaced         1"), "{stdout}");
     assert!(!stdout.contains("nothing new"), "{stdout}");
 }
+
+/// Two properties whose report file names coincide (a reference made safe for a file name,
+/// and a reference that is already that safe name) are never written to one file while the
+/// index links both: the portfolio is refused before anything is written, unless the names
+/// differ.
+#[test]
+fn two_properties_never_share_one_report_file() {
+    let dir = TempDir::new().unwrap();
+    let db = dir.path().join("t.db");
+    let first = "a/b/c";
+    let name = ohmtrail::report::property_file_name(first, "html");
+    let second = name
+        .strip_prefix("report-")
+        .and_then(|n| n.strip_suffix(".html"))
+        .unwrap()
+        .to_string();
+    let file = dir.path().join("v.csv");
+    std::fs::write(
+        &file,
+        format!(
+            "property_ref,board,circuit,visit_date,r1r2_ohm\n\
+             \"{first}\",DB1,1,2024-03-01,0.41\n{second},DB1,1,2024-03-01,0.42\n"
+        ),
+    )
+    .unwrap();
+    bin(&db).arg("import").arg(&file).assert().success();
+    let out_dir = dir.path().join("out");
+    std::fs::create_dir(&out_dir).unwrap();
+    let index = out_dir.join("portfolio.html");
+    let shared = ohmtrail::report::property_file_name(&second, "html") == name;
+    if shared {
+        let err = refused(
+            bin(&db).args(["report", "--portfolio", "-o"]).arg(&index),
+            &["would both be written to", &name],
+        );
+        assert!(err.contains("nothing written"), "{err}");
+        assert_eq!(std::fs::read_dir(&out_dir).unwrap().count(), 0);
+    } else {
+        bin(&db)
+            .args(["report", "--portfolio", "-o"])
+            .arg(&index)
+            .assert()
+            .success();
+        let reports = std::fs::read_dir(&out_dir)
+            .unwrap()
+            .filter(|e| {
+                e.as_ref()
+                    .unwrap()
+                    .file_name()
+                    .to_string_lossy()
+                    .starts_with("report-")
+            })
+            .count();
+        assert_eq!(reports, 2);
+    }
+}
