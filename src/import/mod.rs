@@ -615,7 +615,9 @@ impl Importer<'_> {
             }
         }
         let board_id = b.id;
-        if let Some(numbers) = b.ambiguous.get(&row.circuit) {
+        if !b.ambiguous.is_empty()
+            && let Some(numbers) = b.ambiguous.get(&row.circuit)
+        {
             return fault(
                 Column::Circuit,
                 format!(
