@@ -814,3 +814,43 @@ fn two_properties_never_share_one_report_file() {
         assert_eq!(reports, 2);
     }
 }
+
+/// The register commands refuse a control character in text, with its position, as import
+/// does: escape sequences would otherwise reach the terminal of whoever lists the register.
+#[test]
+fn register_commands_refuse_control_characters() {
+    let dir = TempDir::new().unwrap();
+    let db = dir.path().join("t.db");
+    refused(
+        bin(&db).args(["property", "add", "P-\u{1b}[2J1"]),
+        &["property reference has control character U+001B at offset 2"],
+    );
+    bin(&db)
+        .args(["property", "add", "P-1", "--address", "1 Row\u{8}\u{8}X"])
+        .assert()
+        .failure()
+        .stderr(predicates::str::contains(
+            "address has control character U+0008 at offset 5",
+        ));
+    bin(&db).args(["property", "add", "P-1"]).assert().success();
+    refused(
+        bin(&db).args(["board", "add", "P-1", "DB\u{7f}1"]),
+        &["board designation has control character U+007F at offset 2"],
+    );
+    bin(&db)
+        .args(["board", "add", "P-1", "DB1"])
+        .assert()
+        .success();
+    refused(
+        bin(&db).args([
+            "circuit",
+            "add",
+            "P-1",
+            "DB1",
+            "1",
+            "--description",
+            "Lights\u{1b}]0;x\u{7}",
+        ]),
+        &["circuit description has control character U+001B at offset 6"],
+    );
+}

@@ -108,6 +108,7 @@ pub struct CircuitDetails {
 impl CircuitDetails {
     /// Check every given value; the first fault is the error.
     pub fn validate(&self) -> Result<()> {
+        check_text("circuit description", self.description.as_deref())?;
         let bad = |m: String| Err(Error::Invalid(m));
         if let Some(v) = self.live_mm2
             && let Err(m) = validate_csa("live csa", v)
@@ -165,6 +166,23 @@ pub struct VisitSummary {
     pub pfc_ka: Option<f64>,
     pub test_records: i64,
     pub observations: i64,
+}
+
+/// Refuse text holding a control character (NUL, escape, backspace and the like; a tab or a
+/// line break may stay), naming the character and its position: stored, it would reach a
+/// terminal as an escape sequence and HTML as a character it does not allow.
+pub fn check_text(what: &str, text: Option<&str>) -> Result<()> {
+    let Some(text) = text else { return Ok(()) };
+    match text
+        .char_indices()
+        .find(|&(_, c)| c.is_control() && !matches!(c, '\t' | '\n' | '\r'))
+    {
+        Some((offset, c)) => Err(Error::invalid(format!(
+            "{what} has control character U+{:04X} at offset {offset}: remove it",
+            c as u32
+        ))),
+        None => Ok(()),
+    }
 }
 
 /// A file path as the path of a SQLite URI (https://www.sqlite.org/uri.html): every byte but
@@ -609,6 +627,10 @@ impl Store {
         if reference.is_empty() {
             return Err(Error::invalid("property reference is empty"));
         }
+        check_text("property reference", Some(reference))?;
+        check_text("address", p.address.as_deref())?;
+        check_text("client", p.client.as_deref())?;
+        check_text("notes", p.notes.as_deref())?;
         let interval = p
             .interval_months
             .unwrap_or(crate::model::DEFAULT_INTERVAL_MONTHS);
@@ -723,6 +745,8 @@ impl Store {
         if designation.is_empty() {
             return Err(Error::invalid("board designation is empty"));
         }
+        check_text("board designation", Some(designation))?;
+        check_text("board location", b.location.as_deref())?;
         self.atomic(|s| {
             let property = s.property(property_ref)?;
             if s.board_opt(property.id, designation)?.is_some() {
@@ -939,6 +963,7 @@ impl Store {
         d: &CircuitDetails,
         replaces: Option<i64>,
     ) -> Result<Circuit> {
+        check_text("circuit number", Some(number))?;
         if self.circuit_opt(board.id, number)?.is_some() {
             return Err(Error::invalid(format!(
                 "board {:?} already has a circuit {number} in service: choose another number, or retire or replace the existing circuit",
