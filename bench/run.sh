@@ -10,7 +10,7 @@
 #      command is missing);
 #   5. appending to a living history: the earlier four visits of a portfolio into an empty
 #      database, then the newest visit of every property into it, then that file again; per
-#      row against the first import's per row, each the median of three runs;
+#      row against the first import's per row, each the median of five runs;
 #   6. a table on stdout and the same rows in a CSV.
 #
 # Usage: bench/run.sh [--properties N] [--large N] [--report-sizes "A B"] [--no-report]
@@ -34,6 +34,7 @@ report_sizes="1000 100000"
 do_report=1
 append_sizes="2000 16667"
 append_only=0
+append_runs=5
 out="bench/results.csv"
 while [ $# -gt 0 ]; do
     case "$1" in
@@ -194,7 +195,7 @@ for n in $append_sizes; do
     first_rows=$(($(wc -l <"$earlier") - 1))
     new_rows=$(($(wc -l <"$newest") - 1))
     adb="$work/append-$n.db"
-    for i in 1 2 3; do
+    for i in $(seq 1 "$append_runs"); do
         rm -f "$adb" "$adb"-*
         measure "first-$n-run$i" "$bin" --db "$adb" import "$earlier"
         measure "append-$n-run$i" "$bin" --db "$adb" import "$newest"
@@ -206,10 +207,12 @@ for n in $append_sizes; do
     done
     rm -f "$adb" "$adb"-* "$earlier" "$newest"
     for step in first append again; do
-        for i in 1 2 3; do cat "$work/$step-$n-run$i.secs"; echo; done | sort -n | sed -n 2p \
-            | tr -d '\n' >"$work/$step-$n.secs"
-        for i in 1 2 3; do tail -n 1 "$work/$step-$n-run$i.rss"; done | sort -n | tail -n 1 \
-            >"$work/$step-$n.rss"
+        for i in $(seq 1 "$append_runs"); do cat "$work/$step-$n-run$i.secs"; echo; done |
+            sort -n | sed -n "$(((append_runs + 1) / 2))p" | tr -d '\n' >"$work/$step-$n.secs"
+        for i in $(seq 1 "$append_runs"); do tail -n 1 "$work/$step-$n-run$i.rss"; done |
+            sort -n | tail -n 1 >"$work/$step-$n.rss"
+        echo "  $step at $n, every run: $(for i in $(seq 1 "$append_runs"); do
+            printf '%s ' "$(cat "$work/$step-$n-run$i.secs")"; done)s"
     done
     # The anchors scaled to the appended file's rows, so the ratios are per row.
     first_scaled=$(awk -v s="$(secs "first-$n")" -v a="$first_rows" -v b="$new_rows" \
