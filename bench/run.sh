@@ -77,7 +77,8 @@ measure() {
     local name="$1"; shift
     local start end
     start=$(date +%s.%N)
-    if ! /usr/bin/time -f "%M" -o "$work/$name.rss" "$@" >"$work/$name.log" 2>"$work/$name.err"; then
+    if ! /usr/bin/time -f "%U %S
+%M" -o "$work/$name.rss" "$@" >"$work/$name.log" 2>"$work/$name.err"; then
         echo "$name failed:" >&2; tail -n 20 "$work/$name.err" >&2; exit 1
     fi
     end=$(date +%s.%N)
@@ -95,6 +96,8 @@ measure_median() {
     for i in $(seq 1 "$k"); do tail -n 1 "$work/$name-run$i.rss"; done | sort -n | tail -n 1 >"$work/$name.rss"
 }
 secs() { cat "$work/$1.secs"; }
+# CPU seconds (user + system) of a measured step, from the line before its peak RSS.
+cpu() { tail -n 2 "$work/$1.rss" | head -n 1 | awk '{ printf "%.3f", $1 + $2 }'; }
 rss() { tail -n 1 "$work/$1.rss"; }
 
 echo "step,size,ohmtrail_s,ohmtrail_rss_kb,reference,reference_s,reference_rss_kb,ratio,ratio_target,ratio_met,rss_limit_mb,rss_met" >"$out"
@@ -211,6 +214,8 @@ for n in $append_sizes; do
             sort -n | sed -n "$(((append_runs + 1) / 2))p" | tr -d '\n' >"$work/$step-$n.secs"
         for i in $(seq 1 "$append_runs"); do tail -n 1 "$work/$step-$n-run$i.rss"; done |
             sort -n | tail -n 1 >"$work/$step-$n.rss"
+        for i in $(seq 1 "$append_runs"); do cpu "$step-$n-run$i"; echo; done | sort -n |
+            sed -n "$(((append_runs + 1) / 2))p" | tr -d '\n' >"$work/$step-$n.cpu"
         echo "  $step at $n, every run: $(for i in $(seq 1 "$append_runs"); do
             printf '%s ' "$(cat "$work/$step-$n-run$i.secs")"; done)s"
     done
@@ -223,6 +228,12 @@ for n in $append_sizes; do
         "$(awk -v f="$(secs "first-$n")" -v a="$first_rows" -v p="$(secs "append-$n")" \
             -v q="$(secs "again-$n")" -v b="$new_rows" \
             'BEGIN { printf "first %.2f, append %.2f, again %.2f", f * 1e6 / a, p * 1e6 / b, q * 1e6 / b }')"
+    # CPU time as well: on a shared machine the wall clock also holds waits for the disk
+    # (the commit's and checkpoint's fsyncs, a fixed cost a file) and for a core.
+    echo "  CPU seconds (median): first $(cat "$work/first-$n.cpu"), append $(cat "$work/append-$n.cpu")," \
+        "again $(cat "$work/again-$n.cpu"); CPU a row, append / first:" \
+        "$(awk -v f="$(cat "$work/first-$n.cpu")" -v a="$first_rows" -v p="$(cat "$work/append-$n.cpu")" \
+            -v b="$new_rows" 'BEGIN { printf "%.2f", (p / b) / (f / a) }')"
     record append "$stored" "$(secs "append-$n")" "$(rss "append-$n")" "first import/row" \
         "$first_scaled" "$(rss "first-$n")" 1.2 100
     record again "$stored" "$(secs "again-$n")" "$(rss "again-$n")" "append/row" \

@@ -1211,6 +1211,8 @@ impl Lines {
 
 /// Rows per batch handed from the reading thread to the writing one.
 const BATCH_ROWS: usize = 1024;
+/// Rows in the first batch; each next one is twice as large, up to [`BATCH_ROWS`].
+const FIRST_BATCH_ROWS: usize = 32;
 /// A batch also ends once its rows hold this many bytes, and a reused record that grew past
 /// [`cell::MAX_CELL_BYTES`] is dropped, so that long rows cannot multiply the memory held.
 const BATCH_BYTES: usize = 1 << 20;
@@ -1259,6 +1261,10 @@ fn read_rows(
     full: &mpsc::SyncSender<ReadResult>,
     free: &mpsc::Receiver<Batch>,
 ) {
+    // The writer waits for the first batch, so the first ones are small and the size grows
+    // to BATCH_ROWS: a short file (one visit of a portfolio) spends less of its time with one
+    // thread waiting for the other to fill the pipeline.
+    let mut rows_wanted = FIRST_BATCH_ROWS;
     loop {
         let mut batch = match free.try_recv() {
             Ok(mut b) => {
@@ -1272,7 +1278,7 @@ fn read_rows(
         };
         let mut done = false;
         let mut bytes = 0;
-        while batch.rows.len() < BATCH_ROWS && bytes < BATCH_BYTES {
+        while batch.rows.len() < rows_wanted && bytes < BATCH_BYTES {
             let i = batch.rows.len();
             if batch.records.len() == i {
                 batch.records.push(csv::ByteRecord::new());
@@ -1310,6 +1316,7 @@ fn read_rows(
             };
             batch.rows.push(Item { line, byte, parsed });
         }
+        rows_wanted = (rows_wanted * 2).min(BATCH_ROWS);
         if !batch.rows.is_empty() && full.send(Ok(batch)).is_err() {
             return;
         }
