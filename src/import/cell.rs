@@ -3,6 +3,8 @@
 
 use std::fmt;
 
+use std::borrow::Cow;
+
 use chrono::{Datelike, NaiveDate};
 
 use crate::model::{
@@ -364,7 +366,7 @@ pub fn parse_cell(column: Column, text: &str, opts: &ParseOptions) -> Result<Cel
             return Err(CellError::MarkAsKey(t.to_string()));
         }
         if column == Column::Circuit {
-            return Ok(Cell::Text(normalise_circuit(t)));
+            return Ok(Cell::Text(normalise_circuit(t).into_owned()));
         }
         return Ok(Cell::Text(t.to_string()));
     }
@@ -686,20 +688,21 @@ pub fn parse_date(t: &str, today: NaiveDate) -> Result<NaiveDate, CellError> {
 /// A circuit number as stored: a whole number loses its leading zeros and a decimal part of
 /// zeros (`01`, `1.0` and `1` are one circuit, as a spreadsheet may write it any of those
 /// ways); anything else (`1L2`, `2.1`, `A`) is kept as written.
-pub fn normalise_circuit(t: &str) -> String {
+pub fn normalise_circuit(t: &str) -> Cow<'_, str> {
     let whole = match t.split_once('.') {
         Some((w, frac)) if !frac.is_empty() && frac.bytes().all(|b| b == b'0') => w,
-        Some(_) => return t.to_string(),
+        Some(_) => return Cow::Borrowed(t),
         None => t,
     };
     if whole.is_empty() || !whole.bytes().all(|b| b.is_ascii_digit()) {
-        return t.to_string();
+        return Cow::Borrowed(t);
     }
     let trimmed = whole.trim_start_matches('0');
-    if trimmed.is_empty() {
-        "0".to_string()
+    let normal = if trimmed.is_empty() { "0" } else { trimmed };
+    if normal == t {
+        Cow::Borrowed(t)
     } else {
-        trimmed.to_string()
+        Cow::Owned(normal.to_string())
     }
 }
 

@@ -8,6 +8,7 @@ pub mod cell;
 mod reading;
 pub mod row;
 
+use std::borrow::Cow;
 use std::collections::VecDeque;
 use std::fs::File;
 use std::io::{BufRead, BufReader, Read};
@@ -538,20 +539,32 @@ impl Importer<'_> {
             };
             let state = match stored {
                 Some(b) => {
-                    let mut circuits = HashMap::new();
+                    let rows = s.ingest_board_circuits(b.id)?;
+                    let mut circuits = HashMap::with_capacity(rows.len());
                     let mut ambiguous: HashMap<String, Vec<String>> = HashMap::new();
-                    let mut stored_as: HashMap<String, String> = HashMap::new();
-                    for (number, id, details, changed) in s.ingest_board_circuits(b.id)? {
-                        let key = normalise_circuit(&number);
-                        if let Some(other) = stored_as.get(&key) {
+                    // Stored numbers that read differently (stored before numbers were
+                    // normalised), by how they read now: rare, so only those are kept.
+                    let mut unusual: HashMap<String, String> = HashMap::new();
+                    for (number, id, details, changed) in rows {
+                        let normal = match normalise_circuit(&number) {
+                            Cow::Borrowed(_) => None,
+                            Cow::Owned(k) => Some(k),
+                        };
+                        let (key, original) = match normal {
+                            None => (number, None),
+                            Some(k) => (k, Some(number)),
+                        };
+                        if circuits.contains_key(&key) {
                             let both = ambiguous.entry(key.clone()).or_default();
                             if both.is_empty() {
-                                both.push(other.clone());
+                                both.push(unusual.get(&key).unwrap_or(&key).clone());
                             }
-                            both.push(number);
+                            both.push(original.unwrap_or_else(|| key.clone()));
                             continue;
                         }
-                        stored_as.insert(key.clone(), number);
+                        if let Some(o) = original {
+                            unusual.insert(key.clone(), o);
+                        }
                         let number = key;
                         let changes = if changed {
                             s.ingest_changes(id)?
