@@ -8,12 +8,19 @@
 #   4. `ohmtrail report PROPERTY -o FILE` for one property (30 circuits x 10 visits) in
 #      portfolios of 1,000 and 100,000 properties, the median of seven runs (skipped while the
 #      command is missing);
-#   5. a table on stdout and the same rows in a CSV.
+#   5. appending to a living history: the earlier four visits of a portfolio into an empty
+#      database, then the newest visit of every property into it, then that file again; per
+#      row against the first import's per row, each the median of five runs;
+#   6. a table on stdout and the same rows in a CSV.
 #
-# Usage: bench/run.sh [--properties N] [--large N] [--report-sizes "A B"] [--no-report] [--out FILE]
+# Usage: bench/run.sh [--properties N] [--large N] [--report-sizes "A B"] [--no-report]
+#                     [--append-sizes "A B"] [--append-only] [--out FILE]
 #   --properties N      portfolio size for steps 1-3 (default 10000 = 120,000 circuits)
 #   --large N           also run step 3 at N properties (84000 is about 1,000,000 circuits)
 #   --report-sizes "A B"  portfolio sizes for step 4 (default "1000 100000")
+#   --append-sizes "A B"  portfolio sizes for step 5, in properties (default "2000 16667": about
+#                       120,000 and 1,000,000 stored records after the append; "" skips it)
+#   --append-only       run step 5 alone
 #   --out FILE          the CSV (default bench/results.csv)
 # Installs Debian's sqlite3 and time packages and DuckDB's Python package when missing.
 # Timings are wall-clock seconds of one run each (step 4: the median); the machine is shared,
@@ -25,6 +32,9 @@ props=10000
 large=""
 report_sizes="1000 100000"
 do_report=1
+append_sizes="2000 16667"
+append_only=0
+append_runs=5
 out="bench/results.csv"
 while [ $# -gt 0 ]; do
     case "$1" in
@@ -32,8 +42,10 @@ while [ $# -gt 0 ]; do
         --large) large="$2"; shift 2 ;;
         --report-sizes) report_sizes="$2"; shift 2 ;;
         --no-report) do_report=0; shift ;;
+        --append-sizes) append_sizes="$2"; shift 2 ;;
+        --append-only) append_only=1; shift ;;
         --out) out="$2"; shift 2 ;;
-        -h|--help) sed -n '2,20p' "$0"; exit 0 ;;
+        -h|--help) sed -n '2,27p' "$0"; exit 0 ;;
         *) echo "unknown option $1 (see --help)" >&2; exit 2 ;;
     esac
 done
@@ -46,9 +58,9 @@ need_deb() { # command package
     if [ "$apt_updated" -eq 0 ]; then as_root apt-get update -qq; apt_updated=1; fi
     as_root apt-get install -y -qq "$2" >/dev/null
 }
-need_deb sqlite3 sqlite3
 [ -x /usr/bin/time ] || { need_deb /usr/bin/time time; }
-if ! python3 -c 'import duckdb' 2>/dev/null; then
+[ "$append_only" -eq 1 ] || need_deb sqlite3 sqlite3
+if [ "$append_only" -eq 0 ] && ! python3 -c 'import duckdb' 2>/dev/null; then
     echo "installing DuckDB's Python package for the benchmark" >&2
     python3 -m pip install --quiet duckdb
 fi
@@ -65,7 +77,8 @@ measure() {
     local name="$1"; shift
     local start end
     start=$(date +%s.%N)
-    if ! /usr/bin/time -f "%M" -o "$work/$name.rss" "$@" >"$work/$name.log" 2>"$work/$name.err"; then
+    if ! /usr/bin/time -f "%U %S
+%M" -o "$work/$name.rss" "$@" >"$work/$name.log" 2>"$work/$name.err"; then
         echo "$name failed:" >&2; tail -n 20 "$work/$name.err" >&2; exit 1
     fi
     end=$(date +%s.%N)
@@ -83,6 +96,8 @@ measure_median() {
     for i in $(seq 1 "$k"); do tail -n 1 "$work/$name-run$i.rss"; done | sort -n | tail -n 1 >"$work/$name.rss"
 }
 secs() { cat "$work/$1.secs"; }
+# CPU seconds (user + system) of a measured step, from the line before its peak RSS.
+cpu() { tail -n 2 "$work/$1.rss" | head -n 1 | awk '{ printf "%.3f", $1 + $2 }'; }
 rss() { tail -n 1 "$work/$1.rss"; }
 
 echo "step,size,ohmtrail_s,ohmtrail_rss_kb,reference,reference_s,reference_rss_kb,ratio,ratio_target,ratio_met,rss_limit_mb,rss_met" >"$out"
@@ -108,6 +123,7 @@ portfolio() { # PROPERTIES -> path of the generated file
     echo "$f"
 }
 
+if [ "$append_only" -eq 0 ]; then
 # Steps 1 and 2.
 file=$(portfolio "$props")
 rows=$(($(wc -l <"$file") - 1))
@@ -170,6 +186,59 @@ if [ "$do_report" -eq 1 ]; then
         done
     fi
 fi
+fi # append_only
+
+# Step 5. The first import of the earlier visits is the anchor: appending the newest visit of
+# every property should cost no more per row (target 1.2), and importing that file again, when
+# every row is already stored, no more per row than importing it did (target 1.0).
+for n in $append_sizes; do
+    earlier="$work/history-$n.csv"
+    newest="$work/history-$n.newest.csv"
+    "$gen" "$n" "$earlier" 12 5 SMP --newest-apart
+    first_rows=$(($(wc -l <"$earlier") - 1))
+    new_rows=$(($(wc -l <"$newest") - 1))
+    adb="$work/append-$n.db"
+    for i in $(seq 1 "$append_runs"); do
+        rm -f "$adb" "$adb"-*
+        measure "first-$n-run$i" "$bin" --db "$adb" import "$earlier"
+        measure "append-$n-run$i" "$bin" --db "$adb" import "$newest"
+        grep -q "test records written *$new_rows" "$work/append-$n-run$i.log" ||
+            { echo "append at $n did not write $new_rows records" >&2; exit 1; }
+        measure "again-$n-run$i" "$bin" --db "$adb" import "$newest"
+        grep -q "test records unchanged *$new_rows" "$work/again-$n-run$i.log" ||
+            { echo "re-import at $n did not find $new_rows records unchanged" >&2; exit 1; }
+    done
+    rm -f "$adb" "$adb"-* "$earlier" "$newest"
+    for step in first append again; do
+        for i in $(seq 1 "$append_runs"); do cat "$work/$step-$n-run$i.secs"; echo; done |
+            sort -n | sed -n "$(((append_runs + 1) / 2))p" | tr -d '\n' >"$work/$step-$n.secs"
+        for i in $(seq 1 "$append_runs"); do tail -n 1 "$work/$step-$n-run$i.rss"; done |
+            sort -n | tail -n 1 >"$work/$step-$n.rss"
+        for i in $(seq 1 "$append_runs"); do cpu "$step-$n-run$i"; echo; done | sort -n |
+            sed -n "$(((append_runs + 1) / 2))p" | tr -d '\n' >"$work/$step-$n.cpu"
+        echo "  $step at $n, every run: $(for i in $(seq 1 "$append_runs"); do
+            printf '%s ' "$(cat "$work/$step-$n-run$i.secs")"; done)s"
+    done
+    # The anchors scaled to the appended file's rows, so the ratios are per row.
+    first_scaled=$(awk -v s="$(secs "first-$n")" -v a="$first_rows" -v b="$new_rows" \
+        'BEGIN { printf "%.3f", s * b / a }')
+    stored=$((first_rows + new_rows))
+    echo "append at $stored stored records: first import $first_rows rows $(secs "first-$n") s," \
+        "append $new_rows rows $(secs "append-$n") s, again $(secs "again-$n") s; µs a row:" \
+        "$(awk -v f="$(secs "first-$n")" -v a="$first_rows" -v p="$(secs "append-$n")" \
+            -v q="$(secs "again-$n")" -v b="$new_rows" \
+            'BEGIN { printf "first %.2f, append %.2f, again %.2f", f * 1e6 / a, p * 1e6 / b, q * 1e6 / b }')"
+    # CPU time as well: on a shared machine the wall clock also holds waits for the disk
+    # (the commit's and checkpoint's fsyncs, a fixed cost a file) and for a core.
+    echo "  CPU seconds (median): first $(cat "$work/first-$n.cpu"), append $(cat "$work/append-$n.cpu")," \
+        "again $(cat "$work/again-$n.cpu"); CPU a row, append / first:" \
+        "$(awk -v f="$(cat "$work/first-$n.cpu")" -v a="$first_rows" -v p="$(cat "$work/append-$n.cpu")" \
+            -v b="$new_rows" 'BEGIN { printf "%.2f", (p / b) / (f / a) }')"
+    record append "$stored" "$(secs "append-$n")" "$(rss "append-$n")" "first import/row" \
+        "$first_scaled" "$(rss "first-$n")" 1.2 100
+    record again "$stored" "$(secs "again-$n")" "$(rss "again-$n")" "append/row" \
+        "$(secs "append-$n")" "$(rss "append-$n")" 1.0 100
+done
 
 echo
 echo "machine: $(nproc) cores, $(lscpu | sed -n 's/^Model name: *//p' | head -n 1)"

@@ -4,6 +4,9 @@
 //! circuits repeat the 12 kinds; other than 5 visits (at most 10, so none is in the future)
 //! fall two years apart from 2005.
 //! The same arguments always give the same file (fixed seed).
+//! With `--newest-apart` as the last argument, the newest visit of every property goes to a
+//! second file beside OUT.csv, named with `.newest.csv` in place of `.csv`, and OUT.csv holds the
+//! earlier visits: the two files together hold the same rows as the one file without it.
 
 use std::fs::File;
 use std::io::{BufWriter, Write};
@@ -57,7 +60,11 @@ const VISIT_DATES: [&str; 5] = [
 ];
 
 fn main() -> std::io::Result<()> {
-    let args: Vec<String> = std::env::args().collect();
+    let mut args: Vec<String> = std::env::args().collect();
+    let newest_apart = args.last().is_some_and(|a| a == "--newest-apart");
+    if newest_apart {
+        args.pop();
+    }
     let number = |i: usize, default: usize| match args.get(i) {
         None => Some(default),
         Some(s) => s.parse::<usize>().ok().filter(|n| *n > 0),
@@ -69,7 +76,9 @@ fn main() -> std::io::Result<()> {
         number(3, 12),
         number(4, 5).filter(|v| visits_ok(*v)),
     ) else {
-        eprintln!("usage: gen_portfolio PROPERTIES OUT.csv [CIRCUITS VISITS PREFIX]");
+        eprintln!(
+            "usage: gen_portfolio PROPERTIES OUT.csv [CIRCUITS VISITS PREFIX] [--newest-apart]"
+        );
         std::process::exit(2);
     };
     let prefix = args.get(5).map(String::as_str).unwrap_or("SMP");
@@ -83,6 +92,14 @@ fn main() -> std::io::Result<()> {
     let mut rng = ChaCha8Rng::seed_from_u64(7);
     let mut w = BufWriter::with_capacity(1 << 20, File::create(out)?);
     writeln!(w, "{HEADER}")?;
+    let mut newest = if newest_apart {
+        let path = format!("{}.newest.csv", out.strip_suffix(".csv").unwrap_or(out));
+        let mut n = BufWriter::with_capacity(1 << 20, File::create(path)?);
+        writeln!(n, "{HEADER}")?;
+        Some(n)
+    } else {
+        None
+    };
     for p in 0..n {
         // Two in three homes on a PME supply, the rest on the supplier's cable sheath.
         let (earthing, ze_base) = if p % 3 == 2 {
@@ -109,6 +126,10 @@ fn main() -> std::io::Result<()> {
             let heat =
                 ohmtrail::limits::temperature_factor(ambient).expect("an ambient from 5 to 25 °C");
             let ze = ze_base * rng.random_range(0.97..1.03);
+            let w: &mut BufWriter<File> = match newest.as_mut() {
+                Some(n) if v + 1 == dates.len() => n,
+                _ => &mut w,
+            };
             for (c, &(length, rcd, story)) in plan.iter().enumerate() {
                 let (desc, ring, device, live, cpc, _, _) = CIRCUITS[c % CIRCUITS.len()];
                 let (rl, rc) = (copper_mohm_per_m(live), copper_mohm_per_m(cpc));
@@ -139,6 +160,9 @@ fn main() -> std::io::Result<()> {
                 )?;
             }
         }
+    }
+    if let Some(mut n) = newest {
+        n.flush()?;
     }
     w.flush()
 }

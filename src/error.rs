@@ -40,6 +40,12 @@ pub enum Error {
     )]
     NotADatabase { path: PathBuf },
 
+    /// A SQLite database that another program made; it is left untouched.
+    #[error(
+        "{path} is a SQLite database that ohmtrail did not make ({what}); it has been left untouched: give --db a new file, or an ohmtrail database"
+    )]
+    ForeignDatabase { path: PathBuf, what: String },
+
     /// The database could not grow: the disk, or a size cap, is full.
     #[error(
         "database {path} is full (database or disk is full): free some disk space, then try again"

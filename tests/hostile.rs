@@ -374,3 +374,484 @@ fn a_report_to_a_path_that_cannot_be_written_is_a_clear_error() {
     assert_eq!(std::fs::read_dir(&a_dir).unwrap().count(), 0);
     assert_eq!(before, std::fs::read(&db).unwrap());
 }
+
+/// Make a special file in `dir` with the system's own tool (`mkfifo`, or `mknod NAME c MAJOR
+/// MINOR` for a character device, which needs root); `None` when the tool refuses.
+fn special(dir: &TempDir, name: &str, tool: &str, args: &[&str]) -> Option<PathBuf> {
+    let path = dir.path().join(name);
+    let ok = std::process::Command::new(tool)
+        .arg(&path)
+        .args(args)
+        .status()
+        .is_ok_and(|s| s.success());
+    ok.then_some(path)
+}
+
+fn is_fifo(path: &Path) -> bool {
+    use std::os::unix::fs::FileTypeExt;
+    std::fs::metadata(path).is_ok_and(|m| m.file_type().is_fifo())
+}
+
+fn is_char_device(path: &Path) -> bool {
+    use std::os::unix::fs::FileTypeExt;
+    std::fs::metadata(path).is_ok_and(|m| m.file_type().is_char_device())
+}
+
+/// Output to a pipe is written into the pipe, never renamed over it; the portfolio, whose
+/// property reports go beside the index, is refused there.
+#[test]
+fn output_to_a_pipe_streams_into_it_and_leaves_it_a_pipe() {
+    let dir = TempDir::new().unwrap();
+    let (db, _) = seeded(&dir);
+    let fifo = special(&dir, "out.fifo", "mkfifo", &[]).expect("mkfifo");
+    let cases: [(&[&str], &str); 3] = [
+        (&["export", "-o"], "property_ref,address,board"),
+        (&["export", "--format", "json", "-o"], "\"visits\""),
+        (&["report", "A-0000", "-o"], "<html"),
+    ];
+    for (args, expected) in cases {
+        // The reader waits for a writer; it is started first so the writer does not wait.
+        let reader = std::process::Command::new("cat")
+            .arg(&fifo)
+            .stdout(std::process::Stdio::piped())
+            .spawn()
+            .unwrap();
+        let out = bin(&db).args(args).arg(&fifo).output().unwrap();
+        let still_fifo = is_fifo(&fifo);
+        if !still_fifo {
+            let mut reader = reader;
+            let _ = reader.kill();
+            let _ = reader.wait();
+            panic!(
+                "{args:?} replaced the pipe; stderr: {}",
+                String::from_utf8_lossy(&out.stderr)
+            );
+        }
+        assert!(out.status.success(), "{args:?}: {out:?}");
+        let read = reader.wait_with_output().unwrap();
+        let text = String::from_utf8_lossy(&read.stdout);
+        assert!(text.contains(expected), "{args:?}: {text:.200}");
+    }
+    refused(
+        bin(&db).args(["report", "--portfolio", "-o"]).arg(&fifo),
+        &["not a regular file", "--index-only"],
+    );
+    assert!(is_fifo(&fifo));
+    let names: Vec<_> = std::fs::read_dir(dir.path())
+        .unwrap()
+        .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+        .collect();
+    assert!(!names.iter().any(|n| n.starts_with("report-")), "{names:?}");
+}
+
+/// A device that is always full (the kernel's `full` device, made here with `mknod`, so the
+/// real one is never at risk) must give "no space", not "wrote"; the null device takes the
+/// output and stays a device. Needs root for `mknod`; skipped, saying so, without it.
+#[test]
+fn output_to_a_device_is_written_into_it_and_a_full_one_is_an_error() {
+    let dir = TempDir::new().unwrap();
+    let (db, _) = seeded(&dir);
+    // Linux's memory devices: 1,3 is null and 1,7 is full (the kernel's devices.txt).
+    let (Some(full), Some(null)) = (
+        special(&dir, "full", "mknod", &["c", "1", "7"]),
+        special(&dir, "null", "mknod", &["c", "1", "3"]),
+    ) else {
+        eprintln!("skipped: mknod needs root here");
+        return;
+    };
+    for args in [
+        &["export", "-o"][..],
+        &["export", "--format", "json", "-o"][..],
+        &["report", "A-0000", "-o"][..],
+    ] {
+        let err = refused(bin(&db).args(args).arg(&full), &["No space left"]);
+        assert!(!err.contains("wrote"), "{err}");
+        assert!(is_char_device(&full), "{args:?} replaced the device");
+        let out = bin(&db).args(args).arg(&null).output().unwrap();
+        assert!(out.status.success(), "{args:?}: {out:?}");
+        assert!(is_char_device(&null), "{args:?} replaced the device");
+    }
+}
+
+/// `record` refuses a register change dated before a visit already recorded, as import does:
+/// it would alter what that later visit shows, and export could not give it back.
+#[test]
+fn record_refuses_a_change_that_would_rewrite_a_later_visit() {
+    let dir = TempDir::new().unwrap();
+    let (db, _) = seeded(&dir);
+    let changes = |db: &Path| {
+        let s = Store::open(db).unwrap();
+        s.row_counts()
+            .unwrap()
+            .into_iter()
+            .find(|(t, _)| *t == "circuit_change")
+            .unwrap()
+            .1
+    };
+    let out = bin(&db)
+        .args(["record", "A-0001", "--date", "2022-05-01", "--temp", "20"])
+        .write_stdin("DB1,1,device,B20\n")
+        .output()
+        .unwrap();
+    let text = format!(
+        "{}{}",
+        String::from_utf8_lossy(&out.stdout),
+        String::from_utf8_lossy(&out.stderr)
+    );
+    assert!(!out.status.success(), "{text}");
+    assert!(text.contains("later visit (2024-03-01)"), "{text}");
+    assert_eq!(changes(&db), 0);
+    // Every exported row of the property still shows the device it was tested with.
+    let export = bin(&db)
+        .args(["export", "--property", "A-0001"])
+        .output()
+        .unwrap();
+    let csv = String::from_utf8(export.stdout).unwrap();
+    assert!(csv.lines().skip(1).all(|l| l.contains(",B16,")), "{csv}");
+
+    // After the latest visit, the same change is the latest word and is recorded.
+    bin(&db)
+        .args(["record", "A-0001", "--abandon"])
+        .assert()
+        .success();
+    bin(&db)
+        .args(["record", "A-0001", "--date", "2025-01-10", "--temp", "20"])
+        .write_stdin("DB1,1,device,B20\nDB1,1,r1r2_ohm,0.15\n")
+        .assert()
+        .success();
+    assert_eq!(changes(&db), 1);
+}
+
+/// Two rows of one file that give one visit, one Ze or one record two values are refused even
+/// with --replace, which overwrites what is stored, not what the same file says twice.
+#[test]
+fn a_file_that_contradicts_itself_is_refused_even_with_replace() {
+    let dir = TempDir::new().unwrap();
+    let (db, _) = seeded(&dir);
+    let before = dump(&db);
+    let bad = Path::new(env!("CARGO_MANIFEST_DIR")).join("fixtures/bad");
+    for (file, needle) in [
+        ("visit_details_conflict_in_file.csv", "inspector"),
+        ("ze_conflict_in_file.csv", "ze_ohm"),
+        ("duplicate_row_conflict.csv", "r1r2_ohm"),
+    ] {
+        let out = bin(&db)
+            .args(["import", "--replace"])
+            .arg(bad.join(file))
+            .output()
+            .unwrap();
+        let err = String::from_utf8_lossy(&out.stderr);
+        assert_eq!(out.status.code(), Some(1), "{file}: {err}");
+        assert!(
+            err.contains(needle) && err.contains("an earlier row of this file"),
+            "{err}"
+        );
+    }
+    assert_eq!(before, dump(&db));
+}
+
+/// A SQLite file that another program made is refused by every command, byte for byte
+/// untouched (not even switched to WAL), with a short message, including when its tables
+/// share names with ohmtrail's.
+#[test]
+fn another_programs_database_is_refused_untouched() {
+    let dir = TempDir::new().unwrap();
+    let a = dir.path().join("a.csv");
+    visits(&a, "A", 1);
+    for (name, sql) in [
+        (
+            "shop.db",
+            "CREATE TABLE customer (id INTEGER PRIMARY KEY, name TEXT);",
+        ),
+        (
+            "clash.db",
+            "CREATE TABLE property (id INTEGER PRIMARY KEY, owner TEXT, price REAL);",
+        ),
+        ("marked.db", "PRAGMA application_id = 1234;"),
+    ] {
+        let db = dir.path().join(name);
+        let conn = Connection::open(&db).unwrap();
+        conn.execute_batch(sql).unwrap();
+        conn.execute_batch(
+            "CREATE TABLE IF NOT EXISTS note (t TEXT); INSERT INTO note VALUES ('kept');",
+        )
+        .unwrap();
+        drop(conn);
+        let before = std::fs::read(&db).unwrap();
+        for args in [
+            &["import", a.to_str().unwrap()][..],
+            &["property", "list"][..],
+            &["flags"][..],
+        ] {
+            let err = refused(
+                bin(&db).args(args),
+                &[
+                    db.to_str().unwrap(),
+                    "ohmtrail did not make",
+                    "left untouched",
+                ],
+            );
+            assert!(err.len() < 400, "{err}");
+            assert_eq!(before, std::fs::read(&db).unwrap(), "{name} {args:?}");
+            assert!(!dir.path().join(format!("{name}-wal")).exists());
+        }
+    }
+}
+
+/// A database ohmtrail made before it marked its files is still opened, and marked.
+#[test]
+fn an_unmarked_ohmtrail_database_from_before_the_mark_is_opened_and_marked() {
+    let dir = TempDir::new().unwrap();
+    let db = dir.path().join("old.db");
+    let mut conn = Connection::open(&db).unwrap();
+    let tx = conn.transaction().unwrap();
+    for (_, sql) in &ohmtrail::store::migrate::MIGRATIONS[..5] {
+        tx.execute_batch(sql).unwrap();
+    }
+    tx.pragma_update(None, "user_version", 5).unwrap();
+    tx.commit().unwrap();
+    drop(conn);
+    bin(&db).args(["property", "list"]).assert().success();
+    let id: i32 = Connection::open(&db)
+        .unwrap()
+        .query_row("PRAGMA application_id", [], |r| r.get(0))
+        .unwrap();
+    assert_eq!(id, ohmtrail::store::APPLICATION_ID);
+}
+
+/// Makes a directory unwritable, even for root, with the file system's immutable attribute
+/// (`chattr +i`); undone when dropped, so the temporary directory can be removed.
+struct Immutable(PathBuf);
+
+impl Immutable {
+    fn set(dir: &Path) -> Option<Immutable> {
+        let ok = std::process::Command::new("chattr")
+            .arg("+i")
+            .arg(dir)
+            .status()
+            .is_ok_and(|s| s.success());
+        ok.then(|| Immutable(dir.to_path_buf()))
+    }
+}
+
+impl Drop for Immutable {
+    fn drop(&mut self) {
+        let _ = std::process::Command::new("chattr")
+            .arg("-i")
+            .arg(&self.0)
+            .status();
+    }
+}
+
+/// In a directory that cannot be written, reading commands work (the database is opened
+/// read-only) and writing ones say in words why they cannot. Needs `chattr +i` (root on a
+/// file system that has it); skipped, saying so, without it.
+#[test]
+fn a_read_only_directory_can_be_read_and_writing_is_refused_in_words() {
+    let dir = TempDir::new().unwrap();
+    let inner = dir.path().join("ro");
+    std::fs::create_dir(&inner).unwrap();
+    let db = inner.join("t.db");
+    let a = dir.path().join("a.csv");
+    visits(&a, "A", 2);
+    bin(&db).arg("import").arg(&a).assert().success();
+    let before = std::fs::read(&db).unwrap();
+    let Some(_guard) = Immutable::set(&inner) else {
+        eprintln!("skipped: chattr +i is not available here");
+        return;
+    };
+    let out = bin(&db).args(["property", "list"]).output().unwrap();
+    assert!(out.status.success(), "{out:?}");
+    assert!(String::from_utf8_lossy(&out.stdout).contains("A-0001"));
+    let html = dir.path().join("r.html");
+    let html = html.to_str().unwrap();
+    for args in [
+        &["flags", "--json"][..],
+        &["export"][..],
+        &["report", "A-0000", "-o", html][..],
+    ] {
+        let out = bin(&db).args(args).output().unwrap();
+        assert!(out.status.success(), "{args:?}: {out:?}");
+    }
+    for args in [
+        &["import", a.to_str().unwrap()][..],
+        &["property", "add", "B-1"][..],
+    ] {
+        let err = refused(
+            bin(&db).args(args),
+            &["is read-only", "its directory", "cannot be written"],
+        );
+        assert!(
+            !err.contains("attempt to write a readonly database"),
+            "{err}"
+        );
+    }
+    assert_eq!(before, std::fs::read(&db).unwrap());
+}
+
+/// `--skip-invalid`: the sidecar replaces a symbolic link planted at its name instead of
+/// writing through it, protects text from formula injection as export does, and the summary
+/// counts only the rows written as imported.
+#[test]
+fn skip_invalid_sidecar_is_safe_and_the_summary_counts_what_was_written() {
+    let dir = TempDir::new().unwrap();
+    let (db, _) = seeded(&dir);
+    let file = dir.path().join("mixed.csv");
+    std::fs::write(
+        &file,
+        format!(
+            "{HEADER}\nB-0001,DB1,1,2024-03-01,B16,0.15,0.19,>200,fine\n\
+             B-0001,DB1,2,2024-03-01,B16,bad,0.29,>200,=cmd|' /C calc'!A0\n\
+             B-0001,DB1,3,2024-03-01,B16,0.35,bad,>200,@SUM(1)\n"
+        ),
+    )
+    .unwrap();
+    let victim = dir.path().join("victim.txt");
+    std::fs::write(&victim, "keep me\n").unwrap();
+    let sidecar = dir.path().join("mixed.rejected.csv");
+    std::os::unix::fs::symlink(&victim, &sidecar).unwrap();
+    let out = bin(&db)
+        .args(["import", "--skip-invalid"])
+        .arg(&file)
+        .output()
+        .unwrap();
+    let stdout = String::from_utf8_lossy(&out.stdout);
+    assert!(out.status.success(), "{out:?}");
+    assert_eq!(std::fs::read_to_string(&victim).unwrap(), "keep me\n");
+    assert!(!sidecar.symlink_metadata().unwrap().is_symlink());
+    let side = std::fs::read_to_string(&sidecar).unwrap();
+    assert!(side.contains(",'=cmd|"), "{side}");
+    assert!(side.contains(",'@SUM(1)"), "{side}");
+    assert!(!side.contains(",=cmd"), "{side}");
+    assert!(
+        stdout.contains("imported 1 rows; 2 skipped as invalid"),
+        "{stdout}"
+    );
+    assert!(stdout.contains("rows skipped (invalid)   2"), "{stdout}");
+}
+
+/// `--replace` that changes a stored visit's details says so in the summary, instead of
+/// reporting nothing but an unchanged record.
+#[test]
+fn replace_that_changes_a_visits_details_is_counted() {
+    let dir = TempDir::new().unwrap();
+    let (db, _) = seeded(&dir);
+    let first = dir.path().join("v1.csv");
+    std::fs::write(
+        &first,
+        "property_ref,board,circuit,visit_date,ambient_c,r1r2_ohm\nC-1,DB1,1,2024-03-01,18,0.15\n",
+    )
+    .unwrap();
+    bin(&db).arg("import").arg(&first).assert().success();
+    let second = dir.path().join("v2.csv");
+    std::fs::write(
+        &second,
+        "property_ref,board,circuit,visit_date,ambient_c,r1r2_ohm\nC-1,DB1,1,2024-03-01,22,0.15\n",
+    )
+    .unwrap();
+    let out = bin(&db)
+        .args(["import", "--replace"])
+        .arg(&second)
+        .output()
+        .unwrap();
+    let stdout = String::from_utf8_lossy(&out.stdout);
+    assert!(out.status.success(), "{out:?}");
+    assert!(stdout.contains("details replaced         1"), "{stdout}");
+    assert!(!stdout.contains("nothing new"), "{stdout}");
+}
+
+/// Two properties whose report file names coincide (a reference made safe for a file name,
+/// and a reference that is already that safe name) are never written to one file while the
+/// index links both: the portfolio is refused before anything is written, unless the names
+/// differ.
+#[test]
+fn two_properties_never_share_one_report_file() {
+    let dir = TempDir::new().unwrap();
+    let db = dir.path().join("t.db");
+    let first = "a/b/c";
+    let name = ohmtrail::report::property_file_name(first, "html");
+    let second = name
+        .strip_prefix("report-")
+        .and_then(|n| n.strip_suffix(".html"))
+        .unwrap()
+        .to_string();
+    let file = dir.path().join("v.csv");
+    std::fs::write(
+        &file,
+        format!(
+            "property_ref,board,circuit,visit_date,r1r2_ohm\n\
+             \"{first}\",DB1,1,2024-03-01,0.41\n{second},DB1,1,2024-03-01,0.42\n"
+        ),
+    )
+    .unwrap();
+    bin(&db).arg("import").arg(&file).assert().success();
+    let out_dir = dir.path().join("out");
+    std::fs::create_dir(&out_dir).unwrap();
+    let index = out_dir.join("portfolio.html");
+    let shared = ohmtrail::report::property_file_name(&second, "html") == name;
+    if shared {
+        let err = refused(
+            bin(&db).args(["report", "--portfolio", "-o"]).arg(&index),
+            &["would both be written to", &name],
+        );
+        assert!(err.contains("nothing written"), "{err}");
+        assert_eq!(std::fs::read_dir(&out_dir).unwrap().count(), 0);
+    } else {
+        bin(&db)
+            .args(["report", "--portfolio", "-o"])
+            .arg(&index)
+            .assert()
+            .success();
+        let reports = std::fs::read_dir(&out_dir)
+            .unwrap()
+            .filter(|e| {
+                e.as_ref()
+                    .unwrap()
+                    .file_name()
+                    .to_string_lossy()
+                    .starts_with("report-")
+            })
+            .count();
+        assert_eq!(reports, 2);
+    }
+}
+
+/// The register commands refuse a control character in text, with its position, as import
+/// does: escape sequences would otherwise reach the terminal of whoever lists the register.
+#[test]
+fn register_commands_refuse_control_characters() {
+    let dir = TempDir::new().unwrap();
+    let db = dir.path().join("t.db");
+    refused(
+        bin(&db).args(["property", "add", "P-\u{1b}[2J1"]),
+        &["property reference has control character U+001B at offset 2"],
+    );
+    bin(&db)
+        .args(["property", "add", "P-1", "--address", "1 Row\u{8}\u{8}X"])
+        .assert()
+        .failure()
+        .stderr(predicates::str::contains(
+            "address has control character U+0008 at offset 5",
+        ));
+    bin(&db).args(["property", "add", "P-1"]).assert().success();
+    refused(
+        bin(&db).args(["board", "add", "P-1", "DB\u{7f}1"]),
+        &["board designation has control character U+007F at offset 2"],
+    );
+    bin(&db)
+        .args(["board", "add", "P-1", "DB1"])
+        .assert()
+        .success();
+    refused(
+        bin(&db).args([
+            "circuit",
+            "add",
+            "P-1",
+            "DB1",
+            "1",
+            "--description",
+            "Lights\u{1b}]0;x\u{7}",
+        ]),
+        &["circuit description has control character U+001B at offset 6"],
+    );
+}

@@ -150,8 +150,22 @@ bad! {
         "conflict.csv:2:6: zs_ohm: conflicts with the stored record for SMP-001 DB1/1 on 2024-05-20: stored \"0.724\", file \"0.73\" (pass --replace to overwrite)",
     ];
     conflicting_visit_field: "conflict_inspector.csv" => ["conflict_inspector.csv:2:5: inspector: conflicts with the visit to SMP-001 on 2024-05-20: stored \"C. Leadbetter\", file \"D. Sparkford\" (pass --replace to overwrite)"];
-    duplicate_row_in_one_file: "duplicate_row_conflict.csv" => ["duplicate_row_conflict.csv:3:6: r1r2_ohm: conflicts with the stored record for SMP-009 DB1/1 on 2024-05-20: stored \"0.42\", file \"0.44\" (pass --replace to overwrite)"];
+    duplicate_row_in_one_file: "duplicate_row_conflict.csv" => ["duplicate_row_conflict.csv:3:6: r1r2_ohm: conflicts with an earlier row of this file for SMP-009 DB1/1 on 2024-05-20: earlier \"0.42\", this row \"0.44\""];
+    visit_details_conflict_in_one_file: "visit_details_conflict_in_file.csv" => [
+        "visit_details_conflict_in_file.csv:3:5: inspector: conflicts with an earlier row of this file for the visit to SMP-077 on 2024-05-20: earlier \"E. Northcote\", this row \"F. Southwell\"",
+        "visit_details_conflict_in_file.csv:3:6: ambient_c: conflicts with an earlier row of this file for the visit to SMP-077 on 2024-05-20: earlier \"18\", this row \"25\"",
+    ];
+    ze_conflict_in_one_file: "ze_conflict_in_file.csv" => ["ze_conflict_in_file.csv:3:5: ze_ohm: conflicts with an earlier row of this file for Ze at board DB1 on 2024-05-20: earlier \"0.21\", this row \"0.23\""];
     register_change_out_of_order: "out_of_order_change.csv" => ["out_of_order_change.csv:2:5: device: SMP-001 DB1/3 on 2018-03-01 has \"B40\" but the register has \"B32\" and a later visit (2024-05-20) is already recorded: import visit files oldest first, or record the change with `ohmtrail circuit edit`"];
+    control_character_in_text: "control_character_in_note.csv" => ["control_character_in_note.csv:2:6: note: has control character U+001B at offset 4 in the cell: remove it (only a tab or a line break may stand in free text)"];
+    nul_in_a_reference: "nul_in_reference.csv" => ["nul_in_reference.csv:2:1: property_ref: has control character U+0000 at offset 5 in the cell: remove it (only a tab or a line break may stand in free text)"];
+    observation_for_an_unknown_property: "observation_unknown_property.csv" => ["observation_unknown_property.csv:2:1: property_ref: property \"SMP-404\" not found: import its visit file first"];
+    readings_and_dates_out_of_range: "out_of_range_readings.csv" => [
+        "out_of_range_readings.csv:2:5: r1r2_ohm: \"99999999999999999999\" is out of range: expected at most 2000 Ω for a reading",
+        "out_of_range_readings.csv:2:6: ir_le_mohm: \">0\" is an over-range mark with no range: expected the instrument's top of range, such as >200",
+        "out_of_range_readings.csv:3:4: visit_date: \"1899-12-30\" is before 1950-01-01: expected the date of an inspection and test, which no record in use predates",
+        "out_of_range_readings.csv:3:7: rcd_ms: \"99999\" is out of range: expected at most 5000 ms for a reading",
+    ];
     observation_code: "observation_bad_code.csv" => ["observation_bad_code.csv:2:3: code: unknown observation code \"C4\": expected C1, C2, C3 or FI as recorded"];
     observation_unknown_board: "observation_unknown_board.csv" => ["observation_unknown_board.csv:2:3: board: board \"DB7\" not found at property SMP-001: import its visit file first"];
     observation_with_reading_column: "observation_mixed_columns.csv" => ["observation_mixed_columns.csv:1:5: column zs_ohm does not belong in an observation file (it has a code column): split readings and observations into two files, or pass --ignore-unknown"];
@@ -192,7 +206,88 @@ fn one_megabyte_field() {
     refuse_in(
         dir.path(),
         "big_field.csv",
-        &["big_field.csv:2:5: note: is 1048576 bytes long: expected at most 10000"],
+        &[&format!("big_field.csv:2:1: {TOO_LONG}")],
+    );
+}
+
+const TOO_LONG: &str = "row is longer than 65536 bytes (64 KiB): expected one row of a visit or observation file per line; check the file is one, and that every quote is closed";
+
+/// A cell over the limit in a row under the row limit is the cell's own error.
+#[test]
+fn a_cell_over_its_limit() {
+    let dir = TempDir::new().unwrap();
+    let note = "x".repeat(20_000);
+    std::fs::write(
+        dir.path().join("long_note.csv"),
+        format!("property_ref,board,circuit,visit_date,note\nSMP-009,DB1,1,2024-05-20,{note}\n"),
+    )
+    .unwrap();
+    refuse_in(
+        dir.path(),
+        "long_note.csv",
+        &["long_note.csv:2:5: note: is 20000 bytes long: expected at most 10000"],
+    );
+}
+
+/// Input with no end to its lines is refused at the row limit, not read whole: a file with
+/// no newline at all, an unclosed quote that swallows the lines after it, and a header name
+/// or a header too wide to be one.
+#[test]
+fn unbounded_input_is_refused_at_a_limit() {
+    let dir = TempDir::new().unwrap();
+    let write = |name: &str, body: &[u8]| std::fs::write(dir.path().join(name), body).unwrap();
+    write("no_newline.csv", &vec![b'x'; 8 << 20]);
+    refuse_in(
+        dir.path(),
+        "no_newline.csv",
+        &[&format!("no_newline.csv:1:1: {TOO_LONG}")],
+    );
+    let mut unclosed = b"property_ref,board,circuit,visit_date,note\nSMP-009,DB1,1,2024-05-20,ok\nSMP-009,DB1,2,2024-05-20,\"open\n".to_vec();
+    for _ in 0..20_000 {
+        unclosed.extend_from_slice(b"SMP-009,DB1,3,2024-05-20,ok\n");
+    }
+    write("unclosed_quote.csv", &unclosed);
+    refuse_in(
+        dir.path(),
+        "unclosed_quote.csv",
+        &[&format!("unclosed_quote.csv:3:1: {TOO_LONG}")],
+    );
+    let long_name = "y".repeat(2 << 20);
+    write(
+        "long_name.csv",
+        format!("property_ref,board,circuit,visit_date,{long_name}\nSMP-009,DB1,1,2024-05-20,1\n")
+            .as_bytes(),
+    );
+    refuse_in(
+        dir.path(),
+        "long_name.csv",
+        &[&format!("long_name.csv:1:1: {TOO_LONG}")],
+    );
+    let name = "z".repeat(5_000);
+    write(
+        "wide_name.csv",
+        format!("property_ref,board,circuit,visit_date,{name}\nSMP-009,DB1,1,2024-05-20,1\n")
+            .as_bytes(),
+    );
+    refuse_in(
+        dir.path(),
+        "wide_name.csv",
+        &[&format!(
+            "wide_name.csv:1:5: unknown column \"{}\"… (5000 bytes long): expected one of property_ref, address, board, earthing, circuit, description, ring, device, rcd_ma, live_mm2, cpc_mm2, length_m, visit_date, inspector, instrument, ambient_c, ze_ohm, ring_r1_ohm, ring_rn_ohm, ring_r2_ohm, r1r2_ohm, r2_ohm, r1rn_ohm, zs_ohm, ir_ll_mohm, ir_le_mohm, rcd_ms, rcd_5x_ms, note (or pass --ignore-unknown)",
+            "z".repeat(60)
+        )],
+    );
+    let wide = format!(
+        "property_ref,board,circuit,visit_date{}\n",
+        ",c".repeat(30_000)
+    );
+    write("wide_header.csv", wide.as_bytes());
+    refuse_in(
+        dir.path(),
+        "wide_header.csv",
+        &[
+            "wide_header.csv:1:257: the header has 30004 columns: expected at most 256 (a visit file has 29 known columns)",
+        ],
     );
 }
 
@@ -444,4 +539,50 @@ fn two_processes_import_into_one_database_at_once() {
     }
     assert_eq!(count(&db, "property"), 600);
     assert_eq!(count(&db, "test_record"), 12_000);
+}
+
+/// `1`, `01` and `1.0` are one circuit; two circuits stored before numbers were read this way
+/// (`1` and `01`) make a row for either ambiguous, and it is refused rather than guessed.
+#[test]
+fn circuit_numbers_written_differently_are_one_circuit() {
+    let dir = TempDir::new().unwrap();
+    let db = dir.path().join("t.db");
+    let file = dir.path().join("v.csv");
+    std::fs::write(
+        &file,
+        "property_ref,board,circuit,visit_date,r1r2_ohm\n\
+         N-1,DB1,01,2020-03-01,0.41\nN-1,DB1,1.0,2022-03-01,0.43\nN-1,DB1,1,2024-03-01,0.42\n\
+         N-1,DB1,010,2024-03-01,0.9\n",
+    )
+    .unwrap();
+    bin(&db).arg("import").arg(&file).assert().success();
+    let store = Store::open(&db).unwrap();
+    let c = store.find_circuit("N-1", "DB1", "1").unwrap();
+    assert_eq!(store.circuit_records(c.id).unwrap().len(), 3);
+    assert!(store.find_circuit("N-1", "DB1", "10").is_ok());
+    assert!(store.find_circuit("N-1", "DB1", "01").is_err());
+    let board = c.board_id;
+    drop(store);
+
+    // A circuit stored as "01" before numbers were normalised, beside "1".
+    rusqlite::Connection::open(&db)
+        .unwrap()
+        .execute(
+            "INSERT INTO circuit (board_id, number) VALUES (?1, '01')",
+            [board],
+        )
+        .unwrap();
+    let again = dir.path().join("w.csv");
+    std::fs::write(
+        &again,
+        "property_ref,board,circuit,visit_date,r1r2_ohm\nN-1,DB1,1,2025-03-01,0.44\n",
+    )
+    .unwrap();
+    let out = bin(&db).arg("import").arg(&again).output().unwrap();
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert_eq!(out.status.code(), Some(1), "{err}");
+    assert!(
+        err.contains("could be any of the stored circuits \"1\", \"01\""),
+        "{err}"
+    );
 }

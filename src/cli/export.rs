@@ -7,7 +7,7 @@ use clap::{Args as ClapArgs, ValueEnum};
 use ohmtrail::export::{export_csv, export_json, observation_count};
 
 use super::Context;
-use super::output::{write_atomic, write_atomic_with};
+use super::output::{is_special, write_atomic, write_atomic_with};
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
 pub enum Format {
@@ -52,6 +52,18 @@ pub fn run(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
                 n.observations,
                 p.display()
             );
+        }
+        (Format::Csv, Some(p)) if is_special(p) => {
+            // A device or a pipe has no directory of its own to hold a second file beside it.
+            let n = write_atomic_with(p, |w| Ok(export_csv(&store, property, w, None)?))?;
+            eprintln!("wrote {} test records to {}", n.test_records, p.display());
+            let obs = observation_count(&store, property)?;
+            if obs > 0 {
+                eprintln!(
+                    "{obs} observations not written: {} is not a regular file, so there is no place beside it for them; pass -o with a regular file to write them",
+                    p.display()
+                );
+            }
         }
         (Format::Csv, None) => {
             let n = export_csv(&store, property, out, None)?;

@@ -109,14 +109,25 @@ fn print_summary(out: &mut dyn Write, s: &Summary) -> Result<()> {
         writeln!(out, "{}: refused, nothing written", s.file)?;
         return Ok(());
     }
+    let kept = s.rows - s.rows_rejected;
+    let skipped = if s.rows_rejected > 0 {
+        format!("; {} skipped as invalid", s.rows_rejected)
+    } else {
+        String::new()
+    };
     if !s.written {
+        let which = if s.rows_rejected > 0 {
+            "the valid"
+        } else {
+            "all"
+        };
         writeln!(
             out,
-            "{}: nothing new: all {} rows are already in the database; nothing written",
-            s.file, s.rows
+            "{}: nothing new: {which} {kept} rows are already in the database{skipped}; nothing written",
+            s.file
         )?;
     } else {
-        writeln!(out, "{}: imported {} rows", s.file, s.rows)?;
+        writeln!(out, "{}: imported {kept} rows{skipped}", s.file)?;
     }
     let lines = [
         ("properties created", s.properties_created),
@@ -126,6 +137,7 @@ fn print_summary(out: &mut dyn Write, s: &Summary) -> Result<()> {
         ("test records written", s.test_records_written),
         ("test records replaced", s.test_records_replaced),
         ("test records unchanged", s.test_records_unchanged),
+        ("details replaced", s.details_replaced),
         ("observations written", s.observations_written),
         ("observations unchanged", s.observations_unchanged),
         ("register changes", s.changes.len() as u64),

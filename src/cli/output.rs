@@ -78,9 +78,34 @@ pub fn write_atomic(path: &Path, body: &[u8]) -> Result<()> {
     write_atomic_with(path, |w| Ok(w.write_all(body)?))
 }
 
+/// Whether `path` names something that exists and is neither a regular file nor a directory
+/// (a terminal, `/dev/null`, a pipe, a socket), following symbolic links. Such a target is
+/// written into as a stream: renaming a file over it would replace the device or pipe itself.
+pub fn is_special(path: &Path) -> bool {
+    std::fs::metadata(path).is_ok_and(|m| !m.is_file() && !m.is_dir())
+}
+
+/// Write into a special file (see [`is_special`]) as a stream; an error on the way, such as
+/// no space left on the device, is the error of the whole write.
+fn write_stream<T>(path: &Path, f: impl FnOnce(&mut dyn Write) -> Result<T>) -> Result<T> {
+    let file = std::fs::OpenOptions::new()
+        .write(true)
+        .open(path)
+        .with_context(|| format!("cannot write {}", path.display()))?;
+    let mut w = std::io::BufWriter::new(file);
+    let value = f(&mut w).with_context(|| format!("cannot write {}", path.display()))?;
+    w.flush()
+        .with_context(|| format!("cannot write {}", path.display()))?;
+    Ok(value)
+}
+
 /// Like [`write_atomic`], for output written as it is made: `f` writes into a buffered
-/// temporary file that replaces `path` only when `f` succeeds.
+/// temporary file that replaces `path` only when `f` succeeds. A special file (a device or a
+/// pipe) is written into as a stream instead, and never replaced.
 pub fn write_atomic_with<T>(path: &Path, f: impl FnOnce(&mut dyn Write) -> Result<T>) -> Result<T> {
+    if is_special(path) {
+        return write_stream(path, f);
+    }
     let dir = output_dir(path)?;
     let tmp = tempfile::Builder::new()
         .prefix(".ohmtrail-")

@@ -450,7 +450,7 @@ fn ask_fitted(
         if let Some(d) = fitted.device
             && c.device.as_deref() != Some(d.to_string().as_str())
         {
-            changed |= record_change(
+            match record_change(
                 store,
                 visit,
                 c,
@@ -460,7 +460,13 @@ fn ask_fitted(
                 },
                 ChangeKind::DeviceChanged,
                 out,
-            )?;
+            ) {
+                Ok(ch) => changed |= ch,
+                Err(e) => {
+                    writeln!(out, "   NOT STORED: {e}")?;
+                    continue;
+                }
+            }
         }
         if let Some((l, p)) = fitted.cable
             && (c.live_mm2, c.cpc_mm2) != (Some(l), Some(p))
@@ -480,7 +486,7 @@ fn ask_fitted(
                     _ => writeln!(out, "   answer r (replaced) or w (register wrong)")?,
                 }
             };
-            changed |= record_change(
+            match record_change(
                 store,
                 visit,
                 c,
@@ -491,7 +497,13 @@ fn ask_fitted(
                 },
                 kind,
                 out,
-            )?;
+            ) {
+                Ok(ch) => changed |= ch,
+                Err(e) => {
+                    writeln!(out, "   NOT STORED: {e}")?;
+                    continue;
+                }
+            }
         }
         return Ok(Some(changed));
     }
@@ -505,6 +517,24 @@ fn record_change(
     kind: ChangeKind,
     out: &mut dyn Write,
 ) -> Result<bool> {
+    // As import does: a change dated before a visit already recorded would alter what that
+    // later visit shows, so it is refused, not written.
+    let fields: Vec<&str> = [
+        details.device.map(|_| "device"),
+        details.live_mm2.map(|_| "live_mm2"),
+        details.cpc_mm2.map(|_| "cpc_mm2"),
+    ]
+    .into_iter()
+    .flatten()
+    .collect();
+    if let Some(later) = store.later_history(c.circuit_id, visit.date, &fields)? {
+        bail!(
+            "circuit {} on {}: a register change dated {} would alter the later visit ({later}) already recorded: record the change at that visit, or with `ohmtrail circuit edit` and the date it was made",
+            c.number,
+            visit.date,
+            visit.date
+        );
+    }
     let changes = store.edit_circuit(
         c.circuit_id,
         details,

@@ -12,13 +12,13 @@
 use std::io::Write;
 use std::path::PathBuf;
 
-use anyhow::{Result, anyhow};
+use anyhow::{Result, anyhow, bail};
 use clap::{ArgGroup, Args as ClapArgs, ValueEnum};
 
 use ohmtrail::analysis::Settings;
 use ohmtrail::report::{self, portfolio, property};
 
-use super::output::{output_dir, write_atomic};
+use super::output::{is_special, output_dir, write_atomic};
 use super::{CAUTION, Context, today};
 
 #[derive(ValueEnum, Clone, Copy, Debug, PartialEq, Eq)]
@@ -66,9 +66,18 @@ pub fn run(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
     };
     // Check where the output goes before any work, so a wrong -o fails at once.
     let dir = output_dir(&target)?;
+    if args.portfolio && !args.index_only && is_special(&target) {
+        bail!(
+            "cannot write the portfolio to {}: it is not a regular file, and the property reports go beside the index: give -o a file in a directory, or pass --index-only",
+            target.display()
+        );
+    }
     let store = ctx.open()?;
     let settings = Settings::load(&store, today())?;
 
+    if args.portfolio && !args.index_only {
+        refuse_shared_file_names(&store, ext, &target)?;
+    }
     if args.portfolio {
         let mut written = 0usize;
         let index = report::portfolio(&store, &settings, ext, |r| {
@@ -115,6 +124,37 @@ pub fn run(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
         writeln!(out, "wrote report {}", target.display())?;
     }
     writeln!(out, "Caution: {CAUTION}")?;
+    Ok(())
+}
+
+/// Refuse, before anything is written, a portfolio in which two properties' reports (or a
+/// report and the index) would be written to one file name: the second would replace the
+/// first while the index linked both.
+fn refuse_shared_file_names(
+    store: &ohmtrail::store::Store,
+    ext: &str,
+    index: &std::path::Path,
+) -> Result<()> {
+    let mut seen: std::collections::HashMap<String, String> = std::collections::HashMap::new();
+    let index_name = index
+        .file_name()
+        .map(|n| n.to_string_lossy().into_owned())
+        .unwrap_or_default();
+    for p in store.list_properties()? {
+        let name = report::property_file_name(&p.property_ref, ext);
+        if name == index_name {
+            bail!(
+                "the report of property {:?} would be written to {name}, the index's own file name: give -o another name",
+                p.property_ref
+            );
+        }
+        if let Some(other) = seen.insert(name.clone(), p.property_ref.clone()) {
+            bail!(
+                "properties {other:?} and {:?} would both be written to {name}; nothing written: pass --index-only, or write each of them with `ohmtrail report REF -o FILE`",
+                p.property_ref
+            );
+        }
+    }
     Ok(())
 }
 

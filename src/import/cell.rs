@@ -3,6 +3,8 @@
 
 use std::fmt;
 
+use std::borrow::Cow;
+
 use chrono::{Datelike, NaiveDate};
 
 use crate::model::{
@@ -253,6 +255,10 @@ pub enum CellError {
     MarkAsKey(String),
     #[error("is {0} bytes long: expected at most {MAX_CELL_BYTES}")]
     TooLong(usize),
+    #[error(
+        "has control character U+{code:04X} at offset {offset} in the cell: remove it (only a tab or a line break may stand in free text)"
+    )]
+    Control { code: u32, offset: usize },
     #[error("{text:?} is not a number: expected {expected}")]
     NotANumber { text: String, expected: String },
     #[error("{0:?} is not a reading: expected a finite number")]
@@ -331,6 +337,19 @@ pub fn parse_cell(column: Column, text: &str, opts: &ParseOptions) -> Result<Cel
         return Err(CellError::TooLong(text.len()));
     }
     let kind = column.kind();
+    // Control characters would be stored, printed raw to a terminal (where an escape sequence
+    // acts) and written into HTML, where most are not allowed; free text may keep a tab or a
+    // line break, which a quoted cell may hold.
+    let allowed = |c: char| kind == Kind::Text && matches!(c, '\t' | '\n' | '\r');
+    if let Some((offset, c)) = text
+        .char_indices()
+        .find(|&(_, c)| c.is_control() && !allowed(c))
+    {
+        return Err(CellError::Control {
+            code: c as u32,
+            offset,
+        });
+    }
     if kind == Kind::Text {
         // Free text keeps its spaces; only a blank cell or a not-recorded mark is missing.
         if is_missing_mark(text.trim()) {
@@ -345,6 +364,9 @@ pub fn parse_cell(column: Column, text: &str, opts: &ParseOptions) -> Result<Cel
         }
         if is_missing_mark(t) {
             return Err(CellError::MarkAsKey(t.to_string()));
+        }
+        if column == Column::Circuit {
+            return Ok(Cell::Text(normalise_circuit(t).into_owned()));
         }
         return Ok(Cell::Text(t.to_string()));
     }
@@ -418,11 +440,28 @@ pub fn parse_cell(column: Column, text: &str, opts: &ParseOptions) -> Result<Cel
             if n.negative {
                 return Err(CellError::Negative(t.to_string()));
             }
+            let most = match kind {
+                Kind::Ohms => Some((MAX_OHMS, "Ω")),
+                Kind::Megohms => Some((MAX_MEGOHMS, "MΩ")),
+                Kind::Millis => Some((MAX_MILLIS, "ms")),
+                _ => None,
+            };
+            if let Some((most, unit)) = most
+                && n.value > most
+            {
+                return Err(CellError::Value(format!(
+                    "{t:?} is out of range: expected at most {most} {unit} for a reading"
+                )));
+            }
             if n.over {
-                return if kind == Kind::Megohms {
-                    Ok(Cell::OverRange(n.value))
-                } else {
+                return if kind != Kind::Megohms {
                     Err(CellError::OverRangeNotAllowed(t.to_string()))
+                } else if n.value <= 0.0 {
+                    Err(CellError::Value(format!(
+                        "{t:?} is an over-range mark with no range: expected the instrument's top of range, such as >200"
+                    )))
+                } else {
+                    Ok(Cell::OverRange(n.value))
                 };
             }
             match kind {
@@ -638,8 +677,50 @@ pub fn parse_date(t: &str, today: NaiveDate) -> Result<NaiveDate, CellError> {
     if date > today {
         return Err(CellError::Future { date, today });
     }
+    if date < EARLIEST_VISIT {
+        return Err(CellError::Value(format!(
+            "{t:?} is before {EARLIEST_VISIT}: expected the date of an inspection and test, which no record in use predates"
+        )));
+    }
     Ok(date)
 }
+
+/// A circuit number as stored: a whole number loses its leading zeros and a decimal part of
+/// zeros (`01`, `1.0` and `1` are one circuit, as a spreadsheet may write it any of those
+/// ways); anything else (`1L2`, `2.1`, `A`) is kept as written.
+pub fn normalise_circuit(t: &str) -> Cow<'_, str> {
+    let whole = match t.split_once('.') {
+        Some((w, frac)) if !frac.is_empty() && frac.bytes().all(|b| b == b'0') => w,
+        Some(_) => return Cow::Borrowed(t),
+        None => t,
+    };
+    if whole.is_empty() || !whole.bytes().all(|b| b.is_ascii_digit()) {
+        return Cow::Borrowed(t);
+    }
+    let trimmed = whole.trim_start_matches('0');
+    let normal = if trimmed.is_empty() { "0" } else { trimmed };
+    if normal == t {
+        Cow::Borrowed(t)
+    } else {
+        Cow::Owned(normal.to_string())
+    }
+}
+
+/// The earliest visit date read. Recorded periodic inspection and testing of homes is far
+/// younger than this; an earlier date is a slip (a year of 1899, or 1, from a spreadsheet's
+/// empty date). Common practice, no source.
+pub const EARLIEST_VISIT: NaiveDate = match NaiveDate::from_ymd_opt(1950, 1, 1) {
+    Some(d) => d,
+    None => panic!("a valid date"),
+};
+
+/// The largest value read in each unit of reading. Above these the number is not a reading
+/// a test instrument gives but a slip (a serial number in the wrong column, digits run
+/// together): continuity and loop testers read up to a few kilohms, insulation testers up to
+/// some gigohms, RCD testers stop timing within a few seconds. Common practice, no source.
+pub const MAX_OHMS: f64 = 2_000.0;
+pub const MAX_MEGOHMS: f64 = 10_000.0;
+pub const MAX_MILLIS: f64 = 5_000.0;
 
 /// Text of a number as export writes it: the shortest decimal that reads back the same.
 pub fn format_number(v: f64) -> String {
@@ -835,6 +916,30 @@ mod tests {
         ]
     }
 
+    #[test]
+    fn circuit_numbers_are_one_number_however_written() {
+        for (given, stored) in [
+            ("1", "1"),
+            ("01", "1"),
+            ("001", "1"),
+            ("1.0", "1"),
+            ("01.00", "1"),
+            ("0", "0"),
+            ("00", "0"),
+            ("10", "10"),
+            ("2.1", "2.1"),
+            ("1L2", "1L2"),
+            ("A", "A"),
+            (".0", ".0"),
+            ("1.", "1."),
+        ] {
+            assert_eq!(normalise_circuit(given), stored, "{given}");
+            if given != ".0" {
+                assert_eq!(p(Column::Circuit, given), Ok(Cell::Text(stored.into())));
+            }
+        }
+    }
+
     proptest! {
         #[test]
         fn unescape_undoes_escape(s in any_text()) {
@@ -851,6 +956,7 @@ mod tests {
         #[test]
         fn free_text_round_trips_through_escape(s in any_text()) {
             prop_assume!(!s.trim().is_empty());
+            prop_assume!(!s.chars().any(|c| c.is_control() && !matches!(c, '\t' | '\n' | '\r')));
             let cell = parse_cell(Column::Note, &escape(&s), &opts()).unwrap();
             prop_assert_eq!(cell, Cell::Text(s));
         }
@@ -862,11 +968,35 @@ mod tests {
         }
 
         #[test]
-        fn readings_round_trip_through_their_text(v in 0.0f64..1.0e6) {
+        fn readings_round_trip_through_their_text(v in 0.0f64..=MAX_OHMS) {
             let text = format_number(v);
             prop_assert_eq!(p(Column::ZsOhm, &text), Ok(Cell::Number(v)));
             let over = format!(">{text}");
-            prop_assert_eq!(p(Column::IrLlMohm, &over), Ok(Cell::OverRange(v)));
+            if v > 0.0 {
+                prop_assert_eq!(p(Column::IrLlMohm, &over), Ok(Cell::OverRange(v)));
+            } else {
+                prop_assert!(p(Column::IrLlMohm, &over).is_err());
+            }
+        }
+
+        #[test]
+        fn readings_past_their_range_are_refused(v in 0.0f64..1.0e9) {
+            let text = format_number(v);
+            prop_assert_eq!(p(Column::ZsOhm, &text).is_ok(), v <= MAX_OHMS);
+            prop_assert_eq!(p(Column::IrLeMohm, &text).is_ok(), v <= MAX_MEGOHMS);
+            prop_assert_eq!(p(Column::RcdMs, &text).is_ok(), v <= MAX_MILLIS);
+        }
+
+        #[test]
+        fn control_characters_are_refused_except_tab_and_line_breaks(s in any::<String>()) {
+            let bad = s.chars().any(|c| c.is_control() && !matches!(c, '\t' | '\n' | '\r'));
+            if bad {
+                let is_control_error = matches!(
+                    parse_cell(Column::Note, &s, &opts()),
+                    Err(CellError::Control { .. }) | Err(CellError::TooLong(_))
+                );
+                prop_assert!(is_control_error);
+            }
         }
 
         #[test]

@@ -5,8 +5,10 @@
 //! [`crate::store`] to write it.
 
 pub mod cell;
+mod reading;
 pub mod row;
 
+use std::borrow::Cow;
 use std::collections::VecDeque;
 use std::fs::File;
 use std::io::{BufRead, BufReader, Read};
@@ -19,15 +21,17 @@ use foldhash::{HashMap, HashMapExt, HashSet, HashSetExt};
 use serde::Serialize;
 
 pub use cell::{
-    Cell, CellError, Column, ParseOptions, escape, format_number, parse_cell, unescape,
+    Cell, CellError, Column, ParseOptions, escape, format_number, normalise_circuit, parse_cell,
+    unescape,
 };
+pub use reading::reading_text;
+use reading::{copy_reading, same_reading};
 pub use row::{
     FieldError, FileKind, Header, ObservationRow, RowRegister, VisitRow, parse_header,
     parse_observation_row, parse_visit_row,
 };
 
 use crate::error::{Error, Result};
-use crate::model::{Megohms, Readings};
 use crate::store::{CircuitDetails, IngestChange, IngestVisit, Store, fmt_num};
 
 /// At most this many errors are printed; the rest are counted.
@@ -88,6 +92,9 @@ pub struct Summary {
     pub test_records_written: u64,
     pub test_records_replaced: u64,
     pub test_records_unchanged: u64,
+    /// Stored details overwritten with `--replace`: a visit's inspector, instrument or
+    /// ambient, Ze at a board, a property's address, a board's earthing (one a row).
+    pub details_replaced: u64,
     pub observations_written: u64,
     pub observations_unchanged: u64,
     pub changes: Vec<RegisterChange>,
@@ -115,6 +122,7 @@ impl Summary {
         self.test_records_written += e.written;
         self.test_records_replaced += e.replaced;
         self.test_records_unchanged += e.unchanged;
+        self.details_replaced += e.details_replaced;
         self.observations_written += e.observations;
         self.observations_unchanged += e.observations_unchanged;
         self.changes.extend(e.changes.iter().cloned());
@@ -134,6 +142,7 @@ struct Effect {
     written: u64,
     replaced: u64,
     unchanged: u64,
+    details_replaced: u64,
     observations: u64,
     observations_unchanged: u64,
     changes: Vec<RegisterChange>,
@@ -293,74 +302,20 @@ pub const READING_COLUMNS: [Column; 13] = [
     Column::Note,
 ];
 
-/// A reading's cell text as export writes it (`LIM` for a limitation), or `None`.
-/// For `ze_ohm` only the limitation lives in the record; its value is a board test.
-pub fn reading_text(r: &Readings, c: Column) -> Option<String> {
-    if r.limitations.iter().any(|l| l == c.name()) {
-        return Some("LIM".to_string());
-    }
-    let num = |v: Option<f64>| v.map(format_number);
-    let mohm = |m: Option<Megohms>| {
-        m.map(|m| {
-            if m.over_range {
-                format!(">{}", format_number(m.value))
-            } else {
-                format_number(m.value)
-            }
-        })
-    };
-    match c {
-        Column::RingR1Ohm => num(r.ring_r1_ohm),
-        Column::RingRnOhm => num(r.ring_rn_ohm),
-        Column::RingR2Ohm => num(r.ring_r2_ohm),
-        Column::R1r2Ohm => num(r.r1r2_ohm),
-        Column::R2Ohm => num(r.r2_ohm),
-        Column::R1rnOhm => num(r.r1rn_ohm),
-        Column::ZsOhm => num(r.zs_ohm),
-        Column::IrLlMohm => mohm(r.ir_ll),
-        Column::IrLeMohm => mohm(r.ir_le),
-        Column::RcdMs => num(r.rcd_ms),
-        Column::Rcd5xMs => num(r.rcd_5x_ms),
-        Column::Note => r.note.clone(),
-        _ => None,
-    }
-}
-
-/// Copy one reading column (value and limitation mark) from `src` into `dst`.
-fn copy_reading(dst: &mut Readings, src: &Readings, c: Column) {
-    match c {
-        Column::RingR1Ohm => dst.ring_r1_ohm = src.ring_r1_ohm,
-        Column::RingRnOhm => dst.ring_rn_ohm = src.ring_rn_ohm,
-        Column::RingR2Ohm => dst.ring_r2_ohm = src.ring_r2_ohm,
-        Column::R1r2Ohm => dst.r1r2_ohm = src.r1r2_ohm,
-        Column::R2Ohm => dst.r2_ohm = src.r2_ohm,
-        Column::R1rnOhm => dst.r1rn_ohm = src.r1rn_ohm,
-        Column::ZsOhm => dst.zs_ohm = src.zs_ohm,
-        Column::IrLlMohm => dst.ir_ll = src.ir_ll,
-        Column::IrLeMohm => dst.ir_le = src.ir_le,
-        Column::RcdMs => dst.rcd_ms = src.rcd_ms,
-        Column::Rcd5xMs => dst.rcd_5x_ms = src.rcd_5x_ms,
-        Column::Note => dst.note = src.note.clone(),
-        _ => {}
-    }
-    dst.limitations.retain(|l| l != c.name());
-    if src.limitations.iter().any(|l| l == c.name()) {
-        dst.limitations.push(c.name().to_string());
-    }
-    let mut cols: Vec<Column> = dst
-        .limitations
-        .iter()
-        .filter_map(|l| Column::from_name(l))
-        .collect();
-    cols.sort();
-    dst.limitations = cols.iter().map(|c| c.name().to_string()).collect();
-}
-
 fn shown(v: &Option<String>) -> String {
     match v {
         Some(t) => format!("{t:?}"),
         None => "not recorded".to_string(),
     }
+}
+
+/// Two rows of one file that give one thing two values.
+fn in_file_conflict(what: &str, earlier: &Option<String>, this: &Option<String>) -> String {
+    format!(
+        "conflicts with an earlier row of this file for {what}: earlier {}, this row {}",
+        shown(earlier),
+        shown(this)
+    )
 }
 
 fn conflict(what: &str, stored: &Option<String>, file: &Option<String>) -> String {
@@ -377,17 +332,23 @@ struct CircuitState {
     id: i64,
     /// The register now, typed for the common case of a row that agrees with it.
     details: CircuitDetails,
-    current: [Option<String>; 7],
+    /// The register now as text, made when a row first disagrees with `details`.
+    current: Option<[Option<String>; 7]>,
     changes: Vec<IngestChange>,
-    latest: Option<NaiveDate>,
+    /// The date of the circuit's latest test record, once looked up: only a row that
+    /// disagrees with the register needs it, so most rows never ask.
+    latest: Option<Option<NaiveDate>>,
 }
 
 struct BoardState {
     id: i64,
-    /// Created by this import, so its only circuits are the ones cached here.
-    created: bool,
     earthing: Option<String>,
+    /// Every circuit in service on the board, by its number as import reads it: read whole
+    /// when the board is first met, so a number missing here is a new circuit.
     circuits: HashMap<String, CircuitState>,
+    /// Numbers that two stored circuits share once read as import reads them (`1` and `01`
+    /// stored before numbers were normalised), with the stored numbers: rows cannot say which.
+    ambiguous: HashMap<String, Vec<String>>,
 }
 
 struct VisitState {
@@ -397,6 +358,10 @@ struct VisitState {
     /// Created by this import, so it holds only records this import wrote.
     created: bool,
     written: HashSet<i64>,
+    /// Inspector, instrument and ambient as set by a row of this file, not found stored.
+    from_file: [bool; 3],
+    /// Boards whose Ze a row of this file set.
+    ze_from_file: HashSet<i64>,
 }
 
 struct PropertyState {
@@ -486,6 +451,8 @@ fn visit_state<'a>(
                 ze: HashMap::new(),
                 created: false,
                 written: HashSet::new(),
+                from_file: [false; 3],
+                ze_from_file: HashSet::new(),
             },
             None => {
                 let id = s.ingest_insert_visit(p.id, date, wanted, instrument_id)?;
@@ -499,6 +466,8 @@ fn visit_state<'a>(
                     ze: HashMap::new(),
                     created: true,
                     written: HashSet::new(),
+                    from_file: [false; 3],
+                    ze_from_file: HashSet::new(),
                 }
             }
         };
@@ -542,6 +511,9 @@ impl Importer<'_> {
             && p.address.as_ref() != Some(a)
         {
             if p.address.is_none() || replace {
+                if p.address.is_some() {
+                    eff.details_replaced += 1;
+                }
                 s.ingest_set_address(p.id, a)?;
                 p.address = Some(a.clone());
                 eff.wrote = true;
@@ -566,12 +538,55 @@ impl Importer<'_> {
                 s.ingest_board(property_id, &row.board)?
             };
             let state = match stored {
-                Some(b) => BoardState {
-                    id: b.id,
-                    created: false,
-                    earthing: b.earthing,
-                    circuits: HashMap::new(),
-                },
+                Some(b) => {
+                    let rows = s.ingest_board_circuits(b.id)?;
+                    let mut circuits = HashMap::with_capacity(rows.len());
+                    let mut ambiguous: HashMap<String, Vec<String>> = HashMap::new();
+                    // Stored numbers that read differently (stored before numbers were
+                    // normalised), by how they read now: rare, so only those are kept.
+                    let mut unusual: HashMap<String, String> = HashMap::new();
+                    for (number, id, details, changed) in rows {
+                        let normal = match normalise_circuit(&number) {
+                            Cow::Borrowed(_) => None,
+                            Cow::Owned(k) => Some(k),
+                        };
+                        let (key, original) = match normal {
+                            None => (number, None),
+                            Some(k) => (k, Some(number)),
+                        };
+                        if circuits.contains_key(&key) {
+                            let both = ambiguous.entry(key.clone()).or_default();
+                            if both.is_empty() {
+                                both.push(unusual.get(&key).unwrap_or(&key).clone());
+                            }
+                            both.push(original.unwrap_or_else(|| key.clone()));
+                            continue;
+                        }
+                        if let Some(o) = original {
+                            unusual.insert(key.clone(), o);
+                        }
+                        let number = key;
+                        let changes = if changed {
+                            s.ingest_changes(id)?
+                        } else {
+                            Vec::new()
+                        };
+                        let state = CircuitState {
+                            id,
+                            current: None,
+                            details,
+                            changes,
+                            latest: None,
+                        };
+                        circuits.insert(number, state);
+                    }
+                    BoardState {
+                        id: b.id,
+                        earthing: b.earthing,
+                        circuits,
+                        ambiguous,
+                    }
+                }
                 None => {
                     let e = row.earthing.map(|e| e.as_str());
                     let id = s.ingest_insert_board(property_id, &row.board, e)?;
@@ -579,9 +594,9 @@ impl Importer<'_> {
                     eff.wrote = true;
                     BoardState {
                         id,
-                        created: true,
                         earthing: e.map(String::from),
                         circuits: HashMap::new(),
+                        ambiguous: HashMap::new(),
                     }
                 }
             };
@@ -592,6 +607,9 @@ impl Importer<'_> {
             && b.earthing.as_ref() != Some(&e)
         {
             if b.earthing.is_none() || replace {
+                if b.earthing.is_some() {
+                    eff.details_replaced += 1;
+                }
                 s.ingest_set_earthing(b.id, &e)?;
                 b.earthing = Some(e);
                 eff.wrote = true;
@@ -610,37 +628,39 @@ impl Importer<'_> {
             }
         }
         let board_id = b.id;
+        if !b.ambiguous.is_empty()
+            && let Some(numbers) = b.ambiguous.get(&row.circuit)
+        {
+            return fault(
+                Column::Circuit,
+                format!(
+                    "circuit {:?} of board {} at {} could be any of the stored circuits {}: circuit numbers are now read as numbers (01 and 1.0 are 1); renumber all but one with `ohmtrail circuit replace`",
+                    row.circuit,
+                    row.board,
+                    row.property_ref,
+                    numbers
+                        .iter()
+                        .map(|n| format!("{n:?}"))
+                        .collect::<Vec<_>>()
+                        .join(", ")
+                ),
+            );
+        }
 
         // Circuit, and whether the row disagrees with the register as it stood on the date.
         let row_details = row_register_details(&row.register);
         if !b.circuits.contains_key(&row.circuit) {
-            let stored = if b.created {
-                None
-            } else {
-                s.ingest_circuit(board_id, &row.circuit)?
-            };
-            let state = match stored {
-                Some((id, details)) => CircuitState {
-                    id,
-                    current: register_texts(&details),
-                    details,
-                    changes: s.ingest_changes(id)?,
-                    latest: s.ingest_latest_record(id)?,
-                },
-                None => {
-                    let id = self.inserts.circuit(board_id, &row.circuit, &row_details)?;
-                    eff.circuits += 1;
-                    eff.wrote = true;
-                    let mut details = row_details.clone();
-                    details.kind = Some(details.kind.unwrap_or(crate::model::CircuitKind::Radial));
-                    CircuitState {
-                        id,
-                        current: register_texts(&details),
-                        details,
-                        changes: Vec::new(),
-                        latest: None,
-                    }
-                }
+            let id = self.inserts.circuit(board_id, &row.circuit, &row_details)?;
+            eff.circuits += 1;
+            eff.wrote = true;
+            let mut details = row_details.clone();
+            details.kind = Some(details.kind.unwrap_or(crate::model::CircuitKind::Radial));
+            let state = CircuitState {
+                id,
+                current: None,
+                details,
+                changes: Vec::new(),
+                latest: Some(None),
             };
             b.circuits.insert(row.circuit.clone(), state);
         }
@@ -654,7 +674,11 @@ impl Importer<'_> {
             (Default::default(), Default::default())
         } else {
             (
-                register_at(&c.current, &c.changes, date),
+                register_at(
+                    c.current.get_or_insert_with(|| register_texts(&c.details)),
+                    &c.changes,
+                    date,
+                ),
                 register_texts(&row_details),
             )
         };
@@ -671,7 +695,11 @@ impl Importer<'_> {
                 .iter()
                 .find(|ch| ch.date > date && ch.field.as_deref() == Some(field))
                 .map(|ch| ch.date);
-            let later = later_change.or(c.latest.filter(|d| *d > date));
+            let latest = match c.latest {
+                Some(known) => known,
+                None => *c.latest.insert(s.ingest_latest_record(circuit_id)?),
+            };
+            let later = later_change.or(latest.filter(|d| *d > date));
             if let Some(later) = later {
                 faults.push(Fault {
                     column: Some(*col),
@@ -692,52 +720,62 @@ impl Importer<'_> {
         // Visit.
         let v = visit_state(s, p, date, &wanted, instrument_id, &mut eff)?;
         let visit_id = v.v.id;
-        if !v.created {
+        // The visit's own fields: cheap comparisons first, since almost every row agrees.
+        let ambient_differs = row.ambient_c.is_some()
+            && row.ambient_c.map(f64::to_bits) != v.v.ambient_c.map(f64::to_bits)
+            && row.ambient_c.map(format_number) != v.v.ambient_c.map(format_number);
+        let differs = [
+            row.inspector.is_some() && row.inspector != v.v.inspector,
+            row.instrument.is_some() && row.instrument != v.v.instrument,
+            ambient_differs,
+        ];
+        if differs.contains(&true) {
             let mut next = v.v.clone();
             let mut faults = Vec::new();
-            let mut check = |col: Column, stored: Option<String>, file: Option<String>| {
-                if file.is_some() && stored != file {
-                    if stored.is_none() || replace {
-                        true
-                    } else {
-                        faults.push(Fault {
-                            column: Some(col),
-                            message: conflict(
-                                &format!("the visit to {} on {date}", row.property_ref),
-                                &stored,
-                                &file,
-                            ),
-                        });
-                        false
-                    }
-                } else {
-                    false
-                }
-            };
+            let fields = [
+                (
+                    Column::Inspector,
+                    v.v.inspector.clone(),
+                    row.inspector.clone(),
+                ),
+                (
+                    Column::Instrument,
+                    v.v.instrument.clone(),
+                    row.instrument.clone(),
+                ),
+                (
+                    Column::AmbientC,
+                    v.v.ambient_c.map(format_number),
+                    row.ambient_c.map(format_number),
+                ),
+            ];
             let mut dirty = false;
-            if check(
-                Column::Inspector,
-                v.v.inspector.clone(),
-                row.inspector.clone(),
-            ) {
-                next.inspector = row.inspector.clone();
-                dirty = true;
-            }
-            if check(
-                Column::Instrument,
-                v.v.instrument.clone(),
-                row.instrument.clone(),
-            ) {
-                next.instrument = row.instrument.clone();
-                dirty = true;
-            }
-            if check(
-                Column::AmbientC,
-                v.v.ambient_c.map(format_number),
-                row.ambient_c.map(format_number),
-            ) {
-                next.ambient_c = row.ambient_c;
-                dirty = true;
+            let mut overwrote = false;
+            for (i, (col, stored, file)) in fields.into_iter().enumerate() {
+                if !differs[i] {
+                    continue;
+                }
+                let what = format!("the visit to {} on {date}", row.property_ref);
+                if stored.is_some() && (v.created || v.from_file[i]) {
+                    // Two rows of this file disagree: --replace cannot say which one is right.
+                    faults.push(Fault {
+                        column: Some(col),
+                        message: in_file_conflict(&what, &stored, &file),
+                    });
+                } else if stored.is_none() || replace {
+                    overwrote |= stored.is_some();
+                    match col {
+                        Column::Inspector => next.inspector = file,
+                        Column::Instrument => next.instrument = file,
+                        _ => next.ambient_c = row.ambient_c,
+                    }
+                    dirty = true;
+                } else {
+                    faults.push(Fault {
+                        column: Some(col),
+                        message: conflict(&what, &stored, &file),
+                    });
+                }
             }
             if !faults.is_empty() {
                 return Err(Faults::Row(faults));
@@ -749,11 +787,17 @@ impl Importer<'_> {
                 };
                 s.ingest_update_visit(&next, instrument_id)?;
                 eff.wrote = true;
+                if overwrote {
+                    eff.details_replaced += 1;
+                }
                 // The cache borrow ended above; look the visit up again to keep it current.
                 if let Some(p) = self.cache.properties.get_mut(&row.property_ref)
                     && let Some(v) = p.visits.get_mut(&date)
                 {
                     v.v = next;
+                    for (i, d) in differs.iter().enumerate() {
+                        v.from_file[i] |= *d;
+                    }
                 }
             }
         }
@@ -774,8 +818,24 @@ impl Importer<'_> {
                 Some(z) => z,
                 None => s.ingest_board_ze(visit_id, board_id)?.flatten(),
             };
+            let set_by_file = v
+                .as_ref()
+                .is_some_and(|v| v.created || v.ze_from_file.contains(&board_id));
             if stored != Some(ze) {
+                if stored.is_some() && set_by_file {
+                    return fault(
+                        Column::ZeOhm,
+                        in_file_conflict(
+                            &format!("Ze at board {} on {date}", row.board),
+                            &stored.map(format_number),
+                            &Some(format_number(ze)),
+                        ),
+                    );
+                }
                 if stored.is_none() || replace {
+                    if stored.is_some() {
+                        eff.details_replaced += 1;
+                    }
                     s.ingest_set_board_ze(visit_id, board_id, ze)?;
                     eff.wrote = true;
                 } else {
@@ -796,6 +856,7 @@ impl Importer<'_> {
                 .and_then(|p| p.visits.get_mut(&date))
             {
                 v.ze.insert(board_id, Some(ze));
+                v.ze_from_file.insert(board_id);
             }
         }
 
@@ -819,7 +880,8 @@ impl Importer<'_> {
                 if let (Some(c), Some(field)) = (c.as_deref_mut(), ch.field.as_deref())
                     && let Some(i) = REGISTER.iter().position(|(_, f)| *f == field)
                 {
-                    c.current[i] = ch.new_value.clone();
+                    c.current.get_or_insert_with(|| register_texts(&c.details))[i] =
+                        ch.new_value.clone();
                     apply_text(&mut c.details, field, ch.new_value.as_deref());
                     c.changes.push(IngestChange {
                         date,
@@ -843,12 +905,15 @@ impl Importer<'_> {
         }
 
         // The test record.
-        let fresh = self
+        let (fresh, by_file) = self
             .cache
             .properties
             .get(&row.property_ref)
             .and_then(|p| p.visits.get(&date))
-            .is_some_and(|v| v.created && !v.written.contains(&circuit_id));
+            .map_or((false, false), |v| {
+                let by_file = v.written.contains(&circuit_id);
+                (v.created && !by_file, by_file)
+            });
         let stored = if fresh {
             None
         } else {
@@ -869,10 +934,26 @@ impl Importer<'_> {
                 let differ: Vec<Column> = present
                     .iter()
                     .copied()
-                    .filter(|c| reading_text(&stored, *c) != reading_text(&row.readings, *c))
+                    .filter(|c| !same_reading(&stored, &row.readings, *c))
                     .collect();
                 if differ.is_empty() {
                     eff.unchanged += 1;
+                } else if by_file {
+                    // Two rows of this file for one circuit and visit: --replace cannot say
+                    // which one is right.
+                    return Err(Faults::Row(
+                        differ
+                            .iter()
+                            .map(|c| Fault {
+                                column: Some(*c),
+                                message: in_file_conflict(
+                                    &format!("{} on {date}", where_()),
+                                    &reading_text(&stored, *c),
+                                    &reading_text(&row.readings, *c),
+                                ),
+                            })
+                            .collect(),
+                    ));
                 } else if replace {
                     let mut merged = stored.clone();
                     for c in &present {
@@ -907,7 +988,10 @@ impl Importer<'_> {
                 .get_mut(&row.board)
                 .and_then(|b| b.circuits.get_mut(&row.circuit))
             {
-                c.latest = c.latest.max(Some(date));
+                // Unknown stays unknown: the stored records may be later than this one.
+                if let Some(known) = c.latest.as_mut() {
+                    *known = (*known).max(Some(date));
+                }
             }
         }
         Ok(eff)
@@ -926,6 +1010,18 @@ impl Importer<'_> {
     fn apply_observation(&mut self, row: &ObservationRow) -> RowResult<Effect> {
         let s = self.store;
         let mut eff = Effect::default();
+        // An observation belongs to a property's inspection: it never adds a property.
+        if !self.cache.properties.contains_key(&row.property_ref)
+            && s.ingest_property(&row.property_ref)?.is_none()
+        {
+            return fault(
+                Column::PropertyRef,
+                format!(
+                    "property {:?} not found: import its visit file first",
+                    row.property_ref
+                ),
+            );
+        }
         let p = self.cache.property(s, &row.property_ref, None, &mut eff)?;
         let property_id = p.id;
         let blank = IngestVisit {
@@ -1015,6 +1111,61 @@ struct NewlineTap<R> {
     offset: u64,
     line_has_text: bool,
     newlines: VecDeque<(u64, bool)>,
+    /// Inside a quoted field, where a newline does not end the row (quote parity: a doubled
+    /// quote inside a field flips it twice).
+    quoted: bool,
+    /// Where the row being read began, and its line; every newline counted so far.
+    row_start: u64,
+    row_line: u64,
+    newline_count: u64,
+}
+
+impl<R> NewlineTap<R> {
+    fn new(inner: R) -> NewlineTap<R> {
+        NewlineTap {
+            inner,
+            offset: 0,
+            line_has_text: false,
+            newlines: VecDeque::new(),
+            quoted: false,
+            row_start: 0,
+            row_line: 1,
+            newline_count: 0,
+        }
+    }
+}
+
+/// The longest row read: a real row is at most a few cells of [`cell::MAX_CELL_BYTES`] and
+/// short values, so anything longer is not a visit file (a file with no newline at all, say),
+/// and reading on would hold all of it in memory.
+pub const MAX_ROW_BYTES: u64 = 64 * 1024;
+
+/// A row longer than [`MAX_ROW_BYTES`], carried through the CSV reader as an I/O error.
+#[derive(Debug)]
+struct RowTooLong {
+    line: u64,
+}
+
+impl std::fmt::Display for RowTooLong {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        write!(
+            f,
+            "row is longer than {MAX_ROW_BYTES} bytes (64 KiB): expected one row of a visit or observation file per line; check the file is one, and that every quote is closed"
+        )
+    }
+}
+
+impl std::error::Error for RowTooLong {}
+
+/// The line of a row that was too long, when that is what `e` is.
+fn row_too_long(e: &csv::Error) -> Option<u64> {
+    match e.kind() {
+        csv::ErrorKind::Io(io) => io
+            .get_ref()
+            .and_then(|inner| inner.downcast_ref::<RowTooLong>())
+            .map(|r| r.line),
+        _ => None,
+    }
 }
 
 impl<R: Read> Read for NewlineTap<R> {
@@ -1026,12 +1177,29 @@ impl<R: Read> Read for NewlineTap<R> {
                 b'\n' => {
                     q.push_back((self.offset + i as u64, !self.line_has_text));
                     self.line_has_text = false;
+                    self.newline_count += 1;
+                    if !self.quoted {
+                        self.row_start = self.offset + i as u64 + 1;
+                        self.row_line = self.newline_count + 1;
+                    }
                 }
                 b'\r' => {}
+                b'"' => {
+                    self.quoted = !self.quoted;
+                    self.line_has_text = true;
+                }
                 _ => self.line_has_text = true,
             }
         }
         self.offset += n as u64;
+        if self.offset - self.row_start > MAX_ROW_BYTES {
+            return Err(std::io::Error::new(
+                std::io::ErrorKind::InvalidData,
+                RowTooLong {
+                    line: self.row_line,
+                },
+            ));
+        }
         Ok(n)
     }
 }
@@ -1056,6 +1224,14 @@ impl Lines {
 
 /// Rows per batch handed from the reading thread to the writing one.
 const BATCH_ROWS: usize = 1024;
+/// Rows in the first batch; each next one is twice as large, up to [`BATCH_ROWS`].
+const FIRST_BATCH_ROWS: usize = 32;
+/// A batch also ends once its rows hold this many bytes, and a reused record that grew past
+/// [`cell::MAX_CELL_BYTES`] is dropped, so that long rows cannot multiply the memory held.
+const BATCH_BYTES: usize = 1 << 20;
+/// The widest header read: the known columns, with room for many a file's own extra columns
+/// under `--ignore-unknown`.
+pub const MAX_COLUMNS: usize = 256;
 /// Batches parsed ahead of the writer; with the one being written and the one being read,
 /// this bounds the rows in memory whatever the file's size.
 const BATCHES_IN_FLIGHT: usize = 2;
@@ -1098,6 +1274,10 @@ fn read_rows(
     full: &mpsc::SyncSender<ReadResult>,
     free: &mpsc::Receiver<Batch>,
 ) {
+    // The writer waits for the first batch, so the first ones are small and the size grows
+    // to BATCH_ROWS: a short file (one visit of a portfolio) spends less of its time with one
+    // thread waiting for the other to fill the pipeline.
+    let mut rows_wanted = FIRST_BATCH_ROWS;
     loop {
         let mut batch = match free.try_recv() {
             Ok(mut b) => {
@@ -1110,12 +1290,16 @@ fn read_rows(
             },
         };
         let mut done = false;
-        while batch.rows.len() < BATCH_ROWS {
+        let mut bytes = 0;
+        while batch.rows.len() < rows_wanted && bytes < BATCH_BYTES {
             let i = batch.rows.len();
             if batch.records.len() == i {
                 batch.records.push(csv::ByteRecord::new());
             }
             let record = &mut batch.records[i];
+            if record.as_slice().len() > cell::MAX_CELL_BYTES {
+                *record = csv::ByteRecord::new();
+            }
             match csv.read_byte_record(record) {
                 Ok(true) => {}
                 Ok(false) => {
@@ -1127,6 +1311,7 @@ fn read_rows(
                     return;
                 }
             }
+            bytes += record.as_slice().len();
             let byte = record.position().map(|p| p.byte()).unwrap_or(0);
             let line = lines.at(&mut csv.get_mut().newlines, byte);
             let fields: Vec<&[u8]> = record.iter().collect();
@@ -1144,6 +1329,7 @@ fn read_rows(
             };
             batch.rows.push(Item { line, byte, parsed });
         }
+        rows_wanted = (rows_wanted * 2).min(BATCH_ROWS);
         if !batch.rows.is_empty() && full.send(Ok(batch)).is_err() {
             return;
         }
@@ -1180,12 +1366,7 @@ pub fn import_file(
     let mut reader = BufReader::with_capacity(1 << 16, file);
     let delimiter = sniff_delimiter(reader.fill_buf().map_err(io_err)?);
     let mut lines = Lines { passed: 0 };
-    let reader = NewlineTap {
-        inner: reader,
-        offset: 0,
-        line_has_text: false,
-        newlines: VecDeque::new(),
-    };
+    let reader = NewlineTap::new(reader);
     let mut csv = csv::ReaderBuilder::new()
         .has_headers(false)
         .flexible(true)
@@ -1202,7 +1383,35 @@ pub fn import_file(
     };
 
     let mut record = csv::ByteRecord::new();
-    if !csv.read_byte_record(&mut record).map_err(csv_err)? {
+    let first = match csv.read_byte_record(&mut record) {
+        Err(e) if let Some(line) = row_too_long(&e) => {
+            Errors {
+                file: &name,
+                summary: &mut summary,
+            }
+            .push(line, 1, None, &RowTooLong { line }.to_string());
+            return Ok(summary);
+        }
+        other => other.map_err(csv_err)?,
+    };
+    if record.len() > MAX_COLUMNS {
+        Errors {
+            file: &name,
+            summary: &mut summary,
+        }
+        .push(
+            1,
+            MAX_COLUMNS + 1,
+            None,
+            &format!(
+                "the header has {} columns: expected at most {MAX_COLUMNS} (a visit file has {} known columns)",
+                record.len(),
+                Column::VISIT.len()
+            ),
+        );
+        return Ok(summary);
+    }
+    if !first {
         Errors {
             file: &name,
             summary: &mut summary,
@@ -1266,7 +1475,10 @@ pub fn import_file(
     summary.kind = Some(header.kind);
 
     store.ingest_prepare()?;
-    let mut sidecar: Option<csv::Writer<File>> = None;
+    // Rejected rows are written to a temporary file beside the sidecar's name and renamed
+    // onto it at the end: a rename replaces whatever stands at the name (a symbolic link
+    // planted there included) instead of writing through it.
+    let mut sidecar: Option<csv::Writer<tempfile::NamedTempFile>> = None;
     let sidecar_file = sidecar_path(path);
     let mut importer = Importer {
         store,
@@ -1288,7 +1500,23 @@ pub fn import_file(
         scope.spawn(move || read_rows(csv, lines, header, &parse, &full_tx, &free_rx));
         let outcome = store.atomic(|s| {
             for received in full_rx.iter() {
-                let batch = received.map_err(csv_err)?;
+                let batch = match received {
+                    Err(e) if let Some(line) = row_too_long(&e) => {
+                        Errors {
+                            file: &name,
+                            summary: &mut summary,
+                        }
+                        .push(
+                            line,
+                            1,
+                            None,
+                            &RowTooLong { line }.to_string(),
+                        );
+                        refused = true;
+                        return Err(Error::invalid("rolled back"));
+                    }
+                    other => other.map_err(csv_err)?,
+                };
                 for (i, item) in batch.rows.iter().enumerate() {
                     let record = &batch.records[i];
                     let line = item.line;
@@ -1326,12 +1554,18 @@ pub fn import_file(
                             if opts.skip_invalid {
                                 summary.rows_rejected += 1;
                                 if sidecar.is_none() {
-                                    let f = File::create(&sidecar_file).map_err(|source| {
-                                        Error::Io {
+                                    let dir = match sidecar_file.parent() {
+                                        Some(d) if !d.as_os_str().is_empty() => d,
+                                        _ => Path::new("."),
+                                    };
+                                    let f = tempfile::Builder::new()
+                                        .prefix(".ohmtrail-rejected-")
+                                        .suffix(".tmp")
+                                        .tempfile_in(dir)
+                                        .map_err(|source| Error::Io {
                                             path: sidecar_file.clone(),
                                             source,
-                                        }
-                                    })?;
+                                        })?;
                                     let mut w = csv::Writer::from_writer(f);
                                     let mut head = csv::ByteRecord::from(header_raw.clone());
                                     head.push_field(b"reason");
@@ -1339,8 +1573,16 @@ pub fn import_file(
                                     sidecar = Some(w);
                                 }
                                 if let Some(w) = sidecar.as_mut() {
-                                    let mut out = record.clone();
-                                    out.push_field(reasons.join("; ").as_bytes());
+                                    // Text is protected against formula injection as export
+                                    // protects it; import removes the mark again.
+                                    let mut out = csv::ByteRecord::new();
+                                    for field in record.iter() {
+                                        match std::str::from_utf8(field) {
+                                            Ok(t) => out.push_field(escape(t).as_bytes()),
+                                            Err(_) => out.push_field(field),
+                                        }
+                                    }
+                                    out.push_field(escape(&reasons.join("; ")).as_bytes());
                                     w.write_byte_record(&out).map_err(csv_err)?;
                                 }
                             }
@@ -1374,11 +1616,24 @@ pub fn import_file(
         outcome
     });
     progress(size, size);
-    if let Some(mut w) = sidecar {
-        w.flush().map_err(|source| Error::Io {
+    if let Some(w) = sidecar
+        && outcome.is_ok()
+    {
+        let io_err = |source| Error::Io {
             path: sidecar_file.clone(),
             source,
-        })?;
+        };
+        let tmp = w
+            .into_inner()
+            .map_err(|e| io_err(std::io::Error::other(e.to_string())))?;
+        #[cfg(unix)]
+        {
+            use std::os::unix::fs::PermissionsExt;
+            let _ = tmp
+                .as_file()
+                .set_permissions(std::fs::Permissions::from_mode(0o644));
+        }
+        tmp.persist(&sidecar_file).map_err(|e| io_err(e.error))?;
         summary.sidecar = Some(sidecar_file);
     }
     match outcome {

@@ -121,6 +121,10 @@ pub fn parse_header(names: &[&str], ignore_unknown: bool) -> Result<Header, Vec<
                 };
                 let what = if raw.trim().is_empty() {
                     "unnamed column".to_string()
+                } else if raw.chars().count() > SHOWN_NAME_CHARS {
+                    // A name this long is shown by its start, so the message stays one line.
+                    let start: String = raw.chars().take(SHOWN_NAME_CHARS).collect();
+                    format!("unknown column {start:?}… ({} bytes long)", raw.len())
                 } else {
                     format!("unknown column {raw:?}")
                 };
@@ -161,8 +165,20 @@ pub fn parse_header(names: &[&str], ignore_unknown: bool) -> Result<Header, Vec<
     }
 }
 
+/// Unknown column names longer than this are shown by their start.
+const SHOWN_NAME_CHARS: usize = 60;
+
+/// The most edits a suggestion may be away from the name given.
+const SUGGEST_EDITS: usize = 3;
+
 /// The nearest known column name to a mistyped one, if it is close.
 fn suggest(raw: &str, allowed: &[Column]) -> Option<&'static str> {
+    // The edit distance is at least the difference in length, so a name much longer than
+    // every known one has no suggestion, and is not compared letter by letter.
+    let longest = allowed.iter().map(|c| c.name().len()).max().unwrap_or(0);
+    if raw.trim().chars().count() > longest + SUGGEST_EDITS {
+        return None;
+    }
     let n = raw
         .trim()
         .to_ascii_lowercase()
@@ -170,7 +186,7 @@ fn suggest(raw: &str, allowed: &[Column]) -> Option<&'static str> {
     allowed
         .iter()
         .map(|c| (edit_distance(&n, c.name()), c.name()))
-        .filter(|(d, _)| *d <= 3)
+        .filter(|(d, _)| *d <= SUGGEST_EDITS)
         .min()
         .map(|(_, name)| name)
 }

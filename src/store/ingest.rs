@@ -43,6 +43,12 @@ pub struct IngestChange {
     pub old_value: Option<String>,
 }
 
+/// See [`Store::ingest_latest_record`].
+const LATEST_RECORD_SQL: &str = "SELECT max(v.date) FROM circuit c
+     CROSS JOIN board b CROSS JOIN visit v CROSS JOIN test_record t
+     WHERE c.id = ?1 AND b.id = c.board_id AND v.property_id = b.property_id
+       AND t.visit_id = v.id AND t.circuit_id = c.id";
+
 /// One test record with everything export writes beside it.
 #[derive(Debug, Clone, PartialEq)]
 pub struct ExportRecord {
@@ -216,6 +222,24 @@ impl Store {
             .optional()?)
     }
 
+    /// Every circuit in service on a board, with its number, id, register details and whether
+    /// any change is recorded on it: one query for a board's circuits instead of two for each.
+    pub fn ingest_board_circuits(
+        &self,
+        board_id: i64,
+    ) -> Result<Vec<(String, i64, CircuitDetails, bool)>> {
+        let mut st = self.conn.prepare_cached(
+            "SELECT c.number, c.id, c.description, c.kind, c.live_mm2, c.cpc_mm2, c.length_m,
+                    c.device, c.rcd_ma,
+                    EXISTS (SELECT 1 FROM circuit_change ch WHERE ch.circuit_id = c.id)
+             FROM circuit c WHERE c.board_id = ?1 AND c.status = 'in_service' ORDER BY c.id",
+        )?;
+        let rows = st.query_map([board_id], |r| {
+            Ok((r.get(0)?, r.get(1)?, details_at(r, 2)?, r.get(9)?))
+        })?;
+        Ok(rows.collect::<rusqlite::Result<_>>()?)
+    }
+
     /// Every change recorded on a circuit, oldest first.
     pub fn ingest_changes(&self, circuit_id: i64) -> Result<Vec<IngestChange>> {
         let mut st = self.conn.prepare_cached(
@@ -232,12 +256,43 @@ impl Store {
     }
 
     /// The date of the latest visit with a test record for this circuit.
+    ///
+    /// Reached through the property's visits (the unique index on visit's property and date)
+    /// and the unique (visit, circuit) index on test records, so it costs one probe per visit
+    /// of the property whatever the size of the history: test records have no index on the
+    /// circuit alone (migration 003), and a lookup by circuit would scan them all. `CROSS
+    /// JOIN` keeps SQLite from choosing another order.
     pub fn ingest_latest_record(&self, circuit_id: i64) -> Result<Option<NaiveDate>> {
-        let mut st = self.conn.prepare_cached(
-            "SELECT max(v.date) FROM test_record t JOIN visit v ON v.id = t.visit_id
-             WHERE t.circuit_id = ?1",
-        )?;
+        let mut st = self.conn.prepare_cached(LATEST_RECORD_SQL)?;
         Ok(st.query_row([circuit_id], |r| r.get(0))?)
+    }
+
+    /// The earliest date after `date` at which the circuit's history already holds something
+    /// a register change dated `date` would alter: a test record at another visit, or a
+    /// recorded change of one of `fields`. `None` when the change would be the latest word.
+    pub fn later_history(
+        &self,
+        circuit_id: i64,
+        date: NaiveDate,
+        fields: &[&str],
+    ) -> Result<Option<NaiveDate>> {
+        let mut st = self.conn.prepare_cached(
+            "SELECT min(v.date) FROM circuit c
+             CROSS JOIN board b CROSS JOIN visit v CROSS JOIN test_record t
+             WHERE c.id = ?1 AND b.id = c.board_id AND v.property_id = b.property_id
+               AND v.date > ?2 AND t.visit_id = v.id AND t.circuit_id = c.id",
+        )?;
+        let record: Option<NaiveDate> = st.query_row(params![circuit_id, date], |r| r.get(0))?;
+        let change = self
+            .ingest_changes(circuit_id)?
+            .into_iter()
+            .filter(|ch| ch.date > date && ch.field.as_deref().is_some_and(|f| fields.contains(&f)))
+            .map(|ch| ch.date)
+            .min();
+        Ok(match (record, change) {
+            (Some(a), Some(b)) => Some(a.min(b)),
+            (a, b) => a.or(b),
+        })
     }
 
     pub fn ingest_visit(&self, property_id: i64, date: NaiveDate) -> Result<Option<IngestVisit>> {
@@ -508,4 +563,67 @@ fn details_at(r: &Row, o: usize) -> rusqlite::Result<CircuitDetails> {
         rcd_ma: r.get(o + 6)?,
         ..Default::default()
     })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::store::Store;
+
+    /// Every step of the circuit's-latest-record lookup is a search through an index: a scan
+    /// of test records would make each lookup cost as much as the whole history.
+    #[test]
+    fn the_latest_record_lookup_searches_indexes_only() {
+        let s = Store::open_in_memory().unwrap();
+        let mut st = s
+            .conn
+            .prepare(&format!("EXPLAIN QUERY PLAN {LATEST_RECORD_SQL}"))
+            .unwrap();
+        let plan: Vec<String> = st
+            .query_map([1], |r| r.get(3))
+            .unwrap()
+            .collect::<rusqlite::Result<_>>()
+            .unwrap();
+        // SQLite calls a walk of a whole index without a bound value a SEARCH too, as it did
+        // for the lookup by circuit alone; a bounded step names its bound column as `col=?`.
+        assert_eq!(plan.len(), 4, "{plan:?}");
+        for step in &plan {
+            assert!(
+                step.starts_with("SEARCH") && step.contains("=?"),
+                "{plan:?}"
+            );
+        }
+        assert!(
+            plan.iter()
+                .any(|p| p.starts_with("SEARCH t USING")
+                    && p.contains("visit_id=? AND circuit_id=?")),
+            "{plan:?}"
+        );
+    }
+
+    #[test]
+    fn the_latest_record_is_the_latest_visit_holding_one_for_the_circuit() {
+        let s = Store::open_in_memory().unwrap();
+        let p = s.ingest_insert_property("P-1", None).unwrap();
+        let b = s.ingest_insert_board(p, "DB1", None).unwrap();
+        let mut ins = s.ingest_inserts().unwrap();
+        let c1 = ins.circuit(b, "1", &CircuitDetails::default()).unwrap();
+        let c2 = ins.circuit(b, "2", &CircuitDetails::default()).unwrap();
+        let day = |d: &str| d.parse::<NaiveDate>().unwrap();
+        let visit = |d: &str| {
+            let v = IngestVisit {
+                id: 0,
+                inspector: None,
+                instrument: None,
+                ambient_c: None,
+            };
+            s.ingest_insert_visit(p, day(d), &v, None).unwrap()
+        };
+        let (v1, v2) = (visit("2020-01-02"), visit("2023-04-05"));
+        assert_eq!(s.ingest_latest_record(c1).unwrap(), None);
+        ins.record(v1, c1, &Readings::default()).unwrap();
+        ins.record(v2, c2, &Readings::default()).unwrap();
+        assert_eq!(s.ingest_latest_record(c1).unwrap(), Some(day("2020-01-02")));
+        assert_eq!(s.ingest_latest_record(c2).unwrap(), Some(day("2023-04-05")));
+    }
 }

@@ -22,7 +22,15 @@ pub const MIGRATIONS: &[(&str, &str)] = &[
         "005_partial_replaces_index",
         include_str!("../../schema/005_partial_replaces_index.sql"),
     ),
+    (
+        "006_application_id",
+        include_str!("../../schema/006_application_id.sql"),
+    ),
 ];
+
+/// The last version whose databases carry no application id: an unmarked database at a
+/// version up to this one, holding ohmtrail's tables, is one of ours from before the mark.
+pub const UNMARKED_VERSIONS: i64 = 5;
 
 /// A migration that rebuilds tables starts with this line: SQLite's procedure for changing a
 /// table's constraints needs foreign keys off while the old table is dropped, and the
@@ -173,9 +181,13 @@ mod tests {
         let indexes_before = dump(&conn, indexes);
         assert_eq!(
             apply(&mut conn).unwrap(),
-            vec!["004_checks_without_in_lists", "005_partial_replaces_index"]
+            vec![
+                "004_checks_without_in_lists",
+                "005_partial_replaces_index",
+                "006_application_id"
+            ]
         );
-        assert_eq!(user_version(&conn).unwrap(), 5);
+        assert_eq!(user_version(&conn).unwrap(), 6);
         for (t, rows) in tables.iter().zip(&before) {
             assert_eq!(
                 &dump(&conn, &format!("SELECT * FROM {t} ORDER BY id")),
@@ -250,6 +262,16 @@ mod tests {
             "SELECT name FROM sqlite_schema WHERE name LIKE '%_004'",
         );
         assert!(tables.is_empty(), "{tables:?}");
+    }
+
+    #[test]
+    fn a_migrated_database_carries_ohmtrails_mark() {
+        let mut conn = Connection::open_in_memory().unwrap();
+        apply(&mut conn).unwrap();
+        let id: i32 = conn
+            .query_row("PRAGMA application_id", [], |r| r.get(0))
+            .unwrap();
+        assert_eq!(id, crate::store::APPLICATION_ID);
     }
 
     #[test]

@@ -66,6 +66,8 @@ pub struct Store {
     conn: Connection,
     path: PathBuf,
     read_only: bool,
+    /// Opened read-only because its directory cannot be written, though the file could be.
+    in_read_only_dir: bool,
 }
 
 /// A new property for the register.
@@ -106,6 +108,7 @@ pub struct CircuitDetails {
 impl CircuitDetails {
     /// Check every given value; the first fault is the error.
     pub fn validate(&self) -> Result<()> {
+        check_text("circuit description", self.description.as_deref())?;
         let bad = |m: String| Err(Error::Invalid(m));
         if let Some(v) = self.live_mm2
             && let Err(m) = validate_csa("live csa", v)
@@ -165,6 +168,83 @@ pub struct VisitSummary {
     pub observations: i64,
 }
 
+/// Refuse text holding a control character (NUL, escape, backspace and the like; a tab or a
+/// line break may stay), naming the character and its position: stored, it would reach a
+/// terminal as an escape sequence and HTML as a character it does not allow.
+pub fn check_text(what: &str, text: Option<&str>) -> Result<()> {
+    let Some(text) = text else { return Ok(()) };
+    match text
+        .char_indices()
+        .find(|&(_, c)| c.is_control() && !matches!(c, '\t' | '\n' | '\r'))
+    {
+        Some((offset, c)) => Err(Error::invalid(format!(
+            "{what} has control character U+{:04X} at offset {offset}: remove it",
+            c as u32
+        ))),
+        None => Ok(()),
+    }
+}
+
+/// A file path as the path of a SQLite URI (https://www.sqlite.org/uri.html): every byte but
+/// letters, digits, `/` and `-._~` percent-encoded, so `?`, `#` and `%` keep their meaning.
+fn uri_path(path: &Path) -> String {
+    use std::os::unix::ffi::OsStrExt;
+    let mut out = String::new();
+    for &b in path.as_os_str().as_bytes() {
+        if b.is_ascii_alphanumeric() || b"/-._~".contains(&b) {
+            out.push(b as char);
+        } else {
+            out.push_str(&format!("%{b:02X}"));
+        }
+    }
+    out
+}
+
+/// ohmtrail's mark in the SQLite header (`PRAGMA application_id`), set by migration 006:
+/// "ohmt" in ASCII.
+pub const APPLICATION_ID: i32 = 0x6F68_6D74;
+
+/// Tables every ohmtrail database has had since its first version.
+const OWN_TABLES: [&str; 5] = ["property", "board", "circuit", "visit", "test_record"];
+
+/// Why the open database is not ohmtrail's, or `None` when it is (marked, or from before the
+/// mark with ohmtrail's tables) or empty. Reads only, so a refused file stays byte-identical.
+fn check_ownership(conn: &Connection, version: i64) -> rusqlite::Result<Option<String>> {
+    let id: i32 = conn.query_row("PRAGMA application_id", [], |r| r.get(0))?;
+    if id == APPLICATION_ID {
+        return Ok(None);
+    }
+    if id != 0 {
+        return Ok(Some(format!(
+            "its application id is {id:#010x}, not ohmtrail's {APPLICATION_ID:#010x}"
+        )));
+    }
+    let mut st = conn.prepare(
+        "SELECT name FROM sqlite_schema WHERE type = 'table' AND name NOT LIKE 'sqlite_%'
+         ORDER BY name",
+    )?;
+    let tables: Vec<String> = st
+        .query_map([], |r| r.get(0))?
+        .collect::<rusqlite::Result<_>>()?;
+    if tables.is_empty() && version == 0 {
+        return Ok(None);
+    }
+    let ours = OWN_TABLES.iter().all(|t| tables.iter().any(|x| x == t));
+    if ours && (1..=migrate::UNMARKED_VERSIONS).contains(&version) {
+        return Ok(None);
+    }
+    let mut shown: Vec<&str> = tables.iter().take(5).map(String::as_str).collect();
+    if tables.len() > 5 {
+        shown.push("…");
+    }
+    Ok(Some(format!(
+        "it has no ohmtrail mark and holds {} table{}: {}",
+        tables.len(),
+        if tables.len() == 1 { "" } else { "s" },
+        shown.join(", ")
+    )))
+}
+
 impl Store {
     /// Open (creating when absent) the database at `path` and bring its schema up to date.
     /// A database stamped by a newer ohmtrail is refused before anything is written to it.
@@ -217,11 +297,54 @@ impl Store {
                 | OpenFlags::SQLITE_OPEN_CREATE
                 | OpenFlags::SQLITE_OPEN_NO_MUTEX
         };
-        let conn = Connection::open_with_flags(path, flags).map_err(db_err)?;
-        if !read_only {
-            limit_pages_for_tests(&conn, path)?;
+        let opened = Connection::open_with_flags(path, flags)
+            .map_err(db_err)
+            .and_then(|conn| {
+                if !read_only {
+                    limit_pages_for_tests(&conn, path)?;
+                }
+                Store::setup(conn, path.to_path_buf(), read_only)
+            });
+        match opened {
+            // SQLite keeps a database's journal files beside it: in a directory that cannot
+            // be written it cannot open even to read, unless told to open read-only.
+            Err(Error::Database { source, .. })
+                if !read_only
+                    && path.is_file()
+                    && matches!(
+                        source.sqlite_error_code(),
+                        Some(rusqlite::ErrorCode::CannotOpen | rusqlite::ErrorCode::ReadOnly)
+                    ) =>
+            {
+                Store::open_in_read_only_dir(path)
+            }
+            other => other,
         }
-        Store::setup(conn, path.to_path_buf(), read_only)
+    }
+
+    /// Open a database whose directory cannot be written, read-only. With no write-ahead log
+    /// beside it nobody can be writing it (a writer would have to create one there), so
+    /// SQLite is told the file will not change and needs no shared-memory file either
+    /// (https://www.sqlite.org/uri.html#uriimmutable).
+    fn open_in_read_only_dir(path: &Path) -> Result<Store> {
+        let mut wal = path.as_os_str().to_owned();
+        wal.push("-wal");
+        let immutable = if Path::new(&wal).exists() {
+            ""
+        } else {
+            "&immutable=1"
+        };
+        let uri = format!("file:{}?mode=ro{immutable}", uri_path(path));
+        let flags = OpenFlags::SQLITE_OPEN_READ_ONLY
+            | OpenFlags::SQLITE_OPEN_URI
+            | OpenFlags::SQLITE_OPEN_NO_MUTEX;
+        let conn = Connection::open_with_flags(&uri, flags).map_err(|source| Error::Database {
+            path: path.to_path_buf(),
+            source,
+        })?;
+        let mut store = Store::setup(conn, path.to_path_buf(), true)?;
+        store.in_read_only_dir = true;
+        Ok(store)
     }
 
     /// Another connection to the same database file, for reading beside this one on another
@@ -304,6 +427,9 @@ impl Store {
         // Read the version before anything that writes (journal_mode=WAL writes the header),
         // so a database from a newer version stays byte-identical.
         let found = migrate::user_version(&conn).map_err(db_err)?;
+        if let Some(what) = check_ownership(&conn, found).map_err(db_err)? {
+            return Err(Error::ForeignDatabase { path, what });
+        }
         let supported = migrate::latest_version();
         if found > supported {
             return Err(Error::NewerSchema {
@@ -315,7 +441,8 @@ impl Store {
         conn.pragma_update(None, "foreign_keys", true)
             .map_err(db_err)?;
         if read_only {
-            if found < supported {
+            // Versions from the last unmarked one on differ only by the mark: readable.
+            if found < supported.min(migrate::UNMARKED_VERSIONS) {
                 return Err(Error::ReadOnly {
                     path,
                     why: format!(
@@ -327,6 +454,7 @@ impl Store {
                 conn,
                 path,
                 read_only,
+                in_read_only_dir: false,
             });
         }
         if path.as_os_str() != ":memory:" {
@@ -348,6 +476,7 @@ impl Store {
             conn,
             path,
             read_only,
+            in_read_only_dir: false,
         })
     }
 
@@ -388,9 +517,20 @@ impl Store {
             };
         }
         if self.read_only {
+            let why = if self.in_read_only_dir {
+                let dir = match self.path.parent() {
+                    Some(d) if !d.as_os_str().is_empty() => d.display().to_string(),
+                    _ => ".".into(),
+                };
+                format!(
+                    "this command writes to it, but its directory {dir} cannot be written (SQLite keeps its journal files beside the database)"
+                )
+            } else {
+                "this command writes to it".into()
+            };
             return Err(Error::ReadOnly {
                 path: self.path.clone(),
-                why: "this command writes to it".into(),
+                why,
             });
         }
         self.conn
@@ -487,6 +627,10 @@ impl Store {
         if reference.is_empty() {
             return Err(Error::invalid("property reference is empty"));
         }
+        check_text("property reference", Some(reference))?;
+        check_text("address", p.address.as_deref())?;
+        check_text("client", p.client.as_deref())?;
+        check_text("notes", p.notes.as_deref())?;
         let interval = p
             .interval_months
             .unwrap_or(crate::model::DEFAULT_INTERVAL_MONTHS);
@@ -601,6 +745,8 @@ impl Store {
         if designation.is_empty() {
             return Err(Error::invalid("board designation is empty"));
         }
+        check_text("board designation", Some(designation))?;
+        check_text("board location", b.location.as_deref())?;
         self.atomic(|s| {
             let property = s.property(property_ref)?;
             if s.board_opt(property.id, designation)?.is_some() {
@@ -817,6 +963,7 @@ impl Store {
         d: &CircuitDetails,
         replaces: Option<i64>,
     ) -> Result<Circuit> {
+        check_text("circuit number", Some(number))?;
         if self.circuit_opt(board.id, number)?.is_some() {
             return Err(Error::invalid(format!(
                 "board {:?} already has a circuit {number} in service: choose another number, or retire or replace the existing circuit",
