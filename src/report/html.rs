@@ -65,7 +65,8 @@ pub fn and_list(items: &[String]) -> String {
 
 /// A file name from a property reference: letters, digits, `-`, `_` and `.` are kept, anything
 /// else becomes `_`. When anything was changed, a short hash of the original reference is
-/// appended so that two references that differ only in such characters never share a file.
+/// appended so that two references that differ only in such characters never share a file;
+/// so is it when the reference itself ends like such a hash.
 pub fn file_stem(reference: &str) -> String {
     let mut changed = false;
     let mut s: String = reference
@@ -89,11 +90,25 @@ pub fn file_stem(reference: &str) -> String {
         changed = true;
         s.truncate(80);
     }
-    if changed || s != reference {
+    // A reference that already ends like an appended hash (`a_b_c-477dfb6b`) gets one of its
+    // own too, so it can never take the name of a changed reference (`a/b/c`): a name ends in
+    // `-` and eight hex digits exactly when a hash was appended, and the hash is of the
+    // reference as given.
+    if changed || s != reference || ends_like_a_hash(&s) {
         s.push('-');
         s.push_str(&format!("{:08x}", fnv1a(reference.as_bytes())));
     }
     s
+}
+
+/// True when `s` ends in `-` and eight lower-case hex digits.
+fn ends_like_a_hash(s: &str) -> bool {
+    let b = s.as_bytes();
+    b.len() >= 9
+        && b[b.len() - 9] == b'-'
+        && b[b.len() - 8..]
+            .iter()
+            .all(|c| c.is_ascii_digit() || (b'a'..=b'f').contains(c))
 }
 
 /// FNV-1a, 32 bits: a stable, dependency-free hash for file names (not for security).
@@ -152,6 +167,14 @@ mod tests {
         assert!(file_stem(".hidden").starts_with('_'));
         assert!(!file_stem("").is_empty());
         assert!(file_stem(&"x".repeat(300)).len() < 100);
+        // A reference spelled like another's made-safe name does not take that name.
+        let made_safe = file_stem("a/b/c");
+        assert!(made_safe.starts_with("a_b_c-"), "{made_safe}");
+        assert_ne!(file_stem(&made_safe), made_safe);
+        assert!(file_stem(&made_safe).starts_with(&format!("{made_safe}-")));
+        // An ordinary reference keeps its plain name.
+        assert_eq!(file_stem("QL-001"), "QL-001");
+        assert_eq!(file_stem("FLAT-12345678X"), "FLAT-12345678X");
     }
 
     #[test]
