@@ -427,7 +427,10 @@ pub struct CircuitFacts {
 /// The disconnection time chosen for a circuit, and why.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct DisconnectionChoice {
+    /// The TN time, which also picks the device's row in Tables 41.2–41.4.
     pub time: DisconnectionTime,
+    /// On TT, the time Table 41.1 asks instead: 0.2 s (final) or 1 s (distribution).
+    pub tt_time_s: Option<f64>,
     /// True when the time rests on an assumption rather than on recorded facts.
     pub assumed: bool,
     pub reason: String,
@@ -439,6 +442,11 @@ const REG_411_3_2_2: Source = Source::new(
     SourceStatus::Published,
     "TN: 0.4 s for final circuits up to 63 A with sockets and up to 32 A supplying fixed equipment",
 );
+const TT_TIMES: Source = Source::new(
+    "BS 7671:2018+A2:2022 Table 41.1, Regulation 411.3.2.4",
+    SourceStatus::Published,
+    "TT: 0.2 s for final circuits up to 63 A with sockets and up to 32 A supplying fixed equipment; 1 s for distribution circuits and other final circuits",
+);
 const REG_411_3_2_3: Source = Source::new(
     "BS 7671:2018+A2:2022 Regulation 411.3.2.3",
     SourceStatus::Published,
@@ -449,20 +457,41 @@ const REG_411_3_2_3: Source = Source::new(
 /// 0.4 s is taken and the reason says so.
 pub fn default_disconnection(facts: &CircuitFacts) -> Result<DisconnectionChoice, LimitsError> {
     use DisconnectionTime::{S0_4, S5};
-    let tt_note = if facts.earthing == Some(Earthing::Tt) {
-        "; TT: Table 41.1 asks 0.2 s (final) or 1 s (distribution), so the earth fault path is judged against the RCD (Table 41.5)"
-    } else {
-        ""
-    };
-    let pick = |time, assumed, reason: String| DisconnectionChoice {
-        time,
-        assumed,
-        reason: format!("{reason}{tt_note}"),
-        source: if time == S0_4 {
-            REG_411_3_2_2
-        } else {
-            REG_411_3_2_3
-        },
+    let tt = facts.earthing == Some(Earthing::Tt);
+    let pick = |time, assumed, reason: String| {
+        if tt {
+            // The TN words would name 0.4 s or 5 s; TT has its own times.
+            let (s, what) = if time == S0_4 {
+                (0.2, "a final circuit")
+            } else {
+                (1.0, "a distribution circuit or a larger final circuit")
+            };
+            let basis = if assumed {
+                "facts missing, the stricter time assumed"
+            } else {
+                "from what is recorded"
+            };
+            return DisconnectionChoice {
+                time,
+                tt_time_s: Some(s),
+                assumed,
+                reason: format!(
+                    "TT: {s} s for {what} (Table 41.1), {basis}; the earth fault path is judged against the RCD (Table 41.5)"
+                ),
+                source: TT_TIMES,
+            };
+        }
+        DisconnectionChoice {
+            time,
+            tt_time_s: None,
+            assumed,
+            reason,
+            source: if time == S0_4 {
+                REG_411_3_2_2
+            } else {
+                REG_411_3_2_3
+            },
+        }
     };
     if let Some(s) = facts.recorded_s {
         let time = DisconnectionTime::from_seconds(s)?;
@@ -914,6 +943,32 @@ mod tests {
             ..CircuitFacts::default()
         };
         assert!(default_disconnection(&bad).is_err());
+    }
+
+    #[test]
+    fn tt_takes_its_own_times_not_the_tn_ones() {
+        // BS 7671:2018+A2:2022 Table 41.1: TT final circuit 0.2 s; Reg 411.3.2.4: 1 s for
+        // distribution circuits.
+        let f = |circuit_use, rating_a| CircuitFacts {
+            circuit_use,
+            rating_a,
+            earthing: Some(Earthing::Tt),
+            ..CircuitFacts::default()
+        };
+        let c = default_disconnection(&f(Some(CircuitUse::Sockets), Some(32))).unwrap();
+        assert_eq!(c.tt_time_s, Some(0.2));
+        assert!(c.reason.starts_with("TT: 0.2 s"), "{}", c.reason);
+        assert!(!c.reason.contains("0.4"), "{}", c.reason);
+        assert!(c.source.citation.contains("Table 41.1"));
+        let c = default_disconnection(&f(Some(CircuitUse::Distribution), Some(63))).unwrap();
+        assert_eq!(c.tt_time_s, Some(1.0));
+        assert!(!c.reason.contains("5 s"), "{}", c.reason);
+        let tn = default_disconnection(&CircuitFacts {
+            earthing: Some(Earthing::TnCS),
+            ..f(Some(CircuitUse::Sockets), Some(32))
+        })
+        .unwrap();
+        assert_eq!(tn.tt_time_s, None);
     }
 
     mod props {
