@@ -600,7 +600,7 @@ pub(super) fn circuit_analysis(
         rn_limit.map(Limit::max),
         rn_limit.filter(|_| full).map(|l| {
             format!(
-                "line–neutral loop: {} less the latest Ze {:.2} Ω = {l:.2} Ω",
+                "line–neutral check value (ohmtrail's practice, Reg 434.5.2; R1+Rn has no published maximum): {} less the latest Ze {:.2} Ω = {l:.2} Ω",
                 loop_words.clone().unwrap_or_default(),
                 last_ze.unwrap_or_default()
             )

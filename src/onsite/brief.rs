@@ -486,7 +486,10 @@ fn r1rn_limit_at(
     Some(LimitAt {
         value,
         kind: LimitKind::Max,
-        words: format!("line–neutral loop: {} less {ze_words}", zs.words),
+        words: format!(
+            "line–neutral check value (ohmtrail's practice, Reg 434.5.2; R1+Rn has no published maximum): {} less {ze_words}",
+            zs.words
+        ),
         advisory: false,
     })
 }
