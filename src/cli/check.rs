@@ -15,6 +15,7 @@ use ohmtrail::limits::{
 use ohmtrail::model::{Device, Earthing, Insulation};
 
 use super::limits::{Row, SourceList, write_notes, write_rows};
+use super::{Context, today};
 
 /// Judge one circuit's readings (both fault paths) against its device, with sources.
 #[derive(clap::Args, Debug)]
@@ -38,7 +39,7 @@ pub struct Args {
     /// Test temperature, °C
     #[arg(long, value_name = "C", allow_negative_numbers = true)]
     pub temp: Option<f64>,
-    /// Cable insulation, thermoplastic70 (PVC) or thermosetting90 (XLPE); when omitted 70 °C thermoplastic (the usual twin and earth) is assumed, and the output says so
+    /// Cable insulation, thermoplastic70 (PVC) or thermosetting90 (XLPE); when omitted the named database's limits.assumed_insulation is assumed (default 70 °C thermoplastic, the usual twin and earth), and the output says so
     #[arg(long, value_name = "INSULATION")]
     pub insulation: Option<Insulation>,
     /// Earthing arrangement: TN-S, TN-C-S or TT
@@ -76,7 +77,21 @@ fn outcome_words(p: &PathResult) -> &'static str {
     }
 }
 
-pub fn run(args: &Args, out: &mut dyn Write) -> Result<()> {
+/// The insulation taken when `--insulation` is not given: the named database's setting, or
+/// the built-in default. A database that does not exist is not created for this.
+fn assumed_insulation(ctx: &Context) -> Result<Insulation> {
+    match ctx.named_db().filter(|p| p.exists()) {
+        Some(p) => {
+            let store = ohmtrail::store::Store::open(p)?;
+            Ok(ohmtrail::analysis::Settings::load(&store, today())?
+                .limits
+                .assumed_insulation)
+        }
+        None => Ok(ohmtrail::limits::DEFAULT_ASSUMED_INSULATION),
+    }
+}
+
+pub fn run(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
     let device: Device = args.device.parse()?;
     let choice = match args.disconnect {
         Some(t) => default_disconnection(&CircuitFacts {
@@ -99,7 +114,10 @@ pub fn run(args: &Args, out: &mut dyn Write) -> Result<()> {
         conditions: TestConditions {
             temp_c: args.temp,
             insulation: args.insulation,
-            ..TestConditions::default()
+            assumed_insulation: match args.insulation {
+                Some(_) => ohmtrail::limits::DEFAULT_ASSUMED_INSULATION,
+                None => assumed_insulation(ctx)?,
+            },
         },
         rule: args.rule.unwrap_or_default(),
         ..FaultPathInputs::new(device, choice.time)
@@ -241,7 +259,7 @@ mod tests {
         let m = cmd.try_get_matches_from(argv)?;
         let args = Args::from_arg_matches(&m)?;
         let mut buf = Vec::new();
-        run(&args, &mut buf)?;
+        run(&args, &Context::new(None), &mut buf)?;
         Ok(String::from_utf8(buf).unwrap())
     }
 
@@ -335,6 +353,40 @@ mod tests {
             !s.contains("21 Ω") && !s.contains("network operator"),
             "{s}"
         );
+    }
+
+    #[test]
+    fn a_named_database_chooses_the_assumed_insulation() {
+        // B16 at 15 °C with a measured Zs 1.93 Ω only (whole loop corrected):
+        // 90 °C thermosetting: 2.73 × 0.98035 / 1.28 = 2.09091 → 2.09 Ω;
+        // 70 °C thermoplastic (no database): / 1.20 = 2.23030 → 2.23 Ω.
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join("t.db");
+        let store = ohmtrail::store::Store::open(&path).unwrap();
+        store
+            .set_setting("limits.assumed_insulation", "thermosetting90")
+            .unwrap();
+        drop(store);
+        let argv = ["check", "--device", "B16", "--zs", "1.93", "--temp", "15"];
+        let cmd = Args::augment_args(Command::new("check"));
+        let args = Args::from_arg_matches(&cmd.try_get_matches_from(argv).unwrap()).unwrap();
+        let mut buf = Vec::new();
+        run(&args, &Context::new(Some(path.clone())), &mut buf).unwrap();
+        let s = String::from_utf8(buf).unwrap();
+        assert!(
+            s.contains("2.09 Ω") && s.contains("90 °C thermosetting assumed"),
+            "{s}"
+        );
+        let s = output(&argv).unwrap();
+        assert!(
+            s.contains("2.23 Ω") && s.contains("70 °C thermoplastic assumed"),
+            "{s}"
+        );
+        // A database that is named but absent is not created.
+        let absent = dir.path().join("absent.db");
+        let mut buf = Vec::new();
+        run(&args, &Context::new(Some(absent.clone())), &mut buf).unwrap();
+        assert!(!absent.exists());
     }
 
     #[test]

@@ -103,6 +103,12 @@ impl Context {
         Context { db }
     }
 
+    /// The database named with `--db` or `OHMTRAIL_DB`, if any: for commands that use a
+    /// database's settings only when one is named, and never create one.
+    pub fn named_db(&self) -> Option<&std::path::Path> {
+        self.db.as_deref()
+    }
+
     /// The database path: `--db`, then `OHMTRAIL_DB`, then the platform data directory.
     pub fn db_path(&self) -> Result<PathBuf> {
         if let Some(p) = &self.db {
@@ -135,7 +141,7 @@ pub fn run(cli: Cli, out: &mut dyn Write) -> Result<()> {
         Command::Report(args) => report::run(&args, &ctx, out),
         Command::Settings(cmd) => settings::run(&cmd, &ctx, out),
         Command::Limits(args) => limits::run(&args, out),
-        Command::Check(args) => check::run(&args, out),
+        Command::Check(args) => check::run(&args, &ctx, out),
         Command::Demo(args) => demo::run(&args, &ctx, out),
         Command::Import(args) => import::run(&args, &ctx, out),
         Command::Export(args) => export::run(&args, &ctx, out),
