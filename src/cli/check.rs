@@ -80,7 +80,8 @@ fn outcome_words(p: &PathResult) -> &'static str {
 /// The insulation taken when `--insulation` is not given: the named database's setting, or
 /// the built-in default. A database that does not exist is not created for this.
 fn assumed_insulation(ctx: &Context) -> Result<Insulation> {
-    match ctx.named_db().filter(|p| p.exists()) {
+    // Only a database named with --db or OHMTRAIL_DB, and only if it is there.
+    match ctx.db.as_deref().filter(|p| p.exists()) {
         Some(p) => {
             let store = ohmtrail::store::Store::open(p)?;
             Ok(ohmtrail::analysis::Settings::load(&store, today())?

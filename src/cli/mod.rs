@@ -103,12 +103,6 @@ impl Context {
         Context { db }
     }
 
-    /// The database named with `--db` or `OHMTRAIL_DB`, if any: for commands that use a
-    /// database's settings only when one is named, and never create one.
-    pub fn named_db(&self) -> Option<&std::path::Path> {
-        self.db.as_deref()
-    }
-
     /// The database path: `--db`, then `OHMTRAIL_DB`, then the platform data directory.
     pub fn db_path(&self) -> Result<PathBuf> {
         if let Some(p) = &self.db {
