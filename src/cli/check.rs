@@ -61,9 +61,31 @@ pub struct Args {
 
 #[derive(Serialize)]
 struct Output<'a> {
-    disconnection: &'a DisconnectionChoice,
+    disconnection: Disconnection<'a>,
     report: &'a FaultPathReport,
     caution: &'a str,
+}
+
+/// The time that applies to this circuit: TT's own (Table 41.1) on TT, never the TN one.
+#[derive(Serialize)]
+struct Disconnection<'a> {
+    seconds: f64,
+    earthing_rule: &'static str,
+    assumed: bool,
+    reason: &'a str,
+    source: &'a ohmtrail::limits::Source,
+}
+
+impl<'a> Disconnection<'a> {
+    fn of(c: &'a DisconnectionChoice) -> Disconnection<'a> {
+        Disconnection {
+            seconds: c.tt_time_s.unwrap_or(c.time.seconds()),
+            earthing_rule: if c.tt_time_s.is_some() { "TT" } else { "TN" },
+            assumed: c.assumed,
+            reason: &c.reason,
+            source: &c.source,
+        }
+    }
 }
 
 fn outcome_words(p: &PathResult) -> &'static str {
@@ -127,7 +149,7 @@ pub fn run(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
 
     if args.json {
         let o = Output {
-            disconnection: &choice,
+            disconnection: Disconnection::of(&choice),
             report: &report,
             caution: CAUTION,
         };
@@ -349,6 +371,25 @@ mod tests {
         assert!(!s.contains("maximum Zs for B32"), "{s}");
         assert!(s.contains("1667 Ω") && s.contains("5.3"), "{s}");
         assert!(!s.contains("assumed ("), "{s}");
+        let mut argv = vec![
+            "check",
+            "--device",
+            "B32",
+            "--ze",
+            "87.3",
+            "--r1r2",
+            "0.61",
+            "--earthing",
+            "TT",
+            "--rcd",
+            "30",
+            "--temp",
+            "9",
+        ];
+        argv.push("--json");
+        let j: serde_json::Value = serde_json::from_str(&output(&argv).unwrap()).unwrap();
+        assert_eq!(j["disconnection"]["seconds"], 0.2);
+        assert_eq!(j["disconnection"]["earthing_rule"], "TT");
         // A TT Ze is not compared with a supply figure nor sent to the network operator.
         assert!(
             !s.contains("21 Ω") && !s.contains("network operator"),
@@ -399,7 +440,8 @@ mod tests {
         assert_eq!(v["report"]["earth_fault"]["outcome"], "within");
         assert_eq!(v["report"]["measured_limit"]["limit_ohm"], 2.28);
         assert_eq!(v["report"]["measured_limit"]["insulation_assumed"], true);
-        assert_eq!(v["disconnection"]["time"], "0.4s");
+        assert_eq!(v["disconnection"]["seconds"], 0.4);
+        assert_eq!(v["disconnection"]["earthing_rule"], "TN");
         assert!(v["caution"].as_str().unwrap().contains("BS 7671"));
     }
 
