@@ -119,6 +119,7 @@ pub fn run(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
     let choice = match args.disconnect {
         Some(t) => default_disconnection(&CircuitFacts {
             recorded_s: Some(t.seconds()),
+            earthing: args.earthing,
             ..CircuitFacts::default()
         })?,
         None => default_disconnection(&CircuitFacts {
@@ -390,6 +391,11 @@ mod tests {
         let j: serde_json::Value = serde_json::from_str(&output(&argv).unwrap()).unwrap();
         assert_eq!(j["disconnection"]["seconds"], 0.2);
         assert_eq!(j["disconnection"]["earthing_rule"], "TT");
+        // A TN time given on the command line is read as its TT counterpart on TT.
+        argv.pop();
+        argv.extend(["--disconnect", "0.4"]);
+        let t = output(&argv).unwrap();
+        assert!(t.contains("0.2 s") && !t.contains("0.4 s"), "{t}");
         // A TT Ze is not compared with a supply figure nor sent to the network operator.
         assert!(
             !s.contains("21 Ω") && !s.contains("network operator"),

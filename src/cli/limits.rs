@@ -104,6 +104,12 @@ pub fn run(args: &Args, out: &mut dyn Write) -> Result<()> {
         }
     }
     let rcd = args.rcd.map(tt_rcd_zs_max).transpose()?;
+    if rcd.is_some() {
+        notes.push(format!(
+            "the rows above are for TN at {}; on TT the time is 0.2 s for a final circuit, 1 s for a distribution circuit (BS 7671 Table 41.1), met through the RCD: the TT row applies",
+            args.disconnect
+        ));
+    }
 
     if args.json {
         let o = Output {
@@ -308,6 +314,13 @@ mod tests {
         let v: serde_json::Value = serde_json::from_str(&s).unwrap();
         assert_eq!(v["device_limit"]["zs_max_ohm"], 1.09);
         assert_eq!(v["rcd_limit"]["zs_max_ohm"], 1667.0);
+        assert!(
+            v["notes"]
+                .as_array()
+                .unwrap()
+                .iter()
+                .any(|n| n.as_str().unwrap().contains("on TT the time is 0.2 s"))
+        );
         assert_eq!(v["measured_limits"].as_array().unwrap().len(), 3);
         // The 80 % rule: BS 7671 Appendix 3, printed there as a rule of thumb.
         assert_eq!(v["measured_limits"][0]["source"]["status"], "published");
