@@ -166,6 +166,7 @@ struct LoopKey {
     earthing: Option<Earthing>,
     rcd_ma: Option<u16>,
     insulation: Option<Insulation>,
+    assumed_insulation: Insulation,
     rule: MeasuredRule,
     words: bool,
 }
@@ -263,6 +264,7 @@ fn loop_limits(k: &LoopKey) -> LoopLimits {
             &TestConditions {
                 temp_c: Some(20.0),
                 insulation: k.insulation,
+                assumed_insulation: k.assumed_insulation,
             },
         ) {
             Ok(m) => (
@@ -425,6 +427,7 @@ pub(super) fn circuit_analysis(
         earthing,
         rcd_ma: c.rcd_ma,
         insulation: c.insulation,
+        assumed_insulation: settings.limits.assumed_insulation,
         rule: settings.limits.measured_rule,
         words: full,
     });
@@ -583,7 +586,7 @@ pub(super) fn circuit_analysis(
     // The line–neutral loop Ze + R1+Rn is judged against the same device limit: the limit on
     // R1+Rn alone is that limit less the latest Ze.
     let rn_limit = match (loop_limit, last_ze) {
-        (Some(l), Some(z)) if !tt && l > z => Some(((l - z) * 100.0).floor() / 100.0),
+        (Some(l), Some(z)) if !tt && l > z => Some(limits::less_ze(l, z)),
         _ => None,
     };
     run(
@@ -597,7 +600,7 @@ pub(super) fn circuit_analysis(
         rn_limit.map(Limit::max),
         rn_limit.filter(|_| full).map(|l| {
             format!(
-                "line–neutral loop: {} less the latest Ze {:.2} Ω = {l:.2} Ω",
+                "line–neutral check value (ohmtrail's practice, Reg 434.5.2; R1+Rn has no published maximum): {} less the latest Ze {:.2} Ω = {l:.2} Ω",
                 loop_words.clone().unwrap_or_default(),
                 last_ze.unwrap_or_default()
             )
@@ -809,6 +812,7 @@ pub(super) fn circuit_analysis(
             inputs.conditions = TestConditions {
                 temp_c: l.visit.ambient_c,
                 insulation: c.insulation,
+                assumed_insulation: settings.limits.assumed_insulation,
             };
             inputs.rule = settings.limits.measured_rule;
             limits::evaluate_fault_paths(&inputs).ok()

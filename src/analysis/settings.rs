@@ -1,4 +1,5 @@
-//! Per-database choices: the measured-value rule and the noise floors. Built-in defaults,
+//! Per-database choices: the measured-value rule, the insulation assumed where none is
+//! recorded, and the noise floors. Built-in defaults,
 //! overridden by what `ohmtrail settings set` stored in the database.
 
 use chrono::NaiveDate;
@@ -22,6 +23,7 @@ pub struct Settings {
 #[derive(Clone, Copy)]
 enum Slot {
     MeasuredRule,
+    AssumedInsulation,
     /// A number of zero or more inside the trend configuration.
     Number(fn(&mut TrendConfig) -> &mut f64),
 }
@@ -46,6 +48,11 @@ pub const KEYS: &[Key] = &[
         key: LimitsConfig::MEASURED_RULE_KEY,
         help: "measured-value rule for Zs: temperature_corrected (default) or rule_of_thumb_80",
         slot: Slot::MeasuredRule,
+    },
+    Key {
+        key: LimitsConfig::ASSUMED_INSULATION_KEY,
+        help: "insulation taken where a circuit's is not recorded: thermoplastic70 (default, the usual twin and earth) or thermosetting90; every limit that uses it says so",
+        slot: Slot::AssumedInsulation,
     },
     Key {
         key: "trend.resistance.resolution_ohm",
@@ -141,6 +148,11 @@ impl Settings {
                     .parse()
                     .map_err(|e: crate::limits::LimitsError| Error::invalid(e.to_string()))?
             }
+            Slot::AssumedInsulation => {
+                next.limits.assumed_insulation = value
+                    .parse()
+                    .map_err(|e: String| Error::invalid(format!("setting {name}: {e}")))?
+            }
             Slot::Number(at) => {
                 *at(&mut next.trend) = value
                     .trim()
@@ -169,6 +181,7 @@ impl Settings {
     fn get(&self, k: &Key) -> String {
         match k.slot {
             Slot::MeasuredRule => self.limits.measured_rule.as_str().to_string(),
+            Slot::AssumedInsulation => self.limits.assumed_insulation.as_str().to_string(),
             Slot::Number(at) => {
                 let mut trend = self.trend;
                 at(&mut trend).to_string()
@@ -192,6 +205,18 @@ mod tests {
         assert!(s.apply("trend.resistance.absolute_ohm", "-1").is_err());
         assert!(s.apply("trend.nope", "1").is_err());
         assert!(s.apply("limits.measured_rule", "guess").is_err());
+        // Unrecorded insulation: 70 °C thermoplastic by default (common practice, no source:
+        // the twin and earth of UK homes), 90 °C thermosetting by choice.
+        assert_eq!(
+            s.value("limits.assumed_insulation").as_deref(),
+            Some("thermoplastic70")
+        );
+        s.apply("limits.assumed_insulation", "xlpe").unwrap();
+        assert_eq!(
+            s.limits.assumed_insulation,
+            crate::model::Insulation::Thermosetting90
+        );
+        assert!(s.apply("limits.assumed_insulation", "rubber").is_err());
         for k in KEYS {
             assert!(s.value(k.key).is_some(), "{}", k.key);
             let mut t = s.clone();

@@ -8,13 +8,14 @@ use serde::Serialize;
 
 use ohmtrail::CAUTION;
 use ohmtrail::limits::{
-    CircuitFacts, DisconnectionChoice, DisconnectionTime, FaultPathInputs, FaultPathReport,
-    MeasuredRule, PathOutcome, PathResult, TestConditions, default_disconnection,
+    CircuitFacts, DisconnectionChoice, DisconnectionTime, FaultPath, FaultPathInputs,
+    FaultPathReport, MeasuredRule, PathOutcome, PathResult, TestConditions, default_disconnection,
     evaluate_fault_paths,
 };
 use ohmtrail::model::{Device, Earthing, Insulation};
 
 use super::limits::{Row, SourceList, write_notes, write_rows};
+use super::{Context, today};
 
 /// Judge one circuit's readings (both fault paths) against its device, with sources.
 #[derive(clap::Args, Debug)]
@@ -38,7 +39,7 @@ pub struct Args {
     /// Test temperature, °C
     #[arg(long, value_name = "C", allow_negative_numbers = true)]
     pub temp: Option<f64>,
-    /// Cable insulation, thermoplastic70 (PVC) or thermosetting90 (XLPE); 90 °C is assumed when omitted, the lower limit
+    /// Cable insulation, thermoplastic70 (PVC) or thermosetting90 (XLPE); when omitted the named database's limits.assumed_insulation is assumed (default 70 °C thermoplastic, the usual twin and earth), and the output says so
     #[arg(long, value_name = "INSULATION")]
     pub insulation: Option<Insulation>,
     /// Earthing arrangement: TN-S, TN-C-S or TT
@@ -60,24 +61,65 @@ pub struct Args {
 
 #[derive(Serialize)]
 struct Output<'a> {
-    disconnection: &'a DisconnectionChoice,
+    disconnection: Disconnection<'a>,
     report: &'a FaultPathReport,
     caution: &'a str,
 }
 
-fn outcome_words(o: PathOutcome) -> &'static str {
-    match o {
-        PathOutcome::Within => "within",
-        PathOutcome::OverMeasuredLimit => "over measured-value limit",
-        PathOutcome::OverTabulatedLimit => "over tabulated limit",
+/// The time that applies to this circuit: TT's own (Table 41.1) on TT, never the TN one.
+#[derive(Serialize)]
+struct Disconnection<'a> {
+    seconds: f64,
+    earthing_rule: &'static str,
+    assumed: bool,
+    reason: &'a str,
+    source: &'a ohmtrail::limits::Source,
+}
+
+impl<'a> Disconnection<'a> {
+    fn of(c: &'a DisconnectionChoice) -> Disconnection<'a> {
+        Disconnection {
+            seconds: c.tt_time_s.unwrap_or(c.time.seconds()),
+            earthing_rule: if c.tt_time_s.is_some() { "TT" } else { "TN" },
+            assumed: c.assumed,
+            reason: &c.reason,
+            source: &c.source,
+        }
     }
 }
 
-pub fn run(args: &Args, out: &mut dyn Write) -> Result<()> {
+fn outcome_words(p: &PathResult) -> &'static str {
+    match (p.path, p.outcome) {
+        (FaultPath::LineNeutral, PathOutcome::Within) => "within check value",
+        (FaultPath::LineNeutral, PathOutcome::OverMeasuredLimit) => "over check value (cold)",
+        (FaultPath::LineNeutral, PathOutcome::OverTabulatedLimit) => "over check value",
+        (_, PathOutcome::Within) => "within",
+        (_, PathOutcome::OverMeasuredLimit) => "over measured-value limit",
+        (_, PathOutcome::OverTabulatedLimit) => "over tabulated limit",
+    }
+}
+
+/// The insulation taken when `--insulation` is not given: the named database's setting, or
+/// the built-in default. A database that does not exist is not created for this.
+fn assumed_insulation(ctx: &Context) -> Result<Insulation> {
+    // Only a database named with --db or OHMTRAIL_DB, and only if it is there.
+    match ctx.db.as_deref().filter(|p| p.exists()) {
+        Some(p) => {
+            let store = ohmtrail::store::Store::open(p)?;
+            Ok(ohmtrail::analysis::Settings::load(&store, today())?
+                .limits
+                .assumed_insulation)
+        }
+        None => Ok(ohmtrail::limits::DEFAULT_ASSUMED_INSULATION),
+    }
+}
+
+pub fn run(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
     let device: Device = args.device.parse()?;
     let choice = match args.disconnect {
         Some(t) => default_disconnection(&CircuitFacts {
             recorded_s: Some(t.seconds()),
+            earthing: args.earthing,
             ..CircuitFacts::default()
         })?,
         None => default_disconnection(&CircuitFacts {
@@ -96,6 +138,10 @@ pub fn run(args: &Args, out: &mut dyn Write) -> Result<()> {
         conditions: TestConditions {
             temp_c: args.temp,
             insulation: args.insulation,
+            assumed_insulation: match args.insulation {
+                Some(_) => ohmtrail::limits::DEFAULT_ASSUMED_INSULATION,
+                None => assumed_insulation(ctx)?,
+            },
         },
         rule: args.rule.unwrap_or_default(),
         ..FaultPathInputs::new(device, choice.time)
@@ -104,7 +150,7 @@ pub fn run(args: &Args, out: &mut dyn Write) -> Result<()> {
 
     if args.json {
         let o = Output {
-            disconnection: &choice,
+            disconnection: Disconnection::of(&choice),
             report: &report,
             caution: CAUTION,
         };
@@ -116,28 +162,50 @@ pub fn run(args: &Args, out: &mut dyn Write) -> Result<()> {
     let mut sources = SourceList::default();
     let dl = &report.device_limit;
     let ml = &report.measured_limit;
-    let mut rows = vec![
-        Row::new(
-            "disconnection time",
-            choice.time.to_string(),
+    let mut rows = Vec::new();
+    match choice.tt_time_s {
+        // TT: the TN time and the device's own limits do not apply to the earth fault path.
+        Some(s) => rows.push(Row::new(
+            "disconnection time (TT)",
+            format!("{s} s"),
             sources.cite(&choice.source),
-        ),
-        Row::new(
-            &format!("maximum Zs for {} (tabulated)", dl.device_text),
-            format!("{:.2} Ω", dl.zs_max_ohm),
-            sources.cite(&dl.source),
-        ),
-        Row::new(
-            "Ia",
-            format!("{:.0} A", dl.ia_a),
-            sources.cite(&dl.ia_source),
-        ),
-        Row::new(
-            &format!("measured-value limit ({})", ml.rule.words()),
-            format!("{:.2} Ω", ml.limit_ohm),
-            sources.cite(&ml.source),
-        ),
-    ];
+        )),
+        None => {
+            rows.push(Row::new(
+                "disconnection time",
+                choice.time.to_string(),
+                sources.cite(&choice.source),
+            ));
+            rows.push(Row::new(
+                &format!("maximum Zs for {} (tabulated)", dl.device_text),
+                format!("{:.2} Ω", dl.zs_max_ohm),
+                sources.cite(&dl.source),
+            ));
+            rows.push(Row::new(
+                "Ia",
+                format!("{:.0} A", dl.ia_a),
+                sources.cite(&dl.ia_source),
+            ));
+            let assumed = match ml.insulation {
+                Some(i) if ml.insulation_assumed => {
+                    format!(", {} assumed", ohmtrail::limits::insulation_words(i))
+                }
+                _ => String::new(),
+            };
+            rows.push(Row::new(
+                &format!("measured-value limit ({}{assumed})", ml.rule.words()),
+                format!("{:.2} Ω", ml.limit_ohm),
+                sources.cite(&ml.source),
+            ));
+            if let Some(part) = ml.circuit_part_ohm {
+                rows.push(Row::new(
+                    "  of which R1+R2 or R1+Rn (less Ze)",
+                    format!("{part:.2} Ω"),
+                    sources.cite(&ml.source),
+                ));
+            }
+        }
+    }
     if let Some(r) = &report.rcd_limit {
         rows.push(Row::new(
             &format!("TT with a {} mA RCD", r.rcd_ma),
@@ -157,7 +225,14 @@ pub fn run(args: &Args, out: &mut dyn Write) -> Result<()> {
         .load_style(presets::NOTHING)
         .set_content_arrangement(ContentArrangement::Disabled)
         .set_header([
-            "path", "made of", "Z Ω", "limit Ω", "used %", "If A", "Ia A", "outcome",
+            "path",
+            "made of",
+            "Z Ω",
+            "against Ω",
+            "used %",
+            "If min A",
+            "Ia A",
+            "outcome",
         ]);
     for p in &paths {
         for s in &p.sources {
@@ -169,13 +244,13 @@ pub fn run(args: &Args, out: &mut dyn Write) -> Result<()> {
             format!("{:.2}", p.impedance_ohm),
             format!("{:.2}", p.limit_ohm),
             format!("{:.1}", p.used_pct),
-            format!("{:.0}", p.fault_current_a),
+            format!("{:.0}", p.min_fault_current_a),
             if p.ia_a < 1.0 {
                 format!("{:.2}", p.ia_a)
             } else {
                 format!("{:.0}", p.ia_a)
             },
-            outcome_words(p.outcome).to_string(),
+            outcome_words(p).to_string(),
         ]);
     }
     for i in 2..7 {
@@ -208,7 +283,7 @@ mod tests {
         let m = cmd.try_get_matches_from(argv)?;
         let args = Args::from_arg_matches(&m)?;
         let mut buf = Vec::new();
-        run(&args, &mut buf)?;
+        run(&args, &Context::new(None), &mut buf)?;
         Ok(String::from_utf8(buf).unwrap())
     }
 
@@ -218,28 +293,37 @@ mod tests {
 
     #[test]
     fn contract_example_in_words() {
-        // B16: Table 41.3 2.73 Ω, Ia 80 A. 15 °C, insulation not given so 90 °C assumed:
-        // 2.73 × (1 − 0.00393 × 5) / 1.28 = 2.73 × 0.98035 / 1.28 = 2.0909 → 2.09 Ω.
-        // Earth fault 0.30 + 0.60 = 0.90 Ω: 43.1 % used, If = 218.5 / 0.9 = 243 A.
-        // Line–neutral 0.30 + 0.50 = 0.80 Ω: 38.3 % used, If = 273 A.
+        // B16: Table 41.3 2.73 Ω, Ia 80 A. 15 °C, insulation not given so 70 °C thermoplastic
+        // assumed (the default), Ze as measured and only the circuit's part corrected:
+        // 0.30 + (2.73 − 0.30) × (1 − 0.00393 × 5) / 1.20 = 0.30 + 1.98521 = 2.28521 → 2.28 Ω;
+        // the circuit's part 1.98521 → 1.98 Ω.
+        // Earth fault 0.30 + 0.60 = 0.90 Ω: 0.90 / 2.28 = 39.5 % used, If = 218.5 / 0.9 = 243 A.
+        // Line–neutral 0.30 + 0.50 = 0.80 Ω: 35.1 % of the check value, If = 273 A.
         let s = output(&EXAMPLE).unwrap();
-        for want in ["2.73 Ω", "2.09 Ω", "43.1", "243", "38.3", "273", "within"] {
+        for want in [
+            "2.73 Ω", "2.28 Ω", "1.98 Ω", "39.5", "243", "35.1", "273", "within",
+        ] {
             assert!(s.contains(want), "{want} in\n{s}");
         }
         assert!(s.contains("expected to disconnect within 0.4 s"), "{s}");
-        assert!(s.contains("90 °C thermosetting assumed"), "{s}");
+        assert!(s.contains("70 °C thermoplastic assumed"), "{s}");
+        assert!(s.contains("within check value"), "{s}");
+        assert!(s.contains("If min A"), "{s}");
         assert!(s.contains("never replace"), "{s}");
         assert!(s.contains("no condition codes"), "{s}");
         assert!(
             s.contains("[1] BS 7671:2018+A2:2022 Regulation 411.3.2.2"),
             "{s}"
         );
+        // The line–neutral figure is a check value with its own basis, not a maximum.
+        assert!(s.contains("Regulation 434.5.2"), "{s}");
+        assert!(!s.contains("line–neutral: within the measured"), "{s}");
     }
 
     #[test]
     fn a_failing_neutral_is_spelled_out() {
-        // Invented: B32, R1+Rn 1.40 Ω with Ze 0.25: 1.65 Ω > 1.37 Ω; If = 218.5 / 1.65 = 132 A
-        // below Ia 160 A.
+        // Invented: B32, 10 °C, 70 °C cable, R1+Rn 1.40 Ω with Ze 0.25: 1.65 Ω > 1.37 Ω;
+        // minimum If = 218.5 / 1.65 = 132 A, below the 160 A that operates the B32.
         let s = output(&[
             "check",
             "--device",
@@ -256,9 +340,101 @@ mod tests {
             "thermoplastic70",
         ])
         .unwrap();
-        assert!(s.contains("over tabulated limit"), "{s}");
-        assert!(s.contains("132 A is below Ia 160 A"), "{s}");
-        assert!(s.contains("may not disconnect within 0.4 s"), "{s}");
+        assert!(s.contains("over check value"), "{s}");
+        assert!(s.contains("132 A is below the 160 A"), "{s}");
+        assert!(s.contains("slow to clear a line–neutral fault"), "{s}");
+        assert!(!s.contains("assumed)"), "{s}");
+    }
+
+    #[test]
+    fn tt_shows_its_own_time_and_no_tn_figures() {
+        // BS 7671 Table 41.1: TT final circuit 0.2 s. Invented TT circuit, noisy Ze 87.3 Ω,
+        // R1+R2 0.61 Ω: 87.91 Ω against 50 V / 30 mA = 1667 Ω (Table 41.5): 5.3 % used.
+        let s = output(&[
+            "check",
+            "--device",
+            "B32",
+            "--ze",
+            "87.3",
+            "--r1r2",
+            "0.61",
+            "--earthing",
+            "TT",
+            "--rcd",
+            "30",
+            "--temp",
+            "9",
+        ])
+        .unwrap();
+        assert!(s.contains("disconnection time (TT)"), "{s}");
+        assert!(s.contains("0.2 s"), "{s}");
+        assert!(!s.contains("0.4 s"), "{s}");
+        assert!(!s.contains("maximum Zs for B32"), "{s}");
+        assert!(s.contains("1667 Ω") && s.contains("5.3"), "{s}");
+        assert!(!s.contains("assumed ("), "{s}");
+        let mut argv = vec![
+            "check",
+            "--device",
+            "B32",
+            "--ze",
+            "87.3",
+            "--r1r2",
+            "0.61",
+            "--earthing",
+            "TT",
+            "--rcd",
+            "30",
+            "--temp",
+            "9",
+        ];
+        argv.push("--json");
+        let j: serde_json::Value = serde_json::from_str(&output(&argv).unwrap()).unwrap();
+        assert_eq!(j["disconnection"]["seconds"], 0.2);
+        assert_eq!(j["disconnection"]["earthing_rule"], "TT");
+        // A TN time given on the command line is read as its TT counterpart on TT.
+        argv.pop();
+        argv.extend(["--disconnect", "0.4"]);
+        let t = output(&argv).unwrap();
+        assert!(t.contains("0.2 s") && !t.contains("0.4 s"), "{t}");
+        // A TT Ze is not compared with a supply figure nor sent to the network operator.
+        assert!(
+            !s.contains("21 Ω") && !s.contains("network operator"),
+            "{s}"
+        );
+    }
+
+    #[test]
+    fn a_named_database_chooses_the_assumed_insulation() {
+        // B16 at 15 °C with a measured Zs 1.93 Ω only (whole loop corrected):
+        // 90 °C thermosetting: 2.73 × 0.98035 / 1.28 = 2.09091 → 2.09 Ω;
+        // 70 °C thermoplastic (no database): / 1.20 = 2.23030 → 2.23 Ω.
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join("t.db");
+        let store = ohmtrail::store::Store::open(&path).unwrap();
+        store
+            .set_setting("limits.assumed_insulation", "thermosetting90")
+            .unwrap();
+        drop(store);
+        let argv = ["check", "--device", "B16", "--zs", "1.93", "--temp", "15"];
+        let cmd = Args::augment_args(Command::new("check"));
+        let args = Args::from_arg_matches(&cmd.try_get_matches_from(argv).unwrap()).unwrap();
+        let mut buf = Vec::new();
+        run(&args, &Context::new(Some(path.clone())), &mut buf).unwrap();
+        let s = String::from_utf8(buf).unwrap();
+        assert!(
+            s.contains("2.09 Ω") && s.contains("90 °C thermosetting assumed"),
+            "{s}"
+        );
+        let s = output(&argv).unwrap();
+        assert!(
+            s.contains("2.23 Ω") && s.contains("70 °C thermoplastic assumed"),
+            "{s}"
+        );
+        // A database that is named but absent is not created.
+        let absent = dir.path().join("absent.db");
+        let mut buf = Vec::new();
+        run(&args, &Context::new(Some(absent.clone())), &mut buf).unwrap();
+        assert!(!absent.exists());
     }
 
     #[test]
@@ -268,8 +444,10 @@ mod tests {
         let s = output(&argv).unwrap();
         let v: serde_json::Value = serde_json::from_str(&s).unwrap();
         assert_eq!(v["report"]["earth_fault"]["outcome"], "within");
-        assert_eq!(v["report"]["measured_limit"]["limit_ohm"], 2.09);
-        assert_eq!(v["disconnection"]["time"], "0.4s");
+        assert_eq!(v["report"]["measured_limit"]["limit_ohm"], 2.28);
+        assert_eq!(v["report"]["measured_limit"]["insulation_assumed"], true);
+        assert_eq!(v["disconnection"]["seconds"], 0.4);
+        assert_eq!(v["disconnection"]["earthing_rule"], "TN");
         assert!(v["caution"].as_str().unwrap().contains("BS 7671"));
     }
 

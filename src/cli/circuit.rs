@@ -26,7 +26,7 @@ pub struct Details {
     /// Route length in metres, if known
     #[arg(long, value_name = "M", allow_negative_numbers = true)]
     pub length: Option<f64>,
-    /// Protective device: B16, C32, D6, RCBO B20, BS 88-3 30A, BS 3036 15A, BS 1362 13A
+    /// Protective device: B16, C32, D6, RCBO B20, BS 88-3 32A, BS 1361 30A, BS 3036 15A, BS 1362 13A, BS 3871 type 2 30A
     #[arg(long)]
     pub device: Option<String>,
     /// RCD rated residual operating current IΔn in mA

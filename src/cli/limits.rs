@@ -8,7 +8,7 @@ use serde::Serialize;
 use ohmtrail::CAUTION;
 use ohmtrail::limits::{
     DisconnectionTime, MeasuredLimit, MeasuredRule, RcdZsLimit, Source, TestConditions, ZsLimit,
-    max_zs, measured_limit, tt_rcd_zs_max,
+    max_zs, measured_limit, measured_loop_limit, tt_rcd_zs_max,
 };
 use ohmtrail::model::{Device, Insulation};
 
@@ -27,6 +27,10 @@ pub struct Args {
     /// Cable insulation, thermoplastic70 (PVC) or thermosetting90 (XLPE); both are shown when omitted
     #[arg(long, value_name = "INSULATION")]
     pub insulation: Option<Insulation>,
+    /// Ze in Ω: the limits then correct only the circuit's part (R1+R2, R1+Rn) for temperature
+    /// and show how much of the loop is left for it
+    #[arg(long, value_name = "OHM")]
+    pub ze: Option<f64>,
     /// Maximum disconnection time of the circuit in seconds: 0.4 or 5
     #[arg(long, value_name = "SECONDS", default_value = "0.4")]
     pub disconnect: DisconnectionTime,
@@ -54,12 +58,16 @@ pub fn run(args: &Args, out: &mut dyn Write) -> Result<()> {
     let zs = limit.zs_max_ohm;
     let mut notes = Vec::new();
 
-    let mut measured = vec![measured_limit(
-        zs,
+    let limit_for = |rule, conditions: &TestConditions| match args.ze {
+        Some(ze) => measured_loop_limit(zs, rule, conditions, ze),
+        None => measured_limit(zs, rule, conditions),
+    };
+    let mut measured = vec![limit_for(
         MeasuredRule::RuleOfThumb80,
         &TestConditions {
             temp_c: args.temp,
             insulation: args.insulation,
+            ..TestConditions::default()
         },
     )?];
     match args.temp {
@@ -69,12 +77,12 @@ pub fn run(args: &Args, out: &mut dyn Write) -> Result<()> {
                 None => vec![Insulation::Thermoplastic70, Insulation::Thermosetting90],
             };
             for i in insulations {
-                measured.push(measured_limit(
-                    zs,
+                measured.push(limit_for(
                     MeasuredRule::TemperatureCorrected,
                     &TestConditions {
                         temp_c: Some(t),
                         insulation: Some(i),
+                        ..TestConditions::default()
                     },
                 )?);
             }
@@ -82,6 +90,11 @@ pub fn run(args: &Args, out: &mut dyn Write) -> Result<()> {
         None => notes.push(
             "give --temp C for the temperature-corrected limit, the default rule".to_string(),
         ),
+    }
+    if args.temp.is_some() && args.ze.is_none() {
+        notes.push(
+            "Ze not given: the corrected limits treat the whole loop as the circuit's conductors, the lower figure; give --ze to correct only R1+R2".to_string(),
+        );
     }
     for m in &measured {
         if let Some(c) = &m.caution
@@ -91,6 +104,12 @@ pub fn run(args: &Args, out: &mut dyn Write) -> Result<()> {
         }
     }
     let rcd = args.rcd.map(tt_rcd_zs_max).transpose()?;
+    if rcd.is_some() {
+        notes.push(format!(
+            "the rows above are for TN at {}; on TT the time is 0.2 s for a final circuit, 1 s for a distribution circuit (BS 7671 Table 41.1), met through the RCD: the TT row applies",
+            args.disconnect
+        ));
+    }
 
     if args.json {
         let o = Output {
@@ -121,9 +140,15 @@ pub fn run(args: &Args, out: &mut dyn Write) -> Result<()> {
             sources.cite(&limit.ia_source),
         ),
     ];
+    let with_ze = args
+        .ze
+        .map(|z| format!(" with Ze {z:.2} Ω (Ze as measured)"))
+        .unwrap_or_default();
     match args.temp {
-        Some(t) => rows.push(Row::heading(format!("measured-value limit at {t} °C"))),
-        None => rows.push(Row::heading("measured-value limit".to_string())),
+        Some(t) => rows.push(Row::heading(format!(
+            "measured-value limit at {t} °C{with_ze}"
+        ))),
+        None => rows.push(Row::heading(format!("measured-value limit{with_ze}"))),
     }
     for m in &measured {
         let label = match (m.rule, m.insulation) {
@@ -135,11 +160,15 @@ pub fn run(args: &Args, out: &mut dyn Write) -> Result<()> {
                 "  corrected, 90 °C thermosetting".to_string()
             }
         };
-        rows.push(Row::new(
-            &label,
-            format!("{:.2} Ω", m.limit_ohm),
-            sources.cite(&m.source),
-        ));
+        let cite = sources.cite(&m.source);
+        rows.push(Row::new(&label, format!("{:.2} Ω", m.limit_ohm), cite));
+        if let Some(part) = m.circuit_part_ohm {
+            rows.push(Row::new(
+                "    of which R1+R2 or R1+Rn (less Ze)",
+                format!("{part:.2} Ω"),
+                cite,
+            ));
+        }
     }
     if let Some(r) = &rcd {
         rows.push(Row::new(
@@ -285,11 +314,16 @@ mod tests {
         let v: serde_json::Value = serde_json::from_str(&s).unwrap();
         assert_eq!(v["device_limit"]["zs_max_ohm"], 1.09);
         assert_eq!(v["rcd_limit"]["zs_max_ohm"], 1667.0);
-        assert_eq!(v["measured_limits"].as_array().unwrap().len(), 3);
-        assert_eq!(
-            v["measured_limits"][0]["source"]["status"],
-            "common_practice"
+        assert!(
+            v["notes"]
+                .as_array()
+                .unwrap()
+                .iter()
+                .any(|n| n.as_str().unwrap().contains("on TT the time is 0.2 s"))
         );
+        assert_eq!(v["measured_limits"].as_array().unwrap().len(), 3);
+        // The 80 % rule: BS 7671 Appendix 3, printed there as a rule of thumb.
+        assert_eq!(v["measured_limits"][0]["source"]["status"], "published");
         assert_eq!(v["default_rule"], "temperature_corrected");
     }
 
@@ -299,6 +333,36 @@ mod tests {
         // Table 41.2 (derived): 0.99 Ω; 0.8 × 0.99 = 0.792 → 0.79.
         assert!(s.contains("0.99 Ω") && s.contains("0.79 Ω"), "{s}");
         assert!(s.contains("give --temp"), "{s}");
+    }
+
+    #[test]
+    fn with_ze_the_circuit_part_is_shown() {
+        // B32 at 10 °C, Ze 0.27: 70 °C: 0.27 + (1.37 − 0.27) × 0.9607 / 1.20 = 0.27 + 0.88064
+        // = 1.15064 → 1.15 Ω, the circuit's part 0.88 Ω; 90 °C: 0.27 + 1.10 × 0.9607 / 1.28
+        // = 0.27 + 0.82560 = 1.09560 → 1.09 Ω, part 0.82 Ω. 80 %: 1.096 → 1.09, part
+        // 1.096 − 0.27 = 0.826 → 0.82 Ω.
+        let s = output(&["limits", "B32", "--temp", "10", "--ze", "0.27"]).unwrap();
+        for want in ["1.15 Ω", "0.88 Ω", "1.09 Ω", "0.82 Ω", "Ze 0.27 Ω"] {
+            assert!(s.contains(want), "{want} in\n{s}");
+        }
+        assert!(!s.contains("Ze not given"), "{s}");
+    }
+
+    #[test]
+    fn older_devices_are_shown_or_refused_with_a_reason() {
+        // BS 3871 type 2 30 A: 218.5 / 210 = 1.0405 → 1.04 Ω (Ia multiple from memory).
+        let s = output(&["limits", "BS 3871 type 2 30A"]).unwrap();
+        assert!(s.contains("1.04 Ω") && s.contains("from memory"), "{s}");
+        // BS 1361 30 A: 1.15 × 0.95 = 1.0925 → 1.09 Ω.
+        let s = output(&["limits", "BS 1361 30A"]).unwrap();
+        assert!(s.contains("1.09 Ω"), "{s}");
+        let e = output(&["limits", "BS 88 32A"]).unwrap_err().to_string();
+        assert!(
+            e.contains("BS 88-2 32A") && e.contains("BS 88-3 32A"),
+            "{e}"
+        );
+        let e = output(&["limits", "BS 88-3 45A"]).unwrap_err().to_string();
+        assert!(e.contains("not known here with confidence"), "{e}");
     }
 
     #[test]

@@ -135,7 +135,7 @@ pub fn run(cli: Cli, out: &mut dyn Write) -> Result<()> {
         Command::Report(args) => report::run(&args, &ctx, out),
         Command::Settings(cmd) => settings::run(&cmd, &ctx, out),
         Command::Limits(args) => limits::run(&args, out),
-        Command::Check(args) => check::run(&args, out),
+        Command::Check(args) => check::run(&args, &ctx, out),
         Command::Demo(args) => demo::run(&args, &ctx, out),
         Command::Import(args) => import::run(&args, &ctx, out),
         Command::Export(args) => export::run(&args, &ctx, out),

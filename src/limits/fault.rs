@@ -1,13 +1,19 @@
 //! Both fault paths of one circuit against its device.
 //!
-//! Earth fault: Ze + (R1+R2), or a measured Zs. Line–neutral: Ze + (R1+Rn). Both are judged
-//! against the same device limit, because a high-resistance neutral can leave the device too
-//! slow even when R1+R2 passes. Readings are taken cold, so each is compared first with the
-//! measured-value limit, then with the tabulated one.
+//! Earth fault: Ze + (R1+R2), or a measured Zs, against the device's maximum Zs (Chapter 41,
+//! automatic disconnection). Line–neutral: Ze + (R1+Rn) against a check value, ohmtrail's own
+//! practice: the same figure as the earth fault path, so the device operates as fast on a
+//! line–neutral fault (fault current protection, Regulation 434.5.2). R1+Rn has no published
+//! maximum and Chapter 41's times are for earth faults, so the check value is never called a
+//! maximum. Readings are taken cold: with Ze known, only the circuit's own conductors are
+//! corrected for temperature, Ze is taken as measured.
 
 use serde::{Deserialize, Serialize};
 
-use super::measured::{MeasuredLimit, MeasuredRule, TestConditions, measured_limit};
+use super::measured::{
+    LimitsConfig, MeasuredLimit, MeasuredRule, TestConditions, insulation_words, measured_limit,
+    measured_loop_limit,
+};
 use super::source::{Source, SourceStatus};
 use super::supply::typical_max_ze;
 use super::zs::{CMIN, DisconnectionTime, RcdZsLimit, U0_V, ZsLimit, max_zs, tt_rcd_zs_max};
@@ -90,8 +96,9 @@ pub struct PathResult {
     pub tabulated_ohm: f64,
     /// Share of the limit used, %.
     pub used_pct: f64,
-    /// Prospective fault current Cmin·U0 / Z, A.
-    pub fault_current_a: f64,
+    /// Minimum fault current Cmin·U0 / Z, A: the least the supply is expected to drive round
+    /// this loop, not the prospective fault current (a maximum) recorded on a schedule.
+    pub min_fault_current_a: f64,
     /// Current needed to operate the protection in time, A.
     pub ia_a: f64,
     pub outcome: PathOutcome,
@@ -115,12 +122,12 @@ pub struct FaultPathReport {
 const FAULT_CURRENT: Source = Source::new(
     "BS 7671:2018+A2:2022 Regulation 411.4.5",
     SourceStatus::Derived,
-    "prospective fault current If = Cmin × U0 / Z = 0.95 × 230 V / Z",
+    "minimum fault current If = Cmin × U0 / Z = 0.95 × 230 V / Z: the least current expected, not the prospective fault current (a maximum)",
 );
 const LINE_NEUTRAL: Source = Source::new(
-    "IET Guidance Note 3",
+    "BS 7671:2018+A2:2022 Regulation 434.5.2 (fault current protection); ohmtrail's own practice",
     SourceStatus::CommonPractice,
-    "line–neutral loop Ze + (R1+Rn) judged against the device's maximum Zs so the device operates instantaneously",
+    "check value: the line–neutral loop Ze + R1+Rn is held to the device's earth fault figure, so the device operates as fast on a line–neutral fault; R1+Rn has no published maximum, and Chapter 41's disconnection times are for earth faults",
 );
 
 fn opt(what: &'static str, v: Option<f64>) -> Result<Option<f64>, LimitsError> {
@@ -153,9 +160,33 @@ pub fn evaluate_fault_paths(inputs: &FaultPathInputs) -> Result<FaultPathReport,
                 .to_string(),
         );
     }
-    let measured = measured_limit(device_limit.zs_max_ohm, rule, &inputs.conditions)?;
+    // With Ze known only the circuit's conductors are corrected; without it the whole loop is.
+    let measured = match ze {
+        Some(z) if !tt => {
+            measured_loop_limit(device_limit.zs_max_ohm, rule, &inputs.conditions, z)?
+        }
+        _ => measured_limit(device_limit.zs_max_ohm, rule, &inputs.conditions)?,
+    };
     if let Some(c) = &measured.caution {
         notes.push(c.clone());
+    }
+    // On TT the earth fault path is judged against the RCD, so no assumption is used there.
+    if measured.insulation_assumed
+        && !tt
+        && let Some(i) = measured.insulation
+    {
+        notes.push(format!(
+            "insulation not recorded: {} assumed (setting {}); the limit is {:.2} Ω on that basis",
+            insulation_words(i),
+            LimitsConfig::ASSUMED_INSULATION_KEY,
+            measured.limit_ohm
+        ));
+    }
+    if !tt && ze.is_none() && rule == MeasuredRule::TemperatureCorrected {
+        notes.push(
+            "Ze not given: the whole loop was corrected for temperature, which gives the lower limit"
+                .to_string(),
+        );
     }
 
     let earth_z = match (zs, ze, r1r2) {
@@ -262,11 +293,12 @@ pub fn evaluate_fault_paths(inputs: &FaultPathInputs) -> Result<FaultPathReport,
             {
                 notes.push(n);
             }
-            if e == Earthing::Tt && ze.is_some_and(|z| z > 200.0) {
-                notes.push(
-                    "Ze above 200 Ω on TT: the electrode resistance may not be stable (common practice)"
-                        .to_string(),
-                );
+            if e == Earthing::Tt
+                && let Some(z) = ze.filter(|z| *z > 200.0)
+            {
+                notes.push(format!(
+                    "Ze {z:.0} Ω on TT is above 200 Ω, where an earth electrode's resistance may not be stable (BS 7671 Table 41.5, note): the installation's electrode is the likely cause, the landlord's to put right"
+                ));
             }
         }
     }
@@ -302,27 +334,56 @@ fn judge_device_path(
     let limit = ml.limit_ohm;
     let tab = dl.zs_max_ohm;
     let device = &dl.device_text;
-    let (outcome, consequence) = if z <= limit + 1e-9 {
-        (
-            PathOutcome::Within,
-            format!(
-                "within the measured-value limit {limit:.2} Ω: a fault current of about {i_f:.0} A exceeds Ia {ia:.0} A, so the {device} is expected to disconnect within {time}"
-            ),
-        )
-    } else if z <= tab + 1e-9 {
-        (
-            PathOutcome::OverMeasuredLimit,
-            format!(
-                "over the measured-value limit {limit:.2} Ω though within the tabulated {tab:.2} Ω: with the conductors at operating temperature the loop may exceed {tab:.2} Ω, and the {device} may not disconnect within {time}"
-            ),
-        )
-    } else {
-        (
-            PathOutcome::OverTabulatedLimit,
-            format!(
-                "over the tabulated {tab:.2} Ω: a fault current of about {i_f:.0} A is below Ia {ia:.0} A, so the {device} may not disconnect within {time}"
-            ),
-        )
+    let (outcome, consequence) = match path {
+        FaultPath::EarthFault => {
+            if z <= limit + 1e-9 {
+                (
+                    PathOutcome::Within,
+                    format!(
+                        "within the measured-value limit {limit:.2} Ω: a minimum fault current of about {i_f:.0} A exceeds Ia {ia:.0} A, so the {device} is expected to disconnect within {time}"
+                    ),
+                )
+            } else if z <= tab + 1e-9 {
+                (
+                    PathOutcome::OverMeasuredLimit,
+                    format!(
+                        "over the measured-value limit {limit:.2} Ω though within the tabulated {tab:.2} Ω: with the conductors at operating temperature the loop may exceed {tab:.2} Ω, and the {device} may not disconnect within {time}"
+                    ),
+                )
+            } else {
+                (
+                    PathOutcome::OverTabulatedLimit,
+                    format!(
+                        "over the tabulated {tab:.2} Ω: a minimum fault current of about {i_f:.0} A is below Ia {ia:.0} A, so the {device} may not disconnect within {time}"
+                    ),
+                )
+            }
+        }
+        // No published maximum and no Chapter 41 time: the words say what the check is.
+        FaultPath::LineNeutral => {
+            if z <= limit + 1e-9 {
+                (
+                    PathOutcome::Within,
+                    format!(
+                        "within the check value {limit:.2} Ω: a minimum line–neutral fault current of about {i_f:.0} A exceeds the {ia:.0} A that operates the {device} as on an earth fault"
+                    ),
+                )
+            } else if z <= tab + 1e-9 {
+                (
+                    PathOutcome::OverMeasuredLimit,
+                    format!(
+                        "over the check value {limit:.2} Ω at the test temperature though within {tab:.2} Ω: warm in service, the line–neutral loop may pass {tab:.2} Ω, and the {device} may operate more slowly on a line–neutral fault than on an earth fault"
+                    ),
+                )
+            } else {
+                (
+                    PathOutcome::OverTabulatedLimit,
+                    format!(
+                        "over the check value {tab:.2} Ω: a minimum line–neutral fault current of about {i_f:.0} A is below the {ia:.0} A that operates the {device} as on an earth fault, so it may be slow to clear a line–neutral fault"
+                    ),
+                )
+            }
+        }
     };
     PathResult {
         path,
@@ -331,7 +392,7 @@ fn judge_device_path(
         limit_ohm: limit,
         tabulated_ohm: tab,
         used_pct: z / limit * 100.0,
-        fault_current_a: i_f,
+        min_fault_current_a: i_f,
         ia_a: ia,
         outcome,
         consequence,
@@ -371,7 +432,7 @@ fn judge_rcd_path(z: f64, made_of: String, rl: &RcdZsLimit) -> PathResult {
         limit_ohm: limit,
         tabulated_ohm: limit,
         used_pct: z / limit * 100.0,
-        fault_current_a: i_f,
+        min_fault_current_a: i_f,
         ia_a: ia,
         outcome,
         consequence,
@@ -394,6 +455,7 @@ mod tests {
             conditions: TestConditions {
                 temp_c: Some(15.0),
                 insulation: Some(Insulation::Thermoplastic70),
+                ..TestConditions::default()
             },
             ..FaultPathInputs::new("B16".parse().unwrap(), DisconnectionTime::S0_4)
         }
@@ -402,17 +464,21 @@ mod tests {
     #[test]
     fn worked_example_b16_both_paths_within() {
         // Table 41.3: B16 2.73 Ω, Ia = 5 × 16 = 80 A.
-        // Corrected limit at 15 °C, 70 °C cable: 2.73 × (1 − 0.00393 × 5) / 1.20
-        //   = 2.73 × 0.98035 / 1.20 = 2.23029 → 2.23 Ω (rounded down).
-        // Earth fault: 0.30 + 0.60 = 0.90 Ω; used 0.90 / 2.23 = 40.4 %; If = 218.5 / 0.9 = 242.8 A.
-        // Line–neutral: 0.30 + 0.50 = 0.80 Ω; If = 273.1 A.
+        // Corrected limit at 15 °C, 70 °C cable, only the circuit's part corrected (Ze as
+        // measured): 0.30 + (2.73 − 0.30) × (1 − 0.00393 × 5) / 1.20
+        //   = 0.30 + 2.43 × 0.98035 / 1.20 = 0.30 + 1.98521 = 2.28521 → 2.28 Ω (rounded down);
+        //   the circuit's part alone 1.98521 → 1.98 Ω.
+        // Earth fault: 0.30 + 0.60 = 0.90 Ω; used 0.90 / 2.28 = 39.47 %;
+        //   minimum If = 218.5 / 0.9 = 242.8 A.
+        // Line–neutral: 0.30 + 0.50 = 0.80 Ω; If = 218.5 / 0.8 = 273.1 A.
         let r = evaluate_fault_paths(&b16()).unwrap();
         assert_eq!(r.device_limit.zs_max_ohm, 2.73);
-        assert_eq!(r.measured_limit.limit_ohm, 2.23);
+        assert_eq!(r.measured_limit.limit_ohm, 2.28);
+        assert_eq!(r.measured_limit.circuit_part_ohm, Some(1.98));
         let e = r.earth_fault.unwrap();
         assert!((e.impedance_ohm - 0.90).abs() < 1e-12);
-        assert!((e.used_pct - 40.36).abs() < 0.01);
-        assert!((e.fault_current_a - 242.78).abs() < 0.01);
+        assert!((e.used_pct - 39.47).abs() < 0.01, "{}", e.used_pct);
+        assert!((e.min_fault_current_a - 242.78).abs() < 0.01);
         assert_eq!(e.ia_a, 80.0);
         assert_eq!(e.outcome, PathOutcome::Within);
         assert!(
@@ -420,16 +486,107 @@ mod tests {
                 .contains("expected to disconnect within 0.4 s")
         );
         let l = r.line_neutral.unwrap();
-        assert!((l.fault_current_a - 273.125).abs() < 1e-9);
+        assert!((l.min_fault_current_a - 273.125).abs() < 1e-9);
         assert_eq!(l.outcome, PathOutcome::Within);
+        // The line–neutral figure is a check value, never a maximum nor a Chapter 41 time.
+        assert!(
+            l.consequence.contains("check value 2.28 Ω"),
+            "{}",
+            l.consequence
+        );
+        assert!(!l.consequence.contains("0.4 s"), "{}", l.consequence);
+        assert!(l.sources.iter().any(|s| s.citation.contains("434.5.2")));
+        assert!(
+            e.sources
+                .iter()
+                .any(|s| s.rule.contains("minimum fault current"))
+        );
+    }
+
+    #[test]
+    fn ze_is_not_corrected_for_temperature() {
+        // Invented B32 radial, 10 °C, 70 °C cable, noisy readings: Ze 0.31, R1+R2 0.83.
+        // Only R1+R2 warms in service: hot loop ≈ 0.31 + 0.83 × 1.20 / 0.9607 = 1.3468 Ω,
+        // under 1.37 Ω. The limit: 0.31 + (1.37 − 0.31) × 0.9607 / 1.20 = 0.31 + 0.84862
+        // = 1.15862 → 1.15 Ω, and Ze + R1+R2 = 1.14 Ω is within it. Correcting Ze too
+        // (1.37 × 0.9607 / 1.20 = 1.0968 → 1.09 Ω) would call this circuit over its limit.
+        let inputs = FaultPathInputs {
+            ze_ohm: Some(0.31),
+            r1r2_ohm: Some(0.83),
+            r1rn_ohm: None,
+            conditions: TestConditions {
+                temp_c: Some(10.0),
+                insulation: Some(Insulation::Thermoplastic70),
+                ..TestConditions::default()
+            },
+            ..FaultPathInputs::new("B32".parse().unwrap(), DisconnectionTime::S0_4)
+        };
+        let r = evaluate_fault_paths(&inputs).unwrap();
+        assert_eq!(r.measured_limit.limit_ohm, 1.15);
+        assert_eq!(r.measured_limit.circuit_part_ohm, Some(0.84));
+        assert_eq!(r.earth_fault.unwrap().outcome, PathOutcome::Within);
+        assert!(r.measured_limit.source.rule.contains("Ze as measured"));
+        // Without Ze apart (a measured Zs alone) the whole loop is corrected, and said so.
+        let zs_only = FaultPathInputs {
+            ze_ohm: None,
+            r1r2_ohm: None,
+            zs_ohm: Some(1.14),
+            ..inputs
+        };
+        let r = evaluate_fault_paths(&zs_only).unwrap();
+        assert_eq!(r.measured_limit.limit_ohm, 1.09);
+        assert!(
+            r.notes.iter().any(|n| n.contains("whole loop")),
+            "{:?}",
+            r.notes
+        );
+    }
+
+    #[test]
+    fn unrecorded_insulation_is_assumed_and_said() {
+        // The example: B32 at 10 °C. 70 °C thermoplastic (the default assumption):
+        // 1.37 × 0.9607 / 1.20 = 1.0968 → 1.09 Ω, where the trade's charts for ordinary twin
+        // and earth give 1.09–1.10 Ω (from memory). 90 °C: / 1.28 = 1.0283 → 1.02 Ω.
+        // Measured Zs only, so the whole loop is corrected.
+        let mut inputs = FaultPathInputs {
+            zs_ohm: Some(0.98),
+            conditions: TestConditions {
+                temp_c: Some(10.0),
+                ..TestConditions::default()
+            },
+            ..FaultPathInputs::new("B32".parse().unwrap(), DisconnectionTime::S0_4)
+        };
+        let r = evaluate_fault_paths(&inputs).unwrap();
+        assert_eq!(r.measured_limit.limit_ohm, 1.09);
+        assert!(r.measured_limit.insulation_assumed);
+        assert!(
+            r.notes
+                .iter()
+                .any(|n| n.contains("70 °C thermoplastic assumed") && n.contains("1.09 Ω")),
+            "{:?}",
+            r.notes
+        );
+        inputs.conditions.assumed_insulation = Insulation::Thermosetting90;
+        let r = evaluate_fault_paths(&inputs).unwrap();
+        assert_eq!(r.measured_limit.limit_ohm, 1.02);
+        assert!(
+            r.notes
+                .iter()
+                .any(|n| n.contains("90 °C thermosetting assumed"))
+        );
+        // Recorded insulation is no assumption.
+        inputs.conditions.insulation = Some(Insulation::Thermoplastic70);
+        let r = evaluate_fault_paths(&inputs).unwrap();
+        assert!(!r.measured_limit.insulation_assumed);
+        assert!(!r.notes.iter().any(|n| n.contains("assumed")));
     }
 
     #[test]
     fn high_resistance_neutral_is_caught_when_earth_passes() {
-        // Invented B32 ring, 10 °C, 70 °C cable. Limit: 1.37 × (1 − 0.0393) / 1.20
-        //   = 1.37 × 0.9607 / 1.20 = 1.09680 → 1.09 Ω.
-        // Earth: 0.25 + 0.55 = 0.80 Ω within. Line–neutral: 0.25 + 1.30 = 1.55 Ω > 1.37 tabulated:
-        // If = 218.5 / 1.55 = 141 A < Ia 160 A.
+        // Invented B32 ring, 10 °C, 70 °C cable. Limit: 0.25 + (1.37 − 0.25) × 0.9607 / 1.20
+        //   = 0.25 + 0.89665 = 1.14665 → 1.14 Ω.
+        // Earth: 0.25 + 0.55 = 0.80 Ω within. Line–neutral: 0.25 + 1.30 = 1.55 Ω > 1.37:
+        // minimum If = 218.5 / 1.55 = 141 A < 160 A.
         let inputs = FaultPathInputs {
             ze_ohm: Some(0.25),
             r1r2_ohm: Some(0.55),
@@ -437,20 +594,22 @@ mod tests {
             conditions: TestConditions {
                 temp_c: Some(10.0),
                 insulation: Some(Insulation::Thermoplastic70),
+                ..TestConditions::default()
             },
             ..FaultPathInputs::new("B32".parse().unwrap(), DisconnectionTime::S0_4)
         };
         let r = evaluate_fault_paths(&inputs).unwrap();
-        assert_eq!(r.measured_limit.limit_ohm, 1.09);
+        assert_eq!(r.measured_limit.limit_ohm, 1.14);
         assert_eq!(r.earth_fault.unwrap().outcome, PathOutcome::Within);
         let l = r.line_neutral.unwrap();
         assert_eq!(l.outcome, PathOutcome::OverTabulatedLimit);
         assert!(
-            l.consequence.contains("141 A is below Ia 160 A"),
+            l.consequence.contains("141 A is below the 160 A"),
             "{}",
             l.consequence
         );
-        assert!(l.consequence.contains("may not disconnect within 0.4 s"));
+        assert!(l.consequence.contains("over the check value 1.37 Ω"));
+        assert!(!l.consequence.contains("0.4 s"));
         assert!(
             r.notes
                 .iter()
@@ -484,12 +643,14 @@ mod tests {
 
     #[test]
     fn no_temperature_falls_back_to_the_80_percent_rule_and_says_so() {
-        // 0.8 × 2.73 = 2.184 → 2.18 Ω (common practice).
+        // 0.8 × 2.73 = 2.184 → 2.18 Ω (BS 7671 Appendix 3; GN3). The part left for the
+        // circuit, rounded once: 2.184 − 0.30 = 1.884 → 1.88 Ω.
         let mut inputs = b16();
         inputs.conditions.temp_c = None;
         let r = evaluate_fault_paths(&inputs).unwrap();
         assert_eq!(r.measured_limit.rule, MeasuredRule::RuleOfThumb80);
         assert_eq!(r.measured_limit.limit_ohm, 2.18);
+        assert_eq!(r.measured_limit.circuit_part_ohm, Some(1.88));
         assert!(r.notes.iter().any(|n| n.contains("80 % rule was applied")));
     }
 
@@ -517,13 +678,19 @@ mod tests {
         );
         // A TT Ze includes the electrode, so the 21 Ω typical figure is not compared.
         assert!(!r.notes.iter().any(|n| n.contains("advisory")));
-        // Above 200 Ω the electrode may not be stable (common practice, no source).
+        // Above 200 Ω the electrode may not be stable (BS 7671 Table 41.5, note).
         let high = FaultPathInputs {
             ze_ohm: Some(240.0),
             ..inputs.clone()
         };
         let r = evaluate_fault_paths(&high).unwrap();
-        assert!(r.notes.iter().any(|n| n.contains("may not be stable")));
+        assert!(
+            r.notes
+                .iter()
+                .any(|n| n.contains("may not be stable") && n.contains("electrode")),
+            "{:?}",
+            r.notes
+        );
         let no_rcd = FaultPathInputs {
             rcd_ma: None,
             ..inputs

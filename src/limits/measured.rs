@@ -4,8 +4,14 @@
 //!
 //! The default rule is [`MeasuredRule::TemperatureCorrected`]: it uses the test temperature
 //! and the cable's insulation, and the 80 % rule of thumb is not conservative for 90 °C
-//! thermosetting cable (1 / 1.28 = 0.78). Where the insulation is not recorded, 90 °C
-//! thermosetting is assumed, because its factor 1.28 gives the lower (safer) limit.
+//! thermosetting cable (1 / 1.28 = 0.78). Where the insulation is not recorded, the
+//! database's assumed insulation is used (default 70 °C thermoplastic, the twin and earth of
+//! nearly every UK home, so the figure matches the contractor's own charts), and every limit
+//! that used the assumption says so.
+//!
+//! Only the circuit's own conductors warm up in service: when Ze is known, the loop limit
+//! corrects R1+R2 (or R1+Rn) and leaves Ze as measured ([`measured_loop_limit`]). Every figure
+//! is rounded once, at the end, by [`round_down_2dp`].
 
 use std::fmt;
 use std::str::FromStr;
@@ -77,15 +83,33 @@ impl FromStr for MeasuredRule {
     }
 }
 
+/// The insulation taken for a circuit whose insulation is not recorded: 70 °C thermoplastic,
+/// the twin and earth of almost every UK home, so the limit agrees with the charts a domestic
+/// contractor works from (common practice, no source).
+pub const DEFAULT_ASSUMED_INSULATION: Insulation = Insulation::Thermoplastic70;
+
 /// Limits settings chosen per database.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize, Deserialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
 pub struct LimitsConfig {
     pub measured_rule: MeasuredRule,
+    /// Insulation taken where a circuit's is not recorded.
+    pub assumed_insulation: Insulation,
+}
+
+impl Default for LimitsConfig {
+    fn default() -> LimitsConfig {
+        LimitsConfig {
+            measured_rule: MeasuredRule::default(),
+            assumed_insulation: DEFAULT_ASSUMED_INSULATION,
+        }
+    }
 }
 
 impl LimitsConfig {
     /// Key under which the measured-value rule is kept in a database's settings.
     pub const MEASURED_RULE_KEY: &'static str = "limits.measured_rule";
+    /// Key under which the insulation assumed for unrecorded cable is kept.
+    pub const ASSUMED_INSULATION_KEY: &'static str = "limits.assumed_insulation";
 
     /// Build from the stored setting; a missing setting means the documented default.
     pub fn from_setting(measured_rule: Option<&str>) -> Result<LimitsConfig, LimitsError> {
@@ -94,16 +118,29 @@ impl LimitsConfig {
                 Some(s) => s.parse()?,
                 None => MeasuredRule::default(),
             },
+            ..LimitsConfig::default()
         })
     }
 }
 
 /// Conditions of the test that move the limit.
-#[derive(Debug, Clone, Copy, Default, PartialEq, Serialize, Deserialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
 pub struct TestConditions {
     /// Conductor (or ambient) temperature at the test, °C.
     pub temp_c: Option<f64>,
     pub insulation: Option<Insulation>,
+    /// Taken when `insulation` is not recorded, and said so.
+    pub assumed_insulation: Insulation,
+}
+
+impl Default for TestConditions {
+    fn default() -> TestConditions {
+        TestConditions {
+            temp_c: None,
+            insulation: None,
+            assumed_insulation: DEFAULT_ASSUMED_INSULATION,
+        }
+    }
 }
 
 /// The figure a cold reading is judged against.
@@ -114,10 +151,15 @@ pub struct MeasuredLimit {
     pub tabulated_ohm: f64,
     /// The measured-value limit, rounded down to 2 dp, Ω.
     pub limit_ohm: f64,
+    /// Ze left out of the correction, when the limit is for a loop with a known Ze.
+    pub ze_ohm: Option<f64>,
+    /// The most the circuit's own conductors (R1+R2 or R1+Rn) may read: the limit less Ze,
+    /// rounded down once from the exact figure. Known only with Ze.
+    pub circuit_part_ohm: Option<f64>,
     pub temp_c: Option<f64>,
     /// The insulation the factor was taken for.
     pub insulation: Option<Insulation>,
-    /// True when the insulation was not recorded and 90 °C thermosetting was assumed.
+    /// True when the insulation was not recorded and the assumed insulation was used.
     pub insulation_assumed: bool,
     pub source: Source,
     /// A warning that goes with this limit, e.g. the 80 % rule on 90 °C cable.
@@ -132,18 +174,42 @@ pub fn hot_factor(insulation: Insulation) -> f64 {
     }
 }
 
-fn insulation_words(i: Insulation) -> &'static str {
+/// The insulation in words, e.g. "70 °C thermoplastic".
+pub fn insulation_words(i: Insulation) -> &'static str {
     match i {
         Insulation::Thermoplastic70 => "70 °C thermoplastic",
         Insulation::Thermosetting90 => "90 °C thermosetting",
     }
 }
 
-/// The measured-value limit for a tabulated Zs under a rule.
+/// The measured-value limit for a tabulated Zs under a rule, for the whole loop as measured
+/// (Ze not known apart: the whole loop is corrected, which gives the lower limit).
 pub fn measured_limit(
     tabulated_ohm: f64,
     rule: MeasuredRule,
     conditions: &TestConditions,
+) -> Result<MeasuredLimit, LimitsError> {
+    limit_with(tabulated_ohm, rule, conditions, None)
+}
+
+/// The measured-value limit for a loop Ze + R whose Ze is known: only the circuit's part R
+/// is corrected for temperature, Ze is taken as measured. Under the 80 % rule the limit is
+/// 0.8 × tabulated for the loop as a whole, as the rule is used.
+pub fn measured_loop_limit(
+    tabulated_ohm: f64,
+    rule: MeasuredRule,
+    conditions: &TestConditions,
+    ze_ohm: f64,
+) -> Result<MeasuredLimit, LimitsError> {
+    let ze = super::check_ohms("Ze", ze_ohm)?;
+    limit_with(tabulated_ohm, rule, conditions, Some(ze))
+}
+
+fn limit_with(
+    tabulated_ohm: f64,
+    rule: MeasuredRule,
+    conditions: &TestConditions,
+    ze: Option<f64>,
 ) -> Result<MeasuredLimit, LimitsError> {
     let tabulated_ohm = super::check_ohms("tabulated Zs", tabulated_ohm)?;
     if let Some(t) = conditions.temp_c {
@@ -151,7 +217,8 @@ pub fn measured_limit(
     }
     match rule {
         MeasuredRule::RuleOfThumb80 => {
-            let limit = round_down_2dp(0.8 * tabulated_ohm);
+            let exact = 0.8 * tabulated_ohm;
+            let limit = round_down_2dp(exact);
             let caution = match conditions.insulation {
                 Some(Insulation::Thermosetting90) => Some(
                     "the 80 % rule is not conservative for 90 °C thermosetting cable (1 / 1.28 = 0.78)"
@@ -167,16 +234,18 @@ pub fn measured_limit(
                 rule,
                 tabulated_ohm,
                 limit_ohm: limit,
+                ze_ohm: ze,
+                circuit_part_ohm: ze.map(|z| round_down_2dp((exact - z).max(0.0))),
                 temp_c: conditions.temp_c,
                 insulation: conditions.insulation,
                 insulation_assumed: false,
                 source: Source::new(
-                    "IET Guidance Note 3; IET On-Site Guide Appendix B",
-                    SourceStatus::CommonPractice,
+                    "BS 7671:2018+A2:2022 Appendix 3; IET Guidance Note 3; IET On-Site Guide Appendix B",
+                    SourceStatus::Published,
                     "",
                 )
                 .with_rule(format!(
-                    "measured Zs ≤ 0.8 × tabulated Zs = 0.8 × {tabulated_ohm:.2} = {limit:.2} Ω, rounded down to 2 dp (conservative)"
+                    "rule of thumb: measured Zs ≤ 0.8 × tabulated Zs = 0.8 × {tabulated_ohm:.2} = {limit:.2} Ω, rounded down to 2 dp (conservative)"
                 )),
                 caution,
             })
@@ -185,20 +254,37 @@ pub fn measured_limit(
             let t = conditions.temp_c.ok_or(LimitsError::MissingTemperature)?;
             let (insulation, assumed) = match conditions.insulation {
                 Some(i) => (i, false),
-                None => (Insulation::Thermosetting90, true),
+                None => (conditions.assumed_insulation, true),
             };
             let k = hot_factor(insulation);
-            let exact = tabulated_ohm * (1.0 + ALPHA_CU * (t - 20.0)) / k;
-            let limit = round_down_2dp(exact);
+            let f = 1.0 + ALPHA_CU * (t - 20.0);
             let assumed_words = if assumed {
-                " (insulation not recorded: 90 °C thermosetting assumed, the lower limit)"
+                format!(
+                    " (insulation not recorded: {} assumed)",
+                    insulation_words(insulation)
+                )
             } else {
-                ""
+                String::new()
+            };
+            // Only the circuit's part is corrected; Ze stays as measured.
+            let z = ze.unwrap_or(0.0);
+            let part_exact = (tabulated_ohm - z).max(0.0) * f / k;
+            let exact = z + part_exact;
+            let limit = round_down_2dp(exact);
+            let formula = match ze {
+                Some(z) => format!(
+                    "limit at {t} °C = Ze + (Zs − Ze) × (1 + 0.00393 × (t − 20)) / k = {z:.2} + ({tabulated_ohm:.2} − {z:.2}) × {f:.5} / {k:.2} = {limit:.2} Ω, only the circuit's conductors corrected, Ze as measured"
+                ),
+                None => format!(
+                    "limit at {t} °C = Zs × (1 + 0.00393 × (t − 20)) / k = {tabulated_ohm:.2} × {f:.5} / {k:.2} = {limit:.2} Ω, the whole loop corrected (Ze not known apart)"
+                ),
             };
             Ok(MeasuredLimit {
                 rule,
                 tabulated_ohm,
                 limit_ohm: limit,
+                ze_ohm: ze,
+                circuit_part_ohm: ze.map(|_| round_down_2dp(part_exact)),
                 temp_c: Some(t),
                 insulation: Some(insulation),
                 insulation_assumed: assumed,
@@ -208,8 +294,7 @@ pub fn measured_limit(
                     "",
                 )
                 .with_rule(format!(
-                    "limit at {t} °C = Zs × (1 + 0.00393 × (t − 20)) / k = {tabulated_ohm:.2} × {:.5} / {k:.2} = {limit:.2} Ω for {}{assumed_words}, rounded down to 2 dp (conservative); k 1.20 / 1.28 from memory, agreeing with 1 + 0.00393 × 50 = 1.197 and 1 + 0.00393 × 70 = 1.275",
-                    1.0 + ALPHA_CU * (t - 20.0),
+                    "{formula}, for {}{assumed_words}, rounded down to 2 dp once, at the end (conservative); k 1.20 / 1.28 from memory, agreeing with 1 + 0.00393 × 50 = 1.197 and 1 + 0.00393 × 70 = 1.275",
                     insulation_words(insulation),
                 )),
                 caution: None,
@@ -223,7 +308,11 @@ mod tests {
     use super::*;
 
     fn at(temp_c: Option<f64>, insulation: Option<Insulation>) -> TestConditions {
-        TestConditions { temp_c, insulation }
+        TestConditions {
+            temp_c,
+            insulation,
+            ..TestConditions::default()
+        }
     }
 
     #[test]
@@ -232,7 +321,9 @@ mod tests {
         let m = measured_limit(1.37, MeasuredRule::RuleOfThumb80, &at(None, None)).unwrap();
         assert_eq!(m.limit_ohm, 1.09);
         assert!(m.source.rule.contains("rounded down"));
-        assert_eq!(m.source.status, SourceStatus::CommonPractice);
+        // The rule of thumb is printed in BS 7671 Appendix 3 as well as in GN3.
+        assert_eq!(m.source.status, SourceStatus::Published);
+        assert!(m.source.citation.contains("Appendix 3"));
         // Invented C63 circuit: 0.8 × 0.35 = 0.28 exactly; float error must not cut it to 0.27.
         let m = measured_limit(0.35, MeasuredRule::RuleOfThumb80, &at(None, None)).unwrap();
         assert_eq!(m.limit_ohm, 0.28);
@@ -248,9 +339,33 @@ mod tests {
     }
 
     #[test]
+    fn hot_factors_agree_with_copper_at_operating_temperature() {
+        // The multipliers 1.20 / 1.28 are from memory; IEC 60228's α = 0.00393 /K gives
+        // 1 + 0.00393 × (70 − 20) = 1.1965 and 1 + 0.00393 × (90 − 20) = 1.2751. Each held
+        // factor must sit within half a hundredth of its physics.
+        let iec_alpha = 0.00393;
+        for (ins, max_c) in [
+            (Insulation::Thermoplastic70, 70.0),
+            (Insulation::Thermosetting90, 90.0),
+        ] {
+            let physics = 1.0 + iec_alpha * (max_c - 20.0);
+            assert!((hot_factor(ins) - physics).abs() < 0.005, "{ins:?}");
+        }
+    }
+
+    #[test]
     fn rule_of_thumb_warns_on_90_degree_cable() {
-        // Reference: 1 / 1.28 = 0.78 < 0.8, so the 80 % rule is not conservative at 90 °C.
-        assert!(1.0 / hot_factor(Insulation::Thermosetting90) < 0.8);
+        // The 80 % rule is not conservative for 90 °C cable: for B32 (Table 41.3 1.37 Ω) at
+        // 20 °C the 80 % figure 0.8 × 1.37 = 1.096 → 1.09 Ω is above the corrected
+        // 1.37 / 1.28 = 1.0703 → 1.07 Ω.
+        let cold90 = TestConditions {
+            temp_c: Some(20.0),
+            insulation: Some(Insulation::Thermosetting90),
+            ..TestConditions::default()
+        };
+        let by80 = measured_limit(1.37, MeasuredRule::RuleOfThumb80, &cold90).unwrap();
+        let corrected = measured_limit(1.37, MeasuredRule::TemperatureCorrected, &cold90).unwrap();
+        assert_eq!((by80.limit_ohm, corrected.limit_ohm), (1.09, 1.07));
         let m = measured_limit(
             1.37,
             MeasuredRule::RuleOfThumb80,
@@ -291,17 +406,62 @@ mod tests {
     }
 
     #[test]
-    fn unknown_insulation_takes_the_lower_limit() {
-        // Documented choice: 1.28 (90 °C) divides to the lower figure, so it is assumed.
+    fn unknown_insulation_takes_the_assumed_insulation_and_says_so() {
+        // Default 70 °C thermoplastic (common practice, no source: UK homes are wired in
+        // twin and earth): B32 at 12 °C 1.37 × 0.96856 / 1.20 = 1.10577 → 1.10 Ω.
         let m = measured_limit(
             1.37,
             MeasuredRule::TemperatureCorrected,
             &at(Some(12.0), None),
         )
         .unwrap();
-        assert_eq!(m.limit_ohm, 1.03);
+        assert_eq!(m.limit_ohm, 1.10);
         assert!(m.insulation_assumed);
-        assert!(m.source.rule.contains("assumed"));
+        assert!(
+            m.source.rule.contains("70 °C thermoplastic assumed"),
+            "{}",
+            m.source.rule
+        );
+        // A database that chose 90 °C thermosetting: / 1.28 = 1.03666 → 1.03 Ω.
+        let m = measured_limit(
+            1.37,
+            MeasuredRule::TemperatureCorrected,
+            &TestConditions {
+                assumed_insulation: Insulation::Thermosetting90,
+                ..at(Some(12.0), None)
+            },
+        )
+        .unwrap();
+        assert_eq!(m.limit_ohm, 1.03);
+        assert!(m.source.rule.contains("90 °C thermosetting assumed"));
+    }
+
+    #[test]
+    fn with_ze_only_the_circuit_part_is_corrected_and_rounded_once() {
+        // Invented B32 at 20 °C, 70 °C cable, Ze 0.30: the circuit may read
+        // (1.37 − 0.30) / 1.20 = 0.891667 → 0.89 Ω; the loop 0.30 + 0.891667 = 1.191667 →
+        // 1.19 Ω. Each figure is rounded once, from the exact value.
+        let m = measured_loop_limit(
+            1.37,
+            MeasuredRule::TemperatureCorrected,
+            &at(Some(20.0), Some(Insulation::Thermoplastic70)),
+            0.30,
+        )
+        .unwrap();
+        assert_eq!((m.limit_ohm, m.circuit_part_ohm), (1.19, Some(0.89)));
+        assert_eq!(m.ze_ohm, Some(0.30));
+        // A Ze at or above the table leaves nothing for the circuit.
+        let m = measured_loop_limit(
+            1.37,
+            MeasuredRule::TemperatureCorrected,
+            &at(Some(20.0), Some(Insulation::Thermoplastic70)),
+            1.50,
+        )
+        .unwrap();
+        assert_eq!(m.circuit_part_ohm, Some(0.0));
+        assert!(
+            measured_loop_limit(1.37, MeasuredRule::RuleOfThumb80, &at(None, None), -0.1).is_err()
+        );
     }
 
     #[test]
@@ -332,6 +492,10 @@ mod tests {
         assert_eq!(
             LimitsConfig::from_setting(None),
             Ok(LimitsConfig::default())
+        );
+        assert_eq!(
+            LimitsConfig::default().assumed_insulation,
+            Insulation::Thermoplastic70
         );
         assert!(LimitsConfig::from_setting(Some("x")).is_err());
     }

@@ -32,7 +32,8 @@ pub use fault::{
 };
 pub use ir::{IrCircuit, IrJudgement, IrMinimum, IrOutcome, ir_minimum, judge_ir};
 pub use measured::{
-    LimitsConfig, MeasuredLimit, MeasuredRule, TestConditions, hot_factor, measured_limit,
+    DEFAULT_ASSUMED_INSULATION, LimitsConfig, MeasuredLimit, MeasuredRule, TestConditions,
+    hot_factor, insulation_words, measured_limit, measured_loop_limit,
 };
 pub use rcd::{
     RcdJudgement, RcdMax, RcdReadings, RcdTest, RcdTestResult, RcdTiming, judge_rcd, rcd_max_ms,
@@ -104,6 +105,14 @@ pub fn round_down_2dp(x: f64) -> f64 {
     (x * 100.0 + ROUNDING_EPSILON).floor() / 100.0
 }
 
+/// A limit less a Ze, rounded down to 2 dp: the one place a check value on R1+R2 or R1+Rn
+/// alone is rounded. Ze is recorded in hundredths, so taking it off a limit already rounded
+/// down gives the same hundredths as taking it off the exact limit; the nudge keeps float
+/// error (1.14 − 0.30 = 0.8399999…) from costing a hundredth.
+pub fn less_ze(limit_ohm: f64, ze_ohm: f64) -> f64 {
+    round_down_2dp(limit_ohm - ze_ohm)
+}
+
 /// Far below any meaningful hundredth of an ohm, far above f64 error on values under 10⁵ Ω.
 const ROUNDING_EPSILON: f64 = 1e-7;
 
@@ -142,6 +151,17 @@ mod tests {
         assert_eq!(round_half_up_2dp(218.5 / 100.0), 2.19);
         assert_eq!(round_half_up_2dp(2.1849), 2.18);
         assert_eq!(round_half_up_2dp(1.748), 1.75);
+    }
+
+    #[test]
+    fn a_limit_less_ze_keeps_its_hundredths() {
+        // Exact arithmetic: 1.14 − 0.30 = 0.84, though f64 gives 0.8399999999999999 and a
+        // plain floor showed 0.83.
+        let raw: f64 = std::hint::black_box(1.14) - 0.30;
+        assert_eq!((raw * 100.0).floor() / 100.0, 0.83);
+        assert_eq!(less_ze(1.14, 0.30), 0.84);
+        assert_eq!(less_ze(1.09, 0.35), 0.74);
+        assert_eq!(less_ze(2.185, 0.30), 1.88);
     }
 
     #[test]

@@ -2,8 +2,9 @@
 //! rating, or a fuse with its standard and rating.
 //!
 //! The text form is what a contractor writes on a schedule: `B32`, `C16`, `RCBO B20`,
-//! `BS 88-3 30A`, `BS3036 15`. Parsing is strict: an unknown type, curve or rating is an
-//! error that lists what is known, never a silent default.
+//! `BS 88-3 32A`, `BS3036 15`, `BS 1361 30A`, `BS 3871 type 2 32A`. Parsing is strict: an
+//! unknown type, curve or rating is an error that lists what is known, never a silent default,
+//! and a spelling that could mean two devices ("BS 88 32A") is refused with both choices.
 
 use std::fmt;
 use std::str::FromStr;
@@ -19,7 +20,9 @@ pub enum Curve {
 }
 
 impl Curve {
-    /// Multiple of In at which the breaker trips instantaneously (BS 7671 Regulation 411.4.5).
+    /// Multiple of In at which the breaker trips instantaneously: the upper limit of the
+    /// instantaneous tripping range of BS EN 60898-1 (and BS EN 61009-1), as BS 7671 Appendix 3
+    /// uses it for Ia.
     pub fn ia_multiple(self) -> u16 {
         match self {
             Curve::B => 5,
@@ -72,12 +75,17 @@ pub enum FuseStandard {
     /// BS 1362 plug-top / fused connection unit cartridge fuse.
     #[serde(rename = "BS 1362")]
     Bs1362,
+    /// BS 1361 cartridge fuse, the older standard BS 88-3 replaced; its 15 A and 30 A sizes
+    /// have no BS 88-3 counterpart, so it is kept apart.
+    #[serde(rename = "BS 1361")]
+    Bs1361,
 }
 
 impl FuseStandard {
-    pub const ALL: [FuseStandard; 4] = [
+    pub const ALL: [FuseStandard; 5] = [
         FuseStandard::Bs88_2,
         FuseStandard::Bs88_3,
+        FuseStandard::Bs1361,
         FuseStandard::Bs3036,
         FuseStandard::Bs1362,
     ];
@@ -88,6 +96,7 @@ impl FuseStandard {
             FuseStandard::Bs88_3 => "BS 88-3",
             FuseStandard::Bs3036 => "BS 3036",
             FuseStandard::Bs1362 => "BS 1362",
+            FuseStandard::Bs1361 => "BS 1361",
         }
     }
 
@@ -97,7 +106,8 @@ impl FuseStandard {
             FuseStandard::Bs88_2 => &[
                 2, 4, 6, 10, 16, 20, 25, 32, 40, 50, 63, 80, 100, 125, 160, 200,
             ],
-            FuseStandard::Bs88_3 => &[5, 15, 16, 20, 30, 32, 45, 60, 80, 100],
+            FuseStandard::Bs88_3 => &[5, 16, 20, 32, 45, 63, 80, 100],
+            FuseStandard::Bs1361 => &[5, 15, 20, 30, 45, 60, 80, 100],
             FuseStandard::Bs3036 => &[5, 15, 20, 30, 45, 60, 100],
             FuseStandard::Bs1362 => &[3, 5, 13],
         }
@@ -106,6 +116,40 @@ impl FuseStandard {
 
 /// Breaker ratings for which BS 7671 Table 41.3 gives a maximum Zs.
 pub const BREAKER_RATINGS: [u16; 13] = [3, 6, 10, 16, 20, 25, 32, 40, 50, 63, 80, 100, 125];
+
+/// The type of a BS 3871 circuit-breaker, the standard before BS EN 60898: types 1, 2 and 3
+/// trip instantaneously at up to 4, 7 and 10 × In (from memory).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, PartialOrd, Ord, Serialize, Deserialize)]
+pub enum Bs3871Type {
+    #[serde(rename = "1")]
+    T1,
+    #[serde(rename = "2")]
+    T2,
+    #[serde(rename = "3")]
+    T3,
+}
+
+impl Bs3871Type {
+    /// Multiple of In for instantaneous tripping: 4, 7, 10 (from memory).
+    pub fn ia_multiple(self) -> u16 {
+        match self {
+            Bs3871Type::T1 => 4,
+            Bs3871Type::T2 => 7,
+            Bs3871Type::T3 => 10,
+        }
+    }
+
+    pub fn number(self) -> u8 {
+        match self {
+            Bs3871Type::T1 => 1,
+            Bs3871Type::T2 => 2,
+            Bs3871Type::T3 => 3,
+        }
+    }
+}
+
+/// Ratings of BS 3871 circuit-breakers found on older boards (common practice, no source).
+pub const BS3871_RATINGS: [u16; 14] = [5, 6, 10, 15, 16, 20, 25, 30, 32, 40, 45, 50, 60, 63];
 
 /// A circuit's overcurrent protective device.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, PartialOrd, Ord, Serialize, Deserialize)]
@@ -120,12 +164,16 @@ pub enum Device {
         standard: FuseStandard,
         rating_a: u16,
     },
+    /// A BS 3871 miniature circuit-breaker (withdrawn; still on older boards).
+    Bs3871 { mcb_type: Bs3871Type, rating_a: u16 },
 }
 
 impl Device {
     pub fn rating_a(&self) -> u16 {
         match *self {
-            Device::Breaker { rating_a, .. } | Device::Fuse { rating_a, .. } => rating_a,
+            Device::Breaker { rating_a, .. }
+            | Device::Fuse { rating_a, .. }
+            | Device::Bs3871 { rating_a, .. } => rating_a,
         }
     }
 
@@ -146,6 +194,17 @@ impl Device {
             curve,
             rating_a,
         })
+    }
+
+    /// Build a BS 3871 breaker, checking the rating.
+    pub fn bs3871(mcb_type: Bs3871Type, rating_a: u16) -> Result<Device, DeviceError> {
+        if !BS3871_RATINGS.contains(&rating_a) {
+            return Err(DeviceError::Rating {
+                text: format!("BS 3871 type {} {}A", mcb_type.number(), rating_a),
+                known: join_ratings(&BS3871_RATINGS),
+            });
+        }
+        Ok(Device::Bs3871 { mcb_type, rating_a })
     }
 
     /// Build a fuse, checking the rating against that standard's ratings.
@@ -181,6 +240,9 @@ impl fmt::Display for Device {
                 rating_a,
             } => write!(f, "RCBO {}{}", curve.letter(), rating_a),
             Device::Fuse { standard, rating_a } => write!(f, "{} {}A", standard.name(), rating_a),
+            Device::Bs3871 { mcb_type, rating_a } => {
+                write!(f, "BS 3871 type {} {}A", mcb_type.number(), rating_a)
+            }
         }
     }
 }
@@ -188,9 +250,13 @@ impl fmt::Display for Device {
 #[derive(Debug, Clone, PartialEq, Eq, thiserror::Error)]
 pub enum DeviceError {
     #[error(
-        "unknown protective device {0:?}: expected a breaker curve and rating such as B16, C32, D6 or RCBO B20, or a fuse standard and rating such as BS 88-3 30A, BS 88-2 32A, BS 3036 15A, BS 1362 13A"
+        "unknown protective device {0:?}: expected a breaker curve and rating such as B16, C32, D6 or RCBO B20, an older breaker such as BS 3871 type 2 30A, or a fuse standard and rating such as BS 88-3 32A, BS 88-2 32A, BS 1361 30A, BS 3036 15A, BS 1362 13A"
     )]
     Unknown(String),
+    #[error(
+        "{0:?} could be a BS 88-2 (industrial, gG) or a BS 88-3 (domestic cartridge, formerly BS 1361) fuse, whose limits differ: write BS 88-2 {1}A or BS 88-3 {1}A"
+    )]
+    AmbiguousBs88(String, u16),
     #[error("{text} is not a standard rating: known ratings are {known} A")]
     Rating { text: String, known: String },
 }
@@ -212,20 +278,49 @@ impl FromStr for Device {
         }
 
         // Fuses: standard prefix, then the rating with an optional trailing A.
-        const FUSE_PREFIXES: [(&str, FuseStandard); 6] = [
+        const FUSE_PREFIXES: [(&str, FuseStandard); 5] = [
             ("BS88-2", FuseStandard::Bs88_2),
             ("BS88-3", FuseStandard::Bs88_3),
-            ("BS1361", FuseStandard::Bs88_3),
+            ("BS1361", FuseStandard::Bs1361),
             ("BS3036", FuseStandard::Bs3036),
             ("BS1362", FuseStandard::Bs1362),
-            ("BS88", FuseStandard::Bs88_2),
         ];
         for (prefix, standard) in FUSE_PREFIXES {
             if let Some(rest) = squashed.strip_prefix(prefix) {
                 let rest = rest.trim_start_matches(['-', '/', ':']);
                 let rating = parse_rating(rest).ok_or_else(unknown)?;
+                // BS 88-3 has no 15, 30 or 60 A size; those are the BS 1361 fuses it replaced,
+                // still written "BS 88-3" on many schedules, and the only fuse they can be.
+                if standard == FuseStandard::Bs88_3 && [15, 30, 60].contains(&rating) {
+                    return Device::fuse(FuseStandard::Bs1361, rating);
+                }
                 return Device::fuse(standard, rating);
             }
+        }
+        // "BS 88" alone: in a home usually BS 88-3, on an industrial board BS 88-2. Guessing
+        // would pick the wrong table for one of them, so both are offered.
+        if let Some(rest) = squashed.strip_prefix("BS88") {
+            let rating = parse_rating(rest.trim_start_matches([':', '/'])).ok_or_else(unknown)?;
+            return Err(DeviceError::AmbiguousBs88(s.trim().to_string(), rating));
+        }
+        // BS 3871 breakers: "BS 3871 type 2 32A", "BS3871 T2 32". The word type (or T) is
+        // needed: without spaces, "BS 3871 2 32A" would read as 232 A.
+        if let Some(rest) = squashed.strip_prefix("BS3871") {
+            let rest = rest.trim_start_matches(['-', '/', ':', ',']);
+            let rest = rest
+                .strip_prefix("TYPE")
+                .or_else(|| rest.strip_prefix('T'))
+                .ok_or_else(unknown)?;
+            let mut chars = rest.chars();
+            let mcb_type = match chars.next() {
+                Some('1') => Bs3871Type::T1,
+                Some('2') => Bs3871Type::T2,
+                Some('3') => Bs3871Type::T3,
+                _ => return Err(unknown()),
+            };
+            let rating = parse_rating(chars.as_str().trim_start_matches(['-', '/', ',']))
+                .ok_or_else(unknown)?;
+            return Device::bs3871(mcb_type, rating);
         }
 
         // Breakers: optional standard or RCBO/MCB word, the curve letter, the rating.
@@ -290,16 +385,23 @@ mod tests {
         let rcbo = "RCBO C20".parse::<Device>().unwrap();
         assert_eq!(rcbo.to_string(), "RCBO C20");
         assert_eq!("c20 rcbo".parse::<Device>().unwrap(), rcbo);
-        let fuse = "BS 88-3 30A".parse::<Device>().unwrap();
+        let fuse = "BS 88-3 32A".parse::<Device>().unwrap();
         assert_eq!(
             fuse,
             Device::Fuse {
                 standard: FuseStandard::Bs88_3,
-                rating_a: 30
+                rating_a: 32
             }
         );
-        // BS 1361 was renumbered BS 88-3 (common practice, no source).
-        assert_eq!("BS1361 30".parse::<Device>().unwrap(), fuse);
+        // BS 88-3 replaced BS 1361 (IET Wiring Matters, Spring 2011, "Impact of fuse standard
+        // developments on BS 7671:2008 (2011)"); the 15 and 30 A sizes are BS 1361's only.
+        let bs1361 = Device::Fuse {
+            standard: FuseStandard::Bs1361,
+            rating_a: 30,
+        };
+        assert_eq!("BS1361 30".parse::<Device>().unwrap(), bs1361);
+        assert_eq!("BS 88-3 30A".parse::<Device>().unwrap(), bs1361);
+        assert_eq!(bs1361.to_string(), "BS 1361 30A");
         assert_eq!(
             "bs3036 15".parse::<Device>().unwrap().to_string(),
             "BS 3036 15A"
@@ -314,7 +416,11 @@ mod tests {
             "D10",
             "RCBO B16",
             "BS 88-2 32A",
+            "BS 88-3 32A",
+            "BS 1361 15A",
             "BS 1362 13A",
+            "BS 3871 type 1 30A",
+            "BS 3871 type 3 5A",
         ] {
             assert_eq!(s.parse::<Device>().unwrap().to_string(), s);
         }
@@ -337,6 +443,51 @@ mod tests {
         assert!(matches!(
             "BS 3036 32A".parse::<Device>(),
             Err(DeviceError::Rating { .. })
+        ));
+        for s in ["BS 3871 type 4 30A", "BS 3871 30A", "BS3871 T"] {
+            assert!(
+                matches!(s.parse::<Device>(), Err(DeviceError::Unknown(_))),
+                "{s}"
+            );
+        }
+        assert!(matches!(
+            "BS 3871 type 2 33A".parse::<Device>(),
+            Err(DeviceError::Rating { .. })
+        ));
+    }
+
+    #[test]
+    fn old_breakers_parse_in_the_usual_spellings() {
+        let t2 = Device::Bs3871 {
+            mcb_type: Bs3871Type::T2,
+            rating_a: 32,
+        };
+        for s in [
+            "BS 3871 type 2 32A",
+            "BS3871 T2 32",
+            "bs 3871 type2 32a",
+            "BS 3871: Type 2 32A",
+        ] {
+            assert_eq!(s.parse::<Device>().unwrap(), t2, "{s}");
+        }
+    }
+
+    #[test]
+    fn bare_bs_88_is_refused_with_both_choices() {
+        // In a home "BS 88" usually means BS 88-3 (domestic cartridge), on a commercial board
+        // BS 88-2: their tables differ (common practice, no source), so neither is guessed.
+        for s in ["BS 88 32A", "BS88 32", "bs 88 32 a"] {
+            let err = s.parse::<Device>().unwrap_err();
+            assert!(matches!(err, DeviceError::AmbiguousBs88(_, 32)), "{s}");
+            let msg = err.to_string();
+            assert!(
+                msg.contains("BS 88-2 32A") && msg.contains("BS 88-3 32A"),
+                "{msg}"
+            );
+        }
+        assert!(matches!(
+            "BS 88".parse::<Device>(),
+            Err(DeviceError::Unknown(_))
         ));
     }
 }

@@ -11,7 +11,7 @@ use std::str::FromStr;
 use chrono::NaiveDate;
 use serde::{Deserialize, Serialize};
 
-pub use device::{BreakerStandard, Curve, Device, DeviceError, FuseStandard};
+pub use device::{BreakerStandard, Bs3871Type, Curve, Device, DeviceError, FuseStandard};
 
 /// A landlord or managing agent.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]

@@ -8,7 +8,9 @@ use serde::Serialize;
 use super::entry::{Field, Unit};
 use super::expect::expectation;
 use crate::analysis::{CircuitAnalysis, PropertyAnalysis, SeriesAnalysis};
-use crate::limits::{self, IrCircuit, MeasuredRule, RcdTest, RcdTiming, TestConditions, from_r20};
+use crate::limits::{
+    self, IrCircuit, LimitsConfig, MeasuredRule, RcdTest, RcdTiming, TestConditions, from_r20,
+};
 use crate::model::{CircuitKind, Instrument, Observation, RcdType, Readings, Status};
 use crate::trend::{LimitKind, TrendConfig};
 
@@ -209,7 +211,14 @@ pub fn brief(
             .filter(|c| c.circuit.board_id == b.id)
             .map(|c| {
                 let ze_here = if origin { origin_ze } else { None };
-                circuit_brief(c, date, (temp, temp_c.is_some()), rule, ze_here, cfg)
+                circuit_brief(
+                    c,
+                    date,
+                    (temp, temp_c.is_some()),
+                    analysis.settings.limits,
+                    ze_here,
+                    cfg,
+                )
             })
             .collect::<Vec<_>>();
         if circuits.is_empty() && !origin {
@@ -302,12 +311,12 @@ fn circuit_brief(
     c: &CircuitAnalysis,
     date: NaiveDate,
     (temp, temp_known): (f64, bool),
-    rule: MeasuredRule,
+    lc: LimitsConfig,
     ze: Option<f64>,
     cfg: &TrendConfig,
 ) -> CircuitBrief {
     let mut notes = c.notes.clone();
-    let zs_limit = zs_limit_at(c, temp, rule, &mut notes);
+    let zs_limit = zs_limit_at(c, temp, lc, &mut notes);
     let expectations = fields_for(c)
         .into_iter()
         .map(|f| {
@@ -399,9 +408,10 @@ fn series_for(c: &CircuitAnalysis, f: Field) -> Option<&SeriesAnalysis> {
 fn zs_limit_at(
     c: &CircuitAnalysis,
     temp: f64,
-    rule: MeasuredRule,
+    lc: LimitsConfig,
     notes: &mut Vec<String>,
 ) -> Option<LimitAt> {
+    let (rule, assumed) = (lc.measured_rule, lc.assumed_insulation);
     if let Some(z) = &c.zs_limit {
         return match limits::measured_limit(
             z.zs_max_ohm,
@@ -409,6 +419,7 @@ fn zs_limit_at(
             &TestConditions {
                 temp_c: Some(temp),
                 insulation: c.circuit.insulation,
+                assumed_insulation: assumed,
             },
         ) {
             Ok(m) => Some(LimitAt {
@@ -419,10 +430,12 @@ fn zs_limit_at(
                         "measured-value maximum Zs for {} at {temp} °C ({:.2} Ω tabulated{})",
                         z.device_text,
                         z.zs_max_ohm,
-                        if m.insulation_assumed {
-                            "; 90 °C thermosetting assumed"
-                        } else {
-                            ""
+                        match m.insulation {
+                            Some(i) if m.insulation_assumed => format!(
+                                "; insulation not recorded, {} assumed",
+                                limits::insulation_words(i)
+                            ),
+                            _ => String::new(),
                         }
                     ),
                     MeasuredRule::RuleOfThumb80 => format!(
@@ -469,11 +482,14 @@ fn r1rn_limit_at(
         }
         _ => return None,
     };
-    let value = (value * 100.0 + 1e-7).floor() / 100.0;
+    let value = limits::round_down_2dp(value);
     Some(LimitAt {
         value,
         kind: LimitKind::Max,
-        words: format!("line–neutral loop: {} less {ze_words}", zs.words),
+        words: format!(
+            "line–neutral check value (ohmtrail's practice, Reg 434.5.2; R1+Rn has no published maximum): {} less {ze_words}",
+            zs.words
+        ),
         advisory: false,
     })
 }
