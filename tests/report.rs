@@ -390,6 +390,28 @@ fn no_script_and_no_external_assets() {
 }
 
 #[test]
+fn the_landlords_part_cites_the_standard_plainly() {
+    // Source marks ("from memory", "derived") are for the electrician, in the method section;
+    // the part the landlord reads cites the standard plainly.
+    let html = html_for("Flat 1", "2025-01-15");
+    let method = html
+        .find("<section class=\"method\"")
+        .expect("a method section");
+    let (landlord, electrician) = html.split_at(method);
+    assert!(
+        landlord.contains("BS 7671"),
+        "the findings cite the standard"
+    );
+    for mark in ["from memory", "(derived)", "(published)", "common practice"] {
+        assert!(!landlord.contains(mark), "{mark} before the method section");
+    }
+    assert!(
+        electrician.contains("from memory"),
+        "the method keeps the marks"
+    );
+}
+
+#[test]
 fn findings_limits_and_cautions_are_all_there() {
     let store = Store::open_in_memory().unwrap();
     fixture(&store, REF, "Flat 1");

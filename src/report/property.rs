@@ -288,12 +288,10 @@ fn finding_block(o: &mut String, name: &str, f: &FlaggedFinding, repeat: bool) {
             esc(w)
         ));
     }
+    // The landlord's part cites the standard plainly; how sure each figure is (published,
+    // derived, from memory) is in the method section, for the electrician.
     if let Some(s) = &f.limit_source {
-        facts.push(format!(
-            "source {} ({})",
-            esc(&s.citation),
-            esc(s.status.as_str())
-        ));
+        facts.push(format!("source {}", esc(&s.citation)));
     }
     if let Some(d) = f.projected_date {
         facts.push(format!(
