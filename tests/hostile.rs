@@ -847,3 +847,55 @@ fn register_commands_refuse_control_characters() {
         &["circuit description has control character U+001B at offset 6"],
     );
 }
+
+/// `circuit edit --date` refuses a register change dated before a visit already recorded for
+/// the circuit, or before a later change of the same detail, as import and `record` do: the
+/// register at a date is the register now with later changes undone, so the change would
+/// alter what that later history shows. A change of another detail is not held back.
+#[test]
+fn circuit_edit_refuses_a_change_that_would_rewrite_later_history() {
+    let dir = TempDir::new().unwrap();
+    let (db, _) = seeded(&dir);
+    let edit = |date: &str, flags: &[&str]| {
+        let mut c = bin(&db);
+        c.args(["circuit", "edit", "A-0001", "DB1", "1", "--date", date])
+            .args(flags);
+        c
+    };
+    let before = dump(&db);
+    refused(
+        &mut edit("2022-05-01", &["--device", "B20"]),
+        &[
+            "circuit 1: a change of device dated 2022-05-01",
+            "later visit (2024-03-01) already recorded",
+        ],
+    );
+    assert_eq!(dump(&db), before, "nothing written");
+
+    // After the last visit, the change is the latest word and is recorded.
+    edit("2025-01-10", &["--device", "B20"]).assert().success();
+    let after = dump(&db);
+    // An earlier change of the same detail, after the last visit, would undo it in between.
+    refused(
+        &mut edit("2024-12-01", &["--device", "C20"]),
+        &["later change of device (2025-01-10) already recorded"],
+    );
+    assert_eq!(dump(&db), after, "nothing written");
+    // Another detail on that date alters nothing later.
+    edit("2024-12-01", &["--live", "4"]).assert().success();
+    let store = Store::open(&db).unwrap();
+    let c = store.find_circuit("A-0001", "DB1", "1").unwrap();
+    let fields: Vec<_> = store
+        .changes(c.id)
+        .unwrap()
+        .into_iter()
+        .map(|ch| (ch.date.to_string(), ch.field.unwrap_or_default()))
+        .collect();
+    assert_eq!(
+        fields,
+        [
+            ("2024-12-01".to_string(), "live_mm2".to_string()),
+            ("2025-01-10".to_string(), "device".to_string())
+        ]
+    );
+}

@@ -12,6 +12,32 @@ use super::{CircuitDetails, Store};
 use crate::error::Result;
 use crate::model::Readings;
 
+/// What a register change dated earlier would alter in a circuit's history.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub enum LaterHistory {
+    /// A test record at a visit of this date.
+    Visit(NaiveDate),
+    /// A change of this register field recorded on this date.
+    Change { date: NaiveDate, field: String },
+}
+
+impl LaterHistory {
+    pub fn date(&self) -> NaiveDate {
+        match self {
+            LaterHistory::Visit(d) | LaterHistory::Change { date: d, .. } => *d,
+        }
+    }
+}
+
+impl std::fmt::Display for LaterHistory {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        match self {
+            LaterHistory::Visit(d) => write!(f, "later visit ({d})"),
+            LaterHistory::Change { date, field } => write!(f, "later change of {field} ({date})"),
+        }
+    }
+}
+
 /// A property as import compares it.
 #[derive(Debug, Clone, PartialEq)]
 pub struct IngestProperty {
@@ -267,15 +293,16 @@ impl Store {
         Ok(st.query_row([circuit_id], |r| r.get(0))?)
     }
 
-    /// The earliest date after `date` at which the circuit's history already holds something
-    /// a register change dated `date` would alter: a test record at another visit, or a
-    /// recorded change of one of `fields`. `None` when the change would be the latest word.
+    /// The earliest thing after `date` in the circuit's history that a register change dated
+    /// `date` would alter: a test record at a later visit, or a later recorded change of one of
+    /// `fields` (a visit first when both fall on one day). `None` when the change would be the
+    /// latest word.
     pub fn later_history(
         &self,
         circuit_id: i64,
         date: NaiveDate,
         fields: &[&str],
-    ) -> Result<Option<NaiveDate>> {
+    ) -> Result<Option<LaterHistory>> {
         let mut st = self.conn.prepare_cached(
             "SELECT min(v.date) FROM circuit c
              CROSS JOIN board b CROSS JOIN visit v CROSS JOIN test_record t
@@ -286,12 +313,16 @@ impl Store {
         let change = self
             .ingest_changes(circuit_id)?
             .into_iter()
-            .filter(|ch| ch.date > date && ch.field.as_deref().is_some_and(|f| fields.contains(&f)))
-            .map(|ch| ch.date)
-            .min();
+            .filter_map(|ch| match ch.field {
+                Some(f) if ch.date > date && fields.contains(&f.as_str()) => Some((ch.date, f)),
+                _ => None,
+            })
+            .min_by_key(|(d, _)| *d);
         Ok(match (record, change) {
-            (Some(a), Some(b)) => Some(a.min(b)),
-            (a, b) => a.or(b),
+            (Some(v), Some((c, _))) if v <= c => Some(LaterHistory::Visit(v)),
+            (_, Some((date, field))) => Some(LaterHistory::Change { date, field }),
+            (Some(v), None) => Some(LaterHistory::Visit(v)),
+            (None, None) => None,
         })
     }
 

@@ -16,7 +16,7 @@ mod visits;
 pub use history::{ALL_PROPERTIES, HistoryParts, PropertyHistory};
 pub use ingest::{
     ExportObservation, ExportRecord, HeldInserts, IngestBoard, IngestChange, IngestProperty,
-    IngestVisit,
+    IngestVisit, LaterHistory,
 };
 pub use pending::Abandoned;
 pub use visits::{NewVisit, validate_readings};
@@ -1127,6 +1127,17 @@ impl Store {
                 real(new.disconnect_s),
                 ChangeKind::RegisterCorrected,
             )?;
+            // Dated before what the history already holds, the change would alter what a
+            // later visit shows (the register at a date is the register now with later
+            // changes undone): refused, as import and `record` refuse it.
+            let fields: Vec<&str> = changes.iter().filter_map(|c| c.field.as_deref()).collect();
+            if let Some(later) = s.later_history(circuit_id, date, &fields)? {
+                return Err(Error::invalid(format!(
+                    "circuit {}: a change of {} dated {date} would alter the {later} already recorded: a register change is dated no earlier than the circuit's last visit and the last change of the same detail",
+                    old.number,
+                    fields.join(", ")
+                )));
+            }
             Ok(changes)
         })
     }
