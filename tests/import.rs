@@ -586,3 +586,73 @@ fn circuit_numbers_written_differently_are_one_circuit() {
         "{err}"
     );
 }
+
+/// Observation files read circuit numbers as visit files do: `3`, `003` and `3.0` find a
+/// circuit stored as `03` (as `circuit add` keeps it), and a number two stored circuits share
+/// once read that way (`1` and `01`) is refused with the same message as a visit file's row,
+/// nothing written.
+#[test]
+fn observation_files_find_circuits_written_differently() {
+    let dir = TempDir::new().unwrap();
+    let db = dir.path().join("t.db");
+    let visits = dir.path().join("v.csv");
+    std::fs::write(
+        &visits,
+        "property_ref,board,circuit,visit_date,r1r2_ohm\n\
+         N-1,DB1,1,2020-03-01,0.41\nN-1,DB1,2,2020-03-01,0.38\n",
+    )
+    .unwrap();
+    bin(&db).arg("import").arg(&visits).assert().success();
+    bin(&db)
+        .args(["circuit", "add", "N-1", "DB1", "03"])
+        .assert()
+        .success();
+    let obs = dir.path().join("o.csv");
+    std::fs::write(
+        &obs,
+        "property_ref,board,circuit,visit_date,code,text\n\
+         N-1,DB1, 3 ,2020-03-01,C3,no RCD protection for the outdoor socket\n\
+         N-1,DB1,003,2020-03-01,C2,cpc not continuous at the garage\n\
+         N-1,DB1,3.0,2020-03-01,FI,cable route unknown\n\
+         N-1,DB1,01,2020-03-01,C3,\"  scorched faceplate, kitchen\"\n",
+    )
+    .unwrap();
+    bin(&db).arg("import").arg(&obs).assert().success();
+    let store = Store::open(&db).unwrap();
+    let p = store.property("N-1").unwrap();
+    let date = chrono::NaiveDate::from_ymd_opt(2020, 3, 1).unwrap();
+    let v = store.visit_on(p.id, date).unwrap().unwrap();
+    let circuits: Vec<_> = store
+        .observations(v.id)
+        .unwrap()
+        .into_iter()
+        .map(|o| o.circuit.unwrap_or_default())
+        .collect();
+    assert_eq!(circuits, ["03", "03", "03", "1"]);
+    let board = store.find_circuit("N-1", "DB1", "1").unwrap().board_id;
+    drop(store);
+
+    // A circuit stored as "01" beside "1", from before numbers were normalised.
+    rusqlite::Connection::open(&db)
+        .unwrap()
+        .execute(
+            "INSERT INTO circuit (board_id, number) VALUES (?1, '01')",
+            [board],
+        )
+        .unwrap();
+    let before = dump(&db);
+    let again = dir.path().join("w.csv");
+    std::fs::write(
+        &again,
+        "property_ref,board,circuit,visit_date,code,text\nN-1,DB1,1.0,2020-03-01,C2,exposed conductor\n",
+    )
+    .unwrap();
+    let out = bin(&db).arg("import").arg(&again).output().unwrap();
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert_eq!(out.status.code(), Some(1), "{err}");
+    assert!(
+        err.contains(":2:3: circuit: circuit \"1\" of board DB1 at N-1 could be any of the stored circuits \"1\", \"01\""),
+        "{err}"
+    );
+    assert_eq!(dump(&db), before);
+}

@@ -32,7 +32,7 @@ pub use row::{
 };
 
 use crate::error::{Error, Result};
-use crate::store::{CircuitDetails, IngestChange, IngestVisit, Store, fmt_num};
+use crate::store::{CircuitDetails, IngestBoard, IngestChange, IngestVisit, Store, fmt_num};
 
 /// At most this many errors are printed; the rest are counted.
 pub const ERROR_CAP: usize = 100;
@@ -431,6 +431,72 @@ impl Cache {
     }
 }
 
+/// A board already stored, with every circuit in service on it keyed by its number as import
+/// reads it (`normalise_circuit`); two stored numbers that read alike are kept aside as
+/// ambiguous.
+fn stored_board(s: &Store, b: IngestBoard) -> RowResult<BoardState> {
+    let rows = s.ingest_board_circuits(b.id)?;
+    let mut circuits = HashMap::with_capacity(rows.len());
+    let mut ambiguous: HashMap<String, Vec<String>> = HashMap::new();
+    // Stored numbers that read differently (stored before numbers were
+    // normalised), by how they read now: rare, so only those are kept.
+    let mut unusual: HashMap<String, String> = HashMap::new();
+    for (number, id, details, changed) in rows {
+        let normal = match normalise_circuit(&number) {
+            Cow::Borrowed(_) => None,
+            Cow::Owned(k) => Some(k),
+        };
+        let (key, original) = match normal {
+            None => (number, None),
+            Some(k) => (k, Some(number)),
+        };
+        if circuits.contains_key(&key) {
+            let both = ambiguous.entry(key.clone()).or_default();
+            if both.is_empty() {
+                both.push(unusual.get(&key).unwrap_or(&key).clone());
+            }
+            both.push(original.unwrap_or_else(|| key.clone()));
+            continue;
+        }
+        if let Some(o) = original {
+            unusual.insert(key.clone(), o);
+        }
+        let number = key;
+        let changes = if changed {
+            s.ingest_changes(id)?
+        } else {
+            Vec::new()
+        };
+        let state = CircuitState {
+            id,
+            current: None,
+            details,
+            changes,
+            latest: None,
+        };
+        circuits.insert(number, state);
+    }
+    Ok(BoardState {
+        id: b.id,
+        earthing: b.earthing,
+        circuits,
+        ambiguous,
+    })
+}
+
+/// Why a row cannot name a circuit whose number two stored circuits share once read as import
+/// reads it.
+fn ambiguous_circuit(number: &str, board: &str, property_ref: &str, stored: &[String]) -> String {
+    format!(
+        "circuit {number:?} of board {board} at {property_ref} could be any of the stored circuits {}: circuit numbers are now read as numbers (01 and 1.0 are 1); renumber all but one with `ohmtrail circuit replace`",
+        stored
+            .iter()
+            .map(|n| format!("{n:?}"))
+            .collect::<Vec<_>>()
+            .join(", ")
+    )
+}
+
 fn visit_state<'a>(
     s: &Store,
     p: &'a mut PropertyState,
@@ -538,55 +604,7 @@ impl Importer<'_> {
                 s.ingest_board(property_id, &row.board)?
             };
             let state = match stored {
-                Some(b) => {
-                    let rows = s.ingest_board_circuits(b.id)?;
-                    let mut circuits = HashMap::with_capacity(rows.len());
-                    let mut ambiguous: HashMap<String, Vec<String>> = HashMap::new();
-                    // Stored numbers that read differently (stored before numbers were
-                    // normalised), by how they read now: rare, so only those are kept.
-                    let mut unusual: HashMap<String, String> = HashMap::new();
-                    for (number, id, details, changed) in rows {
-                        let normal = match normalise_circuit(&number) {
-                            Cow::Borrowed(_) => None,
-                            Cow::Owned(k) => Some(k),
-                        };
-                        let (key, original) = match normal {
-                            None => (number, None),
-                            Some(k) => (k, Some(number)),
-                        };
-                        if circuits.contains_key(&key) {
-                            let both = ambiguous.entry(key.clone()).or_default();
-                            if both.is_empty() {
-                                both.push(unusual.get(&key).unwrap_or(&key).clone());
-                            }
-                            both.push(original.unwrap_or_else(|| key.clone()));
-                            continue;
-                        }
-                        if let Some(o) = original {
-                            unusual.insert(key.clone(), o);
-                        }
-                        let number = key;
-                        let changes = if changed {
-                            s.ingest_changes(id)?
-                        } else {
-                            Vec::new()
-                        };
-                        let state = CircuitState {
-                            id,
-                            current: None,
-                            details,
-                            changes,
-                            latest: None,
-                        };
-                        circuits.insert(number, state);
-                    }
-                    BoardState {
-                        id: b.id,
-                        earthing: b.earthing,
-                        circuits,
-                        ambiguous,
-                    }
-                }
+                Some(b) => stored_board(s, b)?,
                 None => {
                     let e = row.earthing.map(|e| e.as_str());
                     let id = s.ingest_insert_board(property_id, &row.board, e)?;
@@ -633,17 +651,7 @@ impl Importer<'_> {
         {
             return fault(
                 Column::Circuit,
-                format!(
-                    "circuit {:?} of board {} at {} could be any of the stored circuits {}: circuit numbers are now read as numbers (01 and 1.0 are 1); renumber all but one with `ohmtrail circuit replace`",
-                    row.circuit,
-                    row.board,
-                    row.property_ref,
-                    numbers
-                        .iter()
-                        .map(|n| format!("{n:?}"))
-                        .collect::<Vec<_>>()
-                        .join(", ")
-                ),
+                ambiguous_circuit(&row.circuit, &row.board, &row.property_ref, numbers),
             );
         }
 
@@ -1036,18 +1044,30 @@ impl Importer<'_> {
         let mut board_id = None;
         let mut circuit_id = None;
         if let Some(board) = &row.board {
-            let Some(b) = s.ingest_board(property_id, board)? else {
-                return fault(
-                    Column::Board,
-                    format!(
-                        "board {board:?} not found at property {}: import its visit file first",
-                        row.property_ref
-                    ),
-                );
-            };
+            // The board's circuits as a visit file's rows find them: by number as import reads
+            // it, so `01` and `1.0` find circuit 1 however it was stored.
+            if !p.boards.contains_key(board) {
+                let Some(stored) = s.ingest_board(property_id, board)? else {
+                    return fault(
+                        Column::Board,
+                        format!(
+                            "board {board:?} not found at property {}: import its visit file first",
+                            row.property_ref
+                        ),
+                    );
+                };
+                p.boards.insert(board.clone(), stored_board(s, stored)?);
+            }
+            let b = &p.boards[board];
             board_id = Some(b.id);
             if let Some(number) = &row.circuit {
-                let Some((id, _)) = s.ingest_circuit(b.id, number)? else {
+                if let Some(stored) = b.ambiguous.get(number) {
+                    return fault(
+                        Column::Circuit,
+                        ambiguous_circuit(number, board, &row.property_ref, stored),
+                    );
+                }
+                let Some(c) = b.circuits.get(number) else {
                     return fault(
                         Column::Circuit,
                         format!(
@@ -1056,7 +1076,7 @@ impl Importer<'_> {
                         ),
                     );
                 };
-                circuit_id = Some(id);
+                circuit_id = Some(c.id);
             }
         }
         let code = row.code.as_str();
