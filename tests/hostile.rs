@@ -846,6 +846,34 @@ fn register_commands_refuse_control_characters() {
         ]),
         &["circuit description has control character U+001B at offset 6"],
     );
+    // The note of a dated change, and an instrument's serial and description, likewise.
+    bin(&db)
+        .args(["circuit", "add", "P-1", "DB1", "1", "--device", "B16"])
+        .assert()
+        .success();
+    refused(
+        bin(&db).args([
+            "circuit",
+            "edit",
+            "P-1",
+            "DB1",
+            "1",
+            "--device",
+            "B20",
+            "--note",
+            "swapped\u{1b}[8m",
+        ]),
+        &["note has control character U+001B at offset 7"],
+    );
+    refused(
+        bin(&db).args(["instrument", "add", "IT\u{9b}7"]),
+        &["instrument serial has control character U+009B at offset 2"],
+    );
+    let store = Store::open(&db).unwrap();
+    let c = store.find_circuit("P-1", "DB1", "1").unwrap();
+    assert!(store.changes(c.id).unwrap().is_empty());
+    assert_eq!(c.device.unwrap().to_string(), "B16");
+    assert!(store.instruments().unwrap().is_empty());
 }
 
 /// `circuit edit --date` refuses a register change dated before a visit already recorded for
@@ -897,5 +925,67 @@ fn circuit_edit_refuses_a_change_that_would_rewrite_later_history() {
             ("2024-12-01".to_string(), "live_mm2".to_string()),
             ("2025-01-10".to_string(), "device".to_string())
         ]
+    );
+}
+
+/// `record` refuses control characters in its own free text as import refuses them in a cell:
+/// the inspector and instrument given on the command line (before a visit is started) and
+/// every field of the line mode's input, each named with its code and position.
+#[test]
+fn record_refuses_control_characters_in_its_text() {
+    let dir = TempDir::new().unwrap();
+    let (db, _) = seeded(&dir);
+    let before = dump(&db);
+    for (flag, value, message) in [
+        (
+            "--inspector",
+            "A. Brightwire\u{1b}[2J",
+            "inspector has control character U+001B at offset 13",
+        ),
+        (
+            "--instrument",
+            "IT-0042\u{7}",
+            "instrument serial has control character U+0007 at offset 7",
+        ),
+    ] {
+        refused(
+            bin(&db)
+                .args(["record", "A-0001", "--date", "2025-01-10", "--temp", "19.5"])
+                .args([flag, value])
+                .write_stdin("DB1,1,r1r2_ohm,0.16\n"),
+            &[message],
+        );
+        assert_eq!(dump(&db), before, "{flag}: nothing written");
+    }
+
+    // Line mode: a line holding one is refused with its line, field and offset, nothing is
+    // stored from it, and the others are stored.
+    let out = bin(&db)
+        .args(["record", "A-0001", "--date", "2025-01-10", "--temp", "19.5"])
+        .write_stdin(
+            "DB1,1,r1r2_ohm,0.16\n\
+             DB1\u{1b}]0;x\u{7},2,r1r2_ohm,0.27\n\
+             DB1,3,r1r2_ohm,0.3\u{8}9\n\
+             DB1,4,r1r2_ohm, 0.41 \n",
+        )
+        .output()
+        .unwrap();
+    let stderr = String::from_utf8_lossy(&out.stderr);
+    assert_eq!(out.status.code(), Some(1), "{stderr}");
+    assert!(
+        stderr.contains("line 2: the board has control character U+001B at offset 3"),
+        "{stderr}"
+    );
+    assert!(
+        stderr.contains("line 3: the value has control character U+0008 at offset 3"),
+        "{stderr}"
+    );
+    assert!(
+        stderr.contains("2 line(s) refused and nothing stored from them (2 value(s) stored"),
+        "{stderr}"
+    );
+    assert!(
+        !stderr.contains('\u{1b}') && !stderr.contains('\u{8}'),
+        "{stderr}"
     );
 }

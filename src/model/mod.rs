@@ -453,6 +453,25 @@ pub struct Observation {
     pub text: String,
 }
 
+/// The first control character in `text` (NUL, escape, backspace and the like; a tab or a
+/// line break may stay), with its byte offset. Stored, it would reach a terminal as an escape
+/// sequence and HTML as a character it does not allow, so text holding one is refused.
+pub fn control_character(text: &str) -> Option<(usize, char)> {
+    text.char_indices()
+        .find(|&(_, c)| c.is_control() && !matches!(c, '\t' | '\n' | '\r'))
+}
+
+/// Refuse text holding a control character, naming the character and its position.
+pub fn check_text(what: &str, text: &str) -> Result<(), String> {
+    match control_character(text) {
+        Some((offset, c)) => Err(format!(
+            "{what} has control character U+{:04X} at offset {offset}: remove it",
+            c as u32
+        )),
+        None => Ok(()),
+    }
+}
+
 /// Check a cross-sectional area in mm², as the register stores it.
 pub fn validate_csa(what: &str, mm2: f64) -> Result<f64, String> {
     if !mm2.is_finite() || mm2 <= 0.0 {

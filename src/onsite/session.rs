@@ -241,6 +241,11 @@ pub fn parse_line(number: usize, fields: &[&str]) -> Result<Option<Line>, LineEr
             fields.len()
         )));
     }
+    // As import refuses them in a cell: echoed or stored, an escape sequence would act on the
+    // terminal.
+    for (name, text) in ["board", "circuit", "quantity", "value"].iter().zip(fields) {
+        crate::model::check_text(&format!("the {name}"), text).map_err(err)?;
+    }
     let board = fields[0].trim();
     if board.is_empty() {
         return Err(err(
@@ -316,6 +321,36 @@ mod tests {
         assert!(parse_line(7, &["DB1", "3", "r1r2_ohm"]).is_err());
         assert!(parse_line(8, &["DB1", "3", "ze_ohm", "0.2"]).is_err());
         assert!(parse_line(9, &["DB1", "", "zs_ohm", "0.2"]).is_err());
+    }
+
+    #[test]
+    fn control_characters_are_refused_with_field_and_offset() {
+        for (fields, message) in [
+            (
+                ["DB1\u{1b}[2J", "3", "r1r2_ohm", "0.47"],
+                "line 4: the board has control character U+001B at offset 3: remove it",
+            ),
+            (
+                ["DB1", "3\0", "r1r2_ohm", "0.47"],
+                "line 4: the circuit has control character U+0000 at offset 1: remove it",
+            ),
+            (
+                ["DB1", "3", "r1r2_ohm", "0.4\u{8}7"],
+                "line 4: the value has control character U+0008 at offset 3: remove it",
+            ),
+            (
+                ["DB1", "3", "device", " B20\u{7f}"],
+                "line 4: the value has control character U+007F at offset 4: remove it",
+            ),
+        ] {
+            assert_eq!(
+                parse_line(4, &fields).unwrap_err().to_string(),
+                message,
+                "{fields:?}"
+            );
+        }
+        // A tab is white space, not a control that acts on a terminal.
+        assert!(parse_line(4, &["DB1", "3", "r1r2_ohm", "0.47\t"]).is_ok());
     }
 
     #[test]

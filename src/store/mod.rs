@@ -169,18 +169,10 @@ pub struct VisitSummary {
 }
 
 /// Refuse text holding a control character (NUL, escape, backspace and the like; a tab or a
-/// line break may stay), naming the character and its position: stored, it would reach a
-/// terminal as an escape sequence and HTML as a character it does not allow.
+/// line break may stay), naming the character and its position (`model::check_text`).
 pub fn check_text(what: &str, text: Option<&str>) -> Result<()> {
-    let Some(text) = text else { return Ok(()) };
-    match text
-        .char_indices()
-        .find(|&(_, c)| c.is_control() && !matches!(c, '\t' | '\n' | '\r'))
-    {
-        Some((offset, c)) => Err(Error::invalid(format!(
-            "{what} has control character U+{:04X} at offset {offset}: remove it",
-            c as u32
-        ))),
+    match text {
+        Some(t) => crate::model::check_text(what, t).map_err(Error::Invalid),
         None => Ok(()),
     }
 }
@@ -1155,6 +1147,7 @@ impl Store {
         visit_id: Option<i64>,
         note: Option<&str>,
     ) -> Result<CircuitChange> {
+        check_text("note", note)?;
         self.conn.execute(
             "INSERT INTO circuit_change (circuit_id, date, visit_id, kind, field, old_value, new_value, note)
              VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8)",
@@ -1309,6 +1302,8 @@ impl Store {
         if serial.is_empty() {
             return Err(Error::invalid("instrument serial is empty"));
         }
+        check_text("instrument serial", Some(serial))?;
+        check_text("instrument description", description)?;
         self.atomic(|s| {
             if s.instrument(serial)?.is_some() {
                 return Err(Error::invalid(format!(

@@ -25,6 +25,8 @@ impl Store {
         let date = v
             .date
             .ok_or_else(|| Error::invalid("visit date is missing"))?;
+        super::check_text("inspector", v.inspector.as_deref())?;
+        super::check_text("instrument serial", v.instrument.as_deref())?;
         if let Some(t) = v.ambient_c
             && !(t.is_finite() && (-40.0..=60.0).contains(&t))
         {
