@@ -21,14 +21,6 @@ pub enum LaterHistory {
     Change { date: NaiveDate, field: String },
 }
 
-impl LaterHistory {
-    pub fn date(&self) -> NaiveDate {
-        match self {
-            LaterHistory::Visit(d) | LaterHistory::Change { date: d, .. } => *d,
-        }
-    }
-}
-
 impl std::fmt::Display for LaterHistory {
     fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
         match self {
@@ -229,23 +221,6 @@ impl Store {
             .prepare_cached("UPDATE board SET earthing = ?2 WHERE id = ?1")?;
         st.execute(params![board_id, earthing])?;
         Ok(())
-    }
-
-    /// The circuit in service with this number on the board: its id and register details.
-    pub fn ingest_circuit(
-        &self,
-        board_id: i64,
-        number: &str,
-    ) -> Result<Option<(i64, CircuitDetails)>> {
-        let mut st = self.conn.prepare_cached(
-            "SELECT id, description, kind, live_mm2, cpc_mm2, length_m, device, rcd_ma
-             FROM circuit WHERE board_id = ?1 AND number = ?2 AND status = 'in_service'",
-        )?;
-        Ok(st
-            .query_row(params![board_id, number], |r| {
-                Ok((r.get(0)?, details_at(r, 1)?))
-            })
-            .optional()?)
     }
 
     /// Every circuit in service on a board, with its number, id, register details and whether
