@@ -529,7 +529,7 @@ fn record_change(
     .collect();
     if let Some(later) = store.later_history(c.circuit_id, visit.date, &fields)? {
         bail!(
-            "circuit {} on {}: a register change dated {} would alter the {later} already recorded: record the change at that visit, or with `ohmtrail circuit edit` and the date it was made",
+            "circuit {} on {}: a register change dated {} would alter the {later} already recorded: record the change at a visit after the circuit's later history, or with `ohmtrail circuit edit` and the date it was made",
             c.number,
             visit.date,
             visit.date
