@@ -122,6 +122,36 @@ fn init_creates_the_database_where_told() {
     assert!(other.exists());
 }
 
+#[test]
+fn reading_commands_refuse_a_missing_database_and_say_how_to_start() {
+    let e = Env::new();
+    let html = e.dir.path().join("p.html");
+    let html = html.to_str().unwrap();
+    let reading: &[&[&str]] = &[
+        &["flags"],
+        &["trend", "P-1"],
+        &["report", "P-1", "-o", html],
+        &["brief", "P-1"],
+        &["property", "list"],
+        &["property", "show", "P-1"],
+        &["visit", "list"],
+        &["export"],
+    ];
+    for args in reading {
+        e.cmd(args)
+            .code(1)
+            .stdout(predicate::str::contains("nothing to report").not())
+            .stderr(predicate::str::contains("no database at"))
+            .stderr(predicate::str::contains("init"))
+            .stderr(predicate::str::contains("ohmtrail demo"));
+        assert!(!e.db().exists(), "{args:?} created the database");
+    }
+    // Writing commands still create it on first use.
+    e.ok(&["property", "add", "P-1"]);
+    assert!(e.db().exists());
+    e.ok(&["flags"]);
+}
+
 /// The page size of a database file, read with SQLite itself.
 fn page_size(db: &std::path::Path) -> i64 {
     rusqlite::Connection::open(db)

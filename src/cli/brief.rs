@@ -46,7 +46,7 @@ pub fn parse_temp(s: &str) -> std::result::Result<f64, String> {
 }
 
 pub fn run(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
-    let store = ctx.open()?;
+    let store = ctx.open_existing()?;
     let settings = Settings::load(&store, today())?;
     let analysis = analyse_property(&store, &args.property, &settings)?;
     let instruments = store.instruments()?;

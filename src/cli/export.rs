@@ -38,7 +38,7 @@ fn observations_path(p: &Path) -> PathBuf {
 }
 
 pub fn run(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
-    let store = ctx.open()?;
+    let store = ctx.open_existing()?;
     let property = args.property.as_deref();
     match (args.format, &args.output) {
         (Format::Json, None) => {

@@ -19,7 +19,7 @@ pub struct Args {
 }
 
 pub fn run(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
-    let store = ctx.open()?;
+    let store = ctx.open_existing()?;
     let settings = Settings::load(&store, today())?;
     let flags = worklist(
         &store,

@@ -119,6 +119,23 @@ impl Context {
         let path = self.db_path()?;
         Ok(Store::open(&path)?)
     }
+
+    /// Open a database that must already exist: reading commands never create an empty one,
+    /// whose silence would read as "nothing to report".
+    pub fn open_existing(&self) -> Result<Store> {
+        let path = self.db_path()?;
+        // Only a path that is plainly absent: anything else (a file where a directory should
+        // be, no permission) is for `Store::open` to name.
+        if matches!(std::fs::metadata(&path), Err(e) if e.kind() == std::io::ErrorKind::NotFound) {
+            anyhow::bail!(
+                "no database at {}: start one with `ohmtrail --db {} init`, or run `ohmtrail demo` \
+                 and use the --db it prints",
+                path.display(),
+                path.display()
+            );
+        }
+        Ok(Store::open(&path)?)
+    }
 }
 
 pub fn run(cli: Cli, out: &mut dyn Write) -> Result<()> {

@@ -55,7 +55,11 @@ struct ShownBoard {
 }
 
 pub fn run(cmd: &Cmd, ctx: &Context, out: &mut dyn Write) -> Result<()> {
-    let store = ctx.open()?;
+    // Adding creates the database on first use; listing and showing need one that exists.
+    let store = match cmd {
+        Cmd::Add { .. } => ctx.open()?,
+        Cmd::List { .. } | Cmd::Show { .. } => ctx.open_existing()?,
+    };
     match cmd {
         Cmd::Add {
             reference,

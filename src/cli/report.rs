@@ -72,7 +72,7 @@ pub fn run(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
             target.display()
         );
     }
-    let store = ctx.open()?;
+    let store = ctx.open_existing()?;
     let settings = Settings::load(&store, today())?;
 
     if args.portfolio && !args.index_only {

@@ -34,7 +34,7 @@ struct TrendOut<'a> {
 }
 
 pub fn run(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
-    let store = ctx.open()?;
+    let store = ctx.open_existing()?;
     let settings = Settings::load(&store, today())?;
     let a = analyse_property(&store, &args.property, &settings)?;
     let circuits: Vec<&CircuitAnalysis> = match &args.circuit {

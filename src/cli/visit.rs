@@ -19,7 +19,7 @@ pub enum Cmd {
 }
 
 pub fn run(cmd: &Cmd, ctx: &Context, out: &mut dyn Write) -> Result<()> {
-    let store = ctx.open()?;
+    let store = ctx.open_existing()?;
     match cmd {
         Cmd::List {
             property,
