@@ -420,3 +420,46 @@ fn a_partial_retest_does_not_restart_the_due_date() {
         "{reason}"
     );
 }
+
+#[test]
+fn trend_prints_rcd_times_in_whole_milliseconds() {
+    // RCD trip times as the instrument shows them, in whole ms (common practice, no source);
+    // the times wander by a few ms from visit to visit, as on site.
+    let sockets = ("1", "Sockets kitchen", "B16", 2.5, 1.5);
+    let visits = [
+        (ymd(2014, 5, 12), 18.0, 0.23, 0.88, 1.12, 21),
+        (ymd(2018, 6, 20), 12.0, 0.21, 0.92, 1.15, 24),
+        (ymd(2022, 5, 30), 21.0, 0.25, 0.90, 1.14, 19),
+    ];
+    let rows: Vec<String> = visits
+        .iter()
+        .map(|&(date, t, ze, r1r2, zs, rcd)| {
+            row("RT-1", sockets, date, t, ze, r1r2, zs, ">200", rcd)
+        })
+        .collect();
+    let (_dir, db) = imported("RT-1", &rows);
+    let text = run(&db, &["trend", "RT-1"])
+        .success()
+        .get_output()
+        .stdout
+        .clone();
+    let text = String::from_utf8(text).unwrap();
+    // The RCD series runs from its heading (unit ms) to the next heading.
+    let start = text
+        .find("(ms)")
+        .unwrap_or_else(|| panic!("no RCD series: {text}"));
+    let rcd: Vec<&str> = text[start..]
+        .lines()
+        .skip(1)
+        .take_while(|l| !l.starts_with("  ") || l.starts_with("    "))
+        .collect();
+    for (date, _, _, _, _, ms) in visits {
+        let line = rcd
+            .iter()
+            .find(|l| l.contains(&date.to_string()))
+            .unwrap_or_else(|| panic!("{date} missing: {text}"));
+        let cells: Vec<&str> = line.split_whitespace().collect();
+        assert_eq!(cells[1], ms.to_string(), "{line}");
+    }
+    assert!(!rcd.iter().any(|l| l.contains(".00")), "{text}");
+}

@@ -153,6 +153,15 @@ fn opt(d: Option<chrono::NaiveDate>) -> String {
     d.map(|d| d.to_string()).unwrap_or_else(|| "-".into())
 }
 
+/// A reading in the table: RCD times in whole milliseconds, as the instrument shows them;
+/// everything else to two places.
+fn figure(v: f64, unit: &str) -> String {
+    match unit {
+        "ms" => format!("{v:.0}"),
+        _ => format!("{v:.2}"),
+    }
+}
+
 fn series(out: &mut dyn Write, prefix: &str, s: &SeriesAnalysis) -> Result<()> {
     let r = &s.report;
     let mut head = format!("  {}{} ({})", prefix, s.label, r.unit);
@@ -177,10 +186,10 @@ fn series(out: &mut dyn Write, prefix: &str, s: &SeriesAnalysis) -> Result<()> {
                 if p.censored {
                     format!(">{}", p.raw)
                 } else {
-                    format!("{:.2}", p.raw)
+                    figure(p.raw, r.unit)
                 },
                 match p.ambient_c {
-                    Some(_) => format!("{:.2}", p.value),
+                    Some(_) => figure(p.value, r.unit),
                     None => "-".into(),
                 },
                 p.ambient_c
