@@ -463,3 +463,68 @@ fn trend_prints_rcd_times_in_whole_milliseconds() {
     }
     assert!(!rcd.iter().any(|l| l.contains(".00")), "{text}");
 }
+
+#[test]
+fn property_references_match_without_regard_to_case_and_a_case_twin_is_refused() {
+    let (dir, db) = demo();
+    let out = |args: &[&str]| {
+        String::from_utf8(run(&db, args).success().get_output().stdout.clone()).unwrap()
+    };
+    // Every command that names a property finds QL-001 as ql-001, and gives the same answer.
+    assert_eq!(
+        out(&["flags", "--property", "ql-001", "--json"]),
+        out(&["flags", "--property", "QL-001", "--json"])
+    );
+    assert_eq!(
+        out(&["trend", "ql-001", "--json"]),
+        out(&["trend", "QL-001", "--json"])
+    );
+    assert_eq!(
+        out(&["export", "--property", "Ql-001"]),
+        out(&["export", "--property", "QL-001"])
+    );
+    assert_eq!(
+        out(&["visit", "list", "--property", "ql-001"]),
+        out(&["visit", "list", "--property", "QL-001"])
+    );
+    assert!(out(&["property", "show", "ql-001"]).contains("property  QL-001"));
+    assert!(out(&["brief", "ql-001"]).contains("QL-001"));
+    let html = dir.path().join("lower.html");
+    run(&db, &["report", "ql-001", "-o", html.to_str().unwrap()]).success();
+    assert!(std::fs::read_to_string(&html).unwrap().contains("QL-001"));
+
+    // A second reference differing only in case is refused, and nothing is added.
+    let before = out(&["property", "list", "--json"]);
+    run(&db, &["property", "add", "ql-001"])
+        .code(1)
+        .stderr(predicate::str::contains("\"QL-001\""))
+        .stderr(predicate::str::contains("only in case"));
+    assert_eq!(before, out(&["property", "list", "--json"]));
+
+    // A visit file that spells the reference in lower case adds to QL-001, not a new property
+    // (dated after the demo's last visit there, and not after today).
+    let date = today() - chrono::Days::new(3);
+    let file = dir.path().join("lower.csv");
+    let visit = row(
+        "ql-001",
+        ("1", "Sockets", "B32", 2.5, 1.5),
+        date,
+        14.0,
+        0.24,
+        0.61,
+        0.86,
+        ">200",
+        22,
+    );
+    std::fs::write(&file, format!("{HEADER}\n{visit}\n")).unwrap();
+    let list: serde_json::Value = serde_json::from_str(&before).unwrap();
+    run(&db, &["import", file.to_str().unwrap()]).success();
+    let after: serde_json::Value =
+        serde_json::from_str(&out(&["property", "list", "--json"])).unwrap();
+    assert_eq!(
+        list.as_array().unwrap().len(),
+        after.as_array().unwrap().len(),
+        "{after:#}"
+    );
+    assert!(out(&["visit", "list", "--property", "QL-001"]).contains(&date.to_string()));
+}

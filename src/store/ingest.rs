@@ -159,11 +159,15 @@ impl Store {
     }
 
     pub fn ingest_property(&self, reference: &str) -> Result<Option<IngestProperty>> {
+        // References match without regard to ASCII case, as everywhere else.
+        let Some((id, _)) = self.property_ref_lookup(reference)? else {
+            return Ok(None);
+        };
         let mut st = self
             .conn
-            .prepare_cached("SELECT id, address FROM property WHERE ref = ?1")?;
+            .prepare_cached("SELECT id, address FROM property WHERE id = ?1")?;
         Ok(st
-            .query_row([reference], |r| {
+            .query_row([id], |r| {
                 Ok(IngestProperty {
                     id: r.get(0)?,
                     address: r.get(1)?,
@@ -481,9 +485,9 @@ impl Store {
         property_ref: Option<&str>,
         mut f: impl FnMut(ExportRecord) -> Result<()>,
     ) -> Result<()> {
-        if let Some(r) = property_ref {
-            self.property(r)?;
-        }
+        // The reference as stored, whatever its case as given.
+        let canonical = property_ref.map(|r| self.property(r)).transpose()?;
+        let property_ref = canonical.as_ref().map(|p| p.reference.as_str());
         let sql = format!(
             "SELECT p.ref, p.address, b.designation, b.earthing, c.id, c.number,
                     c.description, c.kind, c.live_mm2, c.cpc_mm2, c.length_m, c.device, c.rcd_ma,

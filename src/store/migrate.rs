@@ -26,6 +26,10 @@ pub const MIGRATIONS: &[(&str, &str)] = &[
         "006_application_id",
         include_str!("../../schema/006_application_id.sql"),
     ),
+    (
+        "007_property_ref_nocase_index",
+        include_str!("../../schema/007_property_ref_nocase_index.sql"),
+    ),
 ];
 
 /// The last version whose databases carry no application id: an unmarked database at a
@@ -184,10 +188,11 @@ mod tests {
             vec![
                 "004_checks_without_in_lists",
                 "005_partial_replaces_index",
-                "006_application_id"
+                "006_application_id",
+                "007_property_ref_nocase_index"
             ]
         );
-        assert_eq!(user_version(&conn).unwrap(), 6);
+        assert_eq!(user_version(&conn).unwrap(), 7);
         for (t, rows) in tables.iter().zip(&before) {
             assert_eq!(
                 &dump(&conn, &format!("SELECT * FROM {t} ORDER BY id")),
@@ -195,7 +200,16 @@ mod tests {
                 "{t}"
             );
         }
-        assert_eq!(dump(&conn, indexes), indexes_before);
+        // Every index is kept; 007 adds one.
+        let mut expected = indexes_before.clone();
+        expected.push(format!(
+            "{:?}",
+            rusqlite::types::ValueRef::Text(b"property_ref_nocase")
+        ));
+        expected.sort();
+        let mut after = dump(&conn, indexes);
+        after.sort();
+        assert_eq!(after, expected);
         // No table of the old names is left behind, and no IN list of more than two values.
         let sql = dump(&conn, "SELECT sql FROM sqlite_schema WHERE sql IS NOT NULL").join("\n");
         assert!(!sql.contains("_004"), "{sql}");

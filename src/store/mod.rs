@@ -37,6 +37,11 @@ use crate::model::{
 /// How long a writer waits for another process's transaction before giving up.
 pub const BUSY_TIMEOUT: Duration = Duration::from_secs(60);
 
+/// A property by its reference without regard to ASCII case, through the index migration 007
+/// made for exactly this comparison.
+const PROPERTY_REF_SQL: &str =
+    "SELECT id, ref FROM property WHERE ref = ?1 COLLATE NOCASE ORDER BY ref";
+
 /// The page size of a database ohmtrail creates, in bytes.
 pub const DEFAULT_PAGE_SIZE: i64 = 16_384;
 
@@ -632,10 +637,14 @@ impl Store {
             )));
         }
         self.atomic(|s| {
-            if s.property_id(reference)?.is_some() {
-                return Err(Error::invalid(format!(
-                    "property {reference:?} already exists"
-                )));
+            if let Some((_, existing)) = s.property_ref_lookup(reference)? {
+                return Err(Error::invalid(if existing == reference {
+                    format!("property {reference:?} already exists")
+                } else {
+                    format!(
+                        "property {reference:?} differs from the existing {existing:?} only in case, and references match without regard to case: use {existing:?}, or a reference that differs in more than case"
+                    )
+                }));
             }
             let client_id = p
                 .client
@@ -651,13 +660,32 @@ impl Store {
         })
     }
 
+    /// The property whose reference is `reference` without regard to ASCII case, with its
+    /// reference as stored. An exact match wins; two stored references that differ only in
+    /// case (possible in a database made before such pairs were refused) and neither exact
+    /// are an error naming both.
+    pub fn property_ref_lookup(&self, reference: &str) -> Result<Option<(i64, String)>> {
+        let mut st = self.conn.prepare_cached(PROPERTY_REF_SQL)?;
+        let found = st
+            .query_map([reference], |r| {
+                Ok((r.get::<_, i64>(0)?, r.get::<_, String>(1)?))
+            })?
+            .collect::<rusqlite::Result<Vec<_>>>()?;
+        if found.len() <= 1 {
+            return Ok(found.into_iter().next());
+        }
+        if let Some(exact) = found.iter().find(|(_, r)| r == reference) {
+            return Ok(Some(exact.clone()));
+        }
+        let names: Vec<String> = found.iter().map(|(_, r)| format!("{r:?}")).collect();
+        Err(Error::invalid(format!(
+            "property {reference:?} matches {}, which differ only in case: give the reference exactly",
+            names.join(" and ")
+        )))
+    }
+
     pub fn property_id(&self, reference: &str) -> Result<Option<i64>> {
-        Ok(self
-            .conn
-            .query_row("SELECT id FROM property WHERE ref = ?1", [reference], |r| {
-                r.get(0)
-            })
-            .optional()?)
+        Ok(self.property_ref_lookup(reference)?.map(|(id, _)| id))
     }
 
     pub(super) const PROPERTY_COLS: &'static str =
@@ -675,33 +703,28 @@ impl Store {
         })
     }
 
-    /// The property with this reference, or a not-found error that suggests near matches.
+    /// The property with this reference (without regard to ASCII case), or a not-found error
+    /// that says where to find the known ones.
     pub fn property(&self, reference: &str) -> Result<Property> {
-        let found = self
-            .conn
-            .query_row(
-                &format!(
-                    "SELECT {} FROM property p LEFT JOIN client c ON c.id = p.client_id WHERE p.ref = ?1",
-                    Self::PROPERTY_COLS
-                ),
-                [reference],
-                Self::property_from_row,
-            )
-            .optional()?;
-        match found {
-            Some(p) => Ok(p),
-            None => {
-                let count: i64 = self
-                    .conn
-                    .query_row("SELECT count(*) FROM property", [], |r| r.get(0))?;
-                let hint = if count == 0 {
-                    "the register has no properties yet; add one with `ohmtrail property add` or import a visit file".to_string()
-                } else {
-                    "list the known references with `ohmtrail property list`".to_string()
-                };
-                Err(Error::not_found_hint("property", reference, hint))
-            }
-        }
+        let Some(id) = self.property_id(reference)? else {
+            let count: i64 = self
+                .conn
+                .query_row("SELECT count(*) FROM property", [], |r| r.get(0))?;
+            let hint = if count == 0 {
+                "the register has no properties yet; add one with `ohmtrail property add` or import a visit file".to_string()
+            } else {
+                "list the known references with `ohmtrail property list`".to_string()
+            };
+            return Err(Error::not_found_hint("property", reference, hint));
+        };
+        Ok(self.conn.query_row(
+            &format!(
+                "SELECT {} FROM property p LEFT JOIN client c ON c.id = p.client_id WHERE p.id = ?1",
+                Self::PROPERTY_COLS
+            ),
+            [id],
+            Self::property_from_row,
+        )?)
     }
 
     pub fn list_properties(&self) -> Result<Vec<PropertySummary>> {
@@ -1447,6 +1470,57 @@ mod tests {
         )
         .unwrap();
         s
+    }
+
+    /// The case-blind lookup is a search of its own index, not a scan of every property: the
+    /// import runs it once for every property a file names.
+    #[test]
+    fn the_reference_lookup_searches_its_index() {
+        let s = store_with_property();
+        let mut st = s
+            .conn
+            .prepare(&format!("EXPLAIN QUERY PLAN {PROPERTY_REF_SQL}"))
+            .unwrap();
+        let plan: Vec<String> = st
+            .query_map(["p1"], |r| r.get(3))
+            .unwrap()
+            .collect::<rusqlite::Result<_>>()
+            .unwrap();
+        assert!(
+            plan.iter()
+                .any(|p| p.starts_with("SEARCH") && p.contains("property_ref_nocase")),
+            "{plan:?}"
+        );
+        assert!(!plan.iter().any(|p| p.starts_with("SCAN")), "{plan:?}");
+    }
+
+    #[test]
+    fn references_match_without_regard_to_case_and_an_exact_twin_wins() {
+        let s = store_with_property();
+        assert_eq!(s.property("p1").unwrap().reference, "P1");
+        let err = s
+            .add_property(&NewProperty {
+                reference: "p1".into(),
+                ..Default::default()
+            })
+            .unwrap_err()
+            .to_string();
+        assert!(
+            err.contains("\"P1\"") && err.contains("only in case"),
+            "{err}"
+        );
+        // A database made before such pairs were refused may hold both: the exact spelling
+        // finds its own, and a third spelling is refused as ambiguous, naming both.
+        s.conn
+            .execute("INSERT INTO property (ref) VALUES ('qa-1'), ('QA-1')", [])
+            .unwrap();
+        assert_eq!(s.property("qa-1").unwrap().reference, "qa-1");
+        assert_eq!(s.property("QA-1").unwrap().reference, "QA-1");
+        let err = s.property("Qa-1").unwrap_err().to_string();
+        assert!(
+            err.contains("\"QA-1\" and \"qa-1\"") && err.contains("only in case"),
+            "{err}"
+        );
     }
 
     fn day(s: &str) -> NaiveDate {
