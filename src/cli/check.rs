@@ -25,16 +25,16 @@ pub struct Args {
     #[arg(long)]
     pub device: String,
     /// External earth fault loop impedance Ze, Ω
-    #[arg(long, value_name = "OHM")]
+    #[arg(long, value_name = "OHM", visible_alias = "ze_ohm")]
     pub ze: Option<f64>,
     /// R1+R2 of the circuit, Ω
-    #[arg(long, value_name = "OHM")]
+    #[arg(long, value_name = "OHM", visible_alias = "r1r2_ohm")]
     pub r1r2: Option<f64>,
     /// R1+Rn of the circuit, Ω
-    #[arg(long, value_name = "OHM")]
+    #[arg(long, value_name = "OHM", visible_alias = "r1rn_ohm")]
     pub r1rn: Option<f64>,
     /// Earth fault loop impedance measured at the circuit, Ω
-    #[arg(long, value_name = "OHM")]
+    #[arg(long, value_name = "OHM", visible_alias = "zs_ohm")]
     pub zs: Option<f64>,
     /// Test temperature, °C
     #[arg(long, value_name = "C", allow_negative_numbers = true)]
@@ -318,6 +318,27 @@ mod tests {
         // The line–neutral figure is a check value with its own basis, not a maximum.
         assert!(s.contains("Regulation 434.5.2"), "{s}");
         assert!(!s.contains("line–neutral: within the measured"), "{s}");
+    }
+
+    #[test]
+    fn quantities_take_their_visit_file_names_too() {
+        let long = output(&[
+            "check",
+            "--device",
+            "B16",
+            "--ze_ohm",
+            "0.3",
+            "--r1r2_ohm",
+            "0.6",
+            "--r1rn_ohm",
+            "0.5",
+            "--temp",
+            "15",
+        ])
+        .unwrap();
+        assert_eq!(long, output(&EXAMPLE).unwrap());
+        let zs = |flag: &str| output(&["check", "--device", "B16", flag, "1.1", "--temp", "15"]);
+        assert_eq!(zs("--zs_ohm").unwrap(), zs("--zs").unwrap());
     }
 
     #[test]

@@ -22,7 +22,8 @@ use super::{CAUTION, Context, parse_date, today};
     after_help = "Non-interactive mode: when standard input is not a terminal, or with \
 --stdin, lines `board,circuit,quantity,value` are read instead of prompting. Quantities are the \
 visit-file columns (ze_ohm with the circuit empty, r1r2_ohm, r1rn_ohm, r2_ohm, ring_r1_ohm, \
-ring_rn_ohm, ring_r2_ohm, zs_ohm, ir_ll_mohm, ir_le_mohm, rcd_5x_ms, rcd_ms), plus `device` \
+ring_rn_ohm, ring_r2_ohm, zs_ohm, ir_ll_mohm, ir_le_mohm, rcd_5x_ms, rcd_ms) or their short \
+names without the unit as the worklist prints them (ze, r1r2, zs, ir_le, rcd, rcd_5x, ...), plus `device` \
 (the device fitted) and `cable` (live/cpc mm² fitted). Values as in the visit file: a number with \
 an optional matching unit, >200, LIM, N/A. Each value is stored at once; the visit is completed \
 at the end of the input unless a line was refused or --no-finish is given."

@@ -77,11 +77,19 @@ impl Field {
         }
     }
 
+    /// The short name: the column without its unit (`r1r2`, `zs`, `ir_le`, `rcd`, `rcd_5x`,
+    /// `ring_r1`), as the worklist and the trend name the quantity.
+    pub fn key(self) -> &'static str {
+        let c = self.column();
+        c.rsplit_once('_').map_or(c, |(key, _unit)| key)
+    }
+
+    /// The field named by its column (canonical) or its short name, in any ASCII case.
     pub fn from_column(s: &str) -> Option<Field> {
         let t = s.trim().to_ascii_lowercase();
         std::iter::once(Field::Ze)
             .chain(Field::CIRCUIT)
-            .find(|f| f.column() == t)
+            .find(|f| f.column() == t || f.key() == t)
     }
 
     /// The trade's name for it.

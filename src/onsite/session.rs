@@ -271,7 +271,7 @@ pub fn parse_line(number: usize, fields: &[&str]) -> Result<Option<Line>, LineEr
     match (what, circuit) {
         (LineWhat::Value(Field::Ze), Some(c)) => {
             return Err(err(format!(
-                "ze_ohm is a board reading: leave the circuit empty (found {c:?})"
+                "{q} is a board reading: leave the circuit empty (found {c:?})"
             )));
         }
         (LineWhat::Value(Field::Ze), None) => {}
@@ -312,10 +312,15 @@ mod tests {
             .unwrap()
             .unwrap();
         assert_eq!(z.circuit, None);
-        let e = parse_line(6, &["DB1", "3", "r1r2", "0.47"]).unwrap_err();
+        // The short name the worklist uses reads as the column does.
+        let short = parse_line(6, &["DB1", "3", "R1R2", "0.47"])
+            .unwrap()
+            .unwrap();
+        assert_eq!(short.what, LineWhat::Value(Field::R1r2));
+        let e = parse_line(6, &["DB1", "3", "r1r2x", "0.47"]).unwrap_err();
         assert!(
             e.to_string()
-                .starts_with("line 6: unknown quantity \"r1r2\""),
+                .starts_with("line 6: unknown quantity \"r1r2x\""),
             "{e}"
         );
         assert!(parse_line(7, &["DB1", "3", "r1r2_ohm"]).is_err());
