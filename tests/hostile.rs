@@ -724,7 +724,7 @@ fn skip_invalid_sidecar_is_safe_and_the_summary_counts_what_was_written() {
     assert!(side.contains(",'@SUM(1)"), "{side}");
     assert!(!side.contains(",=cmd"), "{side}");
     assert!(
-        stdout.contains("imported 1 rows; 2 skipped as invalid"),
+        stdout.contains("imported 1 row; 2 skipped as invalid"),
         "{stdout}"
     );
     assert!(stdout.contains("rows skipped (invalid)   2"), "{stdout}");
@@ -981,7 +981,7 @@ fn record_refuses_control_characters_in_its_text() {
         "{stderr}"
     );
     assert!(
-        stderr.contains("2 line(s) refused and nothing stored from them (2 value(s) stored"),
+        stderr.contains("2 lines refused and nothing stored from them (2 values stored"),
         "{stderr}"
     );
     assert!(

@@ -276,7 +276,7 @@ fn refused_lines_store_nothing_and_the_visit_waits_for_resume() {
     );
     assert!(err.contains("line 4: unknown quantity \"r1r3\""), "{err}");
     assert!(err.contains("line 5: \"-1\" is negative"), "{err}");
-    assert!(err.contains("4 line(s) refused"), "{err}");
+    assert!(err.contains("4 lines refused"), "{err}");
 
     let s = e.store();
     let v = pending(&s);
@@ -343,7 +343,7 @@ fn line_mode_verdicts_and_abandon_puts_the_register_back() {
     assert_eq!(s.visit_changes(v.id).unwrap().len(), 1);
 
     let out = e.ok(&["record", "P-9", "--abandon"], "");
-    assert!(out.contains("1 register change(s) put back"), "{out}");
+    assert!(out.contains("1 register change put back"), "{out}");
     let c2 = s.find_circuit("P-9", "CU", "2").unwrap();
     assert_eq!(c2.device.unwrap().to_string(), "B6");
     assert!(s.pending_visit(v.property_id).unwrap().is_none());
@@ -397,7 +397,7 @@ fn interactive_session_survives_a_kill_and_resumes_every_value() {
 
     // Resume carries on from the first unanswered prompt after the last stored value.
     let mut p = e.spawn(&["record", "P-9", "--resume"]);
-    p.expect("3 value(s) already stored").unwrap();
+    p.expect("3 values already stored").unwrap();
     answer(&mut p, "IR L–E [MΩ]", ">200");
     answer(&mut p, "Zs [Ω]", "0.75");
     p.expect("WITHIN THE BAND").unwrap();
@@ -553,4 +553,66 @@ fn line_mode_reads_a_quantity_by_its_column_or_its_short_name() {
     .failure()
     .stderr(predicates::str::contains("unknown quantity \"r1r2_ohmz\""))
     .stderr(predicates::str::contains("r1r2_ohm"));
+}
+
+#[test]
+fn counts_of_one_read_in_the_singular() {
+    let e = Env::with_history();
+    // One refused line and one value stored from the others.
+    let a = e
+        .cmd(
+            &["record", "P-9", "--date", "2025-02-01", "--temp", "12"],
+            "CU,1,r1r2_ohm,0.55\nCU,9,zs_ohm,0.5\n",
+        )
+        .failure();
+    let err = String::from_utf8(a.get_output().stderr.clone()).unwrap();
+    assert!(
+        err.contains("1 line refused and nothing stored from it (1 value stored from the others)"),
+        "{err}"
+    );
+    assert!(!err.contains("(s)"), "{err}");
+    let out = e.ok(
+        &["record", "P-9", "--resume", "--no-finish"],
+        "CU,1,zs_ohm,0.76\n",
+    );
+    assert!(out.contains("1 value stored;"), "{out}");
+    let out = e.ok(&["record", "P-9", "--abandon"], "");
+    assert!(
+        out.contains(
+            "1 circuit record and 0 board readings discarded, 0 register changes put back"
+        ),
+        "{out}"
+    );
+    // One instrument, in calibration: the brief says so in the singular.
+    e.ok(
+        &[
+            "instrument",
+            "add",
+            "ONE-1",
+            "--calibration-due",
+            "2030-01-31",
+        ],
+        "",
+    );
+    let out = e.ok(&["brief", "P-9", "--date", "2028-01-01"], "");
+    assert!(
+        out.contains("the one instrument in the register is in calibration on 2028-01-01"),
+        "{out}"
+    );
+    assert!(!out.contains("(s)"), "{out}");
+    let html = e.dir.path().join("brief.html");
+    e.ok(
+        &[
+            "brief",
+            "P-9",
+            "--date",
+            "2028-01-01",
+            "-o",
+            html.to_str().unwrap(),
+        ],
+        "",
+    );
+    let html = std::fs::read_to_string(&html).unwrap();
+    assert!(html.contains("The one instrument in the register is in calibration"));
+    assert!(!html.contains("(s)"));
 }

@@ -542,7 +542,10 @@ pub(super) fn circuit_analysis(
         } else if derived == zs_points.len() {
             "Ze + R1+R2 (Zs not measured)".to_string()
         } else {
-            format!("measured Zs; Ze + R1+R2 at {derived} visit(s) where Zs was not measured")
+            format!(
+                "measured Zs; Ze + R1+R2 at {} where Zs was not measured",
+                crate::report::html::count(derived, "visit", "visits")
+            )
         };
         format!("{how}; circuit part corrected to 20 °C where the ambient was recorded").into()
     });

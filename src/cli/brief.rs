@@ -141,11 +141,12 @@ fn print_text(b: &Brief, out: &mut dyn Write) -> Result<()> {
                 "  no instruments in the register: check the calibration of the one you take"
             )?;
         } else {
-            writeln!(
-                out,
-                "  all {} instrument(s) in calibration on {}",
-                b.instruments_known, b.date
-            )?;
+            let all = if b.instruments_known == 1 {
+                "the one instrument in the register is".to_string()
+            } else {
+                format!("all {} instruments are", b.instruments_known)
+            };
+            writeln!(out, "  {all} in calibration on {}", b.date)?;
         }
     }
     for i in &b.instruments {

@@ -1,6 +1,7 @@
 use std::io::Write;
 use std::path::{Path, PathBuf};
 
+use super::output::count;
 use anyhow::Result;
 use clap::{Args as ClapArgs, ValueEnum};
 
@@ -47,21 +48,28 @@ pub fn run(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
         (Format::Json, Some(p)) => {
             let n = write_atomic_with(p, |w| Ok(export_json(&store, property, w)?))?;
             eprintln!(
-                "wrote {} test records and {} observations to {}",
-                n.test_records,
-                n.observations,
+                "wrote {} and {} to {}",
+                count(n.test_records, "test record", "test records"),
+                count(n.observations, "observation", "observations"),
                 p.display()
             );
         }
         (Format::Csv, Some(p)) if is_special(p) => {
             // A device or a pipe has no directory of its own to hold a second file beside it.
             let n = write_atomic_with(p, |w| Ok(export_csv(&store, property, w, None)?))?;
-            eprintln!("wrote {} test records to {}", n.test_records, p.display());
+            eprintln!(
+                "wrote {} to {}",
+                count(n.test_records, "test record", "test records"),
+                p.display()
+            );
             let obs = observation_count(&store, property)?;
             if obs > 0 {
                 eprintln!(
-                    "{obs} observations not written: {} is not a regular file, so there is no place beside it for them; pass -o with a regular file to write them",
-                    p.display()
+                    "{} not written: {} is not a regular file, so there is no place beside it for {}; pass -o with a regular file to write {}",
+                    count(obs, "observation", "observations"),
+                    p.display(),
+                    if obs == 1 { "it" } else { "them" },
+                    if obs == 1 { "it" } else { "them" }
                 );
             }
         }
@@ -70,8 +78,10 @@ pub fn run(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
             let obs = observation_count(&store, property)?;
             if obs > 0 {
                 eprintln!(
-                    "{} test records written; {obs} observations not written: pass -o FILE to write them beside the visit file",
-                    n.test_records
+                    "{} written; {} not written: pass -o FILE to write {} beside the visit file",
+                    count(n.test_records, "test record", "test records"),
+                    count(obs, "observation", "observations"),
+                    if obs == 1 { "it" } else { "them" }
                 );
             }
         }
@@ -92,11 +102,15 @@ pub fn run(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
             if has_obs {
                 write_atomic(&obs_path, &obs)?;
             }
-            eprintln!("wrote {} test records to {}", n.test_records, p.display());
+            eprintln!(
+                "wrote {} to {}",
+                count(n.test_records, "test record", "test records"),
+                p.display()
+            );
             if has_obs {
                 eprintln!(
-                    "wrote {} observations to {}",
-                    n.observations,
+                    "wrote {} to {}",
+                    count(n.observations, "observation", "observations"),
                     obs_path.display()
                 );
             }

@@ -1,6 +1,7 @@
 use std::io::{IsTerminal, Write};
 use std::path::PathBuf;
 
+use super::output::count;
 use anyhow::{Result, bail};
 use clap::Args as ClapArgs;
 use indicatif::{ProgressBar, ProgressStyle};
@@ -123,11 +124,21 @@ fn print_summary(out: &mut dyn Write, s: &Summary) -> Result<()> {
         };
         writeln!(
             out,
-            "{}: nothing new: {which} {kept} rows are already in the database{skipped}; nothing written",
-            s.file
+            "{}: nothing new: {which} {} already in the database{skipped}; nothing written",
+            s.file,
+            if kept == 1 {
+                "1 row is".to_string()
+            } else {
+                format!("{kept} rows are")
+            }
         )?;
     } else {
-        writeln!(out, "{}: imported {kept} rows{skipped}", s.file)?;
+        writeln!(
+            out,
+            "{}: imported {}{skipped}",
+            s.file,
+            count(kept, "row", "rows")
+        )?;
     }
     let lines = [
         ("properties created", s.properties_created),

@@ -137,3 +137,14 @@ pub fn write_atomic_with<T>(path: &Path, f: impl FnOnce(&mut dyn Write) -> Resul
         .map_err(|e| anyhow!("cannot write {}: {}", path.display(), e.error))?;
     Ok(value)
 }
+
+/// "1 value", "3 values": the report's count in words, for any integer type a count comes in.
+pub fn count<N>(n: N, one: &str, many: &str) -> String
+where
+    N: TryInto<usize> + std::fmt::Display + Copy,
+{
+    match n.try_into() {
+        Ok(k) => ohmtrail::report::html::count(k, one, many),
+        Err(_) => format!("{n} {many}"),
+    }
+}

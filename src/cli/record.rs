@@ -3,6 +3,7 @@
 
 use std::io::{BufRead, IsTerminal, Write};
 
+use super::output::count;
 use anyhow::{Result, bail};
 use chrono::NaiveDate;
 use clap::Args as ClapArgs;
@@ -71,8 +72,11 @@ pub fn run(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
         let a = store.abandon_visit(v.id)?;
         writeln!(
             out,
-            "abandoned the pending visit of {} to {r}: {} circuit record(s) and {} board reading(s) discarded, {} register change(s) put back",
-            v.date, a.test_records, a.board_readings, a.changes_reverted
+            "abandoned the pending visit of {} to {r}: {} and {} discarded, {} put back",
+            v.date,
+            count(a.test_records, "circuit record", "circuit records"),
+            count(a.board_readings, "board reading", "board readings"),
+            count(a.changes_reverted, "register change", "register changes")
         )?;
         return Ok(());
     }
@@ -92,8 +96,9 @@ pub fn run(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
         (Some(v), false) => {
             let n = load_progress(&store, v.id)?.stored();
             bail!(
-                "{r} has a pending visit of {} with {n} value(s) stored: carry on with `ohmtrail record {r} --resume`, or discard it with --abandon",
-                v.date
+                "{r} has a pending visit of {} with {} stored: carry on with `ohmtrail record {r} --resume`, or discard it with --abandon",
+                v.date,
+                count(n, "value", "values")
             );
         }
         (None, true) => {
@@ -265,9 +270,9 @@ fn run_prompts(
     if progress.stored() > 0 {
         writeln!(
             out,
-            "resuming the visit of {}: {} value(s) already stored",
+            "resuming the visit of {}: {} already stored",
             visit.date,
-            progress.stored()
+            count(progress.stored(), "value", "values")
         )?;
     }
     writeln!(
@@ -387,8 +392,9 @@ fn run_prompts(
     let n = load_progress(store, visit.id)?.stored();
     writeln!(
         out,
-        "finished: the visit of {} to {r} is complete with {n} value(s) and is now part of the history",
-        visit.date
+        "finished: the visit of {} to {r} is complete with {} and is now part of the history",
+        visit.date,
+        count(n, "value", "values")
     )?;
     writeln!(out, "Caution: {CAUTION}")?;
     Ok(())
@@ -608,16 +614,18 @@ fn run_lines(
             eprintln!("ohmtrail: {e}");
         }
         bail!(
-            "{} line(s) refused and nothing stored from them ({} value(s) stored from the others); the visit of {} stays pending: send the corrected lines with `ohmtrail record {r} --resume`, or discard it with --abandon",
-            errors.len(),
-            stored,
+            "{} refused and nothing stored from {} ({} stored from the others); the visit of {} stays pending: send the corrected lines with `ohmtrail record {r} --resume`, or discard it with --abandon",
+            count(errors.len(), "line", "lines"),
+            if errors.len() == 1 { "it" } else { "them" },
+            count(stored, "value", "values"),
             visit.date
         );
     }
     if no_finish {
         writeln!(
             out,
-            "{stored} value(s) stored; the visit of {} stays pending (--no-finish)",
+            "{} stored; the visit of {} stays pending (--no-finish)",
+            count(stored, "value", "values"),
             visit.date
         )?;
         return Ok(());
@@ -626,8 +634,9 @@ fn run_lines(
     let total = load_progress(store, visit.id)?.stored();
     writeln!(
         out,
-        "finished: the visit of {} to {r} is complete with {total} value(s)",
-        visit.date
+        "finished: the visit of {} to {r} is complete with {}",
+        visit.date,
+        count(total, "value", "values")
     )?;
     Ok(())
 }

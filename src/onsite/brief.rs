@@ -187,8 +187,8 @@ pub fn brief(
     }
     if !analysis.visits_without_ambient.is_empty() {
         notes.push(format!(
-            "no ambient recorded at {} visit(s): those readings are compared as taken",
-            analysis.visits_without_ambient.len()
+            "no ambient recorded at {}: those readings are compared as taken",
+            crate::report::html::count(analysis.visits_without_ambient.len(), "visit", "visits")
         ));
     }
     let origin_ze = analysis

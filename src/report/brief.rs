@@ -128,9 +128,14 @@ pub fn brief_html(b: &Brief) -> String {
             if b.instruments_known == 0 {
                 "No instruments in the register: check the calibration of the instrument you take."
                     .to_string()
+            } else if b.instruments_known == 1 {
+                format!(
+                    "The one instrument in the register is in calibration on {}.",
+                    b.date
+                )
             } else {
                 format!(
-                    "All {} instrument(s) in the register are in calibration on {}.",
+                    "All {} instruments in the register are in calibration on {}.",
                     b.instruments_known, b.date
                 )
             }

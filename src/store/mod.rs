@@ -818,8 +818,13 @@ impl Store {
                 .filter(|c| c.status == Status::InService)
                 .count();
             if in_service > 0 {
+                let (circuits, them) = if in_service == 1 {
+                    ("1 circuit".to_string(), "it")
+                } else {
+                    (format!("{in_service} circuits"), "them")
+                };
                 return Err(Error::invalid(format!(
-                    "board {designation:?} still has {in_service} circuit(s) in service: retire or replace them first"
+                    "board {designation:?} still has {circuits} in service: retire or replace {them} first"
                 )));
             }
             s.conn.execute(
