@@ -672,7 +672,7 @@ pub(super) fn circuit_analysis(
     // RCD: the test at 1 × IΔn decides and is trended (BS 7671:2018+A2:2022 Reg 643.8). The
     // 5 × IΔn test, where recorded, is supplementary: judged against its own maximum, never
     // trended, and it never hides a 1 × IΔn reading.
-    let timing = RcdTiming::of(c.rcd_type.unwrap_or(crate::model::RcdType::A));
+    let timing = RcdTiming::of(c.rcd_delay.unwrap_or(crate::model::RcdDelay::General));
     for (test, label, get) in [
         (
             RcdTest::AtRated,

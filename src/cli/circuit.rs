@@ -4,7 +4,7 @@ use anyhow::Result;
 use chrono::NaiveDate;
 use clap::{Args, Subcommand};
 
-use ohmtrail::model::{ChangeKind, CircuitKind, Device, Insulation, RcdType};
+use ohmtrail::model::{ChangeKind, CircuitKind, Device, Insulation, RcdDelay, RcdMarking};
 use ohmtrail::store::CircuitDetails;
 
 use super::{Context, parse_date, today};
@@ -32,9 +32,12 @@ pub struct Details {
     /// RCD rated residual operating current IΔn in mA
     #[arg(long, value_name = "MA")]
     pub rcd: Option<u16>,
-    /// RCD type: AC, A, F, B, or S for time-delayed
-    #[arg(long, value_parser = |s: &str| s.parse::<RcdType>())]
-    pub rcd_type: Option<RcdType>,
+    /// RCD waveform type: AC, A, F or B; may carry the delay too, as "A S", "A-S", or S alone
+    #[arg(long, value_name = "TYPE", value_parser = |s: &str| s.parse::<RcdMarking>())]
+    pub rcd_type: Option<RcdMarking>,
+    /// RCD delay: general, or S for time-delayed (selective)
+    #[arg(long, value_name = "DELAY", value_parser = |s: &str| s.parse::<RcdDelay>())]
+    pub rcd_delay: Option<RcdDelay>,
     /// Cable insulation: thermoplastic70 (PVC) or thermosetting90 (XLPE)
     #[arg(long, value_parser = |s: &str| s.parse::<Insulation>())]
     pub insulation: Option<Insulation>,
@@ -52,6 +55,15 @@ impl Details {
             .as_deref()
             .map(|d| d.parse::<Device>())
             .transpose()?;
+        let marking = self.rcd_type.unwrap_or_default();
+        let rcd_delay = match (marking.delay, self.rcd_delay) {
+            (Some(a), Some(b)) if a != b => anyhow::bail!(
+                "--rcd-type gives the delay {} but --rcd-delay gives {}: give one delay, general or S",
+                a.as_str(),
+                b.as_str()
+            ),
+            (a, b) => a.or(b),
+        };
         Ok(CircuitDetails {
             description: self.description.clone(),
             kind: self.kind,
@@ -60,7 +72,8 @@ impl Details {
             length_m: self.length,
             device,
             rcd_ma: self.rcd,
-            rcd_type: self.rcd_type,
+            rcd_type: marking.waveform,
+            rcd_delay,
             insulation: self.insulation,
             disconnect_s: self.disconnect,
         })

@@ -11,7 +11,7 @@ use serde::{Deserialize, Serialize};
 
 use super::LimitsError;
 use super::source::{Source, SourceStatus};
-use crate::model::RcdType;
+use crate::model::{RcdDelay, RcdType};
 
 /// General (non-delayed) or time-delayed (type S) operation.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, Serialize, Deserialize)]
@@ -22,12 +22,11 @@ pub enum RcdTiming {
 }
 
 impl RcdTiming {
-    /// Type S is delayed; every other marking is general.
-    pub fn of(rcd_type: RcdType) -> RcdTiming {
-        if rcd_type == RcdType::S {
-            RcdTiming::Delayed
-        } else {
-            RcdTiming::General
+    /// The times follow the delay, whatever the waveform type: type S is delayed.
+    pub fn of(delay: RcdDelay) -> RcdTiming {
+        match delay {
+            RcdDelay::S => RcdTiming::Delayed,
+            RcdDelay::General => RcdTiming::General,
         }
     }
 }
@@ -121,6 +120,8 @@ pub fn rcd_max_ms(timing: RcdTiming, test: RcdTest) -> RcdMax {
 #[derive(Debug, Clone, Copy, Default, PartialEq, Serialize, Deserialize)]
 pub struct RcdReadings {
     pub rcd_type: Option<RcdType>,
+    /// General or type S; with a waveform type recorded and no delay, general.
+    pub rcd_delay: Option<RcdDelay>,
     pub at_rated_ms: Option<f64>,
     pub at_five_ms: Option<f64>,
 }
@@ -189,9 +190,10 @@ pub fn judge_rcd(r: &RcdReadings) -> Result<RcdJudgement, LimitsError> {
         .at_five_ms
         .map(|v| check_ms("RCD time at 5 × IΔn", v))
         .transpose()?;
-    let (timing, timing_assumed) = match r.rcd_type {
-        Some(t) => (RcdTiming::of(t), false),
-        None => (RcdTiming::General, true),
+    let (timing, timing_assumed) = match (r.rcd_delay, r.rcd_type) {
+        (Some(d), _) => (RcdTiming::of(d), false),
+        (None, Some(_)) => (RcdTiming::General, false),
+        (None, None) => (RcdTiming::General, true),
     };
     let mut notes = Vec::new();
     if timing_assumed {
@@ -262,8 +264,8 @@ mod tests {
                     .contains(&format!("at most {want} ms at {test}"))
             );
         }
-        assert_eq!(RcdTiming::of(RcdType::S), Delayed);
-        assert_eq!(RcdTiming::of(RcdType::A), General);
+        assert_eq!(RcdTiming::of(RcdDelay::S), Delayed);
+        assert_eq!(RcdTiming::of(RcdDelay::General), General);
     }
 
     #[test]
@@ -273,6 +275,7 @@ mod tests {
         // Invented readings: type A, 1 × 350 ms (over 300) with 5 × 18 ms (within 40).
         let j = judge_rcd(&RcdReadings {
             rcd_type: Some(RcdType::A),
+            rcd_delay: None,
             at_rated_ms: Some(350.0),
             at_five_ms: Some(18.0),
         })
@@ -283,6 +286,7 @@ mod tests {
         // 1 × within, 5 × over its 40 ms: judged on 1 ×, with the 5 × result noted.
         let j = judge_rcd(&RcdReadings {
             rcd_type: Some(RcdType::AC),
+            rcd_delay: None,
             at_rated_ms: Some(250.0),
             at_five_ms: Some(45.0),
         })
@@ -293,6 +297,7 @@ mod tests {
         // Only 5 ×: judged, with a note that the required test is missing.
         let j = judge_rcd(&RcdReadings {
             rcd_type: Some(RcdType::AC),
+            rcd_delay: None,
             at_rated_ms: None,
             at_five_ms: Some(20.0),
         })
@@ -305,18 +310,55 @@ mod tests {
     fn type_s_gets_the_delayed_times() {
         // Invented type S: 5 × 120 ms is within 150 ms; a general device would be over 40 ms.
         let s = RcdReadings {
-            rcd_type: Some(RcdType::S),
+            rcd_type: None,
+            rcd_delay: Some(RcdDelay::S),
             at_rated_ms: None,
             at_five_ms: Some(120.0),
         };
         assert!(judge_rcd(&s).unwrap().result.within);
         let unknown = RcdReadings {
-            rcd_type: None,
+            rcd_delay: None,
             ..s
         };
         let j = judge_rcd(&unknown).unwrap();
         assert!(!j.result.within);
         assert!(j.timing_assumed);
+    }
+
+    #[test]
+    fn type_a_s_is_judged_on_its_delay_not_its_waveform() {
+        // BS EN 61008-1 / 61009-1 (reference sheet, RCD operating times): at 1 × IΔn at most
+        // 500 ms for type S, 300 ms for a general device. Type A S 100 mA, 1 × IΔn 400 ms:
+        // 400 <= 500, within; the same reading on a general type A: 400 > 300, over.
+        let a_s = RcdReadings {
+            rcd_type: Some(RcdType::A),
+            rcd_delay: Some(RcdDelay::S),
+            at_rated_ms: Some(400.0),
+            at_five_ms: None,
+        };
+        let j = judge_rcd(&a_s).unwrap();
+        assert_eq!(j.timing, RcdTiming::Delayed);
+        assert_eq!(j.result.max.max_ms, 500.0);
+        assert!(j.result.within, "{}", j.result.text);
+        for delay in [Some(RcdDelay::General), None] {
+            let j = judge_rcd(&RcdReadings {
+                rcd_delay: delay,
+                ..a_s
+            })
+            .unwrap();
+            assert_eq!(j.result.max.max_ms, 300.0);
+            assert!(!j.result.within, "{}", j.result.text);
+            assert!(!j.timing_assumed, "the waveform type was recorded");
+        }
+        // BS EN 61008-1 / 61009-1: type S at most 200 ms at 2 × IΔn and 150 ms at 5 × IΔn.
+        assert_eq!(
+            rcd_max_ms(RcdTiming::of(RcdDelay::S), RcdTest::AtTwice).max_ms,
+            200.0
+        );
+        assert_eq!(
+            rcd_max_ms(RcdTiming::of(RcdDelay::S), RcdTest::AtFive).max_ms,
+            150.0
+        );
     }
 
     #[test]

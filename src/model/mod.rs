@@ -187,15 +187,15 @@ impl FromStr for Insulation {
     }
 }
 
-/// Residual current device type (BS EN 61008 / 61009 / 62423 marking).
+/// Residual current device waveform type (BS EN 61008 / 61009 / 62423 marking): which
+/// residual currents it responds to. The time delay (type S) is a separate attribute,
+/// [`RcdDelay`], so a "type A, S" device is recorded as both.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, Serialize, Deserialize)]
 pub enum RcdType {
     AC,
     A,
     F,
     B,
-    /// Time-delayed (selective) device.
-    S,
 }
 
 impl RcdType {
@@ -205,7 +205,6 @@ impl RcdType {
             RcdType::A => "A",
             RcdType::F => "F",
             RcdType::B => "B",
-            RcdType::S => "S",
         }
     }
 }
@@ -218,10 +217,77 @@ impl FromStr for RcdType {
             "A" => Ok(RcdType::A),
             "F" => Ok(RcdType::F),
             "B" => Ok(RcdType::B),
-            "S" => Ok(RcdType::S),
             _ => Err(format!(
-                "unknown RCD type {s:?}: expected AC, A, F, B or S (time-delayed)"
+                "unknown RCD waveform type {s:?}: expected AC, A, F or B (give a time delay as S, e.g. \"A S\")"
             )),
+        }
+    }
+}
+
+/// Whether an RCD operates without intended delay (general) or with one (type S, selective).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum RcdDelay {
+    General,
+    S,
+}
+
+impl RcdDelay {
+    pub fn as_str(self) -> &'static str {
+        match self {
+            RcdDelay::General => "general",
+            RcdDelay::S => "S",
+        }
+    }
+}
+
+impl FromStr for RcdDelay {
+    type Err = String;
+    fn from_str(s: &str) -> Result<Self, String> {
+        match s.trim().to_ascii_lowercase().as_str() {
+            "general" | "g" => Ok(RcdDelay::General),
+            "s" => Ok(RcdDelay::S),
+            _ => Err(format!(
+                "unknown RCD delay {s:?}: expected general or S (time-delayed)"
+            )),
+        }
+    }
+}
+
+/// An RCD marking as written on a schedule: a waveform type, a delay, or both, as in
+/// `A`, `S`, `A S` or `A-S` (a space or a hyphen separates the two).
+#[derive(Debug, Clone, Copy, Default, PartialEq, Eq, Hash)]
+pub struct RcdMarking {
+    pub waveform: Option<RcdType>,
+    pub delay: Option<RcdDelay>,
+}
+
+impl FromStr for RcdMarking {
+    type Err = String;
+    fn from_str(s: &str) -> Result<Self, String> {
+        let bad = || {
+            format!(
+                "unknown RCD type {s:?}: expected a waveform type AC, A, F or B, optionally followed by the delay S (time-delayed), as in \"A S\" or \"A-S\", or S alone"
+            )
+        };
+        let parts: Vec<&str> = s
+            .split(|c: char| c.is_whitespace() || c == '-')
+            .filter(|p| !p.is_empty())
+            .collect();
+        match parts.as_slice() {
+            [one] if one.eq_ignore_ascii_case("s") => Ok(RcdMarking {
+                waveform: None,
+                delay: Some(RcdDelay::S),
+            }),
+            [one] => Ok(RcdMarking {
+                waveform: Some(one.parse().map_err(|_| bad())?),
+                delay: None,
+            }),
+            [w, d] if d.eq_ignore_ascii_case("s") => Ok(RcdMarking {
+                waveform: Some(w.parse().map_err(|_| bad())?),
+                delay: Some(RcdDelay::S),
+            }),
+            _ => Err(bad()),
         }
     }
 }
@@ -243,6 +309,8 @@ pub struct Circuit {
     pub device: Option<Device>,
     pub rcd_ma: Option<u16>,
     pub rcd_type: Option<RcdType>,
+    /// General or time-delayed (type S); `None` when not recorded.
+    pub rcd_delay: Option<RcdDelay>,
     pub insulation: Option<Insulation>,
     /// Maximum disconnection time in seconds when it is not the default for the circuit.
     pub disconnect_s: Option<f64>,
@@ -517,6 +585,47 @@ pub fn validate_rcd_ma(ma: u16) -> Result<u16, String> {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn an_rcd_marking_reads_waveform_and_delay_apart() {
+        // BS EN 61008-1 / 61009-1 mark the waveform type (AC, A, F, B) and the time delay (S)
+        // separately, so a selective type A device is "A" and "S" (common practice, no source,
+        // for the spellings "A S" and "A-S" on schedules).
+        let m = |s: &str| s.parse::<RcdMarking>();
+        let both = RcdMarking {
+            waveform: Some(RcdType::A),
+            delay: Some(RcdDelay::S),
+        };
+        assert_eq!(m("A S"), Ok(both));
+        assert_eq!(m("a-s"), Ok(both));
+        assert_eq!(m(" A  S "), Ok(both));
+        assert_eq!(
+            m("S"),
+            Ok(RcdMarking {
+                waveform: None,
+                delay: Some(RcdDelay::S)
+            })
+        );
+        assert_eq!(
+            m("AC"),
+            Ok(RcdMarking {
+                waveform: Some(RcdType::AC),
+                delay: None
+            })
+        );
+        // Bad combinations are refused, listing what is known.
+        for bad in ["S S", "A B", "X S", "A S S", "S A", "", "AS"] {
+            let e = m(bad).unwrap_err();
+            assert!(e.contains("AC, A, F or B") && e.contains("S"), "{bad}: {e}");
+        }
+        assert!("S".parse::<RcdType>().is_err());
+        assert_eq!("general".parse::<RcdDelay>(), Ok(RcdDelay::General));
+        assert!(
+            "T".parse::<RcdDelay>()
+                .unwrap_err()
+                .contains("general or S")
+        );
+    }
 
     #[test]
     fn validation_refuses_nonsense() {

@@ -11,7 +11,7 @@ use crate::analysis::{CircuitAnalysis, PropertyAnalysis, SeriesAnalysis};
 use crate::limits::{
     self, IrCircuit, LimitsConfig, MeasuredRule, RcdTest, RcdTiming, TestConditions, from_r20,
 };
-use crate::model::{CircuitKind, Instrument, Observation, RcdType, Readings, Status};
+use crate::model::{CircuitKind, Instrument, Observation, RcdDelay, Readings, Status};
 use crate::trend::{LimitKind, TrendConfig};
 
 /// The ambient temperature assumed when none is given: a mild indoor day in a cool climate.
@@ -348,7 +348,7 @@ fn circuit_brief(
                     })
                 }
                 Field::Rcd5x | Field::Rcd => {
-                    let timing = RcdTiming::of(c.circuit.rcd_type.unwrap_or(RcdType::A));
+                    let timing = RcdTiming::of(c.circuit.rcd_delay.unwrap_or(RcdDelay::General));
                     let test = if f == Field::Rcd5x {
                         RcdTest::AtFive
                     } else {

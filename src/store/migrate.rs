@@ -30,6 +30,10 @@ pub const MIGRATIONS: &[(&str, &str)] = &[
         "007_property_ref_nocase_index",
         include_str!("../../schema/007_property_ref_nocase_index.sql"),
     ),
+    (
+        "008_rcd_delay",
+        include_str!("../../schema/008_rcd_delay.sql"),
+    ),
 ];
 
 /// The last version whose databases carry no application id: an unmarked database at a
@@ -110,6 +114,7 @@ fn apply_rebuild(conn: &mut Connection, version: i64, sql: &str) -> rusqlite::Re
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::model::{RcdDelay, RcdType};
 
     #[test]
     fn empty_to_latest_and_again_is_a_no_op() {
@@ -125,6 +130,55 @@ mod tests {
         for (i, (name, _)) in MIGRATIONS.iter().enumerate() {
             assert!(name.starts_with(&format!("{:03}_", i + 1)), "{name}");
         }
+    }
+
+    #[test]
+    fn a_stored_type_s_becomes_the_delay_with_no_waveform() {
+        // Before 008 the type column held S, the time delay of BS EN 61008-1 / 61009-1, in
+        // place of a waveform type: the delay is kept and the waveform is not recorded.
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join("old.db");
+        {
+            let conn = Connection::open(&path).unwrap();
+            conn.pragma_update(None, "foreign_keys", true).unwrap();
+            for (_, sql) in &MIGRATIONS[..6] {
+                conn.execute_batch(sql).unwrap();
+            }
+            conn.pragma_update(None, "user_version", 6).unwrap();
+            conn.execute_batch(
+                "INSERT INTO property (id, ref) VALUES (1, 'P1');
+                 INSERT INTO board (id, property_id, designation, earthing) VALUES (1, 1, 'CU1', 'TN-C-S');
+                 INSERT INTO circuit (id, board_id, number, device, rcd_ma, rcd_type)
+                     VALUES (1, 1, '1', 'B32', 100, 'S'), (2, 1, '2', 'B16', 30, 'A'),
+                            (3, 1, '3', 'B6', NULL, NULL);",
+            )
+            .unwrap();
+        }
+        let store = crate::store::Store::open(&path).unwrap();
+        let c = |id| store.circuit_by_id(id).unwrap();
+        assert_eq!((c(1).rcd_type, c(1).rcd_delay), (None, Some(RcdDelay::S)));
+        assert_eq!(c(1).rcd_ma, Some(100));
+        assert_eq!((c(2).rcd_type, c(2).rcd_delay), (Some(RcdType::A), None));
+        assert_eq!((c(3).rcd_type, c(3).rcd_delay), (None, None));
+        drop(store);
+        let conn = Connection::open(&path).unwrap();
+        assert_eq!(user_version(&conn).unwrap(), 8);
+        let rows: Vec<(Option<String>, Option<String>)> = conn
+            .prepare("SELECT rcd_type, rcd_delay FROM circuit ORDER BY id")
+            .unwrap()
+            .query_map([], |r| Ok((r.get(0)?, r.get(1)?)))
+            .unwrap()
+            .collect::<rusqlite::Result<_>>()
+            .unwrap();
+        let s = |t: &str| Some(t.to_string());
+        assert_eq!(rows, [(None, s("S")), (s("A"), None), (None, None)]);
+        // The new column's check takes only general and S.
+        let refuses = |sql: &str| conn.execute(sql, []).is_err();
+        assert!(refuses("UPDATE circuit SET rcd_delay = 's' WHERE id = 1"));
+        assert!(refuses("UPDATE circuit SET rcd_delay = 'A' WHERE id = 1"));
+        assert!(!refuses(
+            "UPDATE circuit SET rcd_delay = 'general' WHERE id = 1"
+        ));
     }
 
     /// A database at version 3 with a register in it, as an earlier build left it.
@@ -189,16 +243,20 @@ mod tests {
                 "004_checks_without_in_lists",
                 "005_partial_replaces_index",
                 "006_application_id",
-                "007_property_ref_nocase_index"
+                "007_property_ref_nocase_index",
+                "008_rcd_delay"
             ]
         );
-        assert_eq!(user_version(&conn).unwrap(), 7);
+        assert_eq!(user_version(&conn).unwrap(), 8);
         for (t, rows) in tables.iter().zip(&before) {
-            assert_eq!(
-                &dump(&conn, &format!("SELECT * FROM {t} ORDER BY id")),
-                rows,
-                "{t}"
-            );
+            // 008 adds rcd_delay as the circuit's last column, NULL for these rows.
+            let mut after = dump(&conn, &format!("SELECT * FROM {t} ORDER BY id"));
+            if *t == "circuit" {
+                for row in &mut after {
+                    *row = row.strip_suffix("|Null").unwrap().to_string();
+                }
+            }
+            assert_eq!(&after, rows, "{t}");
         }
         // Every index is kept; 007 adds one.
         let mut expected = indexes_before.clone();

@@ -31,7 +31,8 @@ use serde::Serialize;
 use crate::error::{Error, Result};
 use crate::model::{
     Board, ChangeKind, Circuit, CircuitChange, CircuitKind, Device, Earthing, Instrument,
-    Insulation, Property, RcdType, Status, validate_csa, validate_length, validate_rcd_ma,
+    Insulation, Property, RcdDelay, RcdMarking, RcdType, Status, validate_csa, validate_length,
+    validate_rcd_ma,
 };
 
 /// How long a writer waits for another process's transaction before giving up.
@@ -106,6 +107,7 @@ pub struct CircuitDetails {
     pub device: Option<Device>,
     pub rcd_ma: Option<u16>,
     pub rcd_type: Option<RcdType>,
+    pub rcd_delay: Option<RcdDelay>,
     pub insulation: Option<Insulation>,
     pub disconnect_s: Option<f64>,
 }
@@ -882,7 +884,8 @@ impl Store {
 
     pub(super) const CIRCUIT_COLS: &'static str =
         "id, board_id, number, description, kind, live_mm2, cpc_mm2,
-        length_m, device, rcd_ma, rcd_type, insulation, disconnect_s, status, replaces_circuit_id";
+        length_m, device, rcd_ma, rcd_type, insulation, disconnect_s, status, replaces_circuit_id,
+        rcd_delay";
 
     pub(super) fn circuit_from_row(r: &Row) -> rusqlite::Result<Circuit> {
         // The coded columns are read in place rather than copied out first.
@@ -893,6 +896,13 @@ impl Store {
         let rcd_type = text(10)?;
         let insulation = text(11)?;
         let status = text(13)?.unwrap_or_default();
+        // A database from before 008 may still hold 'S' as the type: it is the delay.
+        let marking = rcd_type
+            .and_then(|t| t.parse::<RcdMarking>().ok())
+            .unwrap_or_default();
+        let rcd_delay = text(15)?
+            .and_then(|t| t.parse::<RcdDelay>().ok())
+            .or(marking.delay);
         Ok(Circuit {
             id: r.get(0)?,
             board_id: r.get(1)?,
@@ -904,7 +914,8 @@ impl Store {
             length_m: r.get(7)?,
             device: device.and_then(|d| d.parse().ok()),
             rcd_ma: r.get(9)?,
-            rcd_type: rcd_type.and_then(|t| t.parse().ok()),
+            rcd_type: marking.waveform,
+            rcd_delay,
             insulation: insulation.and_then(|t| t.parse().ok()),
             disconnect_s: r.get(12)?,
             status: status.parse().unwrap_or(Status::InService),
@@ -992,8 +1003,8 @@ impl Store {
         }
         self.conn.execute(
             "INSERT INTO circuit (board_id, number, description, kind, live_mm2, cpc_mm2, length_m,
-                 device, rcd_ma, rcd_type, insulation, disconnect_s, replaces_circuit_id)
-             VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11, ?12, ?13)",
+                 device, rcd_ma, rcd_type, insulation, disconnect_s, replaces_circuit_id, rcd_delay)
+             VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11, ?12, ?13, ?14)",
             params![
                 board.id,
                 number,
@@ -1008,6 +1019,7 @@ impl Store {
                 d.insulation.map(|i| i.as_str()),
                 d.disconnect_s,
                 replaces,
+                d.rcd_delay.map(|t| t.as_str()),
             ],
         )?;
         self.circuit_by_id(self.conn.last_insert_rowid())
@@ -1129,6 +1141,14 @@ impl Store {
                 old.rcd_type.map(|v| v.as_str().into()),
                 new.rcd_type.map(|v| v.as_str().into()),
                 text(new.rcd_type.map(|v| v.as_str().into())),
+                ChangeKind::DeviceChanged,
+            )?;
+            diff(
+                "rcd_delay",
+                "rcd_delay",
+                old.rcd_delay.map(|v| v.as_str().into()),
+                new.rcd_delay.map(|v| v.as_str().into()),
+                text(new.rcd_delay.map(|v| v.as_str().into())),
                 ChangeKind::DeviceChanged,
             )?;
             diff(
@@ -1278,6 +1298,7 @@ impl Store {
                 device: details.device.or(old.device),
                 rcd_ma: details.rcd_ma.or(old.rcd_ma),
                 rcd_type: details.rcd_type.or(old.rcd_type),
+                rcd_delay: details.rcd_delay.or(old.rcd_delay),
                 insulation: details.insulation.or(old.insulation),
                 disconnect_s: details.disconnect_s.or(old.disconnect_s),
             };

@@ -121,9 +121,10 @@ impl Store {
         };
         let value = match (field, old) {
             (_, None) => Value::Null,
-            ("description" | "kind" | "device" | "rcd_type" | "insulation", Some(t)) => {
-                Value::Text(t.to_string())
-            }
+            (
+                "description" | "kind" | "device" | "rcd_type" | "rcd_delay" | "insulation",
+                Some(t),
+            ) => Value::Text(t.to_string()),
             ("live_mm2" | "cpc_mm2" | "length_m" | "disconnect_s", Some(t)) => {
                 Value::Real(t.parse().map_err(|_| bad())?)
             }
