@@ -46,6 +46,8 @@ pub fn record_cells(rec: &ExportRecord, changes: &[IngestChange]) -> Vec<Option<
             Column::LiveMm2 => reg[4].clone(),
             Column::CpcMm2 => reg[5].clone(),
             Column::LengthM => reg[6].clone(),
+            Column::RcdType => reg[7].clone(),
+            Column::RcdDelay => reg[8].clone(),
             Column::VisitDate => Some(rec.visit_date.to_string()),
             Column::Inspector => rec.inspector.clone(),
             Column::Instrument => rec.instrument.clone(),

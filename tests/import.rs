@@ -128,7 +128,7 @@ bad! {
     us_order_date: "us_date.csv" => ["us_date.csv:2:4: visit_date: \"06/14/2023\" reads only month first (US order): write the day first (14/06/2023) or as ISO 2023-06-14"];
     impossible_date: "impossible_date.csv" => ["impossible_date.csv:2:4: visit_date: \"31/02/2023\" is not a date in the calendar"];
     short_year: "short_year.csv" => ["short_year.csv:2:4: visit_date: \"14/06/23\" has a two-digit year: write all four digits"];
-    unknown_column: "unknown_column.csv" => ["unknown_column.csv:1:5: unknown column \"colour\": expected one of property_ref, address, board, earthing, circuit, description, ring, device, rcd_ma, live_mm2, cpc_mm2, length_m, visit_date, inspector, instrument, ambient_c, ze_ohm, ring_r1_ohm, ring_rn_ohm, ring_r2_ohm, r1r2_ohm, r2_ohm, r1rn_ohm, zs_ohm, ir_ll_mohm, ir_le_mohm, rcd_ms, rcd_5x_ms, note (or pass --ignore-unknown)"];
+    unknown_column: "unknown_column.csv" => ["unknown_column.csv:1:5: unknown column \"colour\": expected one of property_ref, address, board, earthing, circuit, description, ring, device, rcd_ma, rcd_type, rcd_delay, live_mm2, cpc_mm2, length_m, visit_date, inspector, instrument, ambient_c, ze_ohm, ring_r1_ohm, ring_rn_ohm, ring_r2_ohm, r1r2_ohm, r2_ohm, r1rn_ohm, zs_ohm, ir_ll_mohm, ir_le_mohm, rcd_ms, rcd_5x_ms, note (or pass --ignore-unknown)"];
     missing_required_column: "missing_required.csv" => ["missing_required.csv:1:1: missing required column visit_date: a visit file needs property_ref, board, circuit, visit_date"];
     unknown_device: "unknown_device.csv" => ["unknown_device.csv:2:5: device: unknown protective device \"X32\": expected a breaker curve and rating such as B16, C32, D6 or RCBO B20, an older breaker such as BS 3871 type 2 30A, or a fuse standard and rating such as BS 88-3 32A, BS 88-2 32A, BS 1361 30A, BS 3036 15A, BS 1362 13A"];
     non_standard_rating: "non_standard_rating.csv" => ["non_standard_rating.csv:2:5: device: B33 is not a standard rating: known ratings are 3, 6, 10, 16, 20, 25, 32, 40, 50, 63, 80, 100, 125 A"];
@@ -273,7 +273,7 @@ fn unbounded_input_is_refused_at_a_limit() {
         dir.path(),
         "wide_name.csv",
         &[&format!(
-            "wide_name.csv:1:5: unknown column \"{}\"… (5000 bytes long): expected one of property_ref, address, board, earthing, circuit, description, ring, device, rcd_ma, live_mm2, cpc_mm2, length_m, visit_date, inspector, instrument, ambient_c, ze_ohm, ring_r1_ohm, ring_rn_ohm, ring_r2_ohm, r1r2_ohm, r2_ohm, r1rn_ohm, zs_ohm, ir_ll_mohm, ir_le_mohm, rcd_ms, rcd_5x_ms, note (or pass --ignore-unknown)",
+            "wide_name.csv:1:5: unknown column \"{}\"… (5000 bytes long): expected one of property_ref, address, board, earthing, circuit, description, ring, device, rcd_ma, rcd_type, rcd_delay, live_mm2, cpc_mm2, length_m, visit_date, inspector, instrument, ambient_c, ze_ohm, ring_r1_ohm, ring_rn_ohm, ring_r2_ohm, r1r2_ohm, r2_ohm, r1rn_ohm, zs_ohm, ir_ll_mohm, ir_le_mohm, rcd_ms, rcd_5x_ms, note (or pass --ignore-unknown)",
             "z".repeat(60)
         )],
     );
@@ -286,7 +286,7 @@ fn unbounded_input_is_refused_at_a_limit() {
         dir.path(),
         "wide_header.csv",
         &[
-            "wide_header.csv:1:257: the header has 30004 columns: expected at most 256 (a visit file has 29 known columns)",
+            "wide_header.csv:1:257: the header has 30004 columns: expected at most 256 (a visit file has 31 known columns)",
         ],
     );
 }

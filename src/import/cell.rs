@@ -8,7 +8,8 @@ use std::borrow::Cow;
 use chrono::{Datelike, NaiveDate};
 
 use crate::model::{
-    CircuitKind, Device, Earthing, ObservationCode, validate_csa, validate_length, validate_rcd_ma,
+    CircuitKind, Device, Earthing, ObservationCode, RcdDelay, RcdMarking, validate_csa,
+    validate_length, validate_rcd_ma,
 };
 
 /// Longest cell accepted, in bytes. A longer cell is almost certainly a broken file.
@@ -26,6 +27,8 @@ pub enum Column {
     Ring,
     Device,
     RcdMa,
+    RcdType,
+    RcdDelay,
     LiveMm2,
     CpcMm2,
     LengthM,
@@ -61,6 +64,8 @@ pub enum Kind {
     Celsius,
     Device,
     RcdMa,
+    RcdType,
+    RcdDelay,
     Mm2,
     Metres,
     Ring,
@@ -73,7 +78,7 @@ pub enum Kind {
 
 impl Column {
     /// Visit-file columns, in the order export writes them.
-    pub const VISIT: [Column; 29] = [
+    pub const VISIT: [Column; 31] = [
         Column::PropertyRef,
         Column::Address,
         Column::Board,
@@ -83,6 +88,8 @@ impl Column {
         Column::Ring,
         Column::Device,
         Column::RcdMa,
+        Column::RcdType,
+        Column::RcdDelay,
         Column::LiveMm2,
         Column::CpcMm2,
         Column::LengthM,
@@ -140,6 +147,8 @@ impl Column {
             Column::Ring => "ring",
             Column::Device => "device",
             Column::RcdMa => "rcd_ma",
+            Column::RcdType => "rcd_type",
+            Column::RcdDelay => "rcd_delay",
             Column::LiveMm2 => "live_mm2",
             Column::CpcMm2 => "cpc_mm2",
             Column::LengthM => "length_m",
@@ -188,6 +197,8 @@ impl Column {
             Column::AmbientC => Kind::Celsius,
             Column::Device => Kind::Device,
             Column::RcdMa => Kind::RcdMa,
+            Column::RcdType => Kind::RcdType,
+            Column::RcdDelay => Kind::RcdDelay,
             Column::LiveMm2 | Column::CpcMm2 => Kind::Mm2,
             Column::LengthM => Kind::Metres,
             Column::Ring => Kind::Ring,
@@ -241,6 +252,8 @@ pub enum Cell {
     OverRange(f64),
     Device(Device),
     RcdMa(u16),
+    RcdType(RcdMarking),
+    RcdDelay(RcdDelay),
     Ring(CircuitKind),
     Earthing(Earthing),
     Code(ObservationCode),
@@ -394,6 +407,14 @@ pub fn parse_cell(column: Column, text: &str, opts: &ParseOptions) -> Result<Cel
         Kind::Earthing => t
             .parse::<Earthing>()
             .map(Cell::Earthing)
+            .map_err(CellError::Value),
+        Kind::RcdType => t
+            .parse::<RcdMarking>()
+            .map(Cell::RcdType)
+            .map_err(CellError::Value),
+        Kind::RcdDelay => t
+            .parse::<RcdDelay>()
+            .map(Cell::RcdDelay)
             .map_err(CellError::Value),
         Kind::Code => t
             .parse::<ObservationCode>()

@@ -202,7 +202,7 @@ fn fault<T>(column: Column, message: String) -> std::result::Result<T, Faults> {
 type RowResult<T> = std::result::Result<T, Faults>;
 
 /// The register fields a row may carry, with the change-log field name for each.
-const REGISTER: [(Column, &str); 7] = [
+const REGISTER: [(Column, &str); 9] = [
     (Column::Description, "description"),
     (Column::Ring, "kind"),
     (Column::Device, "device"),
@@ -210,10 +210,12 @@ const REGISTER: [(Column, &str); 7] = [
     (Column::LiveMm2, "live_mm2"),
     (Column::CpcMm2, "cpc_mm2"),
     (Column::LengthM, "length_m"),
+    (Column::RcdType, "rcd_type"),
+    (Column::RcdDelay, "rcd_delay"),
 ];
 
 /// Register details as the change log writes them, in [`REGISTER`] order.
-pub fn register_texts(d: &CircuitDetails) -> [Option<String>; 7] {
+pub fn register_texts(d: &CircuitDetails) -> [Option<String>; 9] {
     [
         d.description.clone(),
         d.kind.map(|k| k.as_str().to_string()),
@@ -222,6 +224,8 @@ pub fn register_texts(d: &CircuitDetails) -> [Option<String>; 7] {
         d.live_mm2.map(fmt_num),
         d.cpc_mm2.map(fmt_num),
         d.length_m.map(fmt_num),
+        d.rcd_type.map(|t| t.as_str().to_string()),
+        d.rcd_delay.map(|t| t.as_str().to_string()),
     ]
 }
 
@@ -237,6 +241,8 @@ fn register_agrees(d: &CircuitDetails, r: &RowRegister) -> bool {
         && same(&r.live_mm2, &d.live_mm2)
         && same(&r.cpc_mm2, &d.cpc_mm2)
         && same(&r.length_m, &d.length_m)
+        && same(&r.rcd_type, &d.rcd_type)
+        && same(&r.rcd_delay, &d.rcd_delay)
 }
 
 /// Set one register field from its change-log text.
@@ -250,6 +256,10 @@ fn apply_text(d: &mut CircuitDetails, field: &str, v: Option<&str>) {
         "live_mm2" => d.live_mm2 = num(v),
         "cpc_mm2" => d.cpc_mm2 = num(v),
         "length_m" => d.length_m = num(v),
+        "rcd_type" => {
+            d.rcd_type = v.and_then(|t| t.parse::<crate::model::RcdMarking>().ok()?.waveform)
+        }
+        "rcd_delay" => d.rcd_delay = v.and_then(|t| t.parse().ok()),
         _ => {}
     }
 }
@@ -263,16 +273,18 @@ fn row_register_details(r: &RowRegister) -> CircuitDetails {
         length_m: r.length_m,
         device: r.device,
         rcd_ma: r.rcd_ma,
+        rcd_type: r.rcd_type,
+        rcd_delay: r.rcd_delay,
         ..Default::default()
     }
 }
 
 /// A register field's value at `date`: the value before the first later change, else now.
 pub fn register_at(
-    current: &[Option<String>; 7],
+    current: &[Option<String>; 9],
     changes: &[IngestChange],
     date: NaiveDate,
-) -> [Option<String>; 7] {
+) -> [Option<String>; 9] {
     let mut out = current.clone();
     for (i, (_, field)) in REGISTER.iter().enumerate() {
         if let Some(c) = changes
@@ -333,7 +345,7 @@ struct CircuitState {
     /// The register now, typed for the common case of a row that agrees with it.
     details: CircuitDetails,
     /// The register now as text, made when a row first disagrees with `details`.
-    current: Option<[Option<String>; 7]>,
+    current: Option<[Option<String>; 9]>,
     changes: Vec<IngestChange>,
     /// The date of the circuit's latest test record, once looked up: only a row that
     /// disagrees with the register needs it, so most rows never ask.
@@ -879,6 +891,8 @@ impl Importer<'_> {
                     Column::RcdMa => d.rcd_ma = row_details.rcd_ma,
                     Column::LiveMm2 => d.live_mm2 = row_details.live_mm2,
                     Column::CpcMm2 => d.cpc_mm2 = row_details.cpc_mm2,
+                    Column::RcdType => d.rcd_type = row_details.rcd_type,
+                    Column::RcdDelay => d.rcd_delay = row_details.rcd_delay,
                     _ => d.length_m = row_details.length_m,
                 }
             }

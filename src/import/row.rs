@@ -3,7 +3,9 @@
 use chrono::NaiveDate;
 
 use super::cell::{Cell, CellError, Column, ParseOptions, parse_cell};
-use crate::model::{CircuitKind, Device, Earthing, Megohms, ObservationCode, Readings};
+use crate::model::{
+    CircuitKind, Device, Earthing, Megohms, ObservationCode, RcdDelay, RcdType, Readings,
+};
 
 /// The two kinds of file, told apart by their header.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
@@ -212,6 +214,8 @@ pub struct RowRegister {
     pub kind: Option<CircuitKind>,
     pub device: Option<Device>,
     pub rcd_ma: Option<u16>,
+    pub rcd_type: Option<RcdType>,
+    pub rcd_delay: Option<RcdDelay>,
     pub live_mm2: Option<f64>,
     pub cpc_mm2: Option<f64>,
     pub length_m: Option<f64>,
@@ -329,6 +333,8 @@ pub fn parse_visit_row(
         readings: Readings::default(),
     };
     let mut limitations: Vec<Column> = Vec::new();
+    // A delay written in the type column ("A S"), checked against the rcd_delay column.
+    let mut marked_delay = None;
     for (col, cell) in cells {
         if cell == Cell::Limitation {
             limitations.push(col);
@@ -388,6 +394,17 @@ pub fn parse_visit_row(
                     row.register.rcd_ma = Some(v);
                 }
             }
+            Column::RcdType => {
+                if let Cell::RcdType(m) = cell {
+                    row.register.rcd_type = m.waveform;
+                    marked_delay = m.delay;
+                }
+            }
+            Column::RcdDelay => {
+                if let Cell::RcdDelay(d) = cell {
+                    row.register.rcd_delay = Some(d);
+                }
+            }
             Column::LiveMm2 => row.register.live_mm2 = num,
             Column::CpcMm2 => row.register.cpc_mm2 = num,
             Column::LengthM => row.register.length_m = num,
@@ -406,6 +423,20 @@ pub fn parse_visit_row(
             Column::Rcd5xMs => r.rcd_5x_ms = num,
             Column::Code | Column::Text => {}
         }
+    }
+    match (marked_delay, row.register.rcd_delay) {
+        (Some(a), Some(b)) if a != b => {
+            return Err(vec![FieldError::new(
+                header.position(Column::RcdDelay).unwrap_or(1),
+                Some("rcd_delay"),
+                format!(
+                    "the rcd_type column gives the delay {} but rcd_delay gives {}: expected one delay, general or S",
+                    a.as_str(),
+                    b.as_str()
+                ),
+            )]);
+        }
+        (a, b) => row.register.rcd_delay = a.or(b),
     }
     // Canonical order, so the same limitations compare equal whatever the column order.
     limitations.sort();
