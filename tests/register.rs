@@ -476,3 +476,175 @@ fn a_read_only_database_can_be_read_but_not_written() {
         .stderr(predicate::str::contains("is read-only"));
     assert_eq!(before, e.db_bytes());
 }
+
+/// The RCD series of each circuit in `trend --json`, by circuit number: (limit, last reading).
+fn rcd_limits(db: &std::path::Path) -> Vec<(String, f64, f64)> {
+    let out = Command::cargo_bin("ohmtrail")
+        .unwrap()
+        .env_remove("OHMTRAIL_DB")
+        .arg("--db")
+        .arg(db)
+        .args(["trend", "P-1", "--json"])
+        .assert()
+        .success()
+        .get_output()
+        .stdout
+        .clone();
+    let v: serde_json::Value = serde_json::from_slice(&out).unwrap();
+    let mut found = Vec::new();
+    for c in v["circuits"].as_array().unwrap() {
+        for s in c["series"].as_array().unwrap() {
+            if s["quantity"] == "rcd" {
+                let points = s["report"]["points"].as_array().unwrap();
+                found.push((
+                    c["circuit"]["number"].as_str().unwrap().to_string(),
+                    s["limit"].as_f64().unwrap(),
+                    points.last().unwrap()["raw"].as_f64().unwrap(),
+                ));
+            }
+        }
+    }
+    found
+}
+
+#[test]
+fn a_type_a_s_rcd_keeps_its_delay_through_export_and_import_and_gets_the_delayed_times() {
+    let e = Env::with_board();
+    // A "type A, S, 100 mA" main switch ahead of circuit 1 (waveform and delay as two flags),
+    // the same written as one marking on circuit 2, and a general type A 30 mA on circuit 3.
+    e.ok(&[
+        "circuit",
+        "add",
+        "P-1",
+        "DB1",
+        "1",
+        "--device",
+        "B32",
+        "--rcd",
+        "100",
+        "--rcd-type",
+        "A",
+        "--rcd-delay",
+        "S",
+    ]);
+    e.ok(&[
+        "circuit",
+        "add",
+        "P-1",
+        "DB1",
+        "2",
+        "--device",
+        "B16",
+        "--rcd",
+        "100",
+        "--rcd-type",
+        "A-S",
+    ]);
+    e.ok(&[
+        "circuit",
+        "add",
+        "P-1",
+        "DB1",
+        "3",
+        "--device",
+        "B16",
+        "--rcd",
+        "30",
+        "--rcd-type",
+        "a",
+    ]);
+    let c = e.circuits_json();
+    for (i, delay) in [(0, "S"), (1, "S")] {
+        assert_eq!(c[i]["rcd_type"], "A", "{}", c[i]);
+        assert_eq!(c[i]["rcd_delay"], delay, "{}", c[i]);
+    }
+    assert_eq!(c[2]["rcd_delay"], serde_json::Value::Null);
+    // Invented readings, 1 × IΔn at 400 ms on circuits 1 and 3 (402 ms on circuit 2).
+    let visit = e.dir.path().join("visit.csv");
+    std::fs::write(
+        &visit,
+        "property_ref,board,circuit,visit_date,ambient_c,zs_ohm,rcd_ms\n\
+         P-1,DB1,1,2025-03-04,11.5,0.62,400\n\
+         P-1,DB1,2,2025-03-04,11.5,0.93,402\n\
+         P-1,DB1,3,2025-03-04,11.5,0.91,400\n",
+    )
+    .unwrap();
+    e.ok(&["import", visit.to_str().unwrap()]);
+    // BS EN 61008-1 / 61009-1 (reference sheet, RCD operating times at 1 × IΔn): type S at most
+    // 500 ms, general at most 300 ms. 400 <= 500, within for the type A S devices;
+    // 400 > 300, over for the general type A.
+    let want = vec![
+        ("1".to_string(), 500.0, 400.0),
+        ("2".to_string(), 500.0, 402.0),
+        ("3".to_string(), 300.0, 400.0),
+    ];
+    assert_eq!(rcd_limits(&e.db()), want);
+    let flags: serde_json::Value = serde_json::from_str(&e.ok(&["flags", "--json"])).unwrap();
+    let rcd_rows: Vec<_> = flags
+        .as_array()
+        .unwrap()
+        .iter()
+        .filter(|f| f["quantity"] == "rcd")
+        .map(|f| (f["circuit"].as_str().unwrap(), f["kind"].as_str().unwrap()))
+        .collect();
+    assert_eq!(rcd_rows, [("3", "exceeds")]);
+
+    // Export, then import into a new database: the delay and the times survive.
+    let out = e.dir.path().join("out.csv");
+    e.ok(&["export", "-o", out.to_str().unwrap()]);
+    let text = std::fs::read_to_string(&out).unwrap();
+    assert!(
+        text.lines()
+            .next()
+            .unwrap()
+            .contains(",rcd_ma,rcd_type,rcd_delay,")
+    );
+    let other = Env::new();
+    other.ok(&["import", out.to_str().unwrap()]);
+    let c = other.circuits_json();
+    assert_eq!(
+        (&c[0]["rcd_type"], &c[0]["rcd_delay"]),
+        (&"A".into(), &"S".into())
+    );
+    assert_eq!(c[0]["rcd_ma"], 100);
+    assert_eq!(c[2]["rcd_delay"], serde_json::Value::Null);
+    assert_eq!(rcd_limits(&other.db()), want);
+}
+
+#[test]
+fn a_bad_rcd_marking_is_refused_with_the_known_values() {
+    let e = Env::with_board();
+    let before = e.db_bytes();
+    // BS EN 61008-1 / 61009-1 waveform types AC, A, F, B; the delay S is the only second mark.
+    for bad in ["S S", "A B", "X S", "AS", "A S S"] {
+        let out = e
+            .cmd(&["circuit", "add", "P-1", "DB1", "7", "--rcd-type", bad])
+            .code(2)
+            .get_output()
+            .clone();
+        let stderr = String::from_utf8(out.stderr).unwrap();
+        assert!(
+            stderr.contains("AC, A, F or B") && stderr.contains("S (time-delayed)"),
+            "{bad}: {stderr}"
+        );
+    }
+    e.cmd(&["circuit", "add", "P-1", "DB1", "7", "--rcd-delay", "T"])
+        .code(2)
+        .stderr(predicate::str::contains("expected general or S"));
+    // The delay given twice, differently.
+    e.cmd(&[
+        "circuit",
+        "add",
+        "P-1",
+        "DB1",
+        "7",
+        "--rcd-type",
+        "A S",
+        "--rcd-delay",
+        "general",
+    ])
+    .code(1)
+    .stderr(predicate::str::contains("give one delay, general or S"));
+    assert!(e.circuits_json().as_array().unwrap().is_empty());
+    assert_eq!(e.db_bytes(), before);
+}

@@ -229,6 +229,7 @@ impl FromStr for RcdType {
 #[serde(rename_all = "snake_case")]
 pub enum RcdDelay {
     General,
+    #[serde(rename = "S")]
     S,
 }
 

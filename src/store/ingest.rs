@@ -124,6 +124,8 @@ impl HeldInserts<'_> {
             d.length_m,
             d.device.map(|x| x.to_string()),
             d.rcd_ma,
+            d.rcd_type.map(|t| t.as_str()),
+            d.rcd_delay.map(|t| t.as_str()),
         ])?)
     }
 }
@@ -139,7 +141,8 @@ impl Store {
             ))?,
             circuit: self.conn.prepare(
                 "INSERT INTO circuit (board_id, number, description, kind, live_mm2, cpc_mm2, length_m,
-                     device, rcd_ma) VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9)",
+                     device, rcd_ma, rcd_type, rcd_delay)
+                 VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11)",
             )?,
         })
     }
@@ -235,12 +238,12 @@ impl Store {
     ) -> Result<Vec<(String, i64, CircuitDetails, bool)>> {
         let mut st = self.conn.prepare_cached(
             "SELECT c.number, c.id, c.description, c.kind, c.live_mm2, c.cpc_mm2, c.length_m,
-                    c.device, c.rcd_ma,
+                    c.device, c.rcd_ma, c.rcd_type, c.rcd_delay,
                     EXISTS (SELECT 1 FROM circuit_change ch WHERE ch.circuit_id = c.id)
              FROM circuit c WHERE c.board_id = ?1 AND c.status = 'in_service' ORDER BY c.id",
         )?;
         let rows = st.query_map([board_id], |r| {
-            Ok((r.get(0)?, r.get(1)?, details_at(r, 2)?, r.get(9)?))
+            Ok((r.get(0)?, r.get(1)?, details_at(r, 2)?, r.get(11)?))
         })?;
         Ok(rows.collect::<rusqlite::Result<_>>()?)
     }
@@ -491,7 +494,7 @@ impl Store {
         let sql = format!(
             "SELECT p.ref, p.address, b.designation, b.earthing, c.id, c.number,
                     c.description, c.kind, c.live_mm2, c.cpc_mm2, c.length_m, c.device, c.rcd_ma,
-                    v.date, v.inspector, i.serial, v.ambient_c, bt.ze_ohm,
+                    c.rcd_type, c.rcd_delay, v.date, v.inspector, i.serial, v.ambient_c, bt.ze_ohm,
                     {}
              FROM test_record t
              JOIN visit v ON v.id = t.visit_id
@@ -519,12 +522,12 @@ impl Store {
                 circuit_id: r.get(4)?,
                 circuit: r.get(5)?,
                 details: details_at(r, 6)?,
-                visit_date: r.get(13)?,
-                inspector: r.get(14)?,
-                instrument: r.get(15)?,
-                ambient_c: r.get(16)?,
-                ze_ohm: r.get(17)?,
-                readings: readings_at(r, 18)?,
+                visit_date: r.get(15)?,
+                inspector: r.get(16)?,
+                instrument: r.get(17)?,
+                ambient_c: r.get(18)?,
+                ze_ohm: r.get(19)?,
+                readings: readings_at(r, 20)?,
             };
             f(rec)?;
         }
@@ -559,11 +562,19 @@ impl Store {
     }
 }
 
-/// Decode description, kind, live, cpc, length, device, rcd_ma starting at `o`.
+/// Decode description, kind, live, cpc, length, device, rcd_ma, rcd_type, rcd_delay starting
+/// at `o`. A type 'S' from before migration 007 is read as the delay.
 fn details_at(r: &Row, o: usize) -> rusqlite::Result<CircuitDetails> {
     let kind: String = r.get(o + 1)?;
     let device: Option<String> = r.get(o + 5)?;
+    let marking = r
+        .get::<_, Option<String>>(o + 7)?
+        .and_then(|t| t.parse::<crate::model::RcdMarking>().ok())
+        .unwrap_or_default();
+    let delay: Option<String> = r.get(o + 8)?;
     Ok(CircuitDetails {
+        rcd_type: marking.waveform,
+        rcd_delay: delay.and_then(|t| t.parse().ok()).or(marking.delay),
         description: r.get(o)?,
         kind: kind.parse().ok(),
         live_mm2: r.get(o + 2)?,
