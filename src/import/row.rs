@@ -592,6 +592,50 @@ mod tests {
     }
 
     #[test]
+    fn an_rcd_marking_reads_into_type_and_delay_and_two_delays_are_refused() {
+        // BS EN 61008-1 / 61009-1 mark the waveform type and the delay S apart.
+        use crate::model::{RcdDelay, RcdType};
+        let h = parse_header(
+            &[
+                "property_ref",
+                "board",
+                "circuit",
+                "visit_date",
+                "rcd_ma",
+                "rcd_type",
+                "rcd_delay",
+            ],
+            false,
+        )
+        .unwrap();
+        let read = |t: &str, d: &str| {
+            parse_visit_row(
+                &h,
+                &bytes(&["S1", "DB1", "3", "14/06/2025", "100", t, d]),
+                &opts(),
+            )
+        };
+        let both = |t: &str, d: &str| {
+            let r = read(t, d).unwrap().register;
+            (r.rcd_type, r.rcd_delay)
+        };
+        assert_eq!(both("A S", ""), (Some(RcdType::A), Some(RcdDelay::S)));
+        assert_eq!(both("A", "S"), (Some(RcdType::A), Some(RcdDelay::S)));
+        assert_eq!(both("A-S", "s"), (Some(RcdType::A), Some(RcdDelay::S)));
+        assert_eq!(both("S", ""), (None, Some(RcdDelay::S)));
+        assert_eq!(
+            both("F", "general"),
+            (Some(RcdType::F), Some(RcdDelay::General))
+        );
+        let e = read("A S", "general").unwrap_err();
+        assert_eq!(e[0].column, 7);
+        assert!(e[0].message.contains("expected one delay, general or S"));
+        let e = read("A B", "").unwrap_err();
+        assert_eq!(e[0].column, 6);
+        assert!(e[0].message.contains("AC, A, F or B"), "{}", e[0].message);
+    }
+
+    #[test]
     fn every_fault_in_a_row_is_reported() {
         let h = parse_header(
             &["property_ref", "board", "circuit", "visit_date", "zs_ohm"],
