@@ -559,6 +559,9 @@ fn a_type_a_s_rcd_keeps_its_delay_through_export_and_import_and_gets_the_delayed
         assert_eq!(c[i]["rcd_delay"], delay, "{}", c[i]);
     }
     assert_eq!(c[2]["rcd_delay"], serde_json::Value::Null);
+    let shown = e.ok(&["property", "show", "P-1"]);
+    assert!(shown.contains("100 mA A S"), "{shown}");
+    assert!(shown.contains("30 mA A "), "{shown}");
     // Invented readings, 1 × IΔn at 400 ms on circuits 1 and 3 (402 ms on circuit 2).
     let visit = e.dir.path().join("visit.csv");
     std::fs::write(

@@ -164,7 +164,7 @@ pub fn run(cmd: &Cmd, ctx: &Context, out: &mut dyn Write) -> Result<()> {
                             cell(&c.description),
                             c.kind.as_str().to_string(),
                             cell(&c.device),
-                            cell(&c.rcd_ma.map(|m| format!("{m} mA"))),
+                            rcd_cell(c),
                             match (c.live_mm2, c.cpc_mm2) {
                                 (Some(l), Some(p)) => format!("{l}/{p}"),
                                 (Some(l), None) => format!("{l}/-"),
@@ -193,4 +193,22 @@ pub fn run(cmd: &Cmd, ctx: &Context, out: &mut dyn Write) -> Result<()> {
         }
     }
     Ok(())
+}
+
+/// The RCD as the register holds it: IΔn, waveform type and delay S, each where recorded,
+/// e.g. "100 mA A S".
+fn rcd_cell(c: &ohmtrail::model::Circuit) -> String {
+    let parts: Vec<String> = [
+        c.rcd_ma.map(|m| format!("{m} mA")),
+        c.rcd_type.map(|t| t.as_str().to_string()),
+        (c.rcd_delay == Some(ohmtrail::model::RcdDelay::S)).then(|| "S".to_string()),
+    ]
+    .into_iter()
+    .flatten()
+    .collect();
+    if parts.is_empty() {
+        "-".to_string()
+    } else {
+        parts.join(" ")
+    }
 }
