@@ -179,6 +179,26 @@ mod tests {
         assert!(!refuses(
             "UPDATE circuit SET rcd_delay = 'general' WHERE id = 1"
         ));
+        assert!(refuses("UPDATE circuit SET rcd_type = 'S' WHERE id = 2"));
+        // The rebuild kept the indexes and the foreign keys.
+        let indexes: Vec<String> = conn
+            .prepare("SELECT name FROM sqlite_schema WHERE type = 'index' AND tbl_name = 'circuit' ORDER BY name")
+            .unwrap()
+            .query_map([], |r| r.get(0))
+            .unwrap()
+            .collect::<rusqlite::Result<_>>()
+            .unwrap();
+        assert_eq!(
+            indexes,
+            [
+                "circuit_board",
+                "circuit_number_in_service",
+                "circuit_replaces"
+            ]
+        );
+        assert!(refuses(
+            "INSERT INTO circuit (board_id, number) VALUES (9, '1')"
+        ));
     }
 
     /// A database at version 3 with a register in it, as an earlier build left it.
@@ -289,11 +309,14 @@ mod tests {
         assert!(refuses("UPDATE circuit SET rcd_type = 'X' WHERE id = 1"));
         assert!(refuses("UPDATE circuit SET rcd_type = 'a' WHERE id = 1"));
         assert!(!refuses("UPDATE circuit SET rcd_type = NULL WHERE id = 1"));
-        for t in ["AC", "A", "F", "B", "S"] {
+        for t in ["AC", "A", "F", "B"] {
             assert!(!refuses(&format!(
                 "UPDATE circuit SET rcd_type = '{t}' WHERE id = 1"
             )));
         }
+        // Since 008 the delay S has its own column.
+        assert!(refuses("UPDATE circuit SET rcd_type = 'S' WHERE id = 1"));
+        assert!(!refuses("UPDATE circuit SET rcd_delay = 'S' WHERE id = 1"));
         assert!(refuses("UPDATE board SET earthing = 'TN' WHERE id = 1"));
         assert!(!refuses("UPDATE board SET earthing = 'TT' WHERE id = 1"));
         assert!(!refuses("UPDATE board SET earthing = NULL WHERE id = 1"));
