@@ -6,7 +6,7 @@
 -- https://www.sqlite.org/lang_altertable.html#otheralter, as in 004, with its indexes as 004
 -- and 005 left them.
 
-CREATE TABLE circuit_007 (
+CREATE TABLE circuit_008 (
     id                  INTEGER PRIMARY KEY,
     board_id            INTEGER NOT NULL REFERENCES board(id),
     number              TEXT NOT NULL CHECK (length(trim(number)) > 0),
@@ -28,12 +28,12 @@ CREATE TABLE circuit_007 (
     -- The delay (model::RcdDelay); NULL when not recorded.
     rcd_delay           TEXT CHECK (rcd_delay = 'general' OR rcd_delay = 'S')
 ) STRICT;
-INSERT INTO circuit_007 SELECT id, board_id, number, description, kind, live_mm2, cpc_mm2, length_m,
+INSERT INTO circuit_008 SELECT id, board_id, number, description, kind, live_mm2, cpc_mm2, length_m,
     device, rcd_ma, CASE WHEN rcd_type = 'S' THEN NULL ELSE rcd_type END, insulation,
     disconnect_s, status, replaces_circuit_id, CASE WHEN rcd_type = 'S' THEN 'S' END
     FROM circuit;
 DROP TABLE circuit;
-ALTER TABLE circuit_007 RENAME TO circuit;
+ALTER TABLE circuit_008 RENAME TO circuit;
 CREATE UNIQUE INDEX circuit_number_in_service ON circuit(board_id, number) WHERE status = 'in_service';
 CREATE INDEX circuit_replaces ON circuit(replaces_circuit_id) WHERE replaces_circuit_id IS NOT NULL;
 CREATE INDEX circuit_board ON circuit(board_id);

@@ -563,7 +563,7 @@ impl Store {
 }
 
 /// Decode description, kind, live, cpc, length, device, rcd_ma, rcd_type, rcd_delay starting
-/// at `o`. A type 'S' from before migration 007 is read as the delay.
+/// at `o`. A type 'S' from before migration 008 is read as the delay.
 fn details_at(r: &Row, o: usize) -> rusqlite::Result<CircuitDetails> {
     let kind: String = r.get(o + 1)?;
     let device: Option<String> = r.get(o + 5)?;
