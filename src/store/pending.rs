@@ -119,6 +119,15 @@ impl Store {
                 "cannot restore {field} = {old:?} on circuit {circuit_id}"
             ))
         };
+        // A type S stored before the delay was its own attribute (migration 008) was a delay,
+        // not a waveform type: it goes back as the delay.
+        if (field, old) == ("rcd_type", Some("S")) {
+            self.conn.execute(
+                "UPDATE circuit SET rcd_type = NULL, rcd_delay = 'S' WHERE id = ?1",
+                params![circuit_id],
+            )?;
+            return Ok(());
+        }
         let value = match (field, old) {
             (_, None) => Value::Null,
             (
@@ -136,5 +145,68 @@ impl Store {
             params![value, circuit_id],
         )?;
         Ok(())
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::store::{CircuitDetails, NewBoard, NewProperty, NewVisit};
+
+    #[test]
+    fn abandoning_puts_back_a_type_s_logged_before_the_delay_was_its_own() {
+        let s = Store::open_in_memory().unwrap();
+        let p = s
+            .add_property(&NewProperty {
+                reference: "P-1".into(),
+                ..Default::default()
+            })
+            .unwrap();
+        s.add_board(
+            "P-1",
+            &NewBoard {
+                designation: "CU".into(),
+                ..Default::default()
+            },
+        )
+        .unwrap();
+        let c = s
+            .add_circuit("P-1", "CU", "1", &CircuitDetails::default())
+            .unwrap();
+        let v = s
+            .add_visit(
+                p.id,
+                &NewVisit {
+                    date: chrono::NaiveDate::from_ymd_opt(2025, 6, 1),
+                    ..Default::default()
+                },
+                VisitState::Pending,
+            )
+            .unwrap();
+        // A change made at the pending visit before migration 008: type S became type A.
+        s.conn
+            .execute(
+                "INSERT INTO circuit_change (circuit_id, date, visit_id, kind, field, old_value, new_value) \
+                 VALUES (?1, '2025-06-01', ?2, 'register_corrected', 'rcd_type', 'S', 'A')",
+                params![c.id, v.id],
+            )
+            .unwrap();
+        s.conn
+            .execute(
+                "UPDATE circuit SET rcd_type = 'A' WHERE id = ?1",
+                params![c.id],
+            )
+            .unwrap();
+        let out = s.abandon_visit(v.id).unwrap();
+        assert_eq!(out.changes_reverted, 1);
+        let (ty, delay): (Option<String>, Option<String>) = s
+            .conn
+            .query_row(
+                "SELECT rcd_type, rcd_delay FROM circuit WHERE id = ?1",
+                params![c.id],
+                |r| Ok((r.get(0)?, r.get(1)?)),
+            )
+            .unwrap();
+        assert_eq!((ty, delay), (None, Some("S".to_string())));
     }
 }
