@@ -120,7 +120,8 @@ fn a_healthy_circuit_swinging_with_the_season_is_not_flagged() {
     let s = home();
     // A constant 1.00 Ω at 20 °C (a long radial) read on ever warmer days, 4 °C to 27 °C:
     // Rt = R20 × (1 + 0.00393 (t − 20)) (IEC 60228 α) runs 0.94 → 1.03 Ω, a rise of 0.09 Ω
-    // beyond the 0.08 Ω noise floor if taken as read, and nothing at all at 20 °C.
+    // as read (close to the 0.01 + 0.03 + 0.06 × 0.94 = 0.096 Ω noise floor), and nothing at
+    // all at 20 °C.
     let dates = [
         d(2006, 1, 10),
         d(2011, 3, 20),

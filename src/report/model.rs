@@ -299,7 +299,7 @@ pub struct FloorEntry {
     pub resolution: f64,
     pub absolute: f64,
     pub relative: f64,
-    /// The floor in words, e.g. "0.01 Ω + 0.02 Ω + 5 % of the reading".
+    /// The floor in words, e.g. "0.01 Ω + 0.03 Ω + 6 % of the reading".
     pub words: String,
 }
 

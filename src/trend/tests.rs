@@ -1,5 +1,5 @@
 //! Invented histories with known answers. The arithmetic is in the comments; the floors are
-//! the documented defaults of `TrendConfig` (resistance: 0.01 + 0.02 Ω + 5 %).
+//! the documented defaults of `TrendConfig` (resistance: 0.01 + 0.03 Ω + 6 %).
 
 use chrono::NaiveDate;
 
@@ -75,7 +75,7 @@ fn neutral_going_high_while_r1r2_stays_diverges() {
     // 0.46 − 0.4558 = 0.004, 0.46 − 0.4634 = −0.003, 0.47 − 0.4558 = 0.014; median 0.004.
     // Last: 0.70 − 0.4634 = 0.237, a rise of 0.233 Ω. Gap R1+Rn − R1+R2: −0.14, −0.15, −0.13,
     // median −0.14; last 0.70 − 0.61 = 0.09, a rise of 0.23 Ω. The smaller, 0.23 Ω, is over
-    // the floor at 0.46 Ω (0.01 + 0.02 + 0.023 = 0.053 Ω).
+    // the floor at 0.46 Ω (0.01 + 0.03 + 0.0276 = 0.0676 Ω).
     let ratio = (7.41 + 7.41) / (7.41 + 12.10);
     let dates = [d(2012, 5, 1), d(2016, 5, 1), d(2020, 5, 1), d(2024, 5, 1)];
     let r1r2 = raw_series(
@@ -252,7 +252,7 @@ fn ze_rising_is_a_supply_matter() {
     // earlier line (at 2020 the line through 0.20 and 0.24 predicts 0.28; at 2025 the
     // robust line, slope 0.01 Ω/yr and intercept 0.20, predicts 0.35), so no step.
     // Theil–Sen: pair slopes 0.008, 0.010, 0.0107, 0.012, 0.012, 0.012 per year → median
-    // 0.01133; × 15 years = 0.17 Ω against a floor of 0.01 + 0.02 + 10 % × 0.20 = 0.05 Ω.
+    // 0.01133; × 15 years = 0.17 Ω against a floor of 0.01 + 0.03 + 35 % × 0.20 = 0.11 Ω.
     // Against the 0.80 Ω typical TN-S maximum (network operators; common practice, advisory)
     // the line reaches it some 40 years on: not approaching.
     let s = raw_series(
@@ -306,7 +306,8 @@ fn seasonal_swing_is_not_flagged_once_normalised() {
     assert_eq!(r.not_normalised, 0);
 
     // Control: the raw readings, uncorrected, do look like a step (0.74 → 0.86 = 0.12 Ω
-    // against a floor of 0.067 Ω), so the test above can fail.
+    // against a floor of 0.01 + 0.03 + 0.06 × 0.74 = 0.0844 Ω, plus 0.04 × 0.86 = 0.0344 Ω
+    // for the unknown temperature: 0.1188 Ω), so the test above can fail.
     let s = Series::new(Quantity::R1r2, raw_only);
     let r = analyse(&s, FAR(), &cfg()).unwrap();
     assert!(kinds(&r).contains(&FindingKind::Step), "{:#?}", r.findings);
@@ -458,7 +459,7 @@ fn approaching_the_limit_before_the_next_inspection() {
 #[test]
 fn a_slope_inside_the_noise_projects_nothing() {
     // Zs 1.00, 1.02, 1.03 Ω near a 1.09 Ω limit: the fitted line reaches it soon, but a
-    // 0.03 Ω change is inside the floor (0.01 + 0.02 + 0.05 = 0.08 Ω), so not approaching.
+    // 0.03 Ω change is inside the floor (0.01 + 0.03 + 0.06 = 0.10 Ω), so not approaching.
     let s = raw_series(
         Quantity::Zs,
         &[
