@@ -1,0 +1,557 @@
+//! The register: circuits, their changes, instruments and the list of visits.
+
+use super::*;
+
+impl Store {
+    // ----- circuits -----
+
+    pub(super) const CIRCUIT_COLS: &'static str =
+        "id, board_id, number, description, kind, live_mm2, cpc_mm2,
+        length_m, device, rcd_ma, rcd_type, insulation, disconnect_s, status, replaces_circuit_id,
+        rcd_delay";
+
+    pub(super) fn circuit_from_row(r: &Row) -> rusqlite::Result<Circuit> {
+        // The coded columns are read in place rather than copied out first.
+        let text =
+            |i: usize| -> rusqlite::Result<Option<&str>> { Ok(r.get_ref(i)?.as_str_or_null()?) };
+        let kind = text(4)?.unwrap_or_default();
+        let device = text(8)?;
+        let rcd_type = text(10)?;
+        let insulation = text(11)?;
+        let status = text(13)?.unwrap_or_default();
+        // A database from before 008 may still hold 'S' as the type: it is the delay.
+        let marking = rcd_type
+            .and_then(|t| t.parse::<RcdMarking>().ok())
+            .unwrap_or_default();
+        let rcd_delay = text(15)?
+            .and_then(|t| t.parse::<RcdDelay>().ok())
+            .or(marking.delay);
+        Ok(Circuit {
+            id: r.get(0)?,
+            board_id: r.get(1)?,
+            number: r.get(2)?,
+            description: r.get(3)?,
+            kind: kind.parse().unwrap_or(CircuitKind::Radial),
+            live_mm2: r.get(5)?,
+            cpc_mm2: r.get(6)?,
+            length_m: r.get(7)?,
+            device: device.and_then(|d| d.parse().ok()),
+            rcd_ma: r.get(9)?,
+            rcd_type: marking.waveform,
+            rcd_delay,
+            insulation: insulation.and_then(|t| t.parse().ok()),
+            disconnect_s: r.get(12)?,
+            status: status.parse().unwrap_or(Status::InService),
+            replaces: r.get(14)?,
+        })
+    }
+
+    pub fn circuit_by_id(&self, id: i64) -> Result<Circuit> {
+        let sql = format!("SELECT {} FROM circuit WHERE id = ?1", Self::CIRCUIT_COLS);
+        Ok(self.conn.query_row(&sql, [id], Self::circuit_from_row)?)
+    }
+
+    /// The circuit in service with this number on the board, if any.
+    pub fn circuit_opt(&self, board_id: i64, number: &str) -> Result<Option<Circuit>> {
+        let sql = format!(
+            "SELECT {} FROM circuit WHERE board_id = ?1 AND number = ?2 AND status = 'in_service'",
+            Self::CIRCUIT_COLS
+        );
+        Ok(self
+            .conn
+            .query_row(&sql, params![board_id, number], Self::circuit_from_row)
+            .optional()?)
+    }
+
+    /// Every circuit on a board, in service first, then by number.
+    pub fn circuits(&self, board_id: i64) -> Result<Vec<Circuit>> {
+        let sql = format!(
+            "SELECT {} FROM circuit WHERE board_id = ?1
+             ORDER BY status = 'retired', CAST(number AS INTEGER), number, id",
+            Self::CIRCUIT_COLS
+        );
+        let mut stmt = self.conn.prepare(&sql)?;
+        let rows = stmt.query_map([board_id], Self::circuit_from_row)?;
+        Ok(rows.collect::<rusqlite::Result<_>>()?)
+    }
+
+    /// Resolve property, board and circuit number to the circuit in service.
+    pub fn find_circuit(&self, property_ref: &str, board: &str, number: &str) -> Result<Circuit> {
+        let property = self.property(property_ref)?;
+        let board = self.board(property.id, property_ref, board)?;
+        self.circuit_opt(board.id, number)?.ok_or_else(|| {
+            Error::not_found_hint(
+                "circuit",
+                number,
+                format!(
+                    "board {:?} at property {property_ref:?} has no circuit {number} in service",
+                    board.designation
+                ),
+            )
+        })
+    }
+
+    pub fn add_circuit(
+        &self,
+        property_ref: &str,
+        board: &str,
+        number: &str,
+        details: &CircuitDetails,
+    ) -> Result<Circuit> {
+        details.validate()?;
+        let number = number.trim();
+        if number.is_empty() {
+            return Err(Error::invalid("circuit number is empty"));
+        }
+        self.atomic(|s| {
+            let property = s.property(property_ref)?;
+            let board = s.board(property.id, property_ref, board)?;
+            s.insert_circuit(&board, number, details, None)
+        })
+    }
+
+    fn insert_circuit(
+        &self,
+        board: &Board,
+        number: &str,
+        d: &CircuitDetails,
+        replaces: Option<i64>,
+    ) -> Result<Circuit> {
+        check_text("circuit number", Some(number))?;
+        if self.circuit_opt(board.id, number)?.is_some() {
+            return Err(Error::invalid(format!(
+                "board {:?} already has a circuit {number} in service: choose another number, or retire or replace the existing circuit",
+                board.designation
+            )));
+        }
+        self.conn.execute(
+            "INSERT INTO circuit (board_id, number, description, kind, live_mm2, cpc_mm2, length_m,
+                 device, rcd_ma, rcd_type, insulation, disconnect_s, replaces_circuit_id, rcd_delay)
+             VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11, ?12, ?13, ?14)",
+            params![
+                board.id,
+                number,
+                d.description,
+                d.kind.unwrap_or(CircuitKind::Radial).as_str(),
+                d.live_mm2,
+                d.cpc_mm2,
+                d.length_m,
+                d.device.map(|x| x.to_string()),
+                d.rcd_ma,
+                d.rcd_type.map(|t| t.as_str()),
+                d.insulation.map(|i| i.as_str()),
+                d.disconnect_s,
+                replaces,
+                d.rcd_delay.map(|t| t.as_str()),
+            ],
+        )?;
+        self.circuit_by_id(self.conn.last_insert_rowid())
+    }
+
+    /// Change a circuit's register details from `date`. Each field that differs is recorded as
+    /// a dated change (`kind` when given; otherwise a device change for the device and a
+    /// register correction for the rest), never a silent overwrite. Returns the changes made.
+    pub fn edit_circuit(
+        &self,
+        circuit_id: i64,
+        new: &CircuitDetails,
+        date: NaiveDate,
+        kind: Option<ChangeKind>,
+        visit_id: Option<i64>,
+        note: Option<&str>,
+    ) -> Result<Vec<CircuitChange>> {
+        new.validate()?;
+        self.atomic(|s| {
+            let old = s.circuit_by_id(circuit_id)?;
+            if old.status == Status::Retired {
+                return Err(Error::invalid(format!(
+                    "circuit {} is retired: a retired circuit cannot be edited",
+                    old.number
+                )));
+            }
+            let mut changes = Vec::new();
+            let mut diff = |field: &'static str,
+                            col: &str,
+                            before: Option<String>,
+                            after: Option<String>,
+                            value: rusqlite::types::Value,
+                            default_kind: ChangeKind|
+             -> Result<()> {
+                if after.is_none() || before == after {
+                    return Ok(());
+                }
+                s.conn.execute(
+                    &format!("UPDATE circuit SET {col} = ?1 WHERE id = ?2"),
+                    params![value, circuit_id],
+                )?;
+                changes.push(s.record_change(
+                    circuit_id,
+                    date,
+                    kind.unwrap_or(default_kind),
+                    Some(field),
+                    before.as_deref(),
+                    after.as_deref(),
+                    visit_id,
+                    note,
+                )?);
+                Ok(())
+            };
+            use rusqlite::types::Value;
+            let text = |v: Option<String>| v.map(Value::Text).unwrap_or(Value::Null);
+            let real = |v: Option<f64>| v.map(Value::Real).unwrap_or(Value::Null);
+            let num = |v: Option<f64>| v.map(fmt_num);
+            diff(
+                "description",
+                "description",
+                old.description.clone(),
+                new.description.clone(),
+                text(new.description.clone()),
+                ChangeKind::RegisterCorrected,
+            )?;
+            diff(
+                "kind",
+                "kind",
+                Some(old.kind.as_str().into()),
+                new.kind.map(|k| k.as_str().into()),
+                text(new.kind.map(|k| k.as_str().into())),
+                ChangeKind::RegisterCorrected,
+            )?;
+            diff(
+                "live_mm2",
+                "live_mm2",
+                num(old.live_mm2),
+                num(new.live_mm2),
+                real(new.live_mm2),
+                ChangeKind::RegisterCorrected,
+            )?;
+            diff(
+                "cpc_mm2",
+                "cpc_mm2",
+                num(old.cpc_mm2),
+                num(new.cpc_mm2),
+                real(new.cpc_mm2),
+                ChangeKind::RegisterCorrected,
+            )?;
+            diff(
+                "length_m",
+                "length_m",
+                num(old.length_m),
+                num(new.length_m),
+                real(new.length_m),
+                ChangeKind::RegisterCorrected,
+            )?;
+            diff(
+                "device",
+                "device",
+                old.device.map(|d| d.to_string()),
+                new.device.map(|d| d.to_string()),
+                text(new.device.map(|d| d.to_string())),
+                ChangeKind::DeviceChanged,
+            )?;
+            diff(
+                "rcd_ma",
+                "rcd_ma",
+                old.rcd_ma.map(|v| v.to_string()),
+                new.rcd_ma.map(|v| v.to_string()),
+                new.rcd_ma
+                    .map(|v| Value::Integer(v.into()))
+                    .unwrap_or(Value::Null),
+                ChangeKind::DeviceChanged,
+            )?;
+            diff(
+                "rcd_type",
+                "rcd_type",
+                old.rcd_type.map(|v| v.as_str().into()),
+                new.rcd_type.map(|v| v.as_str().into()),
+                text(new.rcd_type.map(|v| v.as_str().into())),
+                ChangeKind::DeviceChanged,
+            )?;
+            diff(
+                "rcd_delay",
+                "rcd_delay",
+                old.rcd_delay.map(|v| v.as_str().into()),
+                new.rcd_delay.map(|v| v.as_str().into()),
+                text(new.rcd_delay.map(|v| v.as_str().into())),
+                ChangeKind::DeviceChanged,
+            )?;
+            diff(
+                "insulation",
+                "insulation",
+                old.insulation.map(|v| v.as_str().into()),
+                new.insulation.map(|v| v.as_str().into()),
+                text(new.insulation.map(|v| v.as_str().into())),
+                ChangeKind::RegisterCorrected,
+            )?;
+            diff(
+                "disconnect_s",
+                "disconnect_s",
+                num(old.disconnect_s),
+                num(new.disconnect_s),
+                real(new.disconnect_s),
+                ChangeKind::RegisterCorrected,
+            )?;
+            // Dated before what the history already holds, the change would alter what a
+            // later visit shows (the register at a date is the register now with later
+            // changes undone): refused, as import and `record` refuse it.
+            let fields: Vec<&str> = changes.iter().filter_map(|c| c.field.as_deref()).collect();
+            if let Some(later) = s.later_history(circuit_id, date, &fields)? {
+                return Err(Error::invalid(format!(
+                    "circuit {}: a change of {} dated {date} would alter the {later} already recorded: a register change is dated no earlier than the circuit's last visit and the last change of the same detail",
+                    old.number,
+                    fields.join(", ")
+                )));
+            }
+            Ok(changes)
+        })
+    }
+
+    /// Record a dated event on a circuit.
+    #[allow(clippy::too_many_arguments)]
+    pub fn record_change(
+        &self,
+        circuit_id: i64,
+        date: NaiveDate,
+        kind: ChangeKind,
+        field: Option<&str>,
+        old_value: Option<&str>,
+        new_value: Option<&str>,
+        visit_id: Option<i64>,
+        note: Option<&str>,
+    ) -> Result<CircuitChange> {
+        check_text("note", note)?;
+        self.conn.execute(
+            "INSERT INTO circuit_change (circuit_id, date, visit_id, kind, field, old_value, new_value, note)
+             VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8)",
+            params![circuit_id, date, visit_id, kind.as_str(), field, old_value, new_value, note],
+        )?;
+        Ok(CircuitChange {
+            id: self.conn.last_insert_rowid(),
+            circuit_id,
+            date,
+            kind,
+            field: field.map(Into::into),
+            old_value: old_value.map(Into::into),
+            new_value: new_value.map(Into::into),
+            note: note.map(Into::into),
+        })
+    }
+
+    /// Every change recorded on a circuit, oldest first.
+    pub fn changes(&self, circuit_id: i64) -> Result<Vec<CircuitChange>> {
+        let mut stmt = self.conn.prepare(&format!(
+            "SELECT {CHANGE_COLS} FROM circuit_change WHERE circuit_id = ?1 ORDER BY date, id"
+        ))?;
+        let rows = stmt.query_map([circuit_id], change_from_row)?;
+        Ok(rows.collect::<rusqlite::Result<_>>()?)
+    }
+
+    /// Take a circuit out of service from `date`. Its readings stay in the history.
+    pub fn retire_circuit(
+        &self,
+        circuit_id: i64,
+        date: NaiveDate,
+        note: Option<&str>,
+    ) -> Result<()> {
+        self.atomic(|s| {
+            let c = s.circuit_by_id(circuit_id)?;
+            if c.status == Status::Retired {
+                return Err(Error::invalid(format!(
+                    "circuit {} is already retired",
+                    c.number
+                )));
+            }
+            s.conn.execute(
+                "UPDATE circuit SET status = 'retired' WHERE id = ?1",
+                [circuit_id],
+            )?;
+            s.record_change(
+                circuit_id,
+                date,
+                ChangeKind::Retired,
+                None,
+                None,
+                None,
+                None,
+                note,
+            )?;
+            Ok(())
+        })
+    }
+
+    /// Retire `old_id` and put a new circuit in its place, on `board` (same board when `None`)
+    /// with `number` (same number when `None`). Details not given are carried over. The new
+    /// circuit records what it replaced, so its history carries on through the lineage, and
+    /// starts a new baseline with a change of `kind`.
+    #[allow(clippy::too_many_arguments)]
+    pub fn replace_circuit(
+        &self,
+        old_id: i64,
+        board: Option<&str>,
+        number: Option<&str>,
+        details: &CircuitDetails,
+        date: NaiveDate,
+        kind: ChangeKind,
+        note: Option<&str>,
+    ) -> Result<Circuit> {
+        details.validate()?;
+        self.atomic(|s| {
+            let old = s.circuit_by_id(old_id)?;
+            if old.status == Status::Retired {
+                return Err(Error::invalid(format!(
+                    "circuit {} is already retired: replace the circuit now in service",
+                    old.number
+                )));
+            }
+            let old_board = s.board_by_id(old.board_id)?;
+            let property_ref: String = s.conn.query_row(
+                "SELECT ref FROM property WHERE id = ?1",
+                [old_board.property_id],
+                |r| r.get(0),
+            )?;
+            let new_board = match board {
+                Some(d) => s.board(old_board.property_id, &property_ref, d)?,
+                None => old_board.clone(),
+            };
+            let merged = CircuitDetails {
+                description: details.description.clone().or(old.description.clone()),
+                kind: details.kind.or(Some(old.kind)),
+                live_mm2: details.live_mm2.or(old.live_mm2),
+                cpc_mm2: details.cpc_mm2.or(old.cpc_mm2),
+                length_m: details.length_m.or(old.length_m),
+                device: details.device.or(old.device),
+                rcd_ma: details.rcd_ma.or(old.rcd_ma),
+                rcd_type: details.rcd_type.or(old.rcd_type),
+                rcd_delay: details.rcd_delay.or(old.rcd_delay),
+                insulation: details.insulation.or(old.insulation),
+                disconnect_s: details.disconnect_s.or(old.disconnect_s),
+            };
+            s.conn.execute(
+                "UPDATE circuit SET status = 'retired' WHERE id = ?1",
+                [old_id],
+            )?;
+            let number = number.map(str::trim).unwrap_or(&old.number);
+            let new = s.insert_circuit(&new_board, number, &merged, Some(old_id))?;
+            let before = format!("{}/{}", old_board.designation, old.number);
+            let after = format!("{}/{}", new_board.designation, new.number);
+            s.record_change(
+                old_id,
+                date,
+                ChangeKind::Retired,
+                None,
+                None,
+                Some(&after),
+                None,
+                note,
+            )?;
+            s.record_change(
+                new.id,
+                date,
+                kind,
+                Some("circuit"),
+                Some(&before),
+                Some(&after),
+                None,
+                note,
+            )?;
+            Ok(new)
+        })
+    }
+
+    pub fn board_by_id(&self, id: i64) -> Result<Board> {
+        let sql = format!("SELECT {} FROM board b WHERE b.id = ?1", Self::BOARD_COLS);
+        Ok(self.conn.query_row(&sql, [id], Self::board_from_row)?)
+    }
+
+    // ----- instruments -----
+
+    pub fn add_instrument(
+        &self,
+        serial: &str,
+        description: Option<&str>,
+        calibration_due: Option<NaiveDate>,
+    ) -> Result<Instrument> {
+        let serial = serial.trim();
+        if serial.is_empty() {
+            return Err(Error::invalid("instrument serial is empty"));
+        }
+        check_text("instrument serial", Some(serial))?;
+        check_text("instrument description", description)?;
+        self.atomic(|s| {
+            if s.instrument(serial)?.is_some() {
+                return Err(Error::invalid(format!(
+                    "instrument {serial:?} already exists"
+                )));
+            }
+            s.conn.execute(
+                "INSERT INTO instrument (serial, description, calibration_due) VALUES (?1, ?2, ?3)",
+                params![serial, description, calibration_due],
+            )?;
+            Ok(s.instrument(serial)?.expect("just inserted"))
+        })
+    }
+
+    pub fn instrument(&self, serial: &str) -> Result<Option<Instrument>> {
+        Ok(self
+            .conn
+            .query_row(
+                "SELECT id, serial, description, calibration_due FROM instrument WHERE serial = ?1",
+                [serial],
+                |r| {
+                    Ok(Instrument {
+                        id: r.get(0)?,
+                        serial: r.get(1)?,
+                        description: r.get(2)?,
+                        calibration_due: r.get(3)?,
+                    })
+                },
+            )
+            .optional()?)
+    }
+
+    pub fn instruments(&self) -> Result<Vec<Instrument>> {
+        let mut stmt = self.conn.prepare(
+            "SELECT id, serial, description, calibration_due FROM instrument ORDER BY serial",
+        )?;
+        let rows = stmt.query_map([], |r| {
+            Ok(Instrument {
+                id: r.get(0)?,
+                serial: r.get(1)?,
+                description: r.get(2)?,
+                calibration_due: r.get(3)?,
+            })
+        })?;
+        Ok(rows.collect::<rusqlite::Result<_>>()?)
+    }
+
+    // ----- visits -----
+
+    /// Completed visits, newest first, optionally for one property.
+    pub fn visits(&self, property_ref: Option<&str>) -> Result<Vec<VisitSummary>> {
+        let property_id = property_ref
+            .map(|r| self.property(r).map(|p| p.id))
+            .transpose()?;
+        let mut stmt = self.conn.prepare(
+            "SELECT p.ref, v.date, v.inspector, i.serial, v.ambient_c, v.ze_ohm, v.pfc_ka,
+                    (SELECT count(*) FROM test_record t WHERE t.visit_id = v.id),
+                    (SELECT count(*) FROM observation o WHERE o.visit_id = v.id)
+             FROM visit v JOIN property p ON p.id = v.property_id
+             LEFT JOIN instrument i ON i.id = v.instrument_id
+             WHERE v.state = 'complete' AND (?1 IS NULL OR v.property_id = ?1)
+             ORDER BY v.date DESC, p.ref",
+        )?;
+        let rows = stmt.query_map([property_id], |r| {
+            Ok(VisitSummary {
+                property_ref: r.get(0)?,
+                date: r.get(1)?,
+                inspector: r.get(2)?,
+                instrument: r.get(3)?,
+                ambient_c: r.get(4)?,
+                ze_ohm: r.get(5)?,
+                pfc_ka: r.get(6)?,
+                test_records: r.get(7)?,
+                observations: r.get(8)?,
+            })
+        })?;
+        Ok(rows.collect::<rusqlite::Result<_>>()?)
+    }
+}
