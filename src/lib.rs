@@ -28,7 +28,8 @@ pub mod trend;
 pub use error::{Error, Result};
 
 /// The caution every output carries, printed or in a report: the figures support a competent
-/// person's judgement and never replace it, and the tool assigns no condition codes.
+/// person's judgement and never replace it, and the tool assigns no condition codes and no
+/// overall outcome. Each report, brief or worklist carries it once.
 pub const CAUTION: &str = "These figures support, and never replace, the judgement of a competent, \
 licensed person inspecting and testing to BS 7671 or the local code. ohmtrail assigns no condition \
-codes.";
+codes and no overall outcome of its own.";

@@ -528,3 +528,31 @@ fn property_references_match_without_regard_to_case_and_a_case_twin_is_refused()
     );
     assert!(out(&["visit", "list", "--property", "QL-001"]).contains(&date.to_string()));
 }
+
+#[test]
+fn trend_names_the_supply_ze_at_the_origin() {
+    // Ze at the origin of a TN-C-S supply, wandering by a few hundredths from visit to visit
+    // as it does on site.
+    let lights = ("1", "Lights", "B6", 1.5, 1.0);
+    let visits = [
+        (ymd(2015, 3, 9), 11.0, 0.22, 0.61, 0.83),
+        (ymd(2019, 4, 17), 16.5, 0.25, 0.63, 0.87),
+        (ymd(2023, 3, 28), 13.0, 0.23, 0.62, 0.86),
+    ];
+    let rows: Vec<String> = visits
+        .iter()
+        .map(|&(date, t, ze, r1r2, zs)| row("ZO-1", lights, date, t, ze, r1r2, zs, ">200", 24))
+        .collect();
+    let (_dir, db) = imported("ZO-1", &rows);
+    let text = run(&db, &["trend", "ZO-1"])
+        .success()
+        .get_output()
+        .stdout
+        .clone();
+    let text = String::from_utf8(text).unwrap();
+    assert!(
+        text.lines()
+            .any(|l| l.starts_with("  Ze at the origin (Ω)")),
+        "{text}"
+    );
+}

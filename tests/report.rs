@@ -790,3 +790,60 @@ fn a_partial_retest_is_shown_and_does_not_move_the_due_date() {
     assert_eq!(in_report, in_rows);
     assert!(a.flags.iter().any(|f| f.kind == "overdue"));
 }
+
+/// The caution (the figures support and never replace a competent person; no condition codes
+/// and no overall outcome) appears exactly once in each report, brief and worklist: a copy
+/// after every part is a line the reader learns to skip.
+#[test]
+fn the_caution_appears_once_in_each_report_brief_and_worklist() {
+    let dir = tempfile::tempdir().unwrap();
+    Command::cargo_bin("ohmtrail")
+        .unwrap()
+        .env_remove("OHMTRAIL_DB")
+        .args(["demo", "--dir"])
+        .arg(dir.path())
+        .assert()
+        .success();
+    let db = dir.path().join("demo.db");
+    let text = |args: &[&str]| {
+        let out = cmd(&db, dir.path()).args(args).assert().success();
+        String::from_utf8(out.get_output().stdout.clone()).unwrap()
+    };
+    let once = |what: &str, body: &str| {
+        assert_eq!(
+            body.matches(ohmtrail::CAUTION).count(),
+            1,
+            "{what} should carry the caution once: {body}"
+        );
+    };
+    assert!(ohmtrail::CAUTION.contains("no overall outcome of its own"));
+    once("flags", &text(&["flags"]));
+    once(
+        "flags of one property",
+        &text(&["flags", "--property", "QL-001"]),
+    );
+    once("trend", &text(&["trend", "QL-001"]));
+    once("brief", &text(&["brief", "QL-001", "--temp", "12"]));
+    text(&["brief", "QL-001", "--temp", "12", "-o", "brief.html"]);
+    once(
+        "the brief's page",
+        &std::fs::read_to_string(dir.path().join("brief.html")).unwrap(),
+    );
+    for entry in std::fs::read_dir(dir.path()).unwrap() {
+        let path = entry.unwrap().path();
+        if path.extension().is_some_and(|e| e == "html") && path.ends_with("brief.html") {
+            continue;
+        }
+        if path.extension().is_some_and(|e| e == "html") {
+            once(
+                &path.display().to_string(),
+                &std::fs::read_to_string(&path).unwrap(),
+            );
+        }
+    }
+    text(&["report", "QL-001", "--format", "json", "-o", "r.json"]);
+    once(
+        "the report as JSON",
+        &std::fs::read_to_string(dir.path().join("r.json")).unwrap(),
+    );
+}

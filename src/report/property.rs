@@ -48,7 +48,11 @@ pub fn render(r: &PropertyReport) -> String {
     boards(&mut o, r);
     visits(&mut o, &r.visits);
     method(&mut o, r);
-    cautions(&mut o, &r.cautions);
+    // The general caution is in the summary, on the first page; the list gives the rest.
+    cautions(
+        &mut o,
+        r.cautions.iter().filter(|c| c.as_str() != crate::CAUTION),
+    );
     o.push_str("</main>\n");
     let _ = writeln!(
         o,
@@ -626,7 +630,7 @@ fn method(o: &mut String, r: &PropertyReport) {
     o.push_str("</section>\n");
 }
 
-pub(super) fn cautions(o: &mut String, cautions: &[String]) {
+pub(super) fn cautions<'a>(o: &mut String, cautions: impl IntoIterator<Item = &'a String>) {
     o.push_str("<aside class=\"cautions\" aria-labelledby=\"cautions-h\">\n<h2 id=\"cautions-h\">Please note</h2>\n<ul>\n");
     for c in cautions {
         let _ = writeln!(o, "<li>{}</li>", esc(c));
