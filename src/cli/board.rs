@@ -16,6 +16,7 @@ pub enum Cmd {
         property: String,
         /// The board's designation as written on it (DB1, CU, Garage)
         designation: String,
+        /// Where the board is, e.g. "Hall cupboard"
         #[arg(long)]
         location: Option<String>,
         /// The board feeding this one; omit for a board fed from the origin

@@ -12,6 +12,7 @@ use super::{Context, parse_date, today};
 /// Register details of a circuit. On `edit`, only the flags given change anything.
 #[derive(Args, Debug, Clone, Default)]
 pub struct Details {
+    /// What the circuit supplies, as on the schedule, e.g. "Sockets ring, kitchen"
     #[arg(long)]
     pub description: Option<String>,
     /// ring or radial
@@ -112,6 +113,7 @@ pub enum Cmd {
         /// What was done: device_changed, cable_replaced, terminations_remade, register_corrected, ...
         #[arg(long = "change", value_name = "KIND", value_parser = |s: &str| s.parse::<ChangeKind>())]
         change: Option<ChangeKind>,
+        /// Free text kept with the dated change
         #[arg(long)]
         note: Option<String>,
     },
@@ -119,8 +121,10 @@ pub enum Cmd {
     Retire {
         #[command(flatten)]
         which: Which,
+        /// Date the circuit went out of service [default: today]
         #[arg(long, value_parser = parse_date)]
         date: Option<NaiveDate>,
+        /// Free text kept with the dated change
         #[arg(long)]
         note: Option<String>,
     },
@@ -136,12 +140,14 @@ pub enum Cmd {
         to_number: Option<String>,
         #[command(flatten)]
         details: Details,
+        /// Date the new circuit took over [default: today]
         #[arg(long, value_parser = parse_date)]
         date: Option<NaiveDate>,
         /// Why: circuit_replaced, board_replaced or renumbered [default: circuit_replaced,
         /// or board_replaced when --to-board is given]
         #[arg(long = "change", value_name = "KIND", value_parser = |s: &str| s.parse::<ChangeKind>())]
         change: Option<ChangeKind>,
+        /// Free text kept with the dated change
         #[arg(long)]
         note: Option<String>,
     },

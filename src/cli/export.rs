@@ -12,7 +12,9 @@ use super::output::{is_special, write_atomic, write_atomic_with};
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
 pub enum Format {
+    /// The visit-file format import reads (observations in a file of their own)
     Csv,
+    /// Test records and observations as one JSON document
     Json,
 }
 
@@ -25,6 +27,7 @@ pub struct Args {
     /// Write to FILE instead of stdout; with CSV, observations go to FILE's stem + .observations.csv
     #[arg(short = 'o', long = "output", value_name = "FILE")]
     pub output: Option<PathBuf>,
+    /// csv, the visit-file format, or json
     #[arg(long, value_enum, default_value = "csv")]
     pub format: Format,
 }

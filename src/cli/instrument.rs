@@ -11,7 +11,9 @@ use super::{Context, parse_date, today};
 pub enum Cmd {
     /// Add a test instrument by its serial number
     Add {
+        /// The instrument's serial number, as on its calibration certificate
         serial: String,
+        /// What it is, e.g. "multifunction tester"
         #[arg(long)]
         description: Option<String>,
         /// Date the calibration runs out
@@ -20,6 +22,7 @@ pub enum Cmd {
     },
     /// List instruments and whether each is in calibration today
     List {
+        /// Print as JSON instead of a table
         #[arg(long)]
         json: bool,
     },

@@ -180,3 +180,54 @@ pub fn parse_date(s: &str) -> std::result::Result<NaiveDate, String> {
 pub fn today() -> NaiveDate {
     chrono::Local::now().date_naive()
 }
+
+#[cfg(test)]
+mod tests {
+    use clap::CommandFactory;
+
+    /// Every command and every argument of every command, at any depth, as `path: what`, for
+    /// each one that `--help` would show without a word of explanation.
+    fn missing_help(cmd: &clap::Command, path: &str, missing: &mut Vec<String>) {
+        let path = if path.is_empty() {
+            cmd.get_name().to_string()
+        } else {
+            format!("{path} {}", cmd.get_name())
+        };
+        if cmd.get_about().is_none() && cmd.get_long_about().is_none() {
+            missing.push(format!("{path}: the command"));
+        }
+        for arg in cmd.get_arguments() {
+            // clap's own --help and --version carry clap's text.
+            if matches!(arg.get_id().as_str(), "help" | "version") {
+                continue;
+            }
+            if arg.get_help().is_none() && arg.get_long_help().is_none() {
+                missing.push(format!("{path}: {}", arg.get_id()));
+            }
+            // A choice of values (--format html|json) says what each one is.
+            if arg.get_action().takes_values() {
+                for v in arg.get_possible_values() {
+                    if v.get_help().is_none() {
+                        missing.push(format!("{path}: {} {}", arg.get_id(), v.get_name()));
+                    }
+                }
+            }
+        }
+        for sub in cmd.get_subcommands() {
+            missing_help(sub, &path, missing);
+        }
+    }
+
+    #[test]
+    fn every_command_and_argument_has_help() {
+        let cmd = super::Cli::command();
+        cmd.clone().debug_assert();
+        let mut missing = Vec::new();
+        missing_help(&cmd, "", &mut missing);
+        assert!(
+            missing.is_empty(),
+            "no help text for:\n{}",
+            missing.join("\n")
+        );
+    }
+}

@@ -16,6 +16,7 @@ pub enum Cmd {
     Add {
         /// The contractor's reference for the property (unique)
         reference: String,
+        /// The property's postal address, as the landlord's report shows it
         #[arg(long)]
         address: Option<String>,
         /// Landlord or managing agent; created on first use
@@ -24,17 +25,21 @@ pub enum Cmd {
         /// Inspection interval in months
         #[arg(long, value_name = "MONTHS", default_value_t = ohmtrail::model::DEFAULT_INTERVAL_MONTHS)]
         interval: u32,
+        /// Free text kept with the property (access, keys, occupier)
         #[arg(long)]
         notes: Option<String>,
     },
     /// List every property with its boards, circuits and last visit
     List {
+        /// Print as JSON instead of a table
         #[arg(long)]
         json: bool,
     },
     /// Show one property's boards and circuits
     Show {
+        /// The property's reference
         reference: String,
+        /// Print as JSON instead of a table
         #[arg(long)]
         json: bool,
     },

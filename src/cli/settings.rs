@@ -13,17 +13,23 @@ use super::{Context, today};
 pub enum Cmd {
     /// Show every setting with its value in this database and its default
     Show {
+        /// Print as JSON instead of a table
         #[arg(long)]
         json: bool,
     },
     /// Store a setting in this database (the measured-value rule, a noise floor)
     Set {
+        /// The setting's name, as `settings show` lists it
         key: String,
+        /// The new value, in the form `settings show` gives for the setting
         #[arg(allow_negative_numbers = true)]
         value: String,
     },
     /// Go back to the built-in default for a setting
-    Reset { key: String },
+    Reset {
+        /// The setting's name, as `settings show` lists it
+        key: String,
+    },
 }
 
 pub fn run(cmd: &Cmd, ctx: &Context, out: &mut dyn Write) -> Result<()> {

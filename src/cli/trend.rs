@@ -16,6 +16,7 @@ pub struct Args {
     /// Only one circuit, as BOARD/NUMBER (e.g. CU1/3)
     #[arg(long, value_name = "BOARD/N")]
     pub circuit: Option<String>,
+    /// Print every series with its points, fits and findings as JSON
     #[arg(long)]
     pub json: bool,
 }

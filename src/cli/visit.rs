@@ -13,6 +13,7 @@ pub enum Cmd {
         /// Only this property's visits
         #[arg(long)]
         property: Option<String>,
+        /// Print as JSON instead of a table
         #[arg(long)]
         json: bool,
     },
