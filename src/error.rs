@@ -71,6 +71,14 @@ pub enum Error {
     #[error(transparent)]
     Sql(#[from] rusqlite::Error),
 
+    /// Output could not be written: a full disk, or a reader that went away (`| head`).
+    #[error("writing {what}: {source}")]
+    Write {
+        what: &'static str,
+        #[source]
+        source: std::io::Error,
+    },
+
     #[error("{path}: {source}")]
     Io {
         path: PathBuf,
@@ -82,6 +90,12 @@ pub enum Error {
 impl Error {
     pub fn invalid(msg: impl Into<String>) -> Error {
         Error::Invalid(msg.into())
+    }
+
+    /// Writing `what` (CSV, JSON) failed; the I/O error is kept as the source, so the command
+    /// can tell a reader that went away from a real failure.
+    pub fn write(what: &'static str, source: std::io::Error) -> Error {
+        Error::Write { what, source }
     }
 
     pub fn not_found(what: &'static str, name: impl Into<String>) -> Error {

@@ -75,7 +75,13 @@ fn csv_cell(column: Column, value: Option<&str>) -> String {
 }
 
 fn csv_err(e: csv::Error) -> Error {
-    Error::invalid(format!("writing CSV: {e}"))
+    if !e.is_io_error() {
+        return Error::invalid(format!("writing CSV: {e}"));
+    }
+    match e.into_kind() {
+        csv::ErrorKind::Io(io) => Error::write("CSV", io),
+        other => Error::invalid(format!("writing CSV: {other:?}")),
+    }
 }
 
 /// Write the visit file (and, when `observations` is given, the observation file) as CSV.
@@ -102,8 +108,7 @@ pub fn export_csv(
         counts.test_records += 1;
         Ok(())
     })?;
-    w.flush()
-        .map_err(|e| Error::invalid(format!("writing CSV: {e}")))?;
+    w.flush().map_err(|e| Error::write("CSV", e))?;
     if let Some(out) = observations {
         let list = store.export_observations(property)?;
         let mut w = csv::Writer::from_writer(out);
@@ -119,8 +124,7 @@ pub fn export_csv(
             )
             .map_err(csv_err)?;
         }
-        w.flush()
-            .map_err(|e| Error::invalid(format!("writing CSV: {e}")))?;
+        w.flush().map_err(|e| Error::write("CSV", e))?;
         counts.observations = list.len() as u64;
     }
     Ok(counts)
@@ -144,6 +148,10 @@ pub fn observation_count(store: &Store, property: Option<&str>) -> Result<u64> {
 
 /// Write everything as one JSON document: `{"visits": [...], "observations": [...]}`, each
 /// row an object keyed by column name. Numbers are JSON numbers; `>200` and `LIM` stay text.
+///
+/// The layout is serde_json's pretty printing of the whole document (two spaces an indent,
+/// `[]` for an empty list) and one newline at the end, as every other JSON ohmtrail writes
+/// (`report --format json`, `--json`), though it is written one row at a time.
 pub fn export_json(
     store: &Store,
     property: Option<&str>,
@@ -151,33 +159,56 @@ pub fn export_json(
 ) -> Result<ExportCounts> {
     let changes = store.export_changes()?;
     let mut counts = ExportCounts::default();
-    let io = |e: std::io::Error| Error::invalid(format!("writing JSON: {e}"));
+    let io = |e: std::io::Error| Error::write("JSON", e);
     out.write_all(b"{\n  \"visits\": [").map_err(io)?;
     store.export_records(property, |rec| {
         let cells = record_cells(&rec, changes.get(&rec.circuit_id).map_or(&[], |v| v));
         let obj = json_object(&Column::VISIT, &cells);
-        if counts.test_records > 0 {
-            out.write_all(b",").map_err(io)?;
-        }
-        out.write_all(b"\n    ").map_err(io)?;
-        serde_json::to_writer(&mut *out, &obj).map_err(|e| Error::invalid(e.to_string()))?;
+        json_item(out, counts.test_records == 0, &obj)?;
         counts.test_records += 1;
         Ok(())
     })?;
-    out.write_all(b"\n  ],\n  \"observations\": [")
-        .map_err(io)?;
+    json_list_end(out, counts.test_records)?;
+    out.write_all(b",\n  \"observations\": [").map_err(io)?;
     let list = store.export_observations(property)?;
     for (i, o) in list.iter().enumerate() {
         let obj = json_object(&Column::OBSERVATION, &observation_cells(o));
-        if i > 0 {
-            out.write_all(b",").map_err(io)?;
-        }
-        out.write_all(b"\n    ").map_err(io)?;
-        serde_json::to_writer(&mut *out, &obj).map_err(|e| Error::invalid(e.to_string()))?;
+        json_item(out, i == 0, &obj)?;
     }
     counts.observations = list.len() as u64;
-    out.write_all(b"\n  ]\n}\n").map_err(io)?;
+    json_list_end(out, counts.observations)?;
+    out.write_all(b"\n}\n").map_err(io)?;
     Ok(counts)
+}
+
+/// One element of a list two levels down, pretty printed and indented to its depth. A JSON
+/// string never holds a raw line break, so every line break in the text is a layout one.
+fn json_item(out: &mut dyn Write, first: bool, value: &impl serde::Serialize) -> Result<()> {
+    let text = serde_json::to_vec_pretty(value).map_err(json_err)?;
+    let io = |e: std::io::Error| Error::write("JSON", e);
+    out.write_all(if first { b"\n    " } else { b",\n    " })
+        .map_err(io)?;
+    for (i, line) in text.split(|&b| b == b'\n').enumerate() {
+        if i > 0 {
+            out.write_all(b"\n    ").map_err(io)?;
+        }
+        out.write_all(line).map_err(io)?;
+    }
+    Ok(())
+}
+
+/// The end of a list two levels down: `]` straight after `[` when it is empty.
+fn json_list_end(out: &mut dyn Write, items: u64) -> Result<()> {
+    let end: &[u8] = if items == 0 { b"]" } else { b"\n  ]" };
+    out.write_all(end).map_err(|e| Error::write("JSON", e))
+}
+
+fn json_err(e: serde_json::Error) -> Error {
+    if e.is_io() {
+        Error::write("JSON", e.into())
+    } else {
+        Error::invalid(format!("writing JSON: {e}"))
+    }
 }
 
 fn json_object(

@@ -44,5 +44,9 @@ fn is_broken_pipe(e: &anyhow::Error) -> bool {
     e.chain().any(|c| {
         c.downcast_ref::<io::Error>()
             .is_some_and(|io| io.kind() == io::ErrorKind::BrokenPipe)
+            // serde_json keeps the I/O error inside, not as its source.
+            || c.downcast_ref::<serde_json::Error>()
+                .and_then(|j| j.io_error_kind())
+                == Some(io::ErrorKind::BrokenPipe)
     })
 }

@@ -989,3 +989,57 @@ fn record_refuses_control_characters_in_its_text() {
         "{stderr}"
     );
 }
+
+/// `ohmtrail flags | head`: the reader going away is not an error. Each listing is run with
+/// its standard output a pipe whose reading end is already closed, so every write it makes
+/// fails with a broken pipe; it must still exit 0 and print nothing on stderr.
+#[test]
+fn a_reader_that_goes_away_is_not_an_error() {
+    let dir = tempfile::tempdir().unwrap();
+    Command::cargo_bin("ohmtrail")
+        .unwrap()
+        .env_remove("OHMTRAIL_DB")
+        .args(["demo", "--dir"])
+        .arg(dir.path())
+        .assert()
+        .success();
+    let db = dir.path().join("demo.db");
+    let listings: &[&[&str]] = &[
+        &["flags"],
+        &["flags", "--json"],
+        &["trend", "QL-001"],
+        &["trend", "QL-001", "--json"],
+        &["brief", "QL-001"],
+        &["report", "QL-001", "--format", "json"],
+        &["report", "QL-001", "-o", "-"],
+        &["report", "--portfolio", "--index-only", "-o", "-"],
+        &["export"],
+        &["export", "--format", "json"],
+        &["export", "--format", "json", "-o", "-"],
+        &["property", "list"],
+        &["property", "list", "--json"],
+        &["property", "show", "QL-001"],
+        &["visit", "list"],
+        &["visit", "list", "--json"],
+        &["instrument", "list"],
+        &["settings", "show"],
+        &["limits", "B32"],
+    ];
+    for args in listings {
+        let (reader, writer) = std::io::pipe().unwrap();
+        drop(reader);
+        let out = std::process::Command::new(assert_cmd::cargo::cargo_bin("ohmtrail"))
+            .env_remove("OHMTRAIL_DB")
+            .arg("--db")
+            .arg(&db)
+            .args(*args)
+            .current_dir(dir.path())
+            .stdout(writer)
+            .stderr(std::process::Stdio::piped())
+            .output()
+            .unwrap();
+        let stderr = String::from_utf8_lossy(&out.stderr);
+        assert_eq!(out.status.code(), Some(0), "{args:?}: {stderr}");
+        assert!(stderr.is_empty(), "{args:?}: {stderr}");
+    }
+}

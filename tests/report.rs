@@ -847,3 +847,69 @@ fn the_caution_appears_once_in_each_report_brief_and_worklist() {
         &std::fs::read_to_string(dir.path().join("r.json")).unwrap(),
     );
 }
+
+/// `report --format json` and `export --format json` behave alike: standard output unless
+/// `-o FILE` names a file (`-o -` is standard output too), the file holding exactly what
+/// standard output would, laid out as serde_json's pretty printing with one newline at the end.
+#[test]
+fn report_and_export_json_choose_their_output_and_layout_alike() {
+    let dir = tempfile::tempdir().unwrap();
+    let db = db_with_fixture(dir.path());
+    let stdout = |args: &[&str]| {
+        let out = cmd(&db, dir.path()).args(args).assert().success();
+        out.get_output().stdout.clone()
+    };
+    let runs: [(&[&str], &str); 2] = [
+        (&["report", REF, "--format", "json"], "r.json"),
+        (&["export", "--format", "json"], "e.json"),
+    ];
+    for (args, file) in runs {
+        let plain = stdout(args);
+        assert_eq!(
+            plain,
+            stdout(&[args, &["-o", "-"]].concat()),
+            "{args:?} -o -"
+        );
+        let said = stdout(&[args, &["-o", file]].concat());
+        assert!(
+            !said.contains(&b'{'),
+            "{args:?} -o {file} printed the document"
+        );
+        let written = std::fs::read(dir.path().join(file)).unwrap();
+        assert_eq!(
+            plain, written,
+            "{args:?}: the file and standard output differ"
+        );
+        let text = String::from_utf8(plain).unwrap();
+        assert!(
+            text.ends_with("}\n") && !text.ends_with("\n\n"),
+            "{args:?}: one newline at the end"
+        );
+        assert_pretty(&text);
+        assert!(!dir.path().join("-").exists(), "-o - made a file named -");
+    }
+}
+
+/// The text is serde_json's pretty printing of its own value, up to the order of keys within
+/// an object (serde_json's map, as built here, sorts them): the same lines, each taken without
+/// its trailing comma. Numbers are compared as placeholders: serde_json's default parser may
+/// read a float one unit in the last place off, which is not a matter of layout.
+fn assert_pretty(text: &str) {
+    let v: serde_json::Value = serde_json::from_str(text).unwrap();
+    let canon = serde_json::to_string_pretty(&v).unwrap();
+    let number = regex::Regex::new(r"-?[0-9]+(\.[0-9]+)?([eE][+-]?[0-9]+)?$").unwrap();
+    let lines = |s: &str| {
+        let mut l: Vec<String> = s
+            .lines()
+            .map(|l| number.replace(l.trim_end_matches(','), "N").into_owned())
+            .collect();
+        l.sort();
+        l
+    };
+    let (a, b) = (lines(text), lines(&canon));
+    if a != b {
+        let only_a: Vec<_> = a.iter().filter(|l| !b.contains(l)).collect();
+        let only_b: Vec<_> = b.iter().filter(|l| !a.contains(l)).collect();
+        panic!("not serde_json's pretty layout: {only_a:?} against {only_b:?}");
+    }
+}

@@ -24,7 +24,7 @@ pub struct Args {
     /// Only this property
     #[arg(long, value_name = "REF")]
     pub property: Option<String>,
-    /// Write to FILE instead of stdout; with CSV, observations go to FILE's stem + .observations.csv
+    /// File to write, or - for standard output [default: standard output]; with CSV, observations go to FILE's stem + .observations.csv
     #[arg(short = 'o', long = "output", value_name = "FILE")]
     pub output: Option<PathBuf>,
     /// csv, the visit-file format, or json
@@ -44,7 +44,12 @@ fn observations_path(p: &Path) -> PathBuf {
 pub fn run(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
     let store = ctx.open_existing()?;
     let property = args.property.as_deref();
-    match (args.format, &args.output) {
+    // `-o -` is standard output, as for `report`.
+    let output = args
+        .output
+        .as_ref()
+        .filter(|p| !super::report::is_stdout(p));
+    match (args.format, output) {
         (Format::Json, None) => {
             export_json(&store, property, out)?;
         }

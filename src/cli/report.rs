@@ -46,7 +46,7 @@ pub struct Args {
     /// Write the index of every property, most urgent first, with each property's report beside it
     #[arg(long)]
     pub portfolio: bool,
-    /// File to write [default: report-REF.html, or portfolio.html, in the current directory]
+    /// File to write, or - for standard output [default: a property's JSON to standard output; its HTML to report-REF.html, the portfolio to portfolio.html or .json, in the current directory]
     #[arg(short = 'o', long = "output", value_name = "FILE")]
     pub output: Option<PathBuf>,
     /// html, or json for the same content as data
@@ -57,7 +57,21 @@ pub struct Args {
     pub index_only: bool,
 }
 
+/// `-o -`: standard output, as for `export`.
+pub fn is_stdout(path: &std::path::Path) -> bool {
+    path.as_os_str() == "-"
+}
+
 pub fn run(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
+    // JSON is data, and goes to standard output unless -o names a file, as `export` does; a
+    // page goes to a file.
+    let to_stdout = match &args.output {
+        Some(p) => is_stdout(p),
+        None => !args.portfolio && args.format == Format::Json,
+    };
+    if to_stdout {
+        return to_standard_output(args, ctx, out);
+    }
     let ext = args.format.ext();
     let target = match (&args.output, &args.property) {
         (Some(p), _) => p.clone(),
@@ -124,6 +138,37 @@ pub fn run(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
         writeln!(out, "wrote report {}", target.display())?;
     }
     writeln!(out, "Caution: {CAUTION}")?;
+    Ok(())
+}
+
+/// The report, or the portfolio's index alone, as the command's output: nothing else is
+/// printed beside it (the document carries its own cautions).
+fn to_standard_output(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
+    if args.portfolio && !args.index_only {
+        bail!(
+            "cannot write the portfolio to standard output: the property reports go beside the index: give -o a file in a directory, or pass --index-only"
+        );
+    }
+    let store = ctx.open_existing()?;
+    let settings = Settings::load(&store, today())?;
+    let body = if args.portfolio {
+        let index = report::portfolio(&store, &settings, args.format.ext(), |_| Ok(()))?;
+        match args.format {
+            Format::Html => portfolio::render(&index).into_bytes(),
+            Format::Json => json_bytes(&index)?,
+        }
+    } else {
+        let reference = args
+            .property
+            .as_deref()
+            .ok_or_else(|| anyhow!("name a property, or pass --portfolio"))?;
+        let r = report::property_report(&store, reference, &settings)?;
+        match args.format {
+            Format::Html => property::render(&r).into_bytes(),
+            Format::Json => json_bytes(&r)?,
+        }
+    };
+    out.write_all(&body)?;
     Ok(())
 }
 
