@@ -556,3 +556,200 @@ fn trend_names_the_supply_ze_at_the_origin() {
         "{text}"
     );
 }
+
+/// Two landlords' properties and one with no client, each last inspected in 2015 on a
+/// 60-month interval, so each is overdue and has a row (readings a little apart, as on site).
+fn two_clients() -> (tempfile::TempDir, std::path::PathBuf) {
+    let dir = tempfile::tempdir().unwrap();
+    let db = dir.path().join("t.db");
+    let homes = [
+        (
+            "NL-1",
+            "1 Fictive Quay, Northbury",
+            Some("North Lettings Ltd (test)"),
+        ),
+        (
+            "NL-2",
+            "7 Sample Wharf, Northbury",
+            Some("North Lettings Ltd (test)"),
+        ),
+        (
+            "SH-1",
+            "22 Invented Parade, Southam",
+            Some("South Homes (test)"),
+        ),
+        ("NC-1", "5 Nobody Yard, Elsewhere", None),
+    ];
+    let mut rows = Vec::new();
+    for (i, (r, address, client)) in homes.iter().enumerate() {
+        let mut args = vec![
+            "property",
+            "add",
+            r,
+            "--address",
+            address,
+            "--interval",
+            "60",
+        ];
+        if let Some(c) = client {
+            args.extend(["--client", c]);
+        }
+        run(&db, &args).success();
+        let k = i as f64 * 0.01;
+        rows.push(row(
+            r,
+            ("1", "Sockets", "B32", 2.5, 1.5),
+            ymd(2015, 4, 10 + i as u32),
+            14.0 + i as f64,
+            0.22 + k,
+            0.48 + k,
+            0.71 + k,
+            ">200",
+            22 + i as u32,
+        ));
+    }
+    let file = dir.path().join("visits.csv");
+    std::fs::write(&file, format!("{HEADER}\n{}\n", rows.join("\n"))).unwrap();
+    run(&db, &["import", file.to_str().unwrap()]).success();
+    (dir, db)
+}
+
+/// Everything of the other client and of the property with no client, as it could leak.
+const NOT_NORTH: [&str; 6] = [
+    "SH-1",
+    "22 Invented Parade",
+    "South Homes",
+    "NC-1",
+    "5 Nobody Yard",
+    "Elsewhere",
+];
+
+#[test]
+fn flags_and_the_portfolio_by_client_hold_no_other_clients_property() {
+    let (dir, db) = two_clients();
+    let text = |args: &[&str]| {
+        String::from_utf8(run(&db, args).success().get_output().stdout.clone()).unwrap()
+    };
+    // Every property is overdue, so the whole worklist has all four.
+    let all = json(&db, &["flags", "--json"]);
+    assert_eq!(all.as_array().unwrap().len(), 4, "{all:#}");
+
+    // The client's name in any case.
+    let north = json(
+        &db,
+        &["flags", "--client", "north LETTINGS ltd (test)", "--json"],
+    );
+    let mut refs: Vec<&str> = north
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|f| f["property_ref"].as_str().unwrap())
+        .collect();
+    refs.sort();
+    assert_eq!(refs, ["NL-1", "NL-2"]);
+    let table = text(&["flags", "--client", "North Lettings Ltd (test)"]);
+    assert!(table.contains("NL-1") && table.contains("NL-2"), "{table}");
+    for other in NOT_NORTH {
+        assert!(!table.contains(other), "{other} in {table}");
+    }
+
+    // An unknown client names the known ones, and a property not the client's is refused.
+    run(&db, &["flags", "--client", "West Estates"])
+        .code(1)
+        .stderr(predicate::str::contains(
+            "client \"West Estates\" not found",
+        ))
+        .stderr(predicate::str::contains(
+            "known clients are \"North Lettings Ltd (test)\", \"South Homes (test)\"",
+        ));
+    run(
+        &db,
+        &[
+            "flags",
+            "--client",
+            "South Homes (test)",
+            "--property",
+            "NL-1",
+        ],
+    )
+    .code(1)
+    .stderr(predicate::str::contains("not one of client"));
+
+    // The portfolio for one client, as HTML and as JSON: only its properties' files, and no
+    // other client's reference or address in any of them.
+    for (format, index) in [("html", "index.html"), ("json", "index.json")] {
+        let out = dir.path().join(format);
+        std::fs::create_dir(&out).unwrap();
+        let target = out.join(index);
+        run(
+            &db,
+            &[
+                "report",
+                "--portfolio",
+                "--client",
+                "NORTH LETTINGS LTD (TEST)",
+                "--format",
+                format,
+                "-o",
+                target.to_str().unwrap(),
+            ],
+        )
+        .success()
+        .stdout(predicate::str::contains("wrote 2 property reports"));
+        let mut names: Vec<String> = std::fs::read_dir(&out)
+            .unwrap()
+            .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+            .collect();
+        names.sort();
+        assert_eq!(
+            names,
+            [
+                index.to_string(),
+                format!("report-NL-1.{format}"),
+                format!("report-NL-2.{format}")
+            ]
+        );
+        for name in &names {
+            let body = std::fs::read_to_string(out.join(name)).unwrap();
+            for other in NOT_NORTH {
+                assert!(!body.contains(other), "{other} in {format}/{name}");
+            }
+        }
+        let index_body = std::fs::read_to_string(&target).unwrap();
+        assert!(
+            index_body.contains("1 Fictive Quay") && index_body.contains("7 Sample Wharf"),
+            "{index_body}"
+        );
+    }
+    let index = text(&[
+        "report",
+        "--portfolio",
+        "--index-only",
+        "--client",
+        "south homes (test)",
+        "--format",
+        "json",
+        "-o",
+        "-",
+    ]);
+    let index: serde_json::Value = serde_json::from_str(&index).unwrap();
+    assert_eq!(index["client"], "South Homes (test)");
+    let entries = index["entries"].as_array().unwrap();
+    assert_eq!(entries.len(), 1);
+    assert_eq!(entries[0]["property_ref"], "SH-1");
+
+    // --client is for the portfolio; a register with no clients says so.
+    run(&db, &["report", "NL-1", "--client", "South Homes (test)"]).code(2);
+    let (_empty_dir, empty) = demo_free_db();
+    run(&empty, &["flags", "--client", "Anyone"])
+        .code(1)
+        .stderr(predicate::str::contains("no clients yet"));
+}
+
+/// A database with one property and no client.
+fn demo_free_db() -> (tempfile::TempDir, std::path::PathBuf) {
+    let dir = tempfile::tempdir().unwrap();
+    let db = dir.path().join("e.db");
+    run(&db, &["property", "add", "X-1"]).success();
+    (dir, db)
+}

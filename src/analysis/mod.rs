@@ -390,17 +390,42 @@ pub fn source_text(s: &Source) -> String {
 #[derive(Debug, Clone, Default)]
 pub struct WorklistFilter {
     pub property: Option<String>,
+    /// Only this client's properties (the name matched without regard to case), so one
+    /// landlord's worklist never shows another's.
+    pub client: Option<String>,
 }
 
 /// The portfolio worklist: one row per circuit with findings (and per supply, and per overdue
 /// inspection), most urgent first, one property in memory at a time.
 pub fn worklist(store: &Store, settings: &Settings, filter: &WorklistFilter) -> Result<Vec<Flag>> {
-    let mut flags = match &filter.property {
-        Some(r) => {
+    let client = match &filter.client {
+        Some(c) => Some(store.client_properties(c)?),
+        None => None,
+    };
+    let mut flags = match (&filter.property, &client) {
+        (Some(r), _) => {
             let id = store.property(r)?.id;
+            if let Some((name, ids)) = &client
+                && !ids.contains(&id)
+            {
+                return Err(crate::Error::invalid(format!(
+                    "property {r:?} is not one of client {name:?}'s"
+                )));
+            }
             analyse_detail(&store.history(id)?, settings, Detail::Flags).flags
         }
-        None => portfolio_flags(store, settings)?,
+        (None, Some((_, ids))) => {
+            let mut flags = Vec::new();
+            let mut memo = series::LimitMemo::default();
+            for &id in ids {
+                store.for_each_history_in((id, id), HistoryParts::FOR_FLAGS, |h| {
+                    flags.extend(analyse_with(&h, settings, Detail::Flags, &mut memo).flags);
+                    Ok(())
+                })?;
+            }
+            flags
+        }
+        (None, None) => portfolio_flags(store, settings)?,
     };
     rank_flags(&mut flags);
     Ok(flags)

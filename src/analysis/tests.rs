@@ -353,6 +353,7 @@ fn the_streamed_portfolio_matches_property_by_property() {
                 &settings(),
                 &WorklistFilter {
                     property: Some(p.property_ref),
+                    client: None,
                 },
             )
             .unwrap(),

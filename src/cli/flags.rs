@@ -13,6 +13,9 @@ pub struct Args {
     /// Only this property
     #[arg(long)]
     pub property: Option<String>,
+    /// Only this client's properties (landlord or agent, any case), so one client's worklist shows no other's
+    #[arg(long, value_name = "NAME")]
+    pub client: Option<String>,
     /// Print the worklist as a JSON array (schema in the README)
     #[arg(long)]
     pub json: bool,
@@ -26,6 +29,7 @@ pub fn run(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
         &settings,
         &WorklistFilter {
             property: args.property.clone(),
+            client: args.client.clone(),
         },
     )?;
     if args.json {

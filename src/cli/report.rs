@@ -53,8 +53,16 @@ pub struct Args {
     #[arg(long, value_enum, default_value_t = Format::Html)]
     pub format: Format,
     /// With --portfolio: write only the index, not the property reports it links to
-    #[arg(long, requires = "portfolio")]
+    #[arg(long, requires = "portfolio", conflicts_with = "property")]
     pub index_only: bool,
+    /// With --portfolio: only this client's properties (landlord or agent, any case), so the index and reports hold no other client's
+    #[arg(
+        long,
+        value_name = "NAME",
+        requires = "portfolio",
+        conflicts_with = "property"
+    )]
+    pub client: Option<String>,
 }
 
 /// `-o -`: standard output, as for `export`.
@@ -90,11 +98,11 @@ pub fn run(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
     let settings = Settings::load(&store, today())?;
 
     if args.portfolio && !args.index_only {
-        refuse_shared_file_names(&store, ext, &target)?;
+        refuse_shared_file_names(&store, args.client.as_deref(), ext, &target)?;
     }
     if args.portfolio {
         let mut written = 0usize;
-        let index = report::portfolio(&store, &settings, ext, |r| {
+        let index = report::portfolio_of(&store, &settings, ext, args.client.as_deref(), |r| {
             if args.index_only {
                 return Ok(());
             }
@@ -152,7 +160,13 @@ fn to_standard_output(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result
     let store = ctx.open_existing()?;
     let settings = Settings::load(&store, today())?;
     let body = if args.portfolio {
-        let index = report::portfolio(&store, &settings, args.format.ext(), |_| Ok(()))?;
+        let index = report::portfolio_of(
+            &store,
+            &settings,
+            args.format.ext(),
+            args.client.as_deref(),
+            |_| Ok(()),
+        )?;
         match args.format {
             Format::Html => portfolio::render(&index).into_bytes(),
             Format::Json => json_bytes(&index)?,
@@ -177,6 +191,7 @@ fn to_standard_output(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result
 /// first while the index linked both.
 fn refuse_shared_file_names(
     store: &ohmtrail::store::Store,
+    client: Option<&str>,
     ext: &str,
     index: &std::path::Path,
 ) -> Result<()> {
@@ -185,7 +200,12 @@ fn refuse_shared_file_names(
         .file_name()
         .map(|n| n.to_string_lossy().into_owned())
         .unwrap_or_default();
-    for p in store.list_properties()? {
+    let only = client.map(|c| store.client_properties(c)).transpose()?;
+    let mut properties = store.list_properties()?;
+    if let Some((name, _)) = &only {
+        properties.retain(|p| p.client.as_deref() == Some(name.as_str()));
+    }
+    for p in properties {
         let name = report::property_file_name(&p.property_ref, ext);
         if name == index_name {
             bail!(

@@ -50,15 +50,42 @@ pub fn portfolio(
     store: &Store,
     settings: &Settings,
     ext: &str,
+    each: impl FnMut(&PropertyReport) -> Result<()>,
+) -> Result<PortfolioReport> {
+    portfolio_of(store, settings, ext, None, each)
+}
+
+/// [`portfolio`] over one client's properties (the name matched without regard to case), or
+/// every property when `client` is `None`. A client's index holds no other client's property.
+pub fn portfolio_of(
+    store: &Store,
+    settings: &Settings,
+    ext: &str,
+    client: Option<&str>,
     mut each: impl FnMut(&PropertyReport) -> Result<()>,
 ) -> Result<PortfolioReport> {
     let mut entries = Vec::new();
-    store.for_each_history(|h| {
+    let mut one = |h: crate::store::PropertyHistory| {
         let a = analysis::analyse(&h, settings);
         let r = model::build(&a);
         each(&r)?;
         entries.push(portfolio::entry(&a, &r, ext));
         Ok(())
-    })?;
-    Ok(portfolio::assemble(entries, settings.today))
+    };
+    let client = match client {
+        Some(name) => {
+            let (name, ids) = store.client_properties(name)?;
+            for id in ids {
+                one(store.history(id)?)?;
+            }
+            Some(name)
+        }
+        None => {
+            store.for_each_history(&mut one)?;
+            None
+        }
+    };
+    let mut index = portfolio::assemble(entries, settings.today);
+    index.client = client;
+    Ok(index)
 }

@@ -18,6 +18,8 @@ use crate::trend::{Finding, compare_urgency};
 pub struct PortfolioReport {
     pub generated: NaiveDate,
     pub ohmtrail_version: &'static str,
+    /// The client whose properties these are, as stored; `None` for the whole register.
+    pub client: Option<String>,
     pub properties: usize,
     /// Properties by their worst state.
     pub with_exceeds: usize,
@@ -118,6 +120,7 @@ pub fn assemble(mut entries: Vec<PortfolioEntry>, generated: NaiveDate) -> Portf
     PortfolioReport {
         generated,
         ohmtrail_version: env!("CARGO_PKG_VERSION"),
+        client: None,
         properties: entries.len(),
         with_exceeds: with("exceeds"),
         with_approaching: with("approaching"),
@@ -137,9 +140,14 @@ pub fn render(p: &PortfolioReport) -> String {
     let mut o = page_start("Portfolio · wiring trend index", CSS);
     o.push_str("<div class=\"page\">\n<header class=\"masthead\">\n<div>\n");
     o.push_str("<p class=\"what\">Wiring condition over time</p>\n<h1>Portfolio index</h1>\n");
+    let whose = p
+        .client
+        .as_deref()
+        .map(|c| format!(" of {}", esc(c)))
+        .unwrap_or_default();
     let _ = writeln!(
         o,
-        "<p>{} ranked most urgent first. Open a property for its full report.</p>",
+        "<p>{}{whose} ranked most urgent first. Open a property for its full report.</p>",
         count(p.properties, "property", "properties")
     );
     o.push_str("</div>\n<dl class=\"facts\">\n");

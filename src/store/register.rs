@@ -51,6 +51,52 @@ impl Store {
         Ok(self.conn.last_insert_rowid())
     }
 
+    /// The client called `name` without regard to ASCII case (an exact match wins over a
+    /// client differing only in case), as stored, with its properties' ids in reference order.
+    /// An unknown name is an error listing the known clients, or saying there are none.
+    pub fn client_properties(&self, name: &str) -> Result<(String, Vec<i64>)> {
+        let name = name.trim();
+        let mut st = self
+            .conn
+            .prepare("SELECT id, name FROM client WHERE name = ?1 COLLATE NOCASE ORDER BY name")?;
+        let found = st
+            .query_map([name], |r| {
+                Ok((r.get::<_, i64>(0)?, r.get::<_, String>(1)?))
+            })?
+            .collect::<rusqlite::Result<Vec<_>>>()?;
+        let (id, stored) = match found.iter().find(|(_, n)| n == name) {
+            Some(exact) => exact.clone(),
+            None if found.len() == 1 => found[0].clone(),
+            None if found.is_empty() => {
+                let known = self
+                    .conn
+                    .prepare("SELECT name FROM client ORDER BY name")?
+                    .query_map([], |r| r.get::<_, String>(0))?
+                    .collect::<rusqlite::Result<Vec<_>>>()?;
+                let hint = if known.is_empty() {
+                    "the register has no clients yet; give a property one with `ohmtrail property add REF --client NAME`".to_string()
+                } else {
+                    let names: Vec<String> = known.iter().map(|n| format!("{n:?}")).collect();
+                    format!("known clients are {}", names.join(", "))
+                };
+                return Err(Error::not_found_hint("client", name, hint));
+            }
+            None => {
+                let names: Vec<String> = found.iter().map(|(_, n)| format!("{n:?}")).collect();
+                return Err(Error::invalid(format!(
+                    "client {name:?} matches {}, which differ only in case: give the name exactly",
+                    names.join(" and ")
+                )));
+            }
+        };
+        let ids = self
+            .conn
+            .prepare("SELECT id FROM property WHERE client_id = ?1 ORDER BY ref")?
+            .query_map([id], |r| r.get::<_, i64>(0))?
+            .collect::<rusqlite::Result<Vec<_>>>()?;
+        Ok((stored, ids))
+    }
+
     pub fn add_property(&self, p: &NewProperty) -> Result<Property> {
         let reference = p.reference.trim();
         if reference.is_empty() {
