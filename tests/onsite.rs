@@ -248,12 +248,90 @@ fn brief_lists_instruments_that_lapse_before_the_visit() {
         ],
         "",
     );
+    e.ok(
+        &[
+            "instrument",
+            "add",
+            "GONE-3",
+            "--calibration-due",
+            "2019-06-30",
+        ],
+        "",
+    );
     let out = e.ok(&["brief", "P-9", "--date", "2028-01-01"], "");
     assert!(
         out.contains("OLD-1: calibration runs out on 2027-06-30"),
         "{out}"
     );
     assert!(!out.contains("NEW-2:"), "{out}");
+    // A calibration that ran out years before today reads as lapsed, with its date.
+    assert!(
+        out.contains("GONE-3: calibration lapsed on 2019-06-30, ")
+            && out.contains(" years ")
+            && !out.contains("GONE-3: calibration runs out"),
+        "{out}"
+    );
+}
+
+/// The brief gives each flag once, in its "test first" list; the circuit points there.
+#[test]
+fn the_brief_lists_each_flag_once() {
+    let e = Env::new();
+    let demo = e.dir.path().join("demo");
+    Command::cargo_bin("ohmtrail")
+        .unwrap()
+        .env_remove("OHMTRAIL_DB")
+        .args(["demo", "--dir"])
+        .arg(&demo)
+        .assert()
+        .success();
+    let db = demo.join("demo.db");
+    let brief = |extra: &[&str]| {
+        let out = Command::cargo_bin("ohmtrail")
+            .unwrap()
+            .env_remove("OHMTRAIL_DB")
+            .arg("--db")
+            .arg(&db)
+            .args(["brief", "QL-001", "--temp", "12"])
+            .args(extra)
+            .assert()
+            .success();
+        String::from_utf8(out.get_output().stdout.clone()).unwrap()
+    };
+    let text = brief(&[]);
+    let page = demo.join("brief.html");
+    brief(&["-o", page.to_str().unwrap()]);
+    let html = std::fs::read_to_string(&page).unwrap();
+    let flags = Command::cargo_bin("ohmtrail")
+        .unwrap()
+        .env_remove("OHMTRAIL_DB")
+        .arg("--db")
+        .arg(&db)
+        .args(["flags", "--property", "QL-001", "--json"])
+        .assert()
+        .success()
+        .get_output()
+        .stdout
+        .clone();
+    let flags: serde_json::Value = serde_json::from_slice(&flags).unwrap();
+    let mut reasons = 0;
+    for row in flags.as_array().unwrap() {
+        for f in row["findings"].as_array().unwrap() {
+            let reason = f["reason"].as_str().unwrap();
+            reasons += 1;
+            assert_eq!(text.matches(reason).count(), 1, "{reason} in {text}");
+            let escaped = ohmtrail::report::html::esc(reason);
+            assert_eq!(html.matches(escaped.as_str()).count(), 1, "{reason}");
+        }
+    }
+    assert!(
+        reasons >= 2,
+        "the demo's QL-001 has several flags: {flags:#}"
+    );
+    assert!(
+        text.contains("CU1/1: flagged: see test first 1, 2"),
+        "{text}"
+    );
 }
 
 #[test]

@@ -251,7 +251,10 @@ fn print_text(b: &Brief, out: &mut dyn Write) -> Result<()> {
             rows,
         )?;
         for c in &board.circuits {
-            for f in &c.flags {
+            if let Some(refs) = onsite::test_first_refs(c) {
+                writeln!(out, "  {}/{}: {refs}", board.designation, c.number)?;
+            }
+            for f in &c.other_flags {
                 writeln!(out, "  {}/{}: {f}", board.designation, c.number)?;
             }
             for e in c.expectations.iter() {

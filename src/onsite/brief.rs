@@ -92,8 +92,14 @@ pub struct CircuitBrief {
     pub last_visit: Option<NaiveDate>,
     pub last_readings: Option<Readings>,
     pub expectations: Vec<Expectation>,
-    /// Open flags on this circuit, most urgent first: "exceeds: …".
+    /// Open flags on this circuit, most urgent first: "exceeds: …" (`record` shows them as it
+    /// reaches the circuit).
     pub flags: Vec<String>,
+    /// Where this circuit's flags stand in the brief's "test first" list, counting from 1: a
+    /// printed brief refers to them there rather than giving each flag twice.
+    pub test_first: Vec<usize>,
+    /// This circuit's flags that the "test first" list does not give, to be shown with it.
+    pub other_flags: Vec<String>,
     pub notes: Vec<String>,
 }
 
@@ -236,7 +242,7 @@ pub fn brief(
     }
 
     // Every finding of every circuit; an overdue inspection is not a reading to take.
-    let test_first = analysis
+    let test_first: Vec<Priority> = analysis
         .flags
         .iter()
         .flat_map(|row| &row.findings)
@@ -250,7 +256,32 @@ pub fn brief(
         })
         .collect();
 
+    // Each circuit's flags are listed once, under "test first"; the circuit points there.
+    for board in &mut boards {
+        for c in &mut board.circuits {
+            let here = |p: &Priority| {
+                p.board == board.designation && p.circuit.as_deref() == Some(c.number.as_str())
+            };
+            c.test_first = (1..)
+                .zip(&test_first)
+                .filter(|(_, p)| here(p))
+                .map(|(n, _)| n)
+                .collect();
+            c.other_flags = c
+                .flags
+                .iter()
+                .filter(|f| {
+                    !test_first
+                        .iter()
+                        .any(|p| here(p) && **f == format!("{}: {}", p.severity, p.reason))
+                })
+                .cloned()
+                .collect();
+        }
+    }
+
     let last = analysis.visits.last();
+    let today = analysis.settings.today;
     let instrument_checks = instruments
         .iter()
         .filter_map(|i| match i.calibration_due {
@@ -258,9 +289,7 @@ pub fn brief(
                 serial: i.serial.clone(),
                 description: i.description.clone(),
                 calibration_due: Some(due),
-                why: format!(
-                    "calibration runs out on {due}, before the visit on {date}: recalibrate it or take another instrument"
-                ),
+                why: calibration_words(due, date, today),
             }),
             Some(_) => None,
             None => Some(InstrumentCheck {
@@ -288,6 +317,46 @@ pub fn brief(
         instruments_known: instruments.len(),
         notes,
         caution: crate::CAUTION,
+    }
+}
+
+/// Why an instrument whose calibration runs out on `due`, before the visit on `date`, must be
+/// seen to: one that has already lapsed (by `today`) says so, with the date and how long ago.
+fn calibration_words(due: NaiveDate, date: NaiveDate, today: NaiveDate) -> String {
+    if due < today {
+        format!(
+            "calibration lapsed on {due}, {} ago: recalibrate it or take another instrument",
+            elapsed(due, today)
+        )
+    } else {
+        format!(
+            "calibration runs out on {due}, before the visit on {date}: recalibrate it or take another instrument"
+        )
+    }
+}
+
+/// The whole years and months from `from` to `to` ("10 years 10 months", "1 year", "3
+/// months"), or the days when under a month.
+fn elapsed(from: NaiveDate, to: NaiveDate) -> String {
+    use chrono::Datelike;
+    let mut months = (to.year() - from.year()) * 12 + to.month() as i32 - from.month() as i32;
+    if to.day() < from.day() {
+        months -= 1;
+    }
+    let plural =
+        |n: i64, one: &str, many: &str| crate::report::html::count(n.max(0) as usize, one, many);
+    if months <= 0 {
+        return plural((to - from).num_days(), "day", "days");
+    }
+    let (y, m) = (months / 12, months % 12);
+    match (y, m) {
+        (0, m) => plural(m.into(), "month", "months"),
+        (y, 0) => plural(y.into(), "year", "years"),
+        (y, m) => format!(
+            "{} {}",
+            plural(y.into(), "year", "years"),
+            plural(m.into(), "month", "months")
+        ),
     }
 }
 
@@ -384,6 +453,8 @@ fn circuit_brief(
             .iter()
             .map(|f| format!("{}: {}", f.severity, f.reason))
             .collect(),
+        test_first: Vec::new(),
+        other_flags: Vec::new(),
         notes,
     }
 }
@@ -703,6 +774,18 @@ mod tests {
     }
 
     #[test]
+    fn elapsed_time_in_whole_years_months_or_days() {
+        assert_eq!(elapsed(day("2024-01-31"), day("2024-02-29")), "29 days");
+        assert_eq!(elapsed(day("2025-01-15"), day("2025-03-15")), "2 months");
+        assert_eq!(elapsed(day("2025-01-15"), day("2025-03-14")), "1 month");
+        assert_eq!(elapsed(day("2024-03-01"), day("2025-03-01")), "1 year");
+        assert_eq!(
+            elapsed(day("2016-01-31"), day("2026-12-02")),
+            "10 years 10 months"
+        );
+    }
+
+    #[test]
     fn default_temperature_flags_calibration_and_observations() {
         let (s, id) = invented(&[
             ("2020-01-01", 20.0, 0.50, 0.70),
@@ -740,6 +823,12 @@ mod tests {
                 description: None,
                 calibration_due: None,
             },
+            Instrument {
+                id: 4,
+                serial: "MFT-OLD".into(),
+                description: None,
+                calibration_due: Some(day("2016-01-31")),
+            },
         ];
         let b = brief(&a, day("2026-03-01"), None, &insts);
         assert_eq!(b.temp_c, DEFAULT_TEMP_C);
@@ -749,9 +838,23 @@ mod tests {
         assert!(!b.test_first.is_empty());
         assert_eq!(b.test_first[0].circuit.as_deref(), Some("1"));
         assert!(!b.boards[0].circuits[0].flags.is_empty());
-        // MFT-A lapses before the visit, MFT-B does not, MFT-C has no date.
+        // MFT-A lapses before the visit, MFT-B does not, MFT-C has no date, and MFT-OLD
+        // lapsed long before today (2025-01-01): 2016-01-31 to 2024-12-31 is 8 years 11 months.
         let serials: Vec<&str> = b.instruments.iter().map(|i| i.serial.as_str()).collect();
-        assert_eq!(serials, ["MFT-A", "MFT-C"]);
+        assert_eq!(serials, ["MFT-A", "MFT-C", "MFT-OLD"]);
+        assert_eq!(
+            b.instruments[0].why,
+            "calibration runs out on 2026-02-01, before the visit on 2026-03-01: recalibrate it or take another instrument"
+        );
+        assert_eq!(
+            b.instruments[2].why,
+            "calibration lapsed on 2016-01-31, 8 years 11 months ago: recalibrate it or take another instrument"
+        );
+        // The circuit's flags are the brief's "test first" items, given there and pointed at.
+        let c = &b.boards[0].circuits[0];
+        assert_eq!(c.test_first, (1..=b.test_first.len()).collect::<Vec<_>>());
+        assert_eq!(c.flags.len(), b.test_first.len());
+        assert!(c.other_flags.is_empty(), "{:?}", c.other_flags);
         assert_eq!(b.observations.len(), 1);
         assert_eq!(b.observations[0].text, "No RCD on the lighting");
         assert_eq!(b.caution, crate::CAUTION);

@@ -21,6 +21,16 @@ pub use brief::{
 pub use entry::{Entry, EntryError, Field, Unit, parse_entry};
 pub use verdict::{Judgement, Verdict, judge};
 
+/// Where a circuit's flags stand in the brief's "test first" list, for the printed brief to
+/// point at rather than repeat ("flagged: see test first 1, 2, 3"); `None` when none are there.
+pub fn test_first_refs(c: &CircuitBrief) -> Option<String> {
+    if c.test_first.is_empty() {
+        return None;
+    }
+    let items: Vec<String> = c.test_first.iter().map(|n| n.to_string()).collect();
+    Some(format!("flagged: see test first {}", items.join(", ")))
+}
+
 /// Header of the brief's CSV.
 pub const CSV_HEADER: [&str; 15] = [
     "property_ref",

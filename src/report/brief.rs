@@ -230,7 +230,10 @@ pub fn brief_html(b: &Brief) -> String {
                     .map(|d| d.to_string())
                     .unwrap_or_else(|| "never".into())
             );
-            for f in &c.flags {
+            if let Some(refs) = crate::onsite::test_first_refs(c) {
+                let _ = write!(h, "<p class=\"flag\">{}</p>", esc(&refs));
+            }
+            for f in &c.other_flags {
                 let _ = write!(h, "<p class=\"flag\">Flag: {}</p>", esc(f));
             }
             h.push_str(
@@ -339,6 +342,8 @@ mod tests {
                     last_readings: None,
                     expectations: vec![e],
                     flags: vec![],
+                    test_first: vec![],
+                    other_flags: vec![],
                     notes: vec![],
                 }],
             }],
