@@ -249,7 +249,7 @@ pub enum EntryError {
         given: String,
         unit: &'static str,
     },
-    #[error("{text:?}: an over-range reading (>) is for insulation resistance only")]
+    #[error("{text:?}: an over-range reading (>200, 200+) is for insulation resistance only")]
     OverRangeNotInsulation { text: String },
     #[error("{text:?} is out of range: expected at most {max} {unit}")]
     TooLarge {
@@ -295,7 +295,8 @@ fn max_for(u: Unit) -> f64 {
 }
 
 /// Parse what was typed for a field: a number with an optional unit that must match the
-/// field, `>200` (insulation only), `LIM`, `N/A` (also `NA`, `-`), or empty to skip.
+/// field, `>200` or `200+` (over range, insulation only), `LIM`, `N/A` (also `NA`, `-`), or
+/// empty to skip.
 pub fn parse_entry(field: Field, text: &str) -> Result<Entry, EntryError> {
     let t = text.trim();
     if t.is_empty() {
@@ -322,6 +323,14 @@ pub fn parse_entry(field: Field, text: &str) -> Result<Entry, EntryError> {
         .map(|(i, _)| i)
         .unwrap_or(body.len());
     let (num, rest) = body.split_at(split);
+    // `999+` is how some instruments show over range: the same lower bound as `>999`.
+    let (over, num) = match num.strip_suffix('+') {
+        Some(n) if !over && n.starts_with(|c: char| c.is_ascii_digit()) => (true, n),
+        _ => (over, num),
+    };
+    if over && !field.is_insulation() {
+        return Err(EntryError::OverRangeNotInsulation { text: t.into() });
+    }
     let rest = rest.trim();
     if rest.starts_with(',') && rest[1..].starts_with(|c: char| c.is_ascii_digit()) {
         return Err(EntryError::DecimalComma { text: t.into() });
@@ -484,6 +493,20 @@ mod tests {
             parse_entry(Field::R1r2, ">2"),
             Err(EntryError::OverRangeNotInsulation { .. })
         ));
+        // Some instruments show over range as 999+: the same lower bound as >999.
+        assert_eq!(
+            parse_entry(Field::IrLe, "999+"),
+            Ok(Entry::OverRange(999.0))
+        );
+        assert_eq!(
+            parse_entry(Field::IrLl, "999+ MΩ"),
+            Ok(Entry::OverRange(999.0))
+        );
+        assert!(matches!(
+            parse_entry(Field::Zs, "2+"),
+            Err(EntryError::OverRangeNotInsulation { .. })
+        ));
+        assert!(parse_entry(Field::IrLe, ">999+").is_err());
         assert!(matches!(
             parse_entry(Field::R1r2, "0,35"),
             Err(EntryError::DecimalComma { .. })

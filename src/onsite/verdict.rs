@@ -210,6 +210,17 @@ pub fn judge(e: &Expectation, entry: &Entry) -> Judgement {
     if let Some(lo) = low
         && v < lo - 1e-9
     {
+        // Two over-range readings are two lower bounds: an instrument with a lower top of
+        // range today says nothing against the last visit's (common practice, no source).
+        if over && let Some(last) = e.last.as_ref().filter(|l| l.over_range) {
+            return j(
+                Verdict::Within,
+                format!(
+                    "OVER RANGE AS BEFORE: {f} {shown}; over range at the last visit too (>{}), and two lower bounds agree{within_limit}",
+                    fmt_in(u, last.raw)
+                ),
+            );
+        }
         if over {
             return j(
                 Verdict::Indeterminate,
@@ -367,6 +378,26 @@ mod tests {
         assert_eq!(
             judge(&ir, &Entry::OverRange(50.0)).verdict,
             Verdict::Indeterminate
+        );
+        // Unless the last reading was over range too: two lower bounds agree, whatever each
+        // instrument's top of range.
+        let after_over = Expectation {
+            last: Some(crate::onsite::brief::LastReading {
+                date: chrono::NaiveDate::from_ymd_opt(2024, 5, 1).unwrap(),
+                raw: 999.0,
+                over_range: true,
+                ambient_c: Some(14.0),
+            }),
+            ..ir.clone()
+        };
+        let j = judge(&after_over, &Entry::OverRange(50.0));
+        assert_eq!(j.verdict, Verdict::Within, "{}", j.sentence);
+        assert!(!j.sentence.contains("CANNOT COMPARE"), "{}", j.sentence);
+        assert!(j.sentence.contains("(>999 MΩ)"), "{}", j.sentence);
+        // A reading below the band is still judged as such.
+        assert_eq!(
+            judge(&after_over, &Entry::Value(20.0)).verdict,
+            Verdict::Worse
         );
         assert_eq!(judge(&ir, &Entry::Limitation).verdict, Verdict::Limitation);
         assert_eq!(judge(&ir, &Entry::Skip).verdict, Verdict::Skipped);
