@@ -443,6 +443,7 @@ fn answer(p: &mut Session, prompt: &str, line: &str) {
 fn interactive_session_survives_a_kill_and_resumes_every_value() {
     let e = Env::with_history();
     let mut p = e.spawn(&["record", "P-9", "--date", "2025-03-01", "--temp", "15"]);
+    answer(&mut p, "Inspector carrying out the test", "A. Tester");
     answer(&mut p, "Ze [Ω]", "0.21");
     p.expect("WITHIN THE BAND").unwrap();
     answer(&mut p, "Fitted as in the register (B32, 2.5/1.5 mm²)", "");
@@ -460,6 +461,7 @@ fn interactive_session_survives_a_kill_and_resumes_every_value() {
     let s = e.store();
     let v = pending(&s);
     assert_eq!(v.ambient_c, Some(15.0));
+    assert_eq!(v.inspector.as_deref(), Some("A. Tester"));
     let c1 = readings(&s, v.id, "1");
     assert_eq!(c1.r1r2_ohm, Some(0.55));
     assert_eq!(
@@ -480,7 +482,7 @@ fn interactive_session_survives_a_kill_and_resumes_every_value() {
     answer(&mut p, "Zs [Ω]", "0.75");
     p.expect("WITHIN THE BAND").unwrap();
     answer(&mut p, "Fitted as in the register (B6, 1.5/1 mm²)", "B10");
-    p.expect("recorded as a circuit change (device changed): device B6 → B10")
+    p.expect("CU/2: recorded as a circuit change (device changed): device B6 → B10")
         .unwrap();
     answer(&mut p, "R1+R2 [Ω]", "");
     answer(&mut p, "R1+Rn [Ω]", "N/A");
@@ -488,6 +490,7 @@ fn interactive_session_survives_a_kill_and_resumes_every_value() {
     p.expect("limitation").unwrap();
     answer(&mut p, "IR L–E [MΩ]", "150");
     answer(&mut p, "Zs [Ω]", "1.81");
+    answer(&mut p, "not in the register?", "");
     answer(&mut p, "Finish the visit", "y");
     p.expect("finished").unwrap();
     p.expect(Eof).unwrap();
@@ -518,7 +521,16 @@ fn interactive_session_survives_a_kill_and_resumes_every_value() {
 #[test]
 fn bad_input_at_the_prompt_re_asks_and_stores_nothing_wrong() {
     let e = Env::with_history();
-    let mut p = e.spawn(&["record", "P-9", "--date", "2025-03-01", "--temp", "15"]);
+    let mut p = e.spawn(&[
+        "record",
+        "P-9",
+        "--date",
+        "2025-03-01",
+        "--temp",
+        "15",
+        "--inspector",
+        "A. Tester",
+    ]);
     answer(&mut p, "Ze [Ω]", "");
     answer(&mut p, "Fitted as in the register", "Q77");
     p.expect("NOT STORED").unwrap();
@@ -693,4 +705,114 @@ fn counts_of_one_read_in_the_singular() {
     let html = std::fs::read_to_string(&html).unwrap();
     assert!(html.contains("The one instrument in the register is in calibration"));
     assert!(!html.contains("(s)"));
+}
+
+/// A first visit to a board with no circuits in the register: `record` asks for the
+/// inspector, then for each circuit found (number, what it supplies, device, RCD), adds it to
+/// the register as `circuit add` does, and takes its readings. Invented property and readings.
+#[test]
+fn record_adds_circuits_found_on_a_first_visit() {
+    let e = Env::new();
+    e.ok(
+        &["property", "add", "P-1", "--address", "1 Invented Row"],
+        "",
+    );
+    e.ok(&["board", "add", "P-1", "CU", "--earthing", "TN-C-S"], "");
+    let mut p = e.spawn(&["record", "P-1", "--date", "2025-03-01", "--temp", "14"]);
+    answer(&mut p, "Inspector carrying out the test", "B. Sparkwright");
+    answer(&mut p, "Ze [Ω]", "0.27");
+    answer(&mut p, "not in the register?", "1");
+    answer(&mut p, "What it supplies", "Sockets, kitchen");
+    answer(&mut p, "Protective device", "B77");
+    p.expect("NOT STORED").unwrap();
+    answer(&mut p, "Protective device", "B32");
+    answer(&mut p, "RCD protecting it", "30");
+    p.expect("added circuit CU/1 to the register with B32")
+        .unwrap();
+    answer(&mut p, "R1+R2 [Ω]", "0.46");
+    p.expect("no history to compare with").unwrap();
+    answer(&mut p, "R1+Rn [Ω]", "0.31");
+    answer(&mut p, "IR L–L [MΩ]", ">999");
+    answer(&mut p, "IR L–E [MΩ]", "999+");
+    answer(&mut p, "Zs [Ω]", "0.74");
+    answer(&mut p, "RCD at 5 × IΔn", "19");
+    answer(&mut p, "RCD at 1 × IΔn", "27");
+    // A number the board already has is refused, and asked again.
+    answer(&mut p, "not in the register?", "1");
+    answer(&mut p, "What it supplies", "Lights");
+    answer(&mut p, "Protective device", "B6");
+    answer(&mut p, "RCD protecting it", "");
+    p.expect("NOT ADDED").unwrap();
+    answer(&mut p, "not in the register?", "2");
+    answer(&mut p, "What it supplies", "Lights");
+    answer(&mut p, "Protective device", "B6");
+    answer(&mut p, "RCD protecting it", "");
+    answer(&mut p, "R1+R2 [Ω]", "1.21");
+    answer(&mut p, "R1+Rn [Ω]", "");
+    answer(&mut p, "IR L–L [MΩ]", "");
+    answer(&mut p, "IR L–E [MΩ]", ">200");
+    answer(&mut p, "Zs [Ω]", "1.49");
+    answer(&mut p, "not in the register?", "");
+    answer(&mut p, "Finish the visit", "y");
+    p.expect("finished").unwrap();
+    p.expect(Eof).unwrap();
+
+    let s = e.store();
+    let pid = s.property("P-1").unwrap().id;
+    let visits = s.property_visits(pid).unwrap();
+    assert_eq!(visits.len(), 1);
+    let v = &visits[0];
+    assert_eq!(v.state, VisitState::Complete);
+    assert_eq!(v.inspector.as_deref(), Some("B. Sparkwright"));
+    let c1 = s.find_circuit("P-1", "CU", "1").unwrap();
+    assert_eq!(c1.device.unwrap().to_string(), "B32");
+    assert_eq!(c1.rcd_ma, Some(30));
+    assert_eq!(c1.description.as_deref(), Some("Sockets, kitchen"));
+    let c2 = s.find_circuit("P-1", "CU", "2").unwrap();
+    assert_eq!(c2.device.unwrap().to_string(), "B6");
+    assert_eq!(c2.rcd_ma, None);
+    let on_p1 = |c: &ohmtrail::model::Circuit| {
+        s.test_record(v.id, c.id)
+            .unwrap()
+            .map(|t| t.readings)
+            .unwrap_or_default()
+    };
+    let r1 = on_p1(&c1);
+    assert_eq!(r1.r1r2_ohm, Some(0.46));
+    assert_eq!(r1.zs_ohm, Some(0.74));
+    assert_eq!(r1.rcd_ms, Some(27.0));
+    assert_eq!(
+        r1.ir_le,
+        Some(Megohms {
+            value: 999.0,
+            over_range: true
+        })
+    );
+    assert_eq!(on_p1(&c2).zs_ohm, Some(1.49));
+}
+
+/// Insulation over range at the last visit and over range again (`>50`, `50+`: another
+/// instrument's lower top of range) is no reason to warn "cannot compare": both readings are
+/// lower bounds, and they agree. In the line mode a device change names its circuit.
+#[test]
+fn an_over_range_insulation_reading_after_an_over_range_one_agrees() {
+    let e = Env::with_history();
+    let out = e.ok(
+        &[
+            "record",
+            "P-9",
+            "--date",
+            "2025-03-01",
+            "--temp",
+            "15",
+            "--no-finish",
+        ],
+        "CU,1,ir_le_mohm,>50\nCU,1,ir_le_mohm,50+\nCU,2,device,B10\n",
+    );
+    assert_eq!(out.matches("OVER RANGE AS BEFORE").count(), 2, "{out}");
+    assert!(!out.contains("CANNOT COMPARE"), "{out}");
+    assert!(
+        out.contains("CU/2: recorded as a circuit change (device changed): device B6 → B10"),
+        "{out}"
+    );
 }

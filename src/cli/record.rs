@@ -26,7 +26,7 @@ visit-file columns (ze_ohm with the circuit empty, r1r2_ohm, r1rn_ohm, r2_ohm, r
 ring_rn_ohm, ring_r2_ohm, zs_ohm, ir_ll_mohm, ir_le_mohm, rcd_5x_ms, rcd_ms) or their short \
 names without the unit as the worklist prints them (ze, r1r2, zs, ir_le, rcd, rcd_5x, ...), plus `device` \
 (the device fitted) and `cable` (live/cpc mm² fitted). Values as in the visit file: a number with \
-an optional matching unit, >200, LIM, N/A. Each value is stored at once; the visit is completed \
+an optional matching unit, >200 or 200+ (over range), LIM, N/A. Each value is stored at once; the visit is completed \
 at the end of the input unless a line was refused or --no-finish is given."
 )]
 pub struct Args {
@@ -127,11 +127,23 @@ pub fn run(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
                 },
                 None => None,
             };
+            // Who tested goes on the visit, as a visit file's `inspector` column does.
+            let inspector = match &args.inspector {
+                Some(name) => Some(name.clone()),
+                None if !line_mode => match ask_inspector(out)? {
+                    Some(name) => name,
+                    None => {
+                        writeln!(out, "stopped before the visit began: nothing stored")?;
+                        return Ok(());
+                    }
+                },
+                None => None,
+            };
             let v = store.add_visit(
                 property.id,
                 &NewVisit {
                     date: Some(date),
-                    inspector: args.inspector.clone(),
+                    inspector,
                     instrument: args.instrument.clone(),
                     ambient_c: ambient,
                     ..Default::default()
@@ -237,6 +249,30 @@ fn ask_temperature(out: &mut dyn Write) -> Result<Option<Option<f64>>> {
     }
 }
 
+/// The inspector's name; `Some(None)` when left blank, `None` at the end of input.
+fn ask_inspector(out: &mut dyn Write) -> Result<Option<Option<String>>> {
+    let stdin = std::io::stdin();
+    let mut input = stdin.lock();
+    loop {
+        let Some(name) = ask(
+            &mut input,
+            out,
+            "Inspector carrying out the test, as the visit record should name them (Enter to leave blank): ",
+        )?
+        else {
+            return Ok(None);
+        };
+        let name = name.trim();
+        if name.is_empty() {
+            return Ok(Some(None));
+        }
+        match ohmtrail::store::check_text("inspector", Some(name)) {
+            Ok(()) => return Ok(Some(Some(name.to_string()))),
+            Err(e) => writeln!(out, "  not accepted: {e}; try again")?,
+        }
+    }
+}
+
 fn register_text(c: &CircuitBrief) -> String {
     format!(
         "{}, {}",
@@ -287,6 +323,7 @@ fn run_prompts(
             Step::Fitted { board, circuit } | Step::Value { board, circuit, .. } => {
                 (board, Some(circuit))
             }
+            Step::NewCircuit { board } => (board, None),
         };
         let board = &brief.boards[b];
         if shown.0 != Some(b) {
@@ -343,7 +380,8 @@ fn run_prompts(
                 circuit: ci,
             } => {
                 let cb = brief.boards[bi].circuits[ci].clone();
-                match ask_fitted(store, visit, &cb, input, out)? {
+                let board = brief.boards[bi].designation.clone();
+                match ask_fitted(store, visit, (&board, &cb), input, out)? {
                     None => return paused(out, &r, visit),
                     Some(false) => {}
                     Some(true) => {
@@ -372,6 +410,21 @@ fn run_prompts(
                         .update_reading(visit.id, cb.circuit_id, |rd| e.field.apply(rd, &entry))?;
                 }
                 say(out, e, &entry)?;
+            }
+            Step::NewCircuit { board: bi } => {
+                let board = brief.boards[bi].designation.clone();
+                match ask_new_circuit(store, &r, &board, input, out)? {
+                    None => return paused(out, &r, visit),
+                    Some(None) => {}
+                    Some(Some(id)) => {
+                        // Carry on with the new circuit's readings, then ask again.
+                        brief = make_brief(store, &r, visit)?;
+                        steps = session::steps(&brief);
+                        shown = (None, None);
+                        i = session::first_value_of(&brief, &steps, id).unwrap_or(i + 1);
+                        continue;
+                    }
+                }
             }
         }
         i += 1;
@@ -429,12 +482,102 @@ fn say(out: &mut dyn Write, e: &Expectation, entry: &Entry) -> Result<()> {
     Ok(())
 }
 
+/// Ask for a circuit on `board` that the register does not have: its number, description,
+/// device and RCD, added to the register as `circuit add` does. `Some(Some(id))` when one was
+/// added, `Some(None)` when there is none, `None` at the end of input.
+fn ask_new_circuit(
+    store: &Store,
+    reference: &str,
+    board: &str,
+    input: &mut dyn BufRead,
+    out: &mut dyn Write,
+) -> Result<Option<Option<i64>>> {
+    loop {
+        let Some(number) = ask(
+            input,
+            out,
+            &format!(
+                "A circuit on board {board} that is not in the register? Type its number, or Enter if none > "
+            ),
+        )?
+        else {
+            return Ok(None);
+        };
+        let number = number.trim().to_string();
+        if number.is_empty() {
+            return Ok(Some(None));
+        }
+        let Some(description) = ask(input, out, "   What it supplies (Enter to leave blank) > ")?
+        else {
+            return Ok(None);
+        };
+        let device = loop {
+            let Some(text) = ask(
+                input,
+                out,
+                "   Protective device, e.g. B32, RCBO B16 (Enter if not known) > ",
+            )?
+            else {
+                return Ok(None);
+            };
+            if text.trim().is_empty() {
+                break None;
+            }
+            match text.trim().parse::<ohmtrail::model::Device>() {
+                Ok(d) => break Some(d),
+                Err(e) => writeln!(out, "   NOT STORED: {e}; try again")?,
+            }
+        };
+        let rcd_ma = loop {
+            let Some(text) = ask(
+                input,
+                out,
+                "   RCD protecting it, IΔn in mA, e.g. 30 (Enter if none) > ",
+            )?
+            else {
+                return Ok(None);
+            };
+            let t = text.trim().trim_end_matches("mA").trim();
+            if t.is_empty() {
+                break None;
+            }
+            match t.parse::<u16>() {
+                Ok(ma) if ma > 0 => break Some(ma),
+                _ => writeln!(
+                    out,
+                    "   NOT STORED: {text:?} is not a rated residual current: expected whole mA, e.g. 30; try again"
+                )?,
+            }
+        };
+        let details = CircuitDetails {
+            description: Some(description.trim().to_string()).filter(|d| !d.is_empty()),
+            device,
+            rcd_ma,
+            ..Default::default()
+        };
+        match store.add_circuit(reference, board, &number, &details) {
+            Ok(c) => {
+                writeln!(
+                    out,
+                    "   added circuit {board}/{} to the register{}",
+                    c.number,
+                    device
+                        .map(|d| format!(" with {d}"))
+                        .unwrap_or_else(|| ", device not recorded".into())
+                )?;
+                return Ok(Some(Some(c.id)));
+            }
+            Err(e) => writeln!(out, "   NOT ADDED: {e}; try again")?,
+        }
+    }
+}
+
 /// Ask whether the device and cable are as the register says; record a change when not.
 /// `Some(true)` when the register changed, `None` at the end of input.
 fn ask_fitted(
     store: &Store,
     visit: &Visit,
-    c: &CircuitBrief,
+    (board, c): (&str, &CircuitBrief),
     input: &mut dyn BufRead,
     out: &mut dyn Write,
 ) -> Result<Option<bool>> {
@@ -460,7 +603,7 @@ fn ask_fitted(
             match record_change(
                 store,
                 visit,
-                c,
+                (board, c),
                 &CircuitDetails {
                     device: Some(d),
                     ..Default::default()
@@ -496,7 +639,7 @@ fn ask_fitted(
             match record_change(
                 store,
                 visit,
-                c,
+                (board, c),
                 &CircuitDetails {
                     live_mm2: Some(l),
                     cpc_mm2: Some(p),
@@ -519,7 +662,7 @@ fn ask_fitted(
 fn record_change(
     store: &Store,
     visit: &Visit,
-    c: &CircuitBrief,
+    (board, c): (&str, &CircuitBrief),
     details: &CircuitDetails,
     kind: ChangeKind,
     out: &mut dyn Write,
@@ -536,7 +679,7 @@ fn record_change(
     .collect();
     if let Some(later) = store.later_history(c.circuit_id, visit.date, &fields)? {
         bail!(
-            "circuit {} on {}: a register change dated {} would alter the {later} already recorded: record the change at a visit after the circuit's later history, or with `ohmtrail circuit edit` and the date it was made",
+            "circuit {board}/{} on {}: a register change dated {} would alter the {later} already recorded: record the change at a visit after the circuit's later history, or with `ohmtrail circuit edit` and the date it was made",
             c.number,
             visit.date,
             visit.date
@@ -553,7 +696,8 @@ fn record_change(
     for ch in &changes {
         writeln!(
             out,
-            "   recorded as a circuit change ({}): {} {} → {}",
+            "   {board}/{}: recorded as a circuit change ({}): {} {} → {}",
+            c.number,
             kind.as_str().replace('_', " "),
             ch.field.as_deref().unwrap_or(""),
             ch.old_value.as_deref().unwrap_or("not recorded"),
@@ -744,7 +888,7 @@ fn apply_line(
             let changed = record_change(
                 store,
                 visit,
-                c,
+                (&board.designation, c),
                 &CircuitDetails {
                     device: Some(d),
                     ..Default::default()
@@ -763,7 +907,7 @@ fn apply_line(
             let changed = record_change(
                 store,
                 visit,
-                c,
+                (&board.designation, c),
                 &CircuitDetails {
                     live_mm2: Some(l),
                     cpc_mm2: Some(p),

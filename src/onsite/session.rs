@@ -23,9 +23,13 @@ pub enum Step {
         circuit: usize,
         exp: usize,
     },
+    /// Whether the board has a circuit the register does not (found on site, or a first
+    /// visit to a board with no circuits yet), to be added and tested.
+    NewCircuit { board: usize },
 }
 
-/// Every prompt of a session, board by board, circuit by circuit.
+/// Every prompt of a session, board by board, circuit by circuit, each board ending with the
+/// question of a circuit the register does not have.
 pub fn steps(brief: &Brief) -> Vec<Step> {
     let mut out = Vec::new();
     for (b, board) in brief.boards.iter().enumerate() {
@@ -43,8 +47,20 @@ pub fn steps(brief: &Brief) -> Vec<Step> {
                 });
             }
         }
+        out.push(Step::NewCircuit { board: b });
     }
     out
+}
+
+/// The first reading of the circuit `circuit_id` (one just added: its register details were
+/// given, so it is not asked whether it is fitted as the register says).
+pub fn first_value_of(brief: &Brief, steps: &[Step], circuit_id: i64) -> Option<usize> {
+    steps.iter().position(|s| match *s {
+        Step::Value { board, circuit, .. } => {
+            brief.boards[board].circuits[circuit].circuit_id == circuit_id
+        }
+        _ => false,
+    })
 }
 
 /// What a pending visit already holds, to find where a session stopped.
@@ -74,6 +90,8 @@ impl Progress {
                 self.values
                     .contains(&(c.circuit_id, c.expectations[exp].field))
             }
+            // Nothing is stored for it: a circuit added shows as its own readings.
+            Step::NewCircuit { .. } => false,
         }
     }
 
@@ -99,6 +117,7 @@ pub fn step_expectation(
 ) -> (Option<&CircuitBrief>, Option<&Expectation>) {
     match step {
         Step::Ze { board } => (None, Some(&brief.boards[board].ze)),
+        Step::NewCircuit { .. } => (None, None),
         Step::Fitted { board, circuit } => (Some(&brief.boards[board].circuits[circuit]), None),
         Step::Value {
             board,
