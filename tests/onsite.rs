@@ -816,3 +816,120 @@ fn an_over_range_insulation_reading_after_an_over_range_one_agrees() {
         "{out}"
     );
 }
+
+/// The circuits in service on board CU of P-9, by number.
+fn cu_numbers(store: &Store) -> Vec<String> {
+    let p = store.property("P-9").unwrap();
+    let board = store.boards(p.id).unwrap()[0].id;
+    store
+        .circuits(board)
+        .unwrap()
+        .into_iter()
+        .map(|c| c.number)
+        .collect()
+}
+
+/// A circuit added during an interactive visit that is then cut off (killed) and abandoned
+/// leaves the register as it was before the visit: the circuit goes with the visit.
+#[test]
+fn abandoning_a_visit_removes_the_circuit_added_at_it() {
+    let e = Env::with_history();
+    let mut p = e.spawn(&["record", "P-9", "--date", "2025-03-01", "--temp", "15"]);
+    answer(&mut p, "Inspector carrying out the test", "A. Tester");
+    answer(&mut p, "Ze [Ω]", "0.21");
+    answer(&mut p, "Fitted as in the register (B32, 2.5/1.5 mm²)", "");
+    for prompt in ["R1+R2", "R1+Rn", "IR L–L", "IR L–E", "Zs"] {
+        answer(&mut p, prompt, "");
+    }
+    answer(&mut p, "Fitted as in the register (B6, 1.5/1 mm²)", "");
+    for prompt in ["R1+R2", "R1+Rn", "IR L–L", "IR L–E", "Zs"] {
+        answer(&mut p, prompt, "");
+    }
+    answer(&mut p, "not in the register?", "3");
+    answer(&mut p, "What it supplies", "Garage");
+    answer(&mut p, "Protective device", "B16");
+    answer(&mut p, "RCD protecting it", "30");
+    p.expect("added circuit CU/3 to the register with B16")
+        .unwrap();
+    answer(&mut p, "R1+R2 [Ω]", "0.83");
+    p.expect("R1+Rn [Ω]").unwrap();
+    p.get_process_mut().kill(Signal::SIGKILL).unwrap();
+    let _ = p.get_process().wait();
+
+    let s = e.store();
+    let v = pending(&s);
+    assert_eq!(cu_numbers(&s), ["1", "2", "3"]);
+    assert_eq!(readings(&s, v.id, "3").r1r2_ohm, Some(0.83));
+
+    let out = e.ok(&["record", "P-9", "--abandon"], "");
+    assert!(
+        out.contains("1 circuit added at it taken out of the register"),
+        "{out}"
+    );
+    assert_eq!(cu_numbers(&s), ["1", "2"]);
+    assert!(s.find_circuit("P-9", "CU", "3").is_err());
+    for n in ["1", "2"] {
+        let c = s.find_circuit("P-9", "CU", n).unwrap();
+        assert!(s.changes(c.id).unwrap().is_empty(), "circuit {n}");
+    }
+    assert!(s.visit_on(v.property_id, v.date).unwrap().is_none());
+    // The number is free again, as before the visit.
+    e.ok(&["circuit", "add", "P-9", "CU", "3", "--device", "B20"], "");
+}
+
+/// The line mode adds a circuit the register lacks with an `add` line (what it supplies, the
+/// device, the RCD, as the prompts ask), takes its readings from the lines after it, and an
+/// abandoned visit takes it out again.
+#[test]
+fn line_mode_adds_a_circuit_and_abandon_takes_it_out() {
+    let e = Env::with_history();
+    let out = e.ok(
+        &["record", "P-9", "--date", "2025-02-01", "--temp", "20"],
+        "CU,,ze_ohm,0.21\nCU,3,add,\"Sockets, garage\",RCBO B20,30\nCU,3,r1r2_ohm,0.61\n\
+         CU,3,zs_ohm,0.83\nCU,4,add,Loft lights\nCU,4,r1r2_ohm,1.12\n",
+    );
+    assert!(
+        out.contains("added circuit CU/3 to the register with RCBO B20"),
+        "{out}"
+    );
+    assert!(
+        out.contains("added circuit CU/4 to the register, device not recorded"),
+        "{out}"
+    );
+    assert!(out.contains("finished"), "{out}");
+    let s = e.store();
+    let pid = s.property("P-9").unwrap().id;
+    let v = s
+        .visit_on(pid, chrono::NaiveDate::from_ymd_opt(2025, 2, 1).unwrap())
+        .unwrap()
+        .unwrap();
+    assert_eq!(v.state, VisitState::Complete);
+    let c3 = s.find_circuit("P-9", "CU", "3").unwrap();
+    assert_eq!(c3.description.as_deref(), Some("Sockets, garage"));
+    assert_eq!(c3.device.unwrap().to_string(), "RCBO B20");
+    assert_eq!(c3.rcd_ma, Some(30));
+    assert_eq!(readings(&s, v.id, "3").zs_ohm, Some(0.83));
+    assert_eq!(readings(&s, v.id, "4").r1r2_ohm, Some(1.12));
+    // A number the board already has is refused, naming the line.
+    e.cmd(
+        &["record", "P-9", "--date", "2025-03-01", "--no-finish"],
+        "CU,1,add,Sockets\n",
+    )
+    .failure()
+    .stderr(predicates::str::contains(
+        "line 1: board \"CU\" already has a circuit 1",
+    ));
+    e.ok(&["record", "P-9", "--abandon"], "");
+
+    e.ok(
+        &["record", "P-9", "--date", "2025-03-01", "--no-finish"],
+        "CU,5,add,Shed,B16\nCU,5,r1r2_ohm,0.95\n",
+    );
+    assert!(cu_numbers(&s).contains(&"5".to_string()));
+    let out = e.ok(&["record", "P-9", "--abandon"], "");
+    assert!(
+        out.contains("1 circuit added at it taken out of the register"),
+        "{out}"
+    );
+    assert_eq!(cu_numbers(&s), ["1", "2", "3", "4"]);
+}

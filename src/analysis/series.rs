@@ -99,6 +99,8 @@ fn event_words(
     match (field, old, new) {
         (Some(f), Some(o), Some(n)) if f != "circuit" => format!("{what}: {f} {o} → {n}"),
         (_, Some(o), Some(n)) => format!("{what}: {o} → {n}"),
+        // A circuit the register lacked, added at a visit (`Store::add_circuit_at_visit`).
+        (Some("circuit"), None, Some(n)) => format!("{n} added to the register"),
         _ => what,
     }
 }
