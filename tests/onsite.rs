@@ -933,3 +933,81 @@ fn line_mode_adds_a_circuit_and_abandon_takes_it_out() {
     );
     assert_eq!(cu_numbers(&s), ["1", "2", "3", "4"]);
 }
+
+/// A sub-board with no circuits in the register is in the brief (text and page), saying so,
+/// and `record` walks it: Zdb, then the circuits found there, interactively or by `add` lines.
+#[test]
+fn a_sub_board_with_no_circuits_is_briefed_and_walked() {
+    let e = Env::with_history();
+    e.ok(&["board", "add", "P-9", "DB2", "--fed-from", "CU"], "");
+    let text = e.ok(&["brief", "P-9", "--date", "2025-03-01"], "");
+    let at = text.find("Board DB2").expect(&text);
+    assert!(
+        text[at..].contains("no circuits recorded on this board"),
+        "{text}"
+    );
+    let html = e.dir.path().join("b.html");
+    e.ok(
+        &[
+            "brief",
+            "P-9",
+            "--date",
+            "2025-03-01",
+            "-o",
+            html.to_str().unwrap(),
+        ],
+        "",
+    );
+    let html = std::fs::read_to_string(&html).unwrap();
+    assert!(html.contains("Board DB2"), "{html}");
+    assert!(html.contains("no circuits recorded on this board"));
+
+    let mut p = e.spawn(&["record", "P-9", "--date", "2025-03-01", "--temp", "15"]);
+    answer(&mut p, "Inspector carrying out the test", "");
+    answer(&mut p, "Ze [Ω]", "");
+    for _ in 0..2 {
+        answer(&mut p, "Fitted as in the register", "");
+        for prompt in ["R1+R2", "R1+Rn", "IR L–L", "IR L–E", "Zs"] {
+            answer(&mut p, prompt, "");
+        }
+    }
+    answer(
+        &mut p,
+        "A circuit on board CU that is not in the register?",
+        "",
+    );
+    p.expect("== Board DB2 ==").unwrap();
+    p.expect("no circuits recorded on this board").unwrap();
+    answer(&mut p, "Zdb [Ω]", "0.35");
+    answer(
+        &mut p,
+        "A circuit on board DB2 that is not in the register?",
+        "1",
+    );
+    answer(&mut p, "What it supplies", "Immersion heater");
+    answer(&mut p, "Protective device", "B16");
+    answer(&mut p, "RCD protecting it", "");
+    answer(&mut p, "R1+R2 [Ω]", "0.42");
+    for prompt in ["R1+Rn", "IR L–L", "IR L–E", "Zs"] {
+        answer(&mut p, prompt, "");
+    }
+    answer(
+        &mut p,
+        "A circuit on board DB2 that is not in the register?",
+        "",
+    );
+    answer(&mut p, "Finish the visit", "y");
+    p.expect("finished").unwrap();
+    p.expect(Eof).unwrap();
+    let s = e.store();
+    let c = s.find_circuit("P-9", "DB2", "1").unwrap();
+    assert_eq!(c.description.as_deref(), Some("Immersion heater"));
+
+    // The line mode reaches such a board too.
+    e.ok(&["board", "add", "P-9", "DB3", "--fed-from", "CU"], "");
+    e.ok(
+        &["record", "P-9", "--date", "2025-04-01"],
+        "DB3,,ze_ohm,0.31\nDB3,1,add,Garage,B20\nDB3,1,zs_ohm,0.88\n",
+    );
+    assert!(s.find_circuit("P-9", "DB3", "1").is_ok());
+}

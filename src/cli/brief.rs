@@ -245,11 +245,15 @@ fn print_text(b: &Brief, out: &mut dyn Write) -> Result<()> {
                 ]);
             }
         }
-        table(
-            out,
-            &["CIRCUIT", "QUANTITY", "LAST", "EXPECTED", "BAND", "LIMIT"],
-            rows,
-        )?;
+        if board.circuits.is_empty() {
+            writeln!(out, "  {}", onsite::NO_CIRCUITS)?;
+        } else {
+            table(
+                out,
+                &["CIRCUIT", "QUANTITY", "LAST", "EXPECTED", "BAND", "LIMIT"],
+                rows,
+            )?;
+        }
         for c in &board.circuits {
             if let Some(refs) = onsite::test_first_refs(c) {
                 writeln!(out, "  {}/{}: {refs}", board.designation, c.number)?;

@@ -347,6 +347,9 @@ fn run_prompts(
                     .map(|e| format!(" ({e})"))
                     .unwrap_or_default()
             )?;
+            if board.circuits.is_empty() {
+                writeln!(out, "   {}", onsite::NO_CIRCUITS)?;
+            }
             shown = (Some(b), None);
         }
         if let Some(ci) = c
