@@ -695,7 +695,7 @@ fn flags_and_the_portfolio_by_client_hold_no_other_clients_property() {
             ],
         )
         .success()
-        .stdout(predicate::str::contains("wrote 2 property reports"));
+        .stderr(predicate::str::contains("wrote 2 property reports"));
         let mut names: Vec<String> = std::fs::read_dir(&out)
             .unwrap()
             .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())

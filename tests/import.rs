@@ -453,7 +453,7 @@ fn skip_invalid_writes_valid_rows_and_a_sidecar() {
         .arg(&file)
         .assert()
         .success()
-        .stdout(predicates::str::contains(format!(
+        .stderr(predicates::str::contains(format!(
             "rejected rows written to {}",
             sidecar.display()
         )));

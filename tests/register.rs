@@ -390,7 +390,7 @@ fn demo_builds_a_database_and_reports() {
         .assert()
         .success()
         .get_output()
-        .stdout
+        .stderr
         .clone();
     let out = String::from_utf8(out).unwrap();
     assert!(out.contains("open first:"), "{out}");
@@ -423,7 +423,7 @@ fn demo_names_its_database_in_the_next_commands_and_refuses_another() {
         .assert()
         .success()
         .get_output()
-        .stdout
+        .stderr
         .clone();
     let out = String::from_utf8(out).unwrap();
     let db = dir.join("demo.db");

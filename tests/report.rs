@@ -574,8 +574,9 @@ fn report_writes_to_the_default_name_and_says_where() {
         .args(["report", REF])
         .assert()
         .success()
-        .stdout(predicate::str::contains("wrote report report-HC-7.html"))
-        .stdout(predicate::str::contains("never replace"));
+        .stdout(predicate::str::is_empty())
+        .stderr(predicate::str::contains("wrote report report-HC-7.html"))
+        .stderr(predicate::str::contains("never replace"));
     let html = std::fs::read_to_string(dir.path().join("report-HC-7.html")).unwrap();
     assert!(html.starts_with("<!DOCTYPE html>"));
     // A reference with a slash gets a safe, distinct file name.
@@ -584,7 +585,7 @@ fn report_writes_to_the_default_name_and_says_where() {
         .assert()
         .success()
         .get_output()
-        .stdout
+        .stderr
         .clone();
     let out = String::from_utf8(out).unwrap();
     let name = out
@@ -707,8 +708,9 @@ fn portfolio_index_links_every_property_report() {
         .args(["report", "--portfolio", "-o", "out/index.html"])
         .assert()
         .success()
-        .stdout(predicate::str::contains("wrote 2 property reports"))
-        .stdout(predicate::str::contains("open first: out/index.html"));
+        .stdout(predicate::str::is_empty())
+        .stderr(predicate::str::contains("wrote 2 property reports"))
+        .stderr(predicate::str::contains("open first: out/index.html"));
     let index = std::fs::read_to_string(out_dir.join("index.html")).unwrap();
     assert!(!index.to_ascii_lowercase().contains("<script"));
     let links: Vec<&str> = index
@@ -912,4 +914,48 @@ fn assert_pretty(text: &str) {
         let only_b: Vec<_> = b.iter().filter(|l| !a.contains(l)).collect();
         panic!("not serde_json's pretty layout: {only_a:?} against {only_b:?}");
     }
+}
+
+/// Every command that writes files says what it wrote on standard error, and leaves standard
+/// output empty, so a pipe never gets a status line mixed into data: report, brief, export
+/// and import's rejected rows alike.
+#[test]
+fn commands_that_write_files_say_so_on_stderr_only() {
+    let dir = tempfile::tempdir().unwrap();
+    let db = db_with_fixture(dir.path());
+    let runs: &[(&[&str], &str)] = &[
+        (&["report", REF, "-o", "r.html"], "wrote report r.html"),
+        (
+            &["report", "--portfolio", "-o", "index.html"],
+            "wrote portfolio index index.html",
+        ),
+        (
+            &["brief", REF, "-o", "b.csv"],
+            "wrote the brief for HC-7 to b.csv",
+        ),
+        (
+            &["brief", REF, "-o", "b.html"],
+            "wrote the brief for HC-7 to b.html",
+        ),
+        (&["export", "-o", "e.csv"], "to e.csv"),
+        (&["export", "--format", "json", "-o", "e.json"], "to e.json"),
+    ];
+    for (args, said) in runs {
+        let out = cmd(&db, dir.path()).args(*args).assert().success();
+        let o = out.get_output();
+        assert!(
+            o.stdout.is_empty(),
+            "{args:?}: stdout {:?}",
+            String::from_utf8_lossy(&o.stdout)
+        );
+        let err = String::from_utf8_lossy(&o.stderr);
+        assert!(err.contains(said), "{args:?}: stderr {err}");
+    }
+    // Data sent to standard output stays clean: no status line comes with it.
+    let out = cmd(&db, dir.path())
+        .args(["report", REF, "-o", "-", "--format", "json"])
+        .assert()
+        .success();
+    let v: serde_json::Value = serde_json::from_slice(&out.get_output().stdout).unwrap();
+    assert!(v.is_object());
 }

@@ -1,7 +1,7 @@
 use std::io::Write;
 use std::path::PathBuf;
 
-use anyhow::{Context as _, Result, bail};
+use anyhow::{Result, bail};
 use chrono::NaiveDate;
 use clap::Args as ClapArgs;
 
@@ -10,7 +10,7 @@ use ohmtrail::onsite::verdict::expectation_text;
 use ohmtrail::onsite::{self, Brief, DEFAULT_TEMP_C};
 use ohmtrail::trend::LimitKind;
 
-use super::output::table;
+use super::output::{status, table, write_atomic};
 use super::{CAUTION, Context, parse_date, today};
 
 #[derive(ClapArgs, Debug)]
@@ -67,12 +67,14 @@ pub fn run(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
                     path.display()
                 ),
             };
-            std::fs::write(path, body).with_context(|| format!("{}", path.display()))?;
-            writeln!(
+            write_atomic(path, body.as_bytes())?;
+            status(
                 out,
-                "wrote the brief for {} to {}",
-                b.property_ref,
-                path.display()
+                format_args!(
+                    "wrote the brief for {} to {}",
+                    b.property_ref,
+                    path.display()
+                ),
             )?;
             Ok(())
         }
