@@ -159,7 +159,10 @@ fn line_mode_builds_history_and_the_brief_projects_it() {
         "",
     );
     let text = std::fs::read_to_string(&csv_path).unwrap();
-    let mut rdr = csv::Reader::from_reader(text.as_bytes());
+    // The caution comes first, as a comment line; a reader told so skips it.
+    let mut rdr = csv::ReaderBuilder::new()
+        .comment(Some(b'#'))
+        .from_reader(text.as_bytes());
     let header = rdr.headers().unwrap().clone();
     let col = |name: &str| header.iter().position(|h| h == name).unwrap();
     let rows: Vec<csv::StringRecord> = rdr.records().map(|r| r.unwrap()).collect();
@@ -1010,4 +1013,60 @@ fn a_sub_board_with_no_circuits_is_briefed_and_walked() {
         "DB3,,ze_ohm,0.31\nDB3,1,add,Garage,B20\nDB3,1,zs_ohm,0.88\n",
     );
     assert!(s.find_circuit("P-9", "DB3", "1").is_ok());
+}
+
+/// The brief's CSV carries the caution once, as its first line, a `#` comment; a reader that
+/// takes `#` as a comment reads the header and rows as before, and a cell that holds a `#`
+/// (here a description) is quoted, so it is neither dropped nor cut short.
+#[test]
+fn the_brief_csv_carries_the_caution_as_a_comment_line() {
+    let e = Env::with_history();
+    e.ok(
+        &[
+            "circuit",
+            "add",
+            "P-9",
+            "CU",
+            "3",
+            "--description",
+            "# spare, was #2",
+            "--device",
+            "B16",
+        ],
+        "",
+    );
+    let path = e.dir.path().join("b.csv");
+    e.ok(
+        &[
+            "brief",
+            "P-9",
+            "--date",
+            "2025-03-01",
+            "-o",
+            path.to_str().unwrap(),
+        ],
+        "",
+    );
+    let text = std::fs::read_to_string(&path).unwrap();
+    let first = text.lines().next().unwrap();
+    assert_eq!(first, format!("# Caution: {}", ohmtrail::CAUTION));
+    assert_eq!(text.matches(ohmtrail::CAUTION).count(), 1);
+    let mut rdr = csv::ReaderBuilder::new()
+        .comment(Some(b'#'))
+        .from_reader(text.as_bytes());
+    let header = rdr.headers().unwrap().clone();
+    assert_eq!(
+        header.iter().collect::<Vec<_>>(),
+        ohmtrail::onsite::CSV_HEADER
+    );
+    let rows: Vec<csv::StringRecord> = rdr.records().map(|r| r.unwrap()).collect();
+    let desc = header.iter().position(|h| h == "description").unwrap();
+    let circuit = header.iter().position(|h| h == "circuit").unwrap();
+    let spare: Vec<_> = rows.iter().filter(|r| &r[circuit] == "3").collect();
+    assert!(!spare.is_empty());
+    for r in spare {
+        assert_eq!(&r[desc], "# spare, was #2");
+    }
+    // Every row has every column: the comment is not a record.
+    assert!(rows.iter().all(|r| r.len() == header.len()));
 }

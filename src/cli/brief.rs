@@ -81,13 +81,22 @@ pub fn run(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
     }
 }
 
+/// The brief as CSV. The caution comes first, once, as a comment line (`# Caution: …`): a
+/// reader told that `#` starts a comment (csv's `comment`, pandas' `comment="#"`, or one that
+/// skips the first line) gets the header and the rows alone. Any cell holding a `#` is quoted,
+/// so no data line can be taken for a comment, nor cut short at one.
 fn csv_text(b: &Brief) -> Result<String> {
-    let mut w = csv::Writer::from_writer(Vec::new());
+    let mut body = format!("# Caution: {CAUTION}\n").into_bytes();
+    let mut w = csv::WriterBuilder::new()
+        .comment(Some(b'#'))
+        .from_writer(&mut body);
     w.write_record(onsite::CSV_HEADER)?;
     for r in onsite::csv_rows(b) {
         w.write_record(&r)?;
     }
-    Ok(String::from_utf8(w.into_inner()?)?)
+    w.flush()?;
+    drop(w);
+    Ok(String::from_utf8(body)?)
 }
 
 fn print_text(b: &Brief, out: &mut dyn Write) -> Result<()> {
