@@ -232,6 +232,77 @@ mod tests {
     use super::*;
     use crate::store::{CircuitDetails, NewBoard, NewProperty, NewVisit};
 
+    fn property_with_board(s: &Store) -> i64 {
+        let p = s
+            .add_property(&NewProperty {
+                reference: "P-1".into(),
+                ..Default::default()
+            })
+            .unwrap();
+        s.add_board(
+            "P-1",
+            &NewBoard {
+                designation: "CU".into(),
+                ..Default::default()
+            },
+        )
+        .unwrap();
+        p.id
+    }
+
+    fn visit_on(s: &Store, property_id: i64, day: u32, state: VisitState) -> Visit {
+        s.add_visit(
+            property_id,
+            &NewVisit {
+                date: chrono::NaiveDate::from_ymd_opt(2025, 6, day),
+                ..Default::default()
+            },
+            state,
+        )
+        .unwrap()
+    }
+
+    #[test]
+    fn a_circuit_added_at_a_pending_visit_goes_when_it_is_abandoned() {
+        let s = Store::open_in_memory().unwrap();
+        let pid = property_with_board(&s);
+        let v = visit_on(&s, pid, 1, VisitState::Pending);
+        let c = s
+            .add_circuit_at_visit(v.id, "P-1", "CU", "3", &CircuitDetails::default())
+            .unwrap();
+        s.update_reading(v.id, c.id, |r| r.zs_ohm = Some(0.8))
+            .unwrap();
+        let out = s.abandon_visit(v.id).unwrap();
+        assert_eq!((out.circuits_removed, out.test_records), (1, 1));
+        assert!(s.circuit_by_id(c.id).is_err());
+    }
+
+    #[test]
+    fn a_circuit_added_at_a_pending_visit_and_recorded_elsewhere_is_not_abandoned() {
+        let s = Store::open_in_memory().unwrap();
+        let pid = property_with_board(&s);
+        let v = visit_on(&s, pid, 1, VisitState::Pending);
+        let c = s
+            .add_circuit_at_visit(v.id, "P-1", "CU", "3", &CircuitDetails::default())
+            .unwrap();
+        // Another visit, complete, recorded the circuit meanwhile (a visit file imported).
+        let other = visit_on(&s, pid, 2, VisitState::Complete);
+        s.update_reading(other.id, c.id, |r| r.zs_ohm = Some(0.8))
+            .unwrap();
+        let e = s.abandon_visit(v.id).unwrap_err().to_string();
+        assert!(e.contains("circuit 3, added to the register"), "{e}");
+        // Nothing was changed: the visit, its change and the circuit are all still there.
+        assert_eq!(s.pending_visit(pid).unwrap().map(|x| x.id), Some(v.id));
+        assert_eq!(s.visit_changes(v.id).unwrap().len(), 1);
+        assert!(s.circuit_by_id(c.id).is_ok());
+        // A complete visit takes no circuit added at it.
+        let e = s
+            .add_circuit_at_visit(other.id, "P-1", "CU", "4", &CircuitDetails::default())
+            .unwrap_err()
+            .to_string();
+        assert!(e.contains("is complete"), "{e}");
+    }
+
     #[test]
     fn abandoning_puts_back_a_type_s_logged_before_the_delay_was_its_own() {
         let s = Store::open_in_memory().unwrap();
