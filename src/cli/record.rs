@@ -49,7 +49,7 @@ pub struct Args {
     /// Carry on with the property's pending visit from the first unanswered prompt
     #[arg(long, conflicts_with = "abandon")]
     pub resume: bool,
-    /// Discard the property's pending visit and everything recorded at it
+    /// Discard the property's pending visit and everything recorded at it, putting the register back as it was (circuits added at it are taken out)
     #[arg(long)]
     pub abandon: bool,
     /// Read `board,circuit,quantity,value` lines from standard input even at a terminal
@@ -496,7 +496,8 @@ fn say(out: &mut dyn Write, e: &Expectation, entry: &Entry) -> Result<()> {
 }
 
 /// Ask for a circuit on `board` that the register does not have: its number, description,
-/// device and RCD, added to the register as `circuit add` does. `Some(Some(id))` when one was
+/// device and RCD, added to the register as `circuit add` does and recorded on the visit, so
+/// abandoning the visit takes it out again. `Some(Some(id))` when one was
 /// added, `Some(None)` when there is none, `None` at the end of input.
 fn ask_new_circuit(
     store: &Store,
