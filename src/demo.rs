@@ -698,6 +698,7 @@ fn build_home(
                 ambient_c: recorded_ambient,
                 ze_ohm: Some(ze),
                 pfc_ka: Some(round2(0.23 / ze.max(0.05))),
+                ..Default::default()
             },
             VisitState::Complete,
         )?;

@@ -119,6 +119,7 @@ fn fixture(store: &Store, reference: &str, address: &str) {
                     ambient_c: *ambient,
                     ze_ohm: Some(*ze),
                     pfc_ka: Some(1.2),
+                    ..Default::default()
                 },
                 VisitState::Complete,
             )

@@ -34,6 +34,10 @@ pub const MIGRATIONS: &[(&str, &str)] = &[
         "008_rcd_delay",
         include_str!("../../schema/008_rcd_delay.sql"),
     ),
+    (
+        "009_visit_report_supply",
+        include_str!("../../schema/009_visit_report_supply.sql"),
+    ),
 ];
 
 /// The last version whose databases carry no application id: an unmarked database at a
@@ -162,7 +166,7 @@ mod tests {
         assert_eq!((c(3).rcd_type, c(3).rcd_delay), (None, None));
         drop(store);
         let conn = Connection::open(&path).unwrap();
-        assert_eq!(user_version(&conn).unwrap(), 8);
+        assert_eq!(user_version(&conn).unwrap(), latest_version());
         let rows: Vec<(Option<String>, Option<String>)> = conn
             .prepare("SELECT rcd_type, rcd_delay FROM circuit ORDER BY id")
             .unwrap()
@@ -199,6 +203,62 @@ mod tests {
         assert!(refuses(
             "INSERT INTO circuit (board_id, number) VALUES (9, '1')"
         ));
+    }
+
+    #[test]
+    fn visit_report_and_supply_columns_are_added_empty_with_their_checks() {
+        // 009 adds nullable columns: a visit stored before it keeps its values and has none
+        // of the new ones; each new column refuses what it cannot hold.
+        let conn = Connection::open_in_memory().unwrap();
+        for (_, sql) in &MIGRATIONS[..8] {
+            conn.execute_batch(sql).unwrap();
+        }
+        conn.execute_batch(
+            "INSERT INTO property (id, ref) VALUES (1, 'P1');
+             INSERT INTO board (id, property_id, designation) VALUES (1, 1, 'CU1');
+             INSERT INTO visit (id, property_id, date, ze_ohm) VALUES (1, 1, '2024-05-01', 0.31);
+             INSERT INTO board_test (visit_id, board_id, ze_ohm) VALUES (1, 1, 0.31);",
+        )
+        .unwrap();
+        conn.execute_batch(MIGRATIONS[8].1).unwrap();
+        assert_eq!(
+            dump(
+                &conn,
+                "SELECT ze_ohm, report_ref, outcome, interval_months, extent, agreed_limitations,
+                        u0_v, ra_ohm, bonding_csa_mm2, bonding_water, bonding_gas, bonding_other
+                 FROM visit"
+            ),
+            ["Real(0.31)|Null|Null|Null|Null|Null|Null|Null|Null|Null|Null|Null"]
+        );
+        assert_eq!(
+            dump(
+                &conn,
+                "SELECT ze_ohm, zdb_ohm, submain_r1r2_ohm FROM board_test"
+            ),
+            ["Real(0.31)|Null|Null"]
+        );
+        let refuses = |sql: &str| conn.execute(sql, []).is_err();
+        for bad in [
+            "outcome = ' '",
+            "report_ref = ''",
+            "interval_months = 0",
+            "interval_months = 121",
+            "u0_v = 0",
+            "ra_ohm = -1",
+            "bonding_csa_mm2 = 0",
+            "bonding_water = 'n/a'",
+            "bonding_gas = 'Yes'",
+            "bonding_other = 'maybe'",
+        ] {
+            assert!(refuses(&format!("UPDATE visit SET {bad}")), "{bad}");
+        }
+        assert!(!refuses(
+            "UPDATE visit SET outcome = 'Satisfactory', interval_months = 60, u0_v = 230,
+             ra_ohm = 85, bonding_csa_mm2 = 10, bonding_water = 'yes', bonding_gas = 'none',
+             bonding_other = 'no'"
+        ));
+        assert!(refuses("UPDATE board_test SET zdb_ohm = -0.1"));
+        assert!(refuses("UPDATE board_test SET submain_r1r2_ohm = -0.1"));
     }
 
     /// A database at version 3 with a register in it, as an earlier build left it.
@@ -264,10 +324,11 @@ mod tests {
                 "005_partial_replaces_index",
                 "006_application_id",
                 "007_property_ref_nocase_index",
-                "008_rcd_delay"
+                "008_rcd_delay",
+                "009_visit_report_supply"
             ]
         );
-        assert_eq!(user_version(&conn).unwrap(), 8);
+        assert_eq!(user_version(&conn).unwrap(), latest_version());
         for (t, rows) in tables.iter().zip(&before) {
             // 008 adds rcd_delay as the circuit's last column, NULL for these rows.
             let mut after = dump(&conn, &format!("SELECT * FROM {t} ORDER BY id"));
