@@ -11,6 +11,8 @@ mod rcd_devices;
 pub mod rows;
 mod series;
 pub mod settings;
+#[cfg(test)]
+mod sub_board_tests;
 mod supply;
 #[cfg(test)]
 mod tests;

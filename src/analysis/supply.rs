@@ -27,8 +27,8 @@ pub(super) fn supply_series(
             let at_board = origin_id.and_then(|id| {
                 h.board_tests
                     .iter()
-                    .find(|t| t.0 == v.id && t.1 == id)
-                    .and_then(|t| t.2)
+                    .find(|t| t.visit_id == v.id && t.board_id == id)
+                    .and_then(|t| t.ze_ohm)
             });
             at_board
                 .or(v.ze_ohm)
