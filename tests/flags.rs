@@ -355,7 +355,7 @@ fn an_overdue_property_gets_one_overdue_row_whose_figures_add_up() {
         o["reason"],
         format!(
             "inspection due {due}, {late} months overdue; last full inspection {last}, \
-             interval 60 months"
+             interval 60 months (the property's interval; none recorded at that inspection)"
         )
     );
     assert_eq!(o["findings"].as_array().unwrap().len(), 1);
