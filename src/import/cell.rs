@@ -8,8 +8,8 @@ use std::borrow::Cow;
 use chrono::{Datelike, NaiveDate};
 
 use crate::model::{
-    CircuitKind, Device, Earthing, ObservationCode, RcdDelay, RcdMarking, validate_csa,
-    validate_length, validate_rcd_ma,
+    Bonding, CircuitKind, Device, Earthing, ObservationCode, RcdDelay, RcdMarking,
+    parse_interval_months, validate_csa, validate_length, validate_rcd_ma, validate_u0,
 };
 
 /// Longest cell accepted, in bytes. A longer cell is almost certainly a broken file.
@@ -51,6 +51,23 @@ pub enum Column {
     Note,
     Code,
     Text,
+    // The board's feed and what was measured at the board (per board and visit).
+    FedFrom,
+    ZdbOhm,
+    SubmainR1r2Ohm,
+    PfcKa,
+    // The visit's supply characteristics and main bonding, and its report as recorded.
+    U0V,
+    RaOhm,
+    BondingCsaMm2,
+    BondingWater,
+    BondingGas,
+    BondingOther,
+    ReportRef,
+    Outcome,
+    IntervalMonths,
+    Extent,
+    Limitations,
 }
 
 /// How a column's cells are read.
@@ -74,15 +91,24 @@ pub enum Kind {
     Megohms,
     Millis,
     Code,
+    /// Prospective fault current in kA.
+    KiloAmps,
+    /// A nominal voltage in V.
+    Volts,
+    /// Main bonding continuity: yes, no or none.
+    Bonding,
+    /// An inspection interval: months, or years with the unit.
+    Interval,
 }
 
 impl Column {
     /// Visit-file columns, in the order export writes them.
-    pub const VISIT: [Column; 31] = [
+    pub const VISIT: [Column; 46] = [
         Column::PropertyRef,
         Column::Address,
         Column::Board,
         Column::Earthing,
+        Column::FedFrom,
         Column::Circuit,
         Column::Description,
         Column::Ring,
@@ -98,6 +124,20 @@ impl Column {
         Column::Instrument,
         Column::AmbientC,
         Column::ZeOhm,
+        Column::ZdbOhm,
+        Column::SubmainR1r2Ohm,
+        Column::PfcKa,
+        Column::U0V,
+        Column::RaOhm,
+        Column::BondingCsaMm2,
+        Column::BondingWater,
+        Column::BondingGas,
+        Column::BondingOther,
+        Column::ReportRef,
+        Column::Outcome,
+        Column::IntervalMonths,
+        Column::Extent,
+        Column::Limitations,
         Column::RingR1Ohm,
         Column::RingRnOhm,
         Column::RingR2Ohm,
@@ -171,6 +211,21 @@ impl Column {
             Column::Note => "note",
             Column::Code => "code",
             Column::Text => "text",
+            Column::FedFrom => "fed_from",
+            Column::ZdbOhm => "zdb_ohm",
+            Column::SubmainR1r2Ohm => "submain_r1r2_ohm",
+            Column::PfcKa => "pfc_ka",
+            Column::U0V => "u0_v",
+            Column::RaOhm => "ra_ohm",
+            Column::BondingCsaMm2 => "bonding_csa_mm2",
+            Column::BondingWater => "bonding_water",
+            Column::BondingGas => "bonding_gas",
+            Column::BondingOther => "bonding_other",
+            Column::ReportRef => "report_ref",
+            Column::Outcome => "outcome",
+            Column::IntervalMonths => "interval_months",
+            Column::Extent => "extent",
+            Column::Limitations => "limitations",
         }
     }
 
@@ -192,7 +247,17 @@ impl Column {
             | Column::Inspector
             | Column::Instrument
             | Column::Note
-            | Column::Text => Kind::Text,
+            | Column::Text
+            | Column::FedFrom
+            | Column::ReportRef
+            | Column::Outcome
+            | Column::Extent
+            | Column::Limitations => Kind::Text,
+            Column::PfcKa => Kind::KiloAmps,
+            Column::U0V => Kind::Volts,
+            Column::BondingWater | Column::BondingGas | Column::BondingOther => Kind::Bonding,
+            Column::IntervalMonths => Kind::Interval,
+            Column::BondingCsaMm2 => Kind::Mm2,
             Column::VisitDate => Kind::Date,
             Column::AmbientC => Kind::Celsius,
             Column::Device => Kind::Device,
@@ -210,16 +275,43 @@ impl Column {
             | Column::R1r2Ohm
             | Column::R2Ohm
             | Column::R1rnOhm
-            | Column::ZsOhm => Kind::Ohms,
+            | Column::ZsOhm
+            | Column::ZdbOhm
+            | Column::SubmainR1r2Ohm
+            | Column::RaOhm => Kind::Ohms,
             Column::IrLlMohm | Column::IrLeMohm => Kind::Megohms,
             Column::RcdMs | Column::Rcd5xMs => Kind::Millis,
             Column::Code => Kind::Code,
         }
     }
 
-    /// Whether `LIM` (a recorded limitation) is accepted: only for measured quantities.
+    /// Whether `LIM` (a recorded limitation) is accepted: only for a circuit's measured
+    /// quantities (a limitation is kept with the circuit's test record).
     pub fn takes_limitation(self) -> bool {
-        matches!(self.kind(), Kind::Ohms | Kind::Megohms | Kind::Millis)
+        matches!(self.kind(), Kind::Ohms | Kind::Megohms | Kind::Millis) && !self.per_visit()
+    }
+
+    /// Whether the column is about the board or the visit rather than the row's circuit: its
+    /// value must agree on every row of one board (or visit) within a file.
+    pub fn per_visit(self) -> bool {
+        matches!(
+            self,
+            Column::FedFrom
+                | Column::ZdbOhm
+                | Column::SubmainR1r2Ohm
+                | Column::PfcKa
+                | Column::U0V
+                | Column::RaOhm
+                | Column::BondingCsaMm2
+                | Column::BondingWater
+                | Column::BondingGas
+                | Column::BondingOther
+                | Column::ReportRef
+                | Column::Outcome
+                | Column::IntervalMonths
+                | Column::Extent
+                | Column::Limitations
+        )
     }
 }
 
@@ -257,6 +349,9 @@ pub enum Cell {
     Ring(CircuitKind),
     Earthing(Earthing),
     Code(ObservationCode),
+    Bonding(Bonding),
+    /// An inspection interval in months.
+    Months(u32),
 }
 
 /// Why a cell was refused. Each message quotes the cell and says what was expected.
@@ -294,6 +389,10 @@ pub enum CellError {
     OverRangeNotAllowed(String),
     #[error("LIM (a limitation) applies only to measured readings, not to this column")]
     LimitationNotAllowed,
+    #[error(
+        "LIM (a limitation) is kept with a circuit's readings, not the board's or the visit's: write the visit's limitations in the limitations column"
+    )]
+    LimitationOfVisit,
     #[error("{0:?} is not a date: expected YYYY-MM-DD or DD/MM/YYYY")]
     NotADate(String),
     #[error("{0:?} is not a date in the calendar")]
@@ -389,6 +488,8 @@ pub fn parse_cell(column: Column, text: &str, opts: &ParseOptions) -> Result<Cel
     if t.eq_ignore_ascii_case("lim") {
         return if column.takes_limitation() {
             Ok(Cell::Limitation)
+        } else if column.per_visit() && matches!(kind, Kind::Ohms | Kind::KiloAmps) {
+            Err(CellError::LimitationOfVisit)
         } else {
             Err(CellError::LimitationNotAllowed)
         };
@@ -420,6 +521,38 @@ pub fn parse_cell(column: Column, text: &str, opts: &ParseOptions) -> Result<Cel
             .parse::<ObservationCode>()
             .map(Cell::Code)
             .map_err(CellError::Value),
+        Kind::Bonding => t
+            .parse::<Bonding>()
+            .map(Cell::Bonding)
+            .map_err(CellError::Value),
+        Kind::Interval => parse_interval_months(t)
+            .map(Cell::Months)
+            .map_err(CellError::Value),
+        Kind::KiloAmps | Kind::Volts => {
+            let unit = if kind == Kind::KiloAmps {
+                Unit::KiloAmps
+            } else {
+                Unit::Volts
+            };
+            let n = parse_quantity(t, unit, opts)?;
+            if n.negative {
+                return Err(CellError::Negative(t.to_string()));
+            }
+            if n.over {
+                return Err(CellError::OverRangeNotAllowed(t.to_string()));
+            }
+            if kind == Kind::Volts {
+                return validate_u0(n.value)
+                    .map(Cell::Number)
+                    .map_err(CellError::Value);
+            }
+            if n.value > MAX_KILOAMPS {
+                return Err(CellError::Value(format!(
+                    "{t:?} is out of range: expected at most {MAX_KILOAMPS} kA for a prospective fault current"
+                )));
+            }
+            Ok(Cell::Number(n.value))
+        }
         Kind::RcdMa => {
             let n = parse_quantity(t, Unit::MilliAmps, opts)?;
             if n.negative {
@@ -509,6 +642,8 @@ enum Unit {
     SquareMm,
     Metres,
     MilliAmps,
+    KiloAmps,
+    Volts,
 }
 
 impl Unit {
@@ -522,6 +657,8 @@ impl Unit {
             Unit::SquareMm => "mm²",
             Unit::Metres => "metres",
             Unit::MilliAmps => "mA",
+            Unit::KiloAmps => "kA",
+            Unit::Volts => "volts (V)",
         }
     }
 
@@ -534,6 +671,8 @@ impl Unit {
             Unit::SquareMm => "a conductor size in mm² such as 2.5",
             Unit::Metres => "a length in metres such as 24",
             Unit::MilliAmps => "a residual current in mA such as 30",
+            Unit::KiloAmps => "a prospective fault current in kA such as 1.6",
+            Unit::Volts => "a nominal voltage in V such as 230",
         }
     }
 }
@@ -549,6 +688,8 @@ fn unit_of(s: &str) -> Option<Unit> {
         "°C" | "℃" | "° C" => return Some(Unit::Celsius),
         "mm²" => return Some(Unit::SquareMm),
         "mA" => return Some(Unit::MilliAmps),
+        "kA" => return Some(Unit::KiloAmps),
+        "V" => return Some(Unit::Volts),
         _ => {}
     }
     match s.to_ascii_lowercase().as_str() {
@@ -559,6 +700,8 @@ fn unit_of(s: &str) -> Option<Unit> {
         "mm2" | "sqmm" => Some(Unit::SquareMm),
         "m" => Some(Unit::Metres),
         "ma" => Some(Unit::MilliAmps),
+        "ka" => Some(Unit::KiloAmps),
+        "v" | "volt" | "volts" => Some(Unit::Volts),
         _ => None,
     }
 }
@@ -742,6 +885,9 @@ pub const EARLIEST_VISIT: NaiveDate = match NaiveDate::from_ymd_opt(1950, 1, 1) 
 pub const MAX_OHMS: f64 = 2_000.0;
 pub const MAX_MEGOHMS: f64 = 10_000.0;
 pub const MAX_MILLIS: f64 = 5_000.0;
+/// A home's prospective fault current is a few kA (16 kA is the usual rating asked of its
+/// devices); 100 kA is far beyond any supply a visit file describes. Common practice, no source.
+pub const MAX_KILOAMPS: f64 = 100.0;
 
 /// Text of a number as export writes it: the shortest decimal that reads back the same.
 pub fn format_number(v: f64) -> String {
@@ -803,10 +949,42 @@ mod tests {
             p(Column::ZsOhm, "350 mΩ"),
             Err(CellError::WrongUnit { .. })
         ));
+        // Volts are a unit now (u0_v), so in an ohm column they are the wrong one.
         assert!(matches!(
             p(Column::ZsOhm, "0.35 V"),
+            Err(CellError::WrongUnit { .. })
+        ));
+        assert!(matches!(
+            p(Column::ZsOhm, "0.35 kV"),
             Err(CellError::NotANumber { .. })
         ));
+    }
+
+    #[test]
+    fn the_schedule_s_own_cells_read_with_their_units() {
+        // Common practice, no source: a schedule writes U0 as 230 V, the prospective fault
+        // current in kA, the interval in years or months, bonding continuity as yes / no.
+        assert_eq!(p(Column::U0V, "230 V"), Ok(Cell::Number(230.0)));
+        assert_eq!(p(Column::U0V, "230"), Ok(Cell::Number(230.0)));
+        assert_eq!(p(Column::PfcKa, "1.6kA"), Ok(Cell::Number(1.6)));
+        assert_eq!(p(Column::IntervalMonths, "5 years"), Ok(Cell::Months(60)));
+        assert_eq!(p(Column::IntervalMonths, "N/A"), Ok(Cell::Missing));
+        assert_eq!(
+            p(Column::BondingGas, "No"),
+            Ok(Cell::Bonding(crate::model::Bonding::No))
+        );
+        assert_eq!(p(Column::RaOhm, "85 Ω"), Ok(Cell::Number(85.0)));
+        assert_eq!(
+            p(Column::Outcome, "Unsatisfactory"),
+            Ok(Cell::Text("Unsatisfactory".into()))
+        );
+        assert!(matches!(p(Column::PfcKa, "101"), Err(CellError::Value(_))));
+        assert!(matches!(
+            p(Column::PfcKa, "1.6 mA"),
+            Err(CellError::WrongUnit { .. })
+        ));
+        assert_eq!(p(Column::ZdbOhm, "LIM"), Err(CellError::LimitationOfVisit));
+        assert_eq!(p(Column::U0V, "LIM"), Err(CellError::LimitationNotAllowed));
     }
 
     #[test]

@@ -82,6 +82,12 @@ pub struct ExportRecord {
     pub instrument: Option<String>,
     pub ambient_c: Option<f64>,
     pub ze_ohm: Option<f64>,
+    /// The board feeding the record's board, by designation.
+    pub fed_from: Option<String>,
+    /// Zdb, the sub-main's R1+R2 and the fault current at the board (its Ze is `ze_ohm`).
+    pub board_test: crate::model::BoardTest,
+    pub report: crate::model::VisitReport,
+    pub supply: crate::model::SupplyRecord,
     pub readings: Readings,
 }
 
@@ -495,7 +501,11 @@ impl Store {
             "SELECT p.ref, p.address, b.designation, b.earthing, c.id, c.number,
                     c.description, c.kind, c.live_mm2, c.cpc_mm2, c.length_m, c.device, c.rcd_ma,
                     c.rcd_type, c.rcd_delay, v.date, v.inspector, i.serial, v.ambient_c, bt.ze_ohm,
-                    {}
+                    {},
+                    (SELECT f.designation FROM board f WHERE f.id = b.fed_from_board_id),
+                    bt.zdb_ohm, bt.submain_r1r2_ohm, bt.pfc_ka, v.report_ref, v.outcome,
+                    v.interval_months, v.extent, v.agreed_limitations, v.u0_v, v.ra_ohm,
+                    v.bonding_csa_mm2, v.bonding_water, v.bonding_gas, v.bonding_other
              FROM test_record t
              JOIN visit v ON v.id = t.visit_id
              JOIN circuit c ON c.id = t.circuit_id
@@ -528,6 +538,28 @@ impl Store {
                 ambient_c: r.get(18)?,
                 ze_ohm: r.get(19)?,
                 readings: readings_at(r, 20)?,
+                fed_from: r.get(35)?,
+                board_test: crate::model::BoardTest {
+                    zdb_ohm: r.get(36)?,
+                    submain_r1r2_ohm: r.get(37)?,
+                    pfc_ka: r.get(38)?,
+                    ..Default::default()
+                },
+                report: crate::model::VisitReport {
+                    report_ref: r.get(39)?,
+                    outcome: r.get(40)?,
+                    interval_months: r.get(41)?,
+                    extent: r.get(42)?,
+                    limitations: r.get(43)?,
+                },
+                supply: crate::model::SupplyRecord {
+                    u0_v: r.get(44)?,
+                    ra_ohm: r.get(45)?,
+                    bonding_csa_mm2: r.get(46)?,
+                    bonding_water: bonding_text(r.get(47)?),
+                    bonding_gas: bonding_text(r.get(48)?),
+                    bonding_other: bonding_text(r.get(49)?),
+                },
             };
             f(rec)?;
         }
@@ -564,6 +596,10 @@ impl Store {
 
 /// Decode description, kind, live, cpc, length, device, rcd_ma, rcd_type, rcd_delay starting
 /// at `o`. A type 'S' from before migration 008 is read as the delay.
+fn bonding_text(t: Option<String>) -> Option<crate::model::Bonding> {
+    t.and_then(|t| t.parse().ok())
+}
+
 fn details_at(r: &Row, o: usize) -> rusqlite::Result<CircuitDetails> {
     let kind: String = r.get(o + 1)?;
     let device: Option<String> = r.get(o + 5)?;

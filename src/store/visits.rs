@@ -6,8 +6,8 @@ use rusqlite::{OptionalExtension, Row, params};
 use super::Store;
 use crate::error::{Error, Result};
 use crate::model::{
-    Bonding, Observation, ObservationCode, Readings, SupplyRecord, TestRecord, Visit, VisitReport,
-    VisitState,
+    BoardTest, Bonding, Observation, ObservationCode, Readings, SupplyRecord, TestRecord, Visit,
+    VisitReport, VisitState,
 };
 
 /// A visit to add to the history.
@@ -274,6 +274,98 @@ impl Store {
                      submain_r1r2_ohm = excluded.submain_r1r2_ohm",
             )?
             .execute(params![visit_id, board_id, zdb_ohm, submain_r1r2_ohm])?;
+        Ok(())
+    }
+
+    /// Everything measured at a board at a visit; all `None` when nothing is stored.
+    pub fn board_test_record(&self, visit_id: i64, board_id: i64) -> Result<BoardTest> {
+        let mut st = self.conn.prepare_cached(
+            "SELECT ze_ohm, pfc_ka, zdb_ohm, submain_r1r2_ohm FROM board_test
+             WHERE visit_id = ?1 AND board_id = ?2",
+        )?;
+        let found = st
+            .query_row(params![visit_id, board_id], |r| {
+                Ok(BoardTest {
+                    visit_id,
+                    board_id,
+                    ze_ohm: r.get(0)?,
+                    pfc_ka: r.get(1)?,
+                    zdb_ohm: r.get(2)?,
+                    submain_r1r2_ohm: r.get(3)?,
+                })
+            })
+            .optional()?;
+        Ok(found.unwrap_or(BoardTest {
+            visit_id,
+            board_id,
+            ..Default::default()
+        }))
+    }
+
+    /// Write Zdb, the sub-main's R1+R2 and the fault current measured at a board, keeping its
+    /// Ze. The visit's own fault current (at the origin) is filled from a board fed from no
+    /// other when still empty, as the visit's Ze is.
+    pub fn set_board_measured(&self, t: &BoardTest) -> Result<()> {
+        for (name, x) in [
+            ("Zdb", t.zdb_ohm),
+            ("sub-main R1+R2", t.submain_r1r2_ohm),
+            ("prospective fault current", t.pfc_ka),
+        ] {
+            if let Some(x) = x
+                && !(x.is_finite() && x >= 0.0)
+            {
+                return Err(Error::invalid(format!(
+                    "{name} {x} is not a reading: expected a number of zero or more"
+                )));
+            }
+        }
+        self.conn
+            .prepare_cached(
+                "INSERT INTO board_test (visit_id, board_id, zdb_ohm, submain_r1r2_ohm, pfc_ka)
+                 VALUES (?1, ?2, ?3, ?4, ?5)
+                 ON CONFLICT (visit_id, board_id) DO UPDATE SET zdb_ohm = excluded.zdb_ohm,
+                     submain_r1r2_ohm = excluded.submain_r1r2_ohm, pfc_ka = excluded.pfc_ka",
+            )?
+            .execute(params![
+                t.visit_id,
+                t.board_id,
+                t.zdb_ohm,
+                t.submain_r1r2_ohm,
+                t.pfc_ka
+            ])?;
+        if let Some(pfc) = t.pfc_ka {
+            self.conn
+                .prepare_cached(
+                    "UPDATE visit SET pfc_ka = ?2 WHERE id = ?1 AND pfc_ka IS NULL
+                     AND (SELECT fed_from_board_id FROM board WHERE id = ?3) IS NULL",
+                )?
+                .execute(params![t.visit_id, pfc, t.board_id])?;
+        }
+        Ok(())
+    }
+
+    /// The board feeding a board: its id and designation, `None` at the origin.
+    pub fn board_feed(&self, board_id: i64) -> Result<Option<(i64, String)>> {
+        let mut st = self.conn.prepare_cached(
+            "SELECT f.id, f.designation FROM board b JOIN board f ON f.id = b.fed_from_board_id
+             WHERE b.id = ?1",
+        )?;
+        Ok(st
+            .query_row([board_id], |r| Ok((r.get(0)?, r.get(1)?)))
+            .optional()?)
+    }
+
+    /// Record which board feeds a board (both of one property).
+    pub fn set_board_feed(&self, board_id: i64, fed_from_board_id: i64) -> Result<()> {
+        if board_id == fed_from_board_id {
+            return Err(Error::invalid("a board cannot be fed from itself"));
+        }
+        self.conn
+            .prepare_cached(
+                "UPDATE board SET fed_from_board_id = ?2 WHERE id = ?1
+                 AND property_id = (SELECT property_id FROM board WHERE id = ?2)",
+            )?
+            .execute(params![board_id, fed_from_board_id])?;
         Ok(())
     }
 
