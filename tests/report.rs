@@ -127,6 +127,30 @@ fn fixture(store: &Store, reference: &str, address: &str) {
         store
             .set_board_test(v.id, board.id, Some(*ze), Some(1.2))
             .unwrap();
+        if i == 3 {
+            // The last visit's report as the inspector recorded it (invented), with text that
+            // must be escaped, and its supply and main bonding.
+            store
+                .set_visit_report_supply(
+                    v.id,
+                    &ohmtrail::model::VisitReport {
+                        report_ref: Some("HC-7/24 <b>".into()),
+                        outcome: Some("Unsatisfactory".into()),
+                        // As the property's, so the projections' horizon stays where it was.
+                        interval_months: Some(60),
+                        extent: Some("Whole house & garden lights".into()),
+                        limitations: Some("Loft not accessible".into()),
+                    },
+                    &ohmtrail::model::SupplyRecord {
+                        u0_v: Some(230.0),
+                        bonding_csa_mm2: Some(10.0),
+                        bonding_water: Some(ohmtrail::model::Bonding::Yes),
+                        bonding_gas: Some(ohmtrail::model::Bonding::No),
+                        ..Default::default()
+                    },
+                )
+                .unwrap();
+        }
         let loose = [0.0, 0.0, 0.20, 0.42][i];
         let put = |c, r: Readings| store.put_test_record(v.id, c, &r).unwrap();
         put(
@@ -959,4 +983,42 @@ fn commands_that_write_files_say_so_on_stderr_only() {
         .success();
     let v: serde_json::Value = serde_json::from_slice(&out.get_output().stdout).unwrap();
     assert!(v.is_object());
+}
+
+#[test]
+fn the_inspectors_report_and_the_supply_are_shown_as_recorded() {
+    // The fixture's last visit records its report, U0, main bonding 10 mm² and gas bonding
+    // not confirmed (invented). ohmtrail assigns no outcome: it shows the inspector's, labelled.
+    let store = Store::open_in_memory().unwrap();
+    fixture(&store, REF, "1 Invented Row");
+    let r = report::property_report(&store, REF, &settings("2025-01-10")).unwrap();
+    let latest = r.schedule.latest_report.as_ref().unwrap();
+    assert_eq!(latest.outcome.as_deref(), Some("Unsatisfactory"));
+    assert_eq!(latest.outcome_label, "as recorded by the inspector");
+    // 2024-06-18 + 60 months as recorded at that (full) inspection.
+    assert_eq!(r.header.next_due, Some(d("2029-06-18")));
+    assert_eq!(
+        r.header.next_due_basis,
+        Some("as recorded by the inspector at that inspection")
+    );
+    let html = report::property::render(&r);
+    assert!(
+        html.contains("Unsatisfactory<br><span class=\"small\">as recorded by the inspector"),
+        "{}",
+        outline(&html)
+    );
+    assert!(html.contains("HC-7/24 &lt;b&gt;"));
+    assert!(!html.contains("HC-7/24 <b>"));
+    assert!(
+        html.contains("Main bonding to gas: continuity not confirmed at the visit of 2024-06-18")
+    );
+    assert!(html.contains("<dt>U0</dt><dd>230 V"));
+    // The same in the JSON.
+    let json = serde_json::to_value(&r).unwrap();
+    assert_eq!(
+        json["schedule"]["latest_report"]["outcome"],
+        "Unsatisfactory"
+    );
+    assert_eq!(json["visits"][3]["report"]["interval_months"], 60);
+    assert_eq!(json["visits"][3]["supply"]["bonding_gas"], "no");
 }

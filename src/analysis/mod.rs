@@ -165,6 +165,8 @@ pub struct PropertyAnalysis {
     pub electrode: Option<SeriesAnalysis>,
     /// Notes on the supply and main bonding (a bonding connection not confirmed).
     pub supply_notes: Vec<String>,
+    /// What was measured at each board per visit (Ze, fault current, Zdb, sub-main R1+R2).
+    pub board_tests: Vec<crate::model::BoardTest>,
     pub circuits: Vec<CircuitAnalysis>,
     /// The property's worklist rows, most urgent first: one per circuit with findings, one for
     /// the supply, one for an overdue inspection. Every finding is in its row's `findings`.
@@ -355,6 +357,11 @@ fn analyse_with(
         supply,
         electrode,
         supply_notes: bonding::bonding_notes(h),
+        board_tests: if detail == Detail::Full {
+            h.board_tests.clone()
+        } else {
+            Vec::new()
+        },
         circuits,
         flags,
         counts,
