@@ -139,3 +139,89 @@ fn with_neither_zs_says_it_leaves_out_the_sub_main() {
             .any(|n| n.contains("leaves out"))
     );
 }
+
+#[test]
+fn on_noisy_readings_the_sub_board_rule_flags_the_circuit_past_its_limit_only() {
+    // Five visits with ordinary site noise (R1+R2 a few hundredths apart, Zdb moving with the
+    // supply by about 10 %, ambients 9–21 °C): DB2/1 (B32, limit 1.14 Ω at 20 °C, Table 41.3
+    // 1.37 / 1.20) with R1+R2 about 0.55 Ω and Zdb about 0.40 Ω stays well inside; DB2/2
+    // (B32) with R1+R2 about 0.80 Ω is past it at every visit once Zdb is counted
+    // (0.40 + 0.80 = 1.20 Ω), though Ze at the origin (about 0.25 Ω) would have kept it inside.
+    let s = sub_board_home();
+    s.add_circuit(
+        "S-1",
+        "DB2",
+        "2",
+        &CircuitDetails {
+            kind: Some(CircuitKind::Radial),
+            live_mm2: Some(2.5),
+            cpc_mm2: Some(1.5),
+            device: Some("B32".parse().unwrap()),
+            insulation: Some(crate::model::Insulation::Thermoplastic70),
+            ..Default::default()
+        },
+    )
+    .unwrap();
+    let p = s.property("S-1").unwrap();
+    let db2 = s.board(p.id, "S-1", "DB2").unwrap();
+    let c1 = s.find_circuit("S-1", "DB2", "1").unwrap();
+    let c2 = s.find_circuit("S-1", "DB2", "2").unwrap();
+    // (date, ambient, Ze at the origin, Zdb, R1+R2 of DB2/1, of DB2/2), as read.
+    for (date, t, ze, zdb, a, b) in [
+        (d(2006, 2, 10), 9.0, 0.24, 0.38, 0.53, 0.77),
+        (d(2011, 6, 3), 19.0, 0.27, 0.43, 0.56, 0.81),
+        (d(2015, 11, 21), 12.0, 0.23, 0.39, 0.54, 0.79),
+        (d(2020, 7, 14), 21.0, 0.26, 0.42, 0.57, 0.82),
+        (d(2025, 3, 1), 14.0, 0.25, 0.40, 0.55, 0.80),
+    ] {
+        let v = s
+            .add_visit(
+                p.id,
+                &NewVisit {
+                    date: Some(date),
+                    ambient_c: Some(t),
+                    ze_ohm: Some(ze),
+                    ..Default::default()
+                },
+                VisitState::Complete,
+            )
+            .unwrap();
+        s.set_board_submain(v.id, db2.id, Some(zdb), None).unwrap();
+        for (c, r) in [(&c1, a), (&c2, b)] {
+            s.put_test_record(
+                v.id,
+                c.id,
+                &Readings {
+                    r1r2_ohm: Some(r),
+                    ..Default::default()
+                },
+            )
+            .unwrap();
+        }
+    }
+    let a = analyse(&s.history(p.id).unwrap(), &settings());
+    let zs: Vec<&Flag> = a.flags.iter().filter(|f| f.quantity == "zs").collect();
+    assert_eq!(zs.len(), 1, "{zs:#?}");
+    assert_eq!(zs[0].circuit.as_deref(), Some("2"));
+    assert_eq!(zs[0].severity, "exceeds");
+    // At 14 °C the circuit's part 0.80 Ω is 0.80 / (1 + 0.00393 × (14 − 20)) = 0.819 Ω at
+    // 20 °C (IEC 60228 α), with Zdb 0.40 Ω as measured: 1.22 Ω against 1.14 Ω.
+    assert!(
+        (zs[0].last_value - 1.219).abs() < 0.002,
+        "{}",
+        zs[0].last_value
+    );
+    assert!(
+        zs[0]
+            .reason
+            .contains("Zs here is Zdb 0.40 Ω measured at DB2 + R1+R2 0.80 Ω = 1.20 Ω"),
+        "{}",
+        zs[0].reason
+    );
+    // No other row on the sub-board: the scatter stays inside the noise floors.
+    assert!(
+        a.flags.iter().all(|f| f.circuit.as_deref() != Some("1")),
+        "{:#?}",
+        a.flags
+    );
+}
