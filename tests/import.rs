@@ -493,6 +493,24 @@ fn the_rest_of_the_schedule_survives_export_and_import() {
         text.contains(",\"'-Loft boarded, not inspected\","),
         "{text}"
     );
+    // visit list gives the outcome as recorded, newest first.
+    let out = bin(&copy)
+        .args(["visit", "list", "--property", "SMP-020", "--json"])
+        .output()
+        .unwrap();
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    assert_eq!(v[0]["outcome"], "Unsatisfactory");
+    assert_eq!(v[0]["interval_months"], 36);
+    assert_eq!(v[1]["report_ref"], "SMP-020/19");
+    let table = bin(&copy)
+        .args(["visit", "list", "--property", "SMP-020"])
+        .output()
+        .unwrap();
+    let table = String::from_utf8(table.stdout).unwrap();
+    assert!(
+        table.contains("OUTCOME (AS RECORDED)") && table.contains("Satisfactory"),
+        "{table}"
+    );
 }
 
 #[test]
