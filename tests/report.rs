@@ -1022,3 +1022,74 @@ fn the_inspectors_report_and_the_supply_are_shown_as_recorded() {
     assert_eq!(json["visits"][3]["report"]["interval_months"], 60);
     assert_eq!(json["visits"][3]["supply"]["bonding_gas"], "no");
 }
+
+#[test]
+fn a_rising_earth_electrode_is_charted_on_ra_in_the_report() {
+    // A TT home whose electrode's Ra, recorded on its own, rises 58 → 77 → 149 → 410 Ω, past
+    // the 200 Ω above which an electrode may not be stable (common practice; the note to
+    // BS 7671 Table 41.5). Invented readings with a few ohms of scatter.
+    let store = Store::open_in_memory().unwrap();
+    store
+        .add_property(&NewProperty {
+            reference: "TT-1".into(),
+            ..Default::default()
+        })
+        .unwrap();
+    store
+        .add_board(
+            "TT-1",
+            &NewBoard {
+                designation: "CU1".into(),
+                earthing: Some(Earthing::Tt),
+                ..Default::default()
+            },
+        )
+        .unwrap();
+    let p = store.property("TT-1").unwrap();
+    for (date, ra) in [
+        ("2012-01-20", 58.0),
+        ("2016-07-28", 77.0),
+        ("2020-02-11", 149.0),
+        ("2024-08-05", 410.0),
+    ] {
+        store
+            .add_visit(
+                p.id,
+                &NewVisit {
+                    date: Some(d(date)),
+                    supply: ohmtrail::model::SupplyRecord {
+                        ra_ohm: Some(ra),
+                        ..Default::default()
+                    },
+                    ..Default::default()
+                },
+                VisitState::Complete,
+            )
+            .unwrap();
+    }
+    let r = report::property_report(&store, "TT-1", &settings("2025-01-10")).unwrap();
+    let supply = r
+        .flagged
+        .iter()
+        .find(|f| f.circuit.is_none())
+        .expect("the supply's row");
+    let ra = supply
+        .findings
+        .iter()
+        .find(|f| f.quantity == "ra")
+        .expect("a finding on Ra");
+    assert!(
+        ra.chart.is_some(),
+        "Ra's finding is charted on its own series"
+    );
+    assert!(
+        r.summary
+            .headline
+            .contains("earth electrode's resistance (Ra)")
+    );
+    let html = report::property::render(&r);
+    assert!(
+        html.contains("Ra, the earth electrode&#x27;s resistance")
+            || html.contains("Ra, the earth electrode's resistance")
+    );
+}

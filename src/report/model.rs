@@ -741,6 +741,7 @@ fn flagged(a: &PropertyAnalysis) -> Vec<FlaggedCircuit> {
 fn find_series<'a>(a: &'a PropertyAnalysis, f: &Flag) -> Option<&'a SeriesAnalysis> {
     let q = f.finding()?.quantity;
     match &f.circuit {
+        None if q == Quantity::Ra => a.electrode.as_ref(),
         None => a.supply.as_ref(),
         Some(n) => a
             .circuits
