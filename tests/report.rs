@@ -1021,6 +1021,13 @@ fn the_inspectors_report_and_the_supply_are_shown_as_recorded() {
     );
     assert_eq!(json["visits"][3]["report"]["interval_months"], 60);
     assert_eq!(json["visits"][3]["supply"]["bonding_gas"], "no");
+    // The supply's figures visit by visit: Ze 0.21, 0.22, 0.22, 0.23 Ω and 1.2 kA as recorded.
+    let series = &r.schedule.series;
+    assert_eq!(series.columns, ["U0 V", "Ze Ω", "Ipf kA", "Bonding mm²"]);
+    let ze: Vec<Option<&str>> = series.rows.iter().map(|(_, v)| v[1].as_deref()).collect();
+    assert_eq!(ze, [Some("0.21"), Some("0.22"), Some("0.22"), Some("0.23")]);
+    assert_eq!(series.rows[3].1[0].as_deref(), Some("230"));
+    assert_eq!(series.rows[0].1[0], None);
 }
 
 #[test]

@@ -34,6 +34,18 @@ pub struct ScheduleSection {
     pub bonding_finding: Option<String>,
     /// Notes on the supply and bonding (a bond not confirmed).
     pub notes: Vec<String>,
+    /// The supply's and the boards' figures visit by visit, oldest first: their series as
+    /// recorded (Ze and Ra are also trended and judged; the others are shown, not judged).
+    pub series: SupplySeries,
+}
+
+/// Columns of figures recorded at the origin and each sub-board, one row per visit.
+#[derive(Debug, Clone, Serialize)]
+pub struct SupplySeries {
+    /// Column headings, e.g. "U0 V", "Ze Ω", "DB2 Zdb Ω".
+    pub columns: Vec<String>,
+    /// One row per visit: its date and a value (as shown) or `None` per column.
+    pub rows: Vec<(NaiveDate, Vec<Option<String>>)>,
 }
 
 /// A visit's report as the inspector recorded it.
@@ -197,7 +209,9 @@ pub fn build(a: &PropertyAnalysis) -> ScheduleSection {
     .into_iter()
     .flatten()
     .collect();
+    let series = supply_series(a, &visits);
     ScheduleSection {
+        series,
         latest_report,
         next_due: a.next_due,
         next_due_interval_months: a.next_due_interval_months,
@@ -211,6 +225,65 @@ pub fn build(a: &PropertyAnalysis) -> ScheduleSection {
             .find(|f| f.quantity == "bonding")
             .map(|f| f.reason.clone()),
         notes: a.supply_notes.clone(),
+    }
+}
+
+/// The figures recorded at the origin and at each board fed from another, visit by visit;
+/// a column no visit recorded is left out.
+fn supply_series(a: &PropertyAnalysis, visits: &[&Visit]) -> SupplySeries {
+    type Get<'a> = Box<dyn Fn(&Visit) -> Option<String> + 'a>;
+    let mut cols: Vec<(String, Get)> = vec![
+        (
+            "U0 V".into(),
+            Box::new(|v: &Visit| v.supply.u0_v.map(|x| format!("{x:.0}"))),
+        ),
+        (
+            "Ze Ω".into(),
+            Box::new(|v: &Visit| v.ze_ohm.map(|x| format!("{x:.2}"))),
+        ),
+        (
+            "Ipf kA".into(),
+            Box::new(|v: &Visit| v.pfc_ka.map(|x| format!("{x:.1}"))),
+        ),
+        (
+            "Ra Ω".into(),
+            Box::new(|v: &Visit| v.supply.ra_ohm.map(|x| format!("{x:.0}"))),
+        ),
+        (
+            "Bonding mm²".into(),
+            Box::new(|v: &Visit| v.supply.bonding_csa_mm2.map(crate::store::fmt_num)),
+        ),
+    ];
+    for b in a.boards.iter().filter(|b| b.fed_from.is_some()) {
+        let test = move |v: &Visit, get: fn(&crate::model::BoardTest) -> Option<f64>| {
+            a.board_tests
+                .iter()
+                .find(|t| t.visit_id == v.id && t.board_id == b.id)
+                .and_then(get)
+        };
+        let name = &b.designation;
+        cols.push((
+            format!("{name} Zdb Ω"),
+            Box::new(move |v: &Visit| {
+                test(v, |t| t.zdb_ohm.or(t.ze_ohm)).map(|x| format!("{x:.2}"))
+            }),
+        ));
+        cols.push((
+            format!("{name} sub-main R1+R2 Ω"),
+            Box::new(move |v: &Visit| test(v, |t| t.submain_r1r2_ohm).map(|x| format!("{x:.2}"))),
+        ));
+        cols.push((
+            format!("{name} Ipf kA"),
+            Box::new(move |v: &Visit| test(v, |t| t.pfc_ka).map(|x| format!("{x:.1}"))),
+        ));
+    }
+    cols.retain(|(_, get)| visits.iter().any(|v| get(v).is_some()));
+    SupplySeries {
+        rows: visits
+            .iter()
+            .map(|v| (v.date, cols.iter().map(|(_, get)| get(v)).collect()))
+            .collect(),
+        columns: cols.into_iter().map(|(name, _)| name).collect(),
     }
 }
 
@@ -301,6 +374,25 @@ pub(super) fn render(o: &mut String, s: &ScheduleSection) {
         } else {
             facts_dl(o, &b.facts);
         }
+    }
+    if !s.series.columns.is_empty() && s.series.rows.len() > 1 {
+        o.push_str("<h3>Visit by visit</h3>\n<table>\n<thead><tr><th scope=\"col\">Date</th>");
+        for c in &s.series.columns {
+            let _ = write!(o, "<th scope=\"col\" class=\"num\">{}</th>", esc(c));
+        }
+        o.push_str("</tr></thead>\n<tbody>\n");
+        for (date, values) in s.series.rows.iter().rev() {
+            let _ = write!(o, "<tr><td>{}</td>", time(*date));
+            for v in values {
+                let _ = write!(
+                    o,
+                    "<td class=\"num\">{}</td>",
+                    esc(v.as_deref().unwrap_or("–"))
+                );
+            }
+            o.push_str("</tr>\n");
+        }
+        o.push_str("</tbody>\n</table>\n");
     }
     if !s.bonding.is_empty() {
         o.push_str("<h3>Main protective bonding</h3>\n");
