@@ -514,6 +514,29 @@ fn the_rest_of_the_schedule_survives_export_and_import() {
 }
 
 #[test]
+fn a_sub_board_s_ze_is_its_zdb_and_never_the_visit_s() {
+    // The first row is a sub-board's: its ze_ohm is the loop impedance at that board (its
+    // Zdb), so the visit's own Ze (at the origin) comes from the origin's row, not from it.
+    let dir = TempDir::new().unwrap();
+    let db = dir.path().join("db.db");
+    let f = dir.path().join("sub_first.csv");
+    std::fs::write(
+        &f,
+        "property_ref,board,fed_from,circuit,visit_date,ze_ohm,r1r2_ohm\n\
+         SMP-091,DB2,CU1,1,2024-05-20,0.45,0.50\n\
+         SMP-091,CU1,,1,2024-05-20,0.28,0.40\n",
+    )
+    .unwrap();
+    bin(&db).arg("import").arg(&f).assert().success();
+    let store = Store::open(&db).unwrap();
+    let p = store.property("SMP-091").unwrap();
+    let h = store.history(p.id).unwrap();
+    assert_eq!(h.visits[0].ze_ohm, Some(0.28));
+    let db2 = h.boards.iter().find(|b| b.designation == "DB2").unwrap();
+    assert_eq!(db2.fed_from.as_deref(), Some("CU1"));
+}
+
+#[test]
 fn a_second_file_with_another_outcome_is_a_conflict_unless_replaced() {
     let dir = TempDir::new().unwrap();
     let db = dir.path().join("db.db");

@@ -386,17 +386,19 @@ impl Store {
             .optional()?)
     }
 
-    /// Store Ze at a board; the visit's own Ze (at the origin) is filled when still empty.
+    /// Store Ze at a board; the visit's own Ze (at the origin) is filled when still empty from
+    /// a board fed from no other (at a sub-board the figure is its Zdb).
     pub fn ingest_set_board_ze(&self, visit_id: i64, board_id: i64, ze: f64) -> Result<()> {
         let mut st = self.conn.prepare_cached(
             "INSERT INTO board_test (visit_id, board_id, ze_ohm) VALUES (?1, ?2, ?3)
              ON CONFLICT (visit_id, board_id) DO UPDATE SET ze_ohm = excluded.ze_ohm",
         )?;
         st.execute(params![visit_id, board_id, ze])?;
-        let mut v = self
-            .conn
-            .prepare_cached("UPDATE visit SET ze_ohm = ?2 WHERE id = ?1 AND ze_ohm IS NULL")?;
-        v.execute(params![visit_id, ze])?;
+        let mut v = self.conn.prepare_cached(
+            "UPDATE visit SET ze_ohm = ?2 WHERE id = ?1 AND ze_ohm IS NULL
+                 AND (SELECT fed_from_board_id FROM board WHERE id = ?3) IS NULL",
+        )?;
+        v.execute(params![visit_id, ze, board_id])?;
         Ok(())
     }
 
