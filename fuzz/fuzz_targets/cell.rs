@@ -23,7 +23,7 @@ fuzz_target!(|data: &[u8]| {
     let column = columns[usize::from(first & 0x3f) % columns.len()];
     let opts = ParseOptions {
         decimal_comma: first & 0x80 != 0,
-        today: NaiveDate::from_ymd_opt(2025, 7, 1).unwrap(),
+        ..ParseOptions::new(NaiveDate::from_ymd_opt(2025, 7, 1).unwrap())
     };
     check(column, text, &opts);
 });

@@ -43,7 +43,7 @@ fuzz_target!(|data: &[u8]| {
     let fields: Vec<&[u8]> = body.split(|b| *b == 0x1f).collect();
     let opts = ParseOptions {
         decimal_comma: flags & 2 != 0,
-        today: NaiveDate::from_ymd_opt(2025, 7, 1).unwrap(),
+        ..ParseOptions::new(NaiveDate::from_ymd_opt(2025, 7, 1).unwrap())
     };
     let faults = match header.kind {
         FileKind::Visits => match parse_visit_row(&header, &fields, &opts) {

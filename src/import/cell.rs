@@ -321,20 +321,67 @@ impl fmt::Display for Column {
     }
 }
 
+/// The order of day and month in a date written with numbers only. ISO 8601 (`2025-06-14`) is
+/// read whatever the order, since its year comes first.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, serde::Serialize, serde::Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum DateOrder {
+    /// `14/06/2025`: how homes' records are kept where BS 7671 applies; the default. A date that
+    /// reads only month first is refused, never turned round.
+    #[default]
+    DayFirst,
+    /// `06/14/2025`: only when a layout says the source writes dates so.
+    MonthFirst,
+    /// Only `2025-06-14`.
+    Iso,
+}
+
+impl DateOrder {
+    pub fn as_str(self) -> &'static str {
+        match self {
+            DateOrder::DayFirst => "day_first",
+            DateOrder::MonthFirst => "month_first",
+            DateOrder::Iso => "iso",
+        }
+    }
+}
+
 /// Choices that change how a cell is read.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[derive(Debug, Clone, Copy, PartialEq)]
 pub struct ParseOptions {
     /// Numbers use a decimal comma (`0,35`) instead of a decimal point.
     pub decimal_comma: bool,
     /// The last date a visit may have; later dates are errors.
     pub today: NaiveDate,
+    /// How a date written with numbers only is read.
+    pub date_order: DateOrder,
+    /// The insulation tester's top of range in MΩ, which `OL` and `∞` stand for: with it they
+    /// are read as an over-range reading of at least this; without it they are refused, since
+    /// the cell gives no figure.
+    pub insulation_top_mohm: Option<f64>,
+}
+
+impl ParseOptions {
+    /// Decimal point, day first, no top of range known.
+    pub fn new(today: NaiveDate) -> ParseOptions {
+        ParseOptions {
+            decimal_comma: false,
+            today,
+            date_order: DateOrder::DayFirst,
+            insulation_top_mohm: None,
+        }
+    }
 }
 
 /// A cell's value.
 #[derive(Debug, Clone, PartialEq)]
 pub enum Cell {
-    /// Not recorded: empty, `N/A`, `NA` or `-`.
+    /// Not recorded: empty, `-`, `N/R` (and, outside the reading columns, `N/A` and `N/T`).
     Missing,
+    /// `N/A` in a reading column: the test does not apply to this circuit.
+    NotApplicable,
+    /// `N/T` in a reading column: the test applies but was not done.
+    NotTested,
     /// `LIM`: a recorded limitation.
     Limitation,
     Text(String),
@@ -393,7 +440,7 @@ pub enum CellError {
         "LIM (a limitation) is kept with a circuit's readings, not the board's or the visit's: write the visit's limitations in the limitations column"
     )]
     LimitationOfVisit,
-    #[error("{0:?} is not a date: expected YYYY-MM-DD or DD/MM/YYYY")]
+    #[error("{0:?} is not a date: expected YYYY-MM-DD or DD/MM/YYYY (or DD.MM.YYYY, 14 Jun 2025)")]
     NotADate(String),
     #[error("{0:?} is not a date in the calendar")]
     ImpossibleDate(String),
@@ -413,9 +460,34 @@ pub enum CellError {
     Value(String),
 }
 
-/// Marks that mean "not recorded".
+/// What a mark in place of a value says.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Mark {
+    /// Empty, `-`, `N/R`, `NR`: not recorded.
+    NotRecorded,
+    /// `N/A`, `NA`: not applicable.
+    NotApplicable,
+    /// `N/T`, `NT`: not tested.
+    NotTested,
+}
+
+/// The mark a cell's whole text is, if it is one.
+pub fn mark_of(t: &str) -> Option<Mark> {
+    let is = |a: &str, b: &str| t.eq_ignore_ascii_case(a) || t.eq_ignore_ascii_case(b);
+    if t.is_empty() || t == "-" || is("n/r", "nr") {
+        Some(Mark::NotRecorded)
+    } else if is("n/a", "na") {
+        Some(Mark::NotApplicable)
+    } else if is("n/t", "nt") {
+        Some(Mark::NotTested)
+    } else {
+        None
+    }
+}
+
+/// Marks that say there is no value: every [`Mark`].
 fn is_missing_mark(t: &str) -> bool {
-    t.is_empty() || t == "-" || t.eq_ignore_ascii_case("n/a") || t.eq_ignore_ascii_case("na")
+    mark_of(t).is_some()
 }
 
 /// Whether export prefixes this text with `'`: OWASP's formula characters, plus our own
@@ -482,8 +554,14 @@ pub fn parse_cell(column: Column, text: &str, opts: &ParseOptions) -> Result<Cel
         }
         return Ok(Cell::Text(t.to_string()));
     }
-    if is_missing_mark(t) {
-        return Ok(Cell::Missing);
+    if let Some(mark) = mark_of(t) {
+        // Only a measured reading keeps why it has no value; elsewhere every mark is "not
+        // recorded", as it always was.
+        return Ok(match mark {
+            Mark::NotApplicable if column.takes_limitation() => Cell::NotApplicable,
+            Mark::NotTested if column.takes_limitation() => Cell::NotTested,
+            _ => Cell::Missing,
+        });
     }
     if t.eq_ignore_ascii_case("lim") {
         return if column.takes_limitation() {
@@ -496,7 +574,7 @@ pub fn parse_cell(column: Column, text: &str, opts: &ParseOptions) -> Result<Cel
     }
     match kind {
         Kind::Key | Kind::Text => unreachable!("handled above"),
-        Kind::Date => parse_date(t, opts.today).map(Cell::Date),
+        Kind::Date => parse_date_in(t, opts.today, opts.date_order).map(Cell::Date),
         Kind::Device => t
             .parse::<Device>()
             .map(Cell::Device)
@@ -590,6 +668,15 @@ pub fn parse_cell(column: Column, text: &str, opts: &ParseOptions) -> Result<Cel
                 Kind::Megohms => Unit::Megohms,
                 _ => Unit::Millis,
             };
+            if is_over_range_word(t) {
+                return match (kind, opts.insulation_top_mohm) {
+                    (Kind::Megohms, Some(top)) => Ok(Cell::OverRange(top)),
+                    (Kind::Megohms, None) => Err(CellError::Value(format!(
+                        "{t:?} is over range but gives no figure: write the instrument's top of range as >999 or 999+, or give insulation_top_mohm in a layout"
+                    ))),
+                    _ => Err(CellError::OverRangeNotAllowed(t.to_string())),
+                };
+            }
             let n = parse_quantity(t, unit, opts)?;
             if n.negative {
                 return Err(CellError::Negative(t.to_string()));
@@ -706,6 +793,11 @@ fn unit_of(s: &str) -> Option<Unit> {
     }
 }
 
+/// `OL` (overload) and `∞`: what an insulation tester shows past its range, with no figure.
+fn is_over_range_word(t: &str) -> bool {
+    t.eq_ignore_ascii_case("ol") || t.eq_ignore_ascii_case("o.l.") || t == "∞" || t == ">∞"
+}
+
 struct Quantity {
     value: f64,
     over: bool,
@@ -741,6 +833,11 @@ fn parse_quantity(t: &str, unit: Unit, opts: &ParseOptions) -> Result<Quantity, 
         .find(|c: char| !(c.is_ascii_digit() || c == '.' || c == ','))
         .unwrap_or(rest.len());
     let (digits, suffix) = rest.split_at(end);
+    // `999+`: how some instruments and schedules write over range, the mark after the figure.
+    let (over, suffix) = match suffix.trim_start().strip_prefix('+') {
+        Some(s) if !negative && !digits.is_empty() => (true, s),
+        _ => (over, suffix),
+    };
     let suffix = suffix.trim();
     if !suffix.is_empty() {
         match unit_of(suffix) {
@@ -792,28 +889,66 @@ fn parse_quantity(t: &str, unit: Unit, opts: &ParseOptions) -> Result<Quantity, 
 /// A visit date: ISO 8601 or day first. A date that reads only month first, an impossible
 /// date, a two-digit year or a date after `today` is an error.
 pub fn parse_date(t: &str, today: NaiveDate) -> Result<NaiveDate, CellError> {
+    parse_date_in(t, today, DateOrder::DayFirst)
+}
+
+/// Month names as dates write them, English, first three letters or whole.
+const MONTHS: [&str; 12] = [
+    "jan", "feb", "mar", "apr", "may", "jun", "jul", "aug", "sep", "oct", "nov", "dec",
+];
+
+/// The month a word names (`Jun`, `June`, `Sept`), if it is one.
+fn month_word(w: &str) -> Option<u32> {
+    let w = w.to_ascii_lowercase();
+    let full = [
+        "january",
+        "february",
+        "march",
+        "april",
+        "may",
+        "june",
+        "july",
+        "august",
+        "september",
+        "october",
+        "november",
+        "december",
+    ];
+    (0..12)
+        .find(|&i| w == MONTHS[i] || w == full[i] || (i == 8 && w == "sept"))
+        .map(|i| i as u32 + 1)
+}
+
+/// A visit date in the given order: ISO 8601 (`2025-06-14`) always; numbers separated by `/`,
+/// `-` or `.` (one separator throughout) in `order`; a month written as a word (`14 Jun 2025`,
+/// `14-Jun-2025`) in any order, since it cannot be mistaken. A date that reads only the other
+/// way round, an impossible date, a two-digit year or a date after `today` is an error.
+pub fn parse_date_in(t: &str, today: NaiveDate, order: DateOrder) -> Result<NaiveDate, CellError> {
     let not_a_date = || CellError::NotADate(t.to_string());
-    let parts: Vec<&str> = t.split(['-', '/']).collect();
-    let seps: Vec<char> = t.chars().filter(|c| *c == '-' || *c == '/').collect();
-    if parts.len() != 3
-        || seps[0] != seps[1]
-        || parts
-            .iter()
-            .any(|p| p.is_empty() || p.len() > 4 || !p.bytes().all(|b| b.is_ascii_digit()))
-    {
+    let parts: Vec<&str> = t.split(['-', '/', '.', ' ']).collect();
+    let seps: Vec<char> = t
+        .chars()
+        .filter(|c| matches!(c, '-' | '/' | '.' | ' '))
+        .collect();
+    if parts.len() != 3 || seps[0] != seps[1] || parts.iter().any(|p| p.is_empty() || p.len() > 9) {
         return Err(not_a_date());
     }
+    let digits = |p: &str| p.bytes().all(|b| b.is_ascii_digit()) && p.len() <= 4;
     let num = |s: &str| s.parse::<u32>().map_err(|_| not_a_date());
-    let date = if parts[0].len() == 4 {
+    let date = if digits(parts[0]) && parts[0].len() == 4 {
         // ISO 8601 is always year-month-day, with a hyphen.
-        if seps[0] != '-' || parts[1].len() > 2 || parts[2].len() > 2 {
+        if seps[0] != '-' || !parts[1..].iter().all(|p| digits(p) && p.len() <= 2) {
             return Err(not_a_date());
         }
         let (y, m, d) = (num(parts[0])?, num(parts[1])?, num(parts[2])?);
         NaiveDate::from_ymd_opt(y as i32, m, d)
             .ok_or_else(|| CellError::ImpossibleDate(t.to_string()))?
+    } else if order == DateOrder::Iso {
+        return Err(CellError::Value(format!(
+            "{t:?} is not an ISO date: the layout says this source writes dates as YYYY-MM-DD"
+        )));
     } else {
-        if parts[0].len() > 2 || parts[1].len() > 2 {
+        if !digits(parts[2]) {
             return Err(not_a_date());
         }
         if parts[2].len() != 4 {
@@ -821,23 +956,49 @@ pub fn parse_date(t: &str, today: NaiveDate) -> Result<NaiveDate, CellError> {
                 text: t.to_string(),
             });
         }
-        let (d, m, y) = (num(parts[0])?, num(parts[1])?, num(parts[2])? as i32);
+        let y = num(parts[2])? as i32;
+        if let Some(m) = month_word(parts[1]).filter(|_| digits(parts[0]) && parts[0].len() <= 2) {
+            // 14 Jun 2025, 14-Jun-2025: the month is a word, so the order is not in doubt.
+            return finish(t, today, NaiveDate::from_ymd_opt(y, m, num(parts[0])?));
+        }
+        if seps[0] == ' ' || !parts[..2].iter().all(|p| digits(p) && p.len() <= 2) {
+            return Err(not_a_date());
+        }
+        let (a, b) = (num(parts[0])?, num(parts[1])?);
+        let (d, m) = match order {
+            DateOrder::MonthFirst => (b, a),
+            _ => (a, b),
+        };
         match NaiveDate::from_ymd_opt(y, m, d) {
             Some(date) => date,
             None => {
                 if m > 12
-                    && let Some(us) = NaiveDate::from_ymd_opt(y, d, m)
+                    && let Some(other) = NaiveDate::from_ymd_opt(y, d, m)
                 {
-                    return Err(CellError::MonthFirst {
-                        text: t.to_string(),
-                        day_first: format!("{:02}/{:02}/{}", us.day(), us.month(), us.year()),
-                        iso: us.to_string(),
+                    let day_first =
+                        format!("{:02}/{:02}/{}", other.day(), other.month(), other.year());
+                    return Err(match order {
+                        DateOrder::MonthFirst => CellError::Value(format!(
+                            "{t:?} reads only day first, but the layout says this source writes the month first: check the layout's date_order ({day_first} is {})",
+                            other
+                        )),
+                        _ => CellError::MonthFirst {
+                            text: t.to_string(),
+                            day_first,
+                            iso: other.to_string(),
+                        },
                     });
                 }
                 return Err(CellError::ImpossibleDate(t.to_string()));
             }
         }
     };
+    finish(t, today, Some(date))
+}
+
+/// The checks every visit date passes: it exists, is not after today, not before 1950.
+fn finish(t: &str, today: NaiveDate, date: Option<NaiveDate>) -> Result<NaiveDate, CellError> {
+    let date = date.ok_or_else(|| CellError::ImpossibleDate(t.to_string()))?;
     if date > today {
         return Err(CellError::Future { date, today });
     }
@@ -900,10 +1061,7 @@ mod tests {
     use proptest::prelude::*;
 
     fn opts() -> ParseOptions {
-        ParseOptions {
-            decimal_comma: false,
-            today: NaiveDate::from_ymd_opt(2025, 7, 1).unwrap(),
-        }
+        ParseOptions::new(NaiveDate::from_ymd_opt(2025, 7, 1).unwrap())
     }
 
     fn p(c: Column, t: &str) -> Result<Cell, CellError> {
@@ -1000,10 +1158,91 @@ mod tests {
     }
 
     #[test]
+    fn over_range_written_after_the_figure_or_as_a_word() {
+        for t in ["999+", "999 +", "999+ MΩ", "999+MΩ"] {
+            assert_eq!(p(Column::IrLlMohm, t), Ok(Cell::OverRange(999.0)), "{t:?}");
+        }
+        for t in ["999+", "OL"] {
+            assert!(matches!(
+                p(Column::R1r2Ohm, t),
+                Err(CellError::OverRangeNotAllowed(_))
+            ));
+        }
+        // OL and ∞ give no figure: only a known top of range makes them a reading.
+        for t in ["OL", "ol", "∞", "O.L."] {
+            let e = p(Column::IrLeMohm, t).unwrap_err().to_string();
+            assert!(e.contains("gives no figure"), "{t}: {e}");
+            let top = ParseOptions {
+                insulation_top_mohm: Some(999.0),
+                ..opts()
+            };
+            assert_eq!(
+                parse_cell(Column::IrLeMohm, t, &top),
+                Ok(Cell::OverRange(999.0)),
+                "{t}"
+            );
+        }
+        assert!(matches!(
+            p(Column::IrLeMohm, "-999+"),
+            Err(CellError::Negative(_) | CellError::NotANumber { .. })
+        ));
+    }
+
+    #[test]
+    fn day_first_dates_in_their_usual_spellings_and_month_first_only_when_told() {
+        let d = |y, m, d| Ok(Cell::Date(NaiveDate::from_ymd_opt(y, m, d).unwrap()));
+        for t in [
+            "14.06.2025",
+            "14/06/2025",
+            "14-06-2025",
+            "14 Jun 2025",
+            "14-Jun-2025",
+            "14 June 2025",
+        ] {
+            assert_eq!(p(Column::VisitDate, t), d(2025, 6, 14), "{t}");
+        }
+        // Without a layout, 03/04/2025 is 3 April: day first, as the README says.
+        assert_eq!(p(Column::VisitDate, "03/04/2025"), d(2025, 4, 3));
+        let us = ParseOptions {
+            date_order: DateOrder::MonthFirst,
+            ..opts()
+        };
+        let m = |t| parse_cell(Column::VisitDate, t, &us);
+        assert_eq!(m("03/04/2025"), d(2025, 3, 4));
+        assert_eq!(m("06/14/2025"), d(2025, 6, 14));
+        assert_eq!(m("2025-06-14"), d(2025, 6, 14));
+        assert!(
+            m("14/06/2025")
+                .unwrap_err()
+                .to_string()
+                .contains("reads only day first")
+        );
+        let iso = ParseOptions {
+            date_order: DateOrder::Iso,
+            ..opts()
+        };
+        assert!(parse_cell(Column::VisitDate, "14/06/2025", &iso).is_err());
+        for t in ["14.06-2025", "14 06 2025", "14 Foo 2025", "14.06.25"] {
+            assert!(p(Column::VisitDate, t).is_err(), "{t}");
+        }
+    }
+
+    #[test]
     fn not_recorded_and_limitation() {
-        for t in ["", " ", "N/A", "n/a", "NA", "-"] {
+        for t in ["", " ", "-", "N/R", "n/r", "NR"] {
             assert_eq!(p(Column::ZsOhm, t), Ok(Cell::Missing), "{t:?}");
             assert_eq!(p(Column::Device, t), Ok(Cell::Missing), "{t:?}");
+        }
+        // Not applicable and not tested stay distinct in a reading column; elsewhere they
+        // say only that there is no value.
+        for t in ["N/A", "n/a", "NA"] {
+            assert_eq!(p(Column::ZsOhm, t), Ok(Cell::NotApplicable), "{t:?}");
+            assert_eq!(p(Column::RcdMs, t), Ok(Cell::NotApplicable), "{t:?}");
+            assert_eq!(p(Column::Device, t), Ok(Cell::Missing), "{t:?}");
+        }
+        for t in ["N/T", "n/t", "NT"] {
+            assert_eq!(p(Column::IrLeMohm, t), Ok(Cell::NotTested), "{t:?}");
+            assert_eq!(p(Column::Note, t), Ok(Cell::Missing), "{t:?}");
         }
         assert_eq!(p(Column::ZsOhm, "LIM"), Ok(Cell::Limitation));
         assert_eq!(p(Column::IrLlMohm, "lim"), Ok(Cell::Limitation));

@@ -51,7 +51,7 @@ use crate::store::Store;
 pub const ERROR_CAP: usize = 100;
 
 /// How a file is imported.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[derive(Debug, Clone, Copy, PartialEq)]
 pub struct ImportOptions {
     pub parse: ParseOptions,
     /// Write the valid rows and put the rejected ones in a sidecar file.
@@ -66,10 +66,7 @@ impl ImportOptions {
     /// Strict defaults: decimal point, every row valid, no overwriting, no unknown columns.
     pub fn new(today: NaiveDate) -> ImportOptions {
         ImportOptions {
-            parse: ParseOptions {
-                decimal_comma: false,
-                today,
-            },
+            parse: ParseOptions::new(today),
             skip_invalid: false,
             replace: false,
             ignore_unknown: false,

@@ -4,11 +4,12 @@
 use super::cell::{Column, format_number};
 use crate::model::{Megohms, Readings};
 
-/// A reading's cell text as export writes it (`LIM` for a limitation), or `None`.
-/// For `ze_ohm` only the limitation lives in the record; its value is a board test.
+/// A reading's cell text as export writes it (`LIM` for a limitation, `N/A` not applicable,
+/// `N/T` not tested), or `None`. For `ze_ohm` only those marks live in the record; its value
+/// is a board test.
 pub fn reading_text(r: &Readings, c: Column) -> Option<String> {
-    if r.limitations.iter().any(|l| l == c.name()) {
-        return Some("LIM".to_string());
+    if let Some(mark) = mark_text(r, c) {
+        return Some(mark.to_string());
     }
     let num = |v: Option<f64>| v.map(format_number);
     let mohm = |m: Option<Megohms>| {
@@ -37,11 +38,25 @@ pub fn reading_text(r: &Readings, c: Column) -> Option<String> {
     }
 }
 
+/// The mark a record gives a column in place of a value, if any.
+fn mark_text(r: &Readings, c: Column) -> Option<&'static str> {
+    let has = |list: &[String]| list.iter().any(|l| l == c.name());
+    if has(&r.limitations) {
+        Some("LIM")
+    } else if has(&r.not_applicable) {
+        Some("N/A")
+    } else if has(&r.not_tested) {
+        Some("N/T")
+    } else {
+        None
+    }
+}
+
 /// Whether two records give the same text for a reading column, as [`reading_text`] compares
 /// them, without building the text when the values are bit for bit the same (most rows of a
 /// file imported again).
 pub(super) fn same_reading(a: &Readings, b: &Readings, c: Column) -> bool {
-    let limited = |r: &Readings| r.limitations.iter().any(|l| l == c.name());
+    let limited = |r: &Readings| mark_text(r, c);
     let bits = |v: Option<f64>| v.map(f64::to_bits);
     let mohm = |m: Option<Megohms>| m.map(|m| (m.value.to_bits(), m.over_range));
     let identical = limited(a) == limited(b)
@@ -80,17 +95,20 @@ pub(super) fn copy_reading(dst: &mut Readings, src: &Readings, c: Column) {
         Column::Note => dst.note = src.note.clone(),
         _ => {}
     }
-    dst.limitations.retain(|l| l != c.name());
-    if src.limitations.iter().any(|l| l == c.name()) {
-        dst.limitations.push(c.name().to_string());
+    copy_mark(&mut dst.limitations, &src.limitations, c);
+    copy_mark(&mut dst.not_applicable, &src.not_applicable, c);
+    copy_mark(&mut dst.not_tested, &src.not_tested, c);
+}
+
+/// Copy whether `c` is in a list of marked columns, keeping the list in column order.
+fn copy_mark(dst: &mut Vec<String>, src: &[String], c: Column) {
+    dst.retain(|l| l != c.name());
+    if src.iter().any(|l| l == c.name()) {
+        dst.push(c.name().to_string());
     }
-    let mut cols: Vec<Column> = dst
-        .limitations
-        .iter()
-        .filter_map(|l| Column::from_name(l))
-        .collect();
+    let mut cols: Vec<Column> = dst.iter().filter_map(|l| Column::from_name(l)).collect();
     cols.sort();
-    dst.limitations = cols.iter().map(|c| c.name().to_string()).collect();
+    *dst = cols.iter().map(|c| c.name().to_string()).collect();
 }
 
 #[cfg(test)]

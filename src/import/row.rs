@@ -351,11 +351,21 @@ pub fn parse_visit_row(
         readings: Readings::default(),
     };
     let mut limitations: Vec<Column> = Vec::new();
+    let mut not_applicable: Vec<Column> = Vec::new();
+    let mut not_tested: Vec<Column> = Vec::new();
     // A delay written in the type column ("A S"), checked against the rcd_delay column.
     let mut marked_delay = None;
     for (col, cell) in cells {
-        if cell == Cell::Limitation {
-            limitations.push(col);
+        match cell {
+            Cell::Limitation => limitations.push(col),
+            Cell::NotApplicable => not_applicable.push(col),
+            Cell::NotTested => not_tested.push(col),
+            _ => {}
+        }
+        if matches!(
+            cell,
+            Cell::Limitation | Cell::NotApplicable | Cell::NotTested
+        ) {
             continue;
         }
         let text = || match &cell {
@@ -494,8 +504,13 @@ pub fn parse_visit_row(
         (a, b) => row.register.rcd_delay = a.or(b),
     }
     // Canonical order, so the same limitations compare equal whatever the column order.
-    limitations.sort();
-    row.readings.limitations = limitations.iter().map(|c| c.name().to_string()).collect();
+    let names = |mut cols: Vec<Column>| {
+        cols.sort();
+        cols.iter().map(|c| c.name().to_string()).collect()
+    };
+    row.readings.limitations = names(limitations);
+    row.readings.not_applicable = names(not_applicable);
+    row.readings.not_tested = names(not_tested);
     Ok(row)
 }
 
@@ -556,10 +571,7 @@ mod tests {
     use super::*;
 
     fn opts() -> ParseOptions {
-        ParseOptions {
-            decimal_comma: false,
-            today: NaiveDate::from_ymd_opt(2025, 7, 1).unwrap(),
-        }
+        ParseOptions::new(NaiveDate::from_ymd_opt(2025, 7, 1).unwrap())
     }
 
     fn bytes<'a>(v: &'a [&'a str]) -> Vec<&'a [u8]> {

@@ -528,6 +528,13 @@ pub struct Readings {
     pub rcd_5x_ms: Option<f64>,
     /// Quantities recorded as a limitation (`LIM`), by their visit-file column name.
     pub limitations: Vec<String>,
+    /// Quantities recorded as not applicable (`N/A`), by their visit-file column name. A
+    /// quantity with no value and in neither list was not recorded.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub not_applicable: Vec<String>,
+    /// Quantities recorded as not tested (`N/T`), by their visit-file column name.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub not_tested: Vec<String>,
     pub note: Option<String>,
 }
 

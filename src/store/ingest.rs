@@ -143,7 +143,7 @@ impl Store {
             record: self.conn.prepare(concat!(
                 "INSERT INTO test_record (visit_id, circuit_id, ",
                 record_values!(),
-                ") VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11, ?12, ?13, ?14, ?15, ?16, ?17)"
+                ") VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11, ?12, ?13, ?14, ?15, ?16, ?17, ?18)"
             ))?,
             circuit: self.conn.prepare(
                 "INSERT INTO circuit (board_id, number, description, kind, live_mm2, cpc_mm2, length_m,
@@ -419,7 +419,7 @@ impl Store {
             concat!(
                 "INSERT OR REPLACE INTO test_record (visit_id, circuit_id, ",
                 record_values!(),
-                ") VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11, ?12, ?13, ?14, ?15, ?16, ?17)"
+                ") VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11, ?12, ?13, ?14, ?15, ?16, ?17, ?18)"
             ),
             visit_id,
             circuit_id,

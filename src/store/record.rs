@@ -13,7 +13,7 @@ use crate::model::{Megohms, Readings, TestRecord};
 macro_rules! record_values {
     () => {
         "r1r2_ohm, r2_ohm, r1rn_ohm, ring_r1_ohm, ring_rn_ohm, ring_r2_ohm,
-    zs_ohm, ir_ll_mohm, ir_ll_over, ir_le_mohm, ir_le_over, rcd_ms, rcd_5x_ms, limitations, note"
+    zs_ohm, ir_ll_mohm, ir_ll_over, ir_le_mohm, ir_le_over, rcd_ms, rcd_5x_ms, limitations, note, marks"
     };
 }
 pub(super) const RECORD_VALUES: &str = record_values!();
@@ -63,11 +63,41 @@ pub(super) fn readings_at(r: &Row, o: usize) -> rusqlite::Result<Readings> {
             .map(String::from)
             .collect(),
         note: r.get(o + 14)?,
+        not_applicable: marked(r.get_ref(o + 15)?.as_str()?, NOT_APPLICABLE),
+        not_tested: marked(r.get_ref(o + 15)?.as_str()?, NOT_TESTED),
     })
 }
 
+/// How the `marks` column writes a reading recorded as not applicable or not tested: the
+/// visit-file column name, a colon, this.
+const NOT_APPLICABLE: &str = "na";
+const NOT_TESTED: &str = "nt";
+
+/// The columns of `marks` that carry `mark`.
+fn marked(marks: &str, mark: &str) -> Vec<String> {
+    if marks.is_empty() {
+        return Vec::new();
+    }
+    marks
+        .split(',')
+        .filter_map(|m| m.split_once(':'))
+        .filter(|(_, k)| *k == mark)
+        .map(|(c, _)| c.to_string())
+        .collect()
+}
+
+/// The `marks` column's text for a record.
+fn marks_text(r: &Readings) -> String {
+    let na = r
+        .not_applicable
+        .iter()
+        .map(|c| format!("{c}:{NOT_APPLICABLE}"));
+    let nt = r.not_tested.iter().map(|c| format!("{c}:{NOT_TESTED}"));
+    na.chain(nt).collect::<Vec<_>>().join(",")
+}
+
 /// The [`RECORD_VALUES`] one by one, for error messages.
-const RECORD_VALUE_NAMES: [&str; 15] = [
+pub(super) const RECORD_VALUE_NAMES: [&str; 16] = [
     "r1r2_ohm",
     "r2_ohm",
     "r1rn_ohm",
@@ -83,6 +113,7 @@ const RECORD_VALUE_NAMES: [&str; 15] = [
     "rcd_5x_ms",
     "limitations",
     "note",
+    "marks",
 ];
 
 impl Store {
@@ -147,6 +178,7 @@ pub(super) fn execute_record(
         r.rcd_5x_ms,
         r.limitations.join(","),
         r.note,
+        marks_text(r),
     ])?;
     Ok(())
 }
