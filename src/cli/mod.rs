@@ -11,6 +11,7 @@ pub mod flags;
 pub mod import;
 pub mod init;
 pub mod instrument;
+pub mod layout;
 pub mod limits;
 pub mod output;
 pub mod property;
@@ -65,8 +66,11 @@ pub enum Command {
     /// Add and list test instruments and their calibration dates
     #[command(subcommand)]
     Instrument(instrument::Cmd),
-    /// Import visit or observation files (CSV): all rows or nothing, with exact errors
+    /// Import visit or observation files (CSV, .xlsx, .ods): all rows or nothing, with exact errors
     Import(import::Args),
+    /// Layouts for other people's files: propose one from a file's headers, keep, list, show, delete
+    #[command(subcommand)]
+    Layout(layout::Cmd),
     /// Export test records and observations as CSV or JSON, in the format import reads
     Export(export::Args),
     /// List the visits in the history
@@ -155,6 +159,7 @@ pub fn run(cli: Cli, out: &mut dyn Write) -> Result<()> {
         Command::Check(args) => check::run(&args, &ctx, out),
         Command::Demo(args) => demo::run(&args, &ctx, out),
         Command::Import(args) => import::run(&args, &ctx, out),
+        Command::Layout(cmd) => layout::run(&cmd, &ctx, out),
         Command::Export(args) => export::run(&args, &ctx, out),
         Command::Brief(args) => brief::run(&args, &ctx, out),
         Command::Record(args) => record::run(&args, &ctx, out),

@@ -7,13 +7,18 @@
 
 mod apply;
 pub mod cell;
+mod check;
 mod fault;
+pub mod guess;
+pub mod layout;
 mod observation;
+mod open;
 mod reading;
 mod register;
 mod rejected;
 pub mod row;
 mod schedule;
+pub mod sheet;
 mod source;
 mod state;
 
@@ -28,8 +33,12 @@ pub use cell::{
     Cell, CellError, Column, ParseOptions, escape, format_number, normalise_circuit, parse_cell,
     unescape,
 };
+pub use check::{CheckRow, CheckedCell, DryRun, check_file};
 use fault::Effect;
+pub use layout::{Layout, LayoutError, Mapping};
 use observation::run_row;
+use open::{Errors, open};
+pub use open::{Positions, SourceOptions, file_headers};
 pub use reading::reading_text;
 pub use register::{register_at, register_texts};
 use rejected::Rejected;
@@ -37,10 +46,7 @@ pub use row::{
     FieldError, FileKind, Header, ObservationRow, RowRegister, VisitRow, parse_header,
     parse_observation_row, parse_visit_row,
 };
-use source::{
-    BATCHES_IN_FLIGHT, Batch, Parsed, ReadResult, RowTooLong, open_csv, read_header, read_rows,
-    row_too_long,
-};
+use source::{BATCHES_IN_FLIGHT, Batch, Parsed, ReadResult, RowTooLong, read_rows, row_too_long};
 pub use source::{MAX_COLUMNS, MAX_ROW_BYTES};
 use state::Cache;
 
@@ -172,26 +178,6 @@ pub const READING_COLUMNS: [Column; 13] = [
     Column::Note,
 ];
 
-/// Collects `FILE:LINE:COLUMN: message` lines up to the cap, and counts the rest.
-struct Errors<'a> {
-    file: &'a str,
-    summary: &'a mut Summary,
-}
-
-impl Errors<'_> {
-    fn push(&mut self, line: u64, column: usize, name: Option<&str>, message: &str) -> String {
-        let text = match name {
-            Some(n) => format!("{}:{line}:{column}: {n}: {message}", self.file),
-            None => format!("{}:{line}:{column}: {message}", self.file),
-        };
-        self.summary.errors_total += 1;
-        if self.summary.errors.len() < ERROR_CAP {
-            self.summary.errors.push(text.clone());
-        }
-        text
-    }
-}
-
 /// Where rejected rows go: `visits.csv` → `visits.rejected.csv`, beside it.
 pub fn sidecar_path(path: &Path) -> PathBuf {
     let stem = path
@@ -210,7 +196,18 @@ pub fn import_file(
     opts: &ImportOptions,
     progress: &mut dyn FnMut(u64, u64),
 ) -> Result<Summary> {
-    let (mut csv, mut lines, size) = open_csv(path)?;
+    import_from(store, path, opts, &SourceOptions::default(), progress)
+}
+
+/// [`import_file`] for a file in any form this import reads: a CSV file or a spreadsheet's
+/// sheet, in ohmtrail's own columns or mapped by a layout.
+pub fn import_from(
+    store: &Store,
+    path: &Path,
+    opts: &ImportOptions,
+    src: &SourceOptions,
+    progress: &mut dyn FnMut(u64, u64),
+) -> Result<Summary> {
     let name = path.display().to_string();
     let mut summary = Summary {
         file: name.clone(),
@@ -220,15 +217,25 @@ pub fn import_file(
         path: path.to_path_buf(),
         source: std::io::Error::other(e),
     };
-    let mut errs = Errors {
-        file: &name,
-        summary: &mut summary,
+    let opts = &ImportOptions {
+        parse: match &src.layout {
+            Some(l) => l.parse_options(opts.parse),
+            None => opts.parse,
+        },
+        ..*opts
     };
-    let Some((header, header_raw, header_line)) =
-        read_header(&mut csv, &mut lines, opts, &mut errs).map_err(csv_err)?
-    else {
+    let Some(opened) = open(path, opts, src, &mut summary)? else {
         return Ok(summary);
     };
+    let open::Opened {
+        source,
+        header,
+        header_raw,
+        header_line,
+        mapping,
+        positions,
+        size,
+    } = opened;
     summary.kind = Some(header.kind);
 
     store.ingest_prepare()?;
@@ -250,7 +257,8 @@ pub fn import_file(
     let outcome = std::thread::scope(|scope| {
         let header = &header;
         let parse = opts.parse;
-        scope.spawn(move || read_rows(csv, lines, header, &parse, &full_tx, &free_rx));
+        let mapping = mapping.as_ref();
+        scope.spawn(move || read_rows(source, mapping, header, &parse, &full_tx, &free_rx));
         let outcome = store.atomic(|s| {
             for received in full_rx.iter() {
                 let batch = match received {
@@ -258,6 +266,7 @@ pub fn import_file(
                         Errors {
                             file: &name,
                             summary: &mut summary,
+                            at: &positions,
                         }
                         .push(
                             line,
@@ -299,6 +308,7 @@ pub fn import_file(
                             let mut errs = Errors {
                                 file: &name,
                                 summary: &mut summary,
+                                at: &positions,
                             };
                             let reasons: Vec<String> = faults
                                 .iter()
@@ -319,6 +329,7 @@ pub fn import_file(
                 Errors {
                     file: &name,
                     summary: &mut summary,
+                    at: &positions,
                 }
                 .push(
                     last_line + 1,

@@ -82,6 +82,8 @@ pub fn parse_header(names: &[&str], ignore_unknown: bool) -> Result<Header, Vec<
     };
     let mut errors = Vec::new();
     let mut suggested: Vec<&str> = Vec::new();
+    let mut listed: Option<usize> = None;
+    let mut unknown = 0;
     let mut columns: Vec<Option<Column>> = Vec::with_capacity(names.len());
     for (i, raw) in names.iter().enumerate() {
         let n = i + 1;
@@ -113,14 +115,23 @@ pub fn parse_header(names: &[&str], ignore_unknown: bool) -> Result<Header, Vec<
                         suggested.push(s);
                         format!("did you mean {s}?")
                     }
-                    None => format!(
-                        "expected one of {}",
-                        allowed
-                            .iter()
-                            .map(|c| c.name())
-                            .collect::<Vec<_>>()
-                            .join(", ")
-                    ),
+                    // The list of columns once, at the first column that needs it.
+                    None => match listed {
+                        Some(at) => {
+                            format!("not a column of this file (they are listed at column {at})")
+                        }
+                        None => {
+                            listed = Some(n);
+                            format!(
+                                "expected one of {}",
+                                allowed
+                                    .iter()
+                                    .map(|c| c.name())
+                                    .collect::<Vec<_>>()
+                                    .join(", ")
+                            )
+                        }
+                    },
                 };
                 let what = if raw.trim().is_empty() {
                     "unnamed column".to_string()
@@ -131,6 +142,7 @@ pub fn parse_header(names: &[&str], ignore_unknown: bool) -> Result<Header, Vec<
                 } else {
                     format!("unknown column {raw:?}")
                 };
+                unknown += 1;
                 errors.push(FieldError::new(
                     n,
                     None,
@@ -140,6 +152,16 @@ pub fn parse_header(names: &[&str], ignore_unknown: bool) -> Result<Header, Vec<
             }
             _ => columns.push(None),
         }
+    }
+    if unknown >= 2
+        && let Some(first) = errors
+            .iter_mut()
+            .find(|e| e.message.starts_with("unknown column"))
+    {
+        // Many unknown headers are a file laid out by another tool, not typos.
+        first.message.push_str(&format!(
+            "; {unknown} columns are unknown: if the file comes from another tool, `ohmtrail layout guess FILE` proposes a layout for `import --layout`"
+        ));
     }
     for r in required {
         // A misspelt required column is already reported, with the right name.
@@ -176,6 +198,12 @@ const SUGGEST_EDITS: usize = 3;
 
 /// The nearest known column name to a mistyped one, if it is close.
 fn suggest(raw: &str, allowed: &[Column]) -> Option<&'static str> {
+    // A header the trade writes for a column ("Date", "Cct", "R1+R2") is that column.
+    if let Some(c) = super::guess::usual_header(raw)
+        && allowed.contains(&c)
+    {
+        return Some(c.name());
+    }
     // The edit distance is at least the difference in length, so a name much longer than
     // every known one has no suggestion, and is not compared letter by letter.
     let longest = allowed.iter().map(|c| c.name().len()).max().unwrap_or(0);
@@ -189,7 +217,8 @@ fn suggest(raw: &str, allowed: &[Column]) -> Option<&'static str> {
     allowed
         .iter()
         .map(|c| (edit_distance(&n, c.name()), c.name()))
-        .filter(|(d, _)| *d <= SUGGEST_EDITS)
+        // A short name is near every other short name: "date" is two edits from "note".
+        .filter(|(d, _)| *d <= SUGGEST_EDITS.min(n.chars().count().div_ceil(3)))
         .min()
         .map(|(_, name)| name)
 }

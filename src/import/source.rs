@@ -7,9 +7,11 @@ use std::io::{BufRead, BufReader, Read};
 use std::path::Path;
 use std::sync::mpsc;
 
+use super::layout::Mapping;
+use super::open::{Errors, Source};
 use super::{
-    Column, Errors, FieldError, FileKind, Header, ImportOptions, ObservationRow, ParseOptions,
-    VisitRow, cell, parse_header, parse_observation_row, parse_visit_row, row,
+    Column, FieldError, FileKind, Header, Located, ObservationRow, ParseOptions, VisitRow, cell,
+    parse_observation_row, parse_visit_row, row,
 };
 use crate::error::{Error, Result};
 
@@ -187,10 +189,12 @@ pub(super) type ReadResult = std::result::Result<Batch, csv::Error>;
 pub(super) type TappedCsv = csv::Reader<NewlineTap<BufReader<File>>>;
 
 /// The reading thread: read and parse every row after the header, in batches, until the file
-/// ends, the reader fails, or the writer stops listening.
+/// ends, the reader fails, or the writer stops listening. Under a layout, each row's cells are
+/// rewritten as it says and its constants added before the row is parsed; the batch keeps the
+/// row as read.
 pub(super) fn read_rows(
-    mut csv: TappedCsv,
-    mut lines: Lines,
+    mut source: Source,
+    mapping: Option<&Mapping>,
     header: &Header,
     parse: &ParseOptions,
     full: &mpsc::SyncSender<ReadResult>,
@@ -200,6 +204,7 @@ pub(super) fn read_rows(
     // to BATCH_ROWS: a short file (one visit of a portfolio) spends less of its time with one
     // thread waiting for the other to fill the pipeline.
     let mut rows_wanted = FIRST_BATCH_ROWS;
+    let mut mapped: Vec<Vec<u8>> = Vec::new();
     loop {
         let mut batch = match free.try_recv() {
             Ok(mut b) => {
@@ -222,9 +227,9 @@ pub(super) fn read_rows(
             if record.as_slice().len() > cell::MAX_CELL_BYTES {
                 *record = csv::ByteRecord::new();
             }
-            match csv.read_byte_record(record) {
-                Ok(true) => {}
-                Ok(false) => {
+            let (line, byte) = match source.read(record) {
+                Ok(Some(at)) => at,
+                Ok(None) => {
                     done = true;
                     break;
                 }
@@ -232,22 +237,17 @@ pub(super) fn read_rows(
                     let _ = full.send(Err(e));
                     return;
                 }
-            }
+            };
             bytes += record.as_slice().len();
-            let byte = record.position().map(|p| p.byte()).unwrap_or(0);
-            let line = lines.at(&mut csv.get_mut().newlines, byte);
-            let fields: Vec<&[u8]> = record.iter().collect();
-            let parsed = if row::is_blank(&fields) {
+            let raw: Vec<&[u8]> = record.iter().collect();
+            let parsed = if row::is_blank(&raw) {
                 None
             } else {
-                Some(match header.kind {
-                    FileKind::Visits => parse_visit_row(header, &fields, parse)
-                        .map(Parsed::Visit)
-                        .map_err(field_errors),
-                    FileKind::Observations => parse_observation_row(header, &fields, parse)
-                        .map(Parsed::Observation)
-                        .map_err(field_errors),
-                })
+                let fields = match mapping {
+                    Some(m) => map_fields(m, &raw, &mut mapped),
+                    None => raw,
+                };
+                Some(parse_fields(header, &fields, parse))
             };
             batch.rows.push(Item { line, byte, parsed });
         }
@@ -261,12 +261,40 @@ pub(super) fn read_rows(
     }
 }
 
-pub(super) type Located = Vec<(usize, Option<String>, String)>;
+/// A row's fields as the layout rewrites them, with its constants after them.
+pub(super) fn map_fields<'a>(
+    m: &Mapping,
+    raw: &[&'a [u8]],
+    scratch: &'a mut Vec<Vec<u8>>,
+) -> Vec<&'a [u8]> {
+    scratch.clear();
+    for (i, f) in raw.iter().enumerate() {
+        let cell = match std::str::from_utf8(f) {
+            Ok(t) if m.rewrites() => m.cell(i, t).as_bytes().to_vec(),
+            _ => f.to_vec(),
+        };
+        scratch.push(cell);
+    }
+    for (_, v) in &m.constants {
+        scratch.push(v.as_bytes().to_vec());
+    }
+    scratch.iter().map(Vec::as_slice).collect()
+}
 
-pub(super) fn field_errors(e: Vec<FieldError>) -> Located {
-    e.into_iter()
-        .map(|f| (f.column, f.name, f.message))
-        .collect()
+/// Parse one row's fields by the header's kind of file.
+pub(super) fn parse_fields(
+    header: &Header,
+    fields: &[&[u8]],
+    parse: &ParseOptions,
+) -> std::result::Result<Parsed, Located> {
+    match header.kind {
+        FileKind::Visits => parse_visit_row(header, fields, parse)
+            .map(Parsed::Visit)
+            .map_err(field_errors),
+        FileKind::Observations => parse_observation_row(header, fields, parse)
+            .map(Parsed::Observation)
+            .map_err(field_errors),
+    }
 }
 
 /// Open a CSV file for reading: the delimiter sniffed from its first line, the tap that
@@ -289,24 +317,25 @@ pub(super) fn open_csv(path: &Path) -> Result<(TappedCsv, Lines, u64)> {
     Ok((csv, Lines { passed: 0 }, size))
 }
 
-/// A header as read: the header, its raw fields (for the sidecar) and its line.
-pub(super) type HeaderRow = (Header, Vec<Vec<u8>>, u64);
-
-/// Read and check the header row: the header, its raw fields (for the sidecar) and its line.
+/// Read a CSV file's header row: its names, its raw fields (for the sidecar) and its line.
 /// `None` when it is refused, with the reasons in `errs`.
-pub(super) fn read_header(
+pub(super) fn read_header_names(
     csv: &mut TappedCsv,
     lines: &mut Lines,
-    opts: &ImportOptions,
     errs: &mut Errors,
-) -> std::result::Result<Option<HeaderRow>, csv::Error> {
+    path: &Path,
+) -> Result<Option<HeaderNames>> {
+    let csv_err = |e: csv::Error| Error::Io {
+        path: path.to_path_buf(),
+        source: std::io::Error::other(e),
+    };
     let mut record = csv::ByteRecord::new();
     let first = match csv.read_byte_record(&mut record) {
         Err(e) if let Some(line) = row_too_long(&e) => {
             errs.push(line, 1, None, &RowTooLong { line }.to_string());
             return Ok(None);
         }
-        other => other?,
+        other => other.map_err(csv_err)?,
     };
     if record.len() > MAX_COLUMNS {
         errs.push(
@@ -362,14 +391,14 @@ pub(super) fn read_header(
     if bad {
         return Ok(None);
     }
-    let name_refs: Vec<&str> = names.iter().map(String::as_str).collect();
-    match parse_header(&name_refs, opts.ignore_unknown) {
-        Ok(h) => Ok(Some((h, header_raw, header_line))),
-        Err(faults) => {
-            for f in faults {
-                errs.push(header_line, f.column, f.name.as_deref(), &f.message);
-            }
-            Ok(None)
-        }
-    }
+    Ok(Some((names, header_raw, header_line)))
+}
+
+/// A CSV header as read: its names, its raw fields and its line.
+pub(super) type HeaderNames = (Vec<String>, Vec<Vec<u8>>, u64);
+
+fn field_errors(e: Vec<FieldError>) -> Located {
+    e.into_iter()
+        .map(|f| (f.column, f.name, f.message))
+        .collect()
 }

@@ -10,6 +10,8 @@ mod record;
 mod circuits;
 mod history;
 mod ingest;
+mod layouts;
+pub use layouts::StoredLayout;
 pub mod migrate;
 mod open;
 mod pending;
