@@ -6,7 +6,7 @@ use std::path::Path;
 use serde::Serialize;
 
 use super::layout::Mapping;
-use super::open::{Errors, open};
+use super::open::{self, Errors, open};
 use super::source::{map_fields, parse_fields};
 use super::{Cell, Column, ImportOptions, SourceOptions, Summary, parse_cell, row};
 use crate::error::{Error, Result};
@@ -81,7 +81,7 @@ pub fn check_file(
         },
         ..*opts
     };
-    let Some(mut opened) = open(path, opts, src, &mut run.summary)? else {
+    let Some(opened) = open(path, opts, src, &mut run.summary)? else {
         return Ok(run);
     };
     run.summary.kind = Some(opened.header.kind);
@@ -90,70 +90,81 @@ pub fn check_file(
         path: path.to_path_buf(),
         source: std::io::Error::other(e),
     };
-    let mut record = csv::ByteRecord::new();
-    let mut scratch = Vec::new();
-    let mut last_line = opened.header_line;
-    while let Some((line, _)) = opened.source.read(&mut record).map_err(csv_err)? {
-        last_line = line;
-        let raw: Vec<&[u8]> = record.iter().collect();
-        if row::is_blank(&raw) {
-            run.summary.blank_rows += 1;
-            continue;
-        }
-        run.summary.rows += 1;
-        let fields = match &opened.mapping {
-            Some(m) => map_fields(m, &raw, &mut scratch),
-            None => raw.clone(),
-        };
-        let mut errs = Errors {
-            file: &name,
-            summary: &mut run.summary,
-            at: &opened.positions,
-        };
-        if let Err(faults) = parse_fields(&opened.header, &fields, &opts.parse) {
-            // Counted as rows refused, as `--skip-invalid` would refuse them.
-            errs.summary.rows_rejected += 1;
-            for (col, n, msg) in &faults {
-                errs.push(line, *col, n.as_deref(), msg);
+    let open::Opened {
+        source,
+        header,
+        mapping,
+        positions,
+        header_line,
+        ..
+    } = opened;
+    let outcome: Result<u64> = source.with_rows(|next| {
+        let mut record = csv::ByteRecord::new();
+        let mut scratch = Vec::new();
+        let mut last_line = header_line;
+        while let Some((line, _)) = next(&mut record).map_err(csv_err)? {
+            last_line = line;
+            let raw: Vec<&[u8]> = record.iter().collect();
+            if row::is_blank(&raw) {
+                run.summary.blank_rows += 1;
+                continue;
             }
-            continue;
-        }
-        if run.rows.len() < shown {
-            let cells = opened
-                .header
-                .columns
-                .iter()
-                .zip(
-                    fields
-                        .iter()
-                        .zip(raw.iter().chain(std::iter::repeat(&&b""[..]))),
-                )
-                .filter_map(|(c, (f, r))| {
-                    let c = (*c)?;
-                    let text = String::from_utf8_lossy(f);
-                    let stored = parse_cell(c, &text, &opts.parse)
-                        .map(|cell| stored_text(&cell))
-                        .unwrap_or_default();
-                    let source = if r.is_empty() && !f.is_empty() {
-                        text.to_string()
-                    } else {
-                        String::from_utf8_lossy(r).into_owned()
-                    };
-                    Some(CheckedCell {
-                        column: c.name().to_string(),
-                        source,
-                        stored,
+            run.summary.rows += 1;
+            let fields = match &mapping {
+                Some(m) => map_fields(m, &raw, &mut scratch),
+                None => raw.clone(),
+            };
+            let mut errs = Errors {
+                file: &name,
+                summary: &mut run.summary,
+                at: &positions,
+            };
+            if let Err(faults) = parse_fields(&header, &fields, &opts.parse) {
+                // Counted as rows refused, as `--skip-invalid` would refuse them.
+                errs.summary.rows_rejected += 1;
+                for (col, n, msg) in &faults {
+                    errs.push(line, *col, n.as_deref(), msg);
+                }
+                continue;
+            }
+            if run.rows.len() < shown {
+                let cells = header
+                    .columns
+                    .iter()
+                    .zip(
+                        fields
+                            .iter()
+                            .zip(raw.iter().chain(std::iter::repeat(&&b""[..]))),
+                    )
+                    .filter_map(|(c, (f, r))| {
+                        let c = (*c)?;
+                        let text = String::from_utf8_lossy(f);
+                        let stored = parse_cell(c, &text, &opts.parse)
+                            .map(|cell| stored_text(&cell))
+                            .unwrap_or_default();
+                        let source = if r.is_empty() && !f.is_empty() {
+                            text.to_string()
+                        } else {
+                            String::from_utf8_lossy(r).into_owned()
+                        };
+                        Some(CheckedCell {
+                            column: c.name().to_string(),
+                            source,
+                            stored,
+                        })
                     })
-                })
-                .collect();
-            run.rows.push(CheckRow { line, cells });
+                    .collect();
+                run.rows.push(CheckRow { line, cells });
+            }
         }
-    }
+        Ok(last_line)
+    });
+    let last_line = outcome?;
     if run.summary.rows == 0 {
         let mut errs = Errors {
             file: &name,
             summary: &mut run.summary,
-            at: &opened.positions,
+            at: &positions,
         };
         errs.push(
             last_line + 1,

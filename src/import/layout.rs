@@ -273,9 +273,13 @@ impl Layout {
             } else {
                 errors.push((
                     i + 1,
-                    format!(
-                        "column {n:?} is not in the layout: map it in [columns] or list it in ignore"
-                    ),
+                    if n.trim().is_empty() {
+                        "unnamed column is not in the layout: list \"\" in ignore to skip unnamed columns".to_string()
+                    } else {
+                        format!(
+                            "column {n:?} is not in the layout: map it in [columns] or list it in ignore"
+                        )
+                    },
                 ));
                 targets.push(String::new());
                 transforms.push(None);

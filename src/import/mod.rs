@@ -258,7 +258,9 @@ pub fn import_from(
         let header = &header;
         let parse = opts.parse;
         let mapping = mapping.as_ref();
-        scope.spawn(move || read_rows(source, mapping, header, &parse, &full_tx, &free_rx));
+        scope.spawn(move || {
+            source.with_rows(|next| read_rows(next, mapping, header, &parse, &full_tx, &free_rx))
+        });
         let outcome = store.atomic(|s| {
             for received in full_rx.iter() {
                 let batch = match received {

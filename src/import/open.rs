@@ -4,7 +4,7 @@
 use std::path::Path;
 
 use super::layout::{Layout, Mapping};
-use super::sheet::{SheetRows, column_letters, is_spreadsheet, open_sheet};
+use super::sheet::{ReadRow, Sheet, column_letters, is_spreadsheet, open_sheet};
 use super::source::{Lines, TappedCsv, open_csv, read_header_names};
 use super::{Column, Header, ImportOptions, Summary, parse_header};
 use crate::error::Result;
@@ -70,28 +70,26 @@ impl Positions {
 /// Where a file's rows come from.
 pub(super) enum Source {
     Csv(TappedCsv, Lines),
-    Sheet(SheetRows),
+    Sheet(Sheet),
 }
 
 impl Source {
-    /// Read the next row into `record`: its line (sheet row) and byte offset (row index in a
-    /// sheet), or `None` at the end.
-    pub(super) fn read(
-        &mut self,
-        record: &mut csv::ByteRecord,
-    ) -> std::result::Result<Option<(u64, u64)>, csv::Error> {
+    /// Run `f` with a reader of the rows: each call fills `record` with the next row and gives
+    /// its line (sheet row) and a position for progress (the byte offset, or the row's count in
+    /// a sheet), or `None` at the end.
+    pub(super) fn with_rows<T>(
+        self,
+        f: impl FnOnce(&mut dyn FnMut(&mut csv::ByteRecord) -> ReadRow) -> T,
+    ) -> T {
         match self {
-            Source::Csv(csv, lines) => {
+            Source::Csv(mut csv, mut lines) => f(&mut |record| {
                 if !csv.read_byte_record(record)? {
                     return Ok(None);
                 }
                 let byte = record.position().map(|p| p.byte()).unwrap_or(0);
                 Ok(Some((lines.at(&mut csv.get_mut().newlines, byte), byte)))
-            }
-            Source::Sheet(rows) => {
-                let at = rows.position() as u64;
-                Ok(rows.read(record).map(|line| (line, at)))
-            }
+            }),
+            Source::Sheet(sheet) => sheet.with_rows(f),
         }
     }
 }
@@ -105,7 +103,7 @@ pub(super) struct Opened {
     pub header_line: u64,
     pub mapping: Option<Mapping>,
     pub positions: Positions,
-    /// For the progress bar: the file's size, or a sheet's rows.
+    /// For the progress bar: the file's size, or a sheet's rows where known (0: not known).
     pub size: u64,
 }
 
@@ -220,9 +218,8 @@ pub(super) fn open(
                 .map(|(i, _)| i)
                 .collect();
             sheet.set_reading(&dates, opts.parse.decimal_comma);
-            let rows = sheet.rows();
-            let n = rows.len() as u64;
-            (Source::Sheet(rows), n)
+            let n = sheet.rows_hint();
+            (Source::Sheet(sheet), n)
         }
     };
     Ok(Some(Opened {

@@ -647,6 +647,43 @@ mod tests {
         assert_eq!(h.columns[4], None);
     }
 
+    /// Another tool's headers: one error each, the column list given once, the usual trade
+    /// headers suggested as their columns ("Date" is visit_date, not note), and a pointer to
+    /// `layout guess`.
+    #[test]
+    fn a_foreign_header_lists_the_columns_once_and_suggests_usual_headers() {
+        let e = parse_header(
+            &[
+                "Circuit No",
+                "Date",
+                "Colour",
+                "Shade",
+                "Zs",
+                "property_ref",
+                "board",
+            ],
+            false,
+        )
+        .unwrap_err();
+        let msgs: Vec<&str> = e.iter().map(|f| f.message.as_str()).collect();
+        assert_eq!(msgs.len(), 5, "{msgs:?}");
+        assert!(msgs[0].starts_with("unknown column \"Circuit No\": did you mean circuit?"));
+        assert!(msgs[0].contains("5 columns are unknown"), "{}", msgs[0]);
+        assert!(msgs[0].contains("ohmtrail layout guess FILE"));
+        assert!(msgs[1].starts_with("unknown column \"Date\": did you mean visit_date?"));
+        assert!(msgs[2].contains("expected one of property_ref, address"));
+        assert_eq!(
+            msgs[3],
+            "unknown column \"Shade\": not a column of this file (they are listed at column 3) (or pass --ignore-unknown)"
+        );
+        assert!(msgs[4].starts_with("unknown column \"Zs\": did you mean zs_ohm?"));
+        let listed = msgs
+            .iter()
+            .filter(|m| m.contains("expected one of"))
+            .count();
+        assert_eq!(listed, 1);
+    }
+
     #[test]
     fn observation_header_is_told_apart() {
         let h = parse_header(&["property_ref", "visit_date", "code", "text"], false).unwrap();

@@ -8,7 +8,8 @@ use std::path::Path;
 use std::sync::mpsc;
 
 use super::layout::Mapping;
-use super::open::{Errors, Source};
+use super::open::Errors;
+use super::sheet::ReadRow;
 use super::{
     Column, FieldError, FileKind, Header, Located, ObservationRow, ParseOptions, VisitRow, cell,
     parse_observation_row, parse_visit_row, row,
@@ -193,7 +194,7 @@ pub(super) type TappedCsv = csv::Reader<NewlineTap<BufReader<File>>>;
 /// rewritten as it says and its constants added before the row is parsed; the batch keeps the
 /// row as read.
 pub(super) fn read_rows(
-    mut source: Source,
+    next: &mut dyn FnMut(&mut csv::ByteRecord) -> ReadRow,
     mapping: Option<&Mapping>,
     header: &Header,
     parse: &ParseOptions,
@@ -227,7 +228,7 @@ pub(super) fn read_rows(
             if record.as_slice().len() > cell::MAX_CELL_BYTES {
                 *record = csv::ByteRecord::new();
             }
-            let (line, byte) = match source.read(record) {
+            let (line, byte) = match next(record) {
                 Ok(Some(at)) => at,
                 Ok(None) => {
                     done = true;
