@@ -36,13 +36,24 @@ pub enum Cmd {
         json: bool,
     },
     /// Keep a layout file in the database under a name
-    Save { name: String, file: PathBuf },
+    Save {
+        /// The name to keep it under (a layout of that name, in any case, is replaced)
+        name: String,
+        /// The layout file (TOML), checked before it is kept
+        file: PathBuf,
+    },
     /// List the layouts kept in the database
     List,
     /// Print a kept layout
-    Show { name: String },
+    Show {
+        /// The layout's name, in any case
+        name: String,
+    },
     /// Forget a kept layout
-    Delete { name: String },
+    Delete {
+        /// The layout's name, in any case
+        name: String,
+    },
 }
 
 pub fn run(cmd: &Cmd, ctx: &Context, out: &mut dyn Write) -> Result<()> {
