@@ -56,6 +56,8 @@ fn stored_text(cell: &Cell) -> String {
         Cell::Ring(k) => k.as_str().to_string(),
         Cell::Earthing(e) => e.as_str().to_string(),
         Cell::Code(c) => c.as_str().to_string(),
+        Cell::Bonding(b) => b.as_str().to_string(),
+        Cell::Months(m) => format!("{m} months"),
     }
 }
 

@@ -231,25 +231,8 @@ const SYNONYMS: &[(Column, &[&str])] = &[
         Column::Note,
         &["note", "notes", "remarks", "comments", "comment"],
     ),
-];
-
-/// Headers that look like a column but are not one, and why they are never mapped.
-const NOT_COLUMNS: &[(&[&str], &str)] = &[
     (
-        &[
-            "maxzs",
-            "zsmax",
-            "maximumzs",
-            "maxpermittedzs",
-            "permittedzs",
-            "tabulatedzs",
-            "zslimit",
-            "maxr1r2",
-            "r1r2max",
-        ],
-        "a limit, not a reading: ohmtrail works each circuit's limits out itself",
-    ),
-    (
+        Column::PfcKa,
         &[
             "ipf",
             "pfc",
@@ -259,9 +242,28 @@ const NOT_COLUMNS: &[(&[&str], &str)] = &[
             "pfcka",
             "prospectivefaultcurrent",
         ],
-        "prospective fault current has no visit-file column",
     ),
+    (Column::ZdbOhm, &["zdb", "zdbohm"]),
+    (Column::U0V, &["u0", "uo", "u0v", "nominalvoltage"]),
+    (Column::RaOhm, &["ra", "raohm", "electroderesistance"]),
+    (Column::FedFrom, &["fedfrom", "suppliedfrom"]),
 ];
+
+/// Headers that look like a column but are not one, and why they are never mapped.
+const NOT_COLUMNS: &[(&[&str], &str)] = &[(
+    &[
+        "maxzs",
+        "zsmax",
+        "maximumzs",
+        "maxpermittedzs",
+        "permittedzs",
+        "tabulatedzs",
+        "zslimit",
+        "maxr1r2",
+        "r1r2max",
+    ],
+    "a limit, not a reading: ohmtrail works each circuit's limits out itself",
+)];
 
 /// A score at or above this is proposed; below it, down to [`ASK`], it is a question.
 pub const PROPOSE: f64 = 0.92;
@@ -597,7 +599,7 @@ mod tests {
             );
         }
         for h in ["Ipf", "PFC", "PFC (kA)"] {
-            assert!(matches!(one(h), Outcome::Unmapped { .. }), "{h}");
+            assert_eq!(mapped(h), Some(Column::PfcKa), "{h}");
         }
     }
 

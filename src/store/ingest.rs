@@ -525,6 +525,8 @@ impl Store {
         );
         let mut st = self.conn.prepare(&sql)?;
         let mut rows = st.query([property_ref])?;
+        // The board's feed and the visit's schedule follow the record's values.
+        let after = 20 + super::record::RECORD_VALUE_NAMES.len();
         while let Some(r) = rows.next()? {
             let rec = ExportRecord {
                 property_ref: r.get(0)?,
@@ -540,27 +542,27 @@ impl Store {
                 ambient_c: r.get(18)?,
                 ze_ohm: r.get(19)?,
                 readings: readings_at(r, 20)?,
-                fed_from: r.get(35)?,
+                fed_from: r.get(after)?,
                 board_test: crate::model::BoardTest {
-                    zdb_ohm: r.get(36)?,
-                    submain_r1r2_ohm: r.get(37)?,
-                    pfc_ka: r.get(38)?,
+                    zdb_ohm: r.get(after + 1)?,
+                    submain_r1r2_ohm: r.get(after + 2)?,
+                    pfc_ka: r.get(after + 3)?,
                     ..Default::default()
                 },
                 report: crate::model::VisitReport {
-                    report_ref: r.get(39)?,
-                    outcome: r.get(40)?,
-                    interval_months: r.get(41)?,
-                    extent: r.get(42)?,
-                    limitations: r.get(43)?,
+                    report_ref: r.get(after + 4)?,
+                    outcome: r.get(after + 5)?,
+                    interval_months: r.get(after + 6)?,
+                    extent: r.get(after + 7)?,
+                    limitations: r.get(after + 8)?,
                 },
                 supply: crate::model::SupplyRecord {
-                    u0_v: r.get(44)?,
-                    ra_ohm: r.get(45)?,
-                    bonding_csa_mm2: r.get(46)?,
-                    bonding_water: bonding_text(r.get(47)?),
-                    bonding_gas: bonding_text(r.get(48)?),
-                    bonding_other: bonding_text(r.get(49)?),
+                    u0_v: r.get(after + 9)?,
+                    ra_ohm: r.get(after + 10)?,
+                    bonding_csa_mm2: r.get(after + 11)?,
+                    bonding_water: bonding_text(r.get(after + 12)?),
+                    bonding_gas: bonding_text(r.get(after + 13)?),
+                    bonding_other: bonding_text(r.get(after + 14)?),
                 },
             };
             f(rec)?;
