@@ -167,7 +167,13 @@ impl Importer<'_> {
         debug_assert_eq!(b.id, board_id);
         let row_details = row_register_details(&row.register);
         if !b.circuits.contains_key(&row.circuit) {
-            let id = self.inserts.circuit(board_id, &row.circuit, &row_details)?;
+            let rcd_device = match row_details.rcd_id.as_deref() {
+                Some(r) => Some(self.store.ingest_rcd_device(board_id, r)?.0),
+                None => None,
+            };
+            let id = self
+                .inserts
+                .circuit(board_id, &row.circuit, &row_details, rcd_device)?;
             eff.circuits += 1;
             eff.wrote = true;
             let mut details = row_details.clone();
