@@ -6,6 +6,7 @@ use std::rc::Rc;
 
 use chrono::NaiveDate;
 
+use super::rcd_devices::{RcdVisit, merge_visits};
 use super::{CircuitAnalysis, Flag, SeriesAnalysis, Settings, make_flag, note_limits_error};
 use crate::limits::{
     self, CircuitFacts, CircuitUse, DisconnectionChoice, FaultPathInputs, IrCircuit, MeasuredRule,
@@ -316,6 +317,8 @@ pub(super) struct PropertyContext<'a> {
     pub horizon: NaiveDate,
     pub settings: &'a Settings,
     pub detail: super::Detail,
+    /// The RCDs the register names, shared by several circuits.
+    pub rcds: &'a super::rcd_devices::RecordedRcds,
 }
 
 pub(super) fn circuit_analysis(
@@ -330,6 +333,7 @@ pub(super) fn circuit_analysis(
         horizon,
         settings,
         detail,
+        rcds,
     } = ctx;
     // What only a report shows (words, report-only figures, series with nothing to say) is
     // not worked out for the worklist.
@@ -635,7 +639,15 @@ pub(super) fn circuit_analysis(
             &mut notes,
         );
     }
-    let ir_min = limits::ir_minimum(IrCircuit::UpTo500V);
+    // Judged against Table 64's minimum at the test voltage the latest reading recorded, where
+    // it did; a circuit up to 500 V otherwise, at 500 V.
+    let ir_min = rows
+        .iter()
+        .rev()
+        .filter(|r| r.readings.ir_ll.is_some() || r.readings.ir_le.is_some())
+        .find_map(|r| r.readings.ir_test_v)
+        .and_then(|v| limits::ir_minimum_tested_at(IrCircuit::UpTo500V, v).ok())
+        .unwrap_or_else(|| limits::ir_minimum(IrCircuit::UpTo500V));
     for (q, key, label, get) in [
         (
             Quantity::IrLl,
@@ -672,25 +684,62 @@ pub(super) fn circuit_analysis(
     // RCD: the test at 1 × IΔn decides and is trended (BS 7671:2018+A2:2022 Reg 643.8). The
     // 5 × IΔn test, where recorded, is supplementary: judged against its own maximum, never
     // trended, and it never hides a 1 × IΔn reading.
+    // An RCD the register names as protecting several circuits is one device: its results are
+    // gathered from all of them and judged once, on the first.
+    let shared = rcds.shared(c.id);
+    let rcd_visits: Vec<RcdVisit> = match shared {
+        Some(rcd) if rcd.keeper() != c.id => {
+            notes.push(format!(
+                "RCD trip times and test button: {} is judged once, with circuit {}",
+                rcd.designation, rcd.members[0].1
+            ));
+            Vec::new()
+        }
+        Some(rcd) => {
+            let mut all: Vec<RcdVisit> = rows
+                .iter()
+                .map(|r| RcdVisit::of(r.visit.date, r.readings))
+                .collect();
+            for (id, _) in &rcd.members[1..] {
+                all.extend(idx.records.get(id).into_iter().flatten().filter_map(|t| {
+                    Some(RcdVisit::of(idx.visits.get(&t.visit_id)?.date, &t.readings))
+                }));
+            }
+            merge_visits(all)
+        }
+        None => rows
+            .iter()
+            .map(|r| RcdVisit::of(r.visit.date, r.readings))
+            .collect(),
+    };
     let timing = RcdTiming::of(c.rcd_delay.unwrap_or(crate::model::RcdDelay::General));
     for (test, label, get) in [
         (
             RcdTest::AtRated,
             "RCD trip time at 1 × IΔn",
-            (|r: &Readings| r.rcd_ms) as fn(&Readings) -> Option<f64>,
+            (|r: &RcdVisit| r.rated_ms) as fn(&RcdVisit) -> Option<f64>,
         ),
-        (RcdTest::AtFive, RCD_FIVE_LABEL, |r: &Readings| r.rcd_5x_ms),
+        (RcdTest::AtFive, RCD_FIVE_LABEL, |r: &RcdVisit| r.five_ms),
     ] {
-        let points: Vec<Point> = rows
+        let points: Vec<Point> = rcd_visits
             .iter()
-            .filter_map(|r| get(r.readings).map(|v| Point::raw(r.visit.date, v)))
+            .filter_map(|r| get(r).map(|v| Point::raw(r.date, v)))
             .collect();
         let rcd_max = limits::rcd_max_ms(timing, test);
         run(
             Quantity::Rcd,
             "rcd",
             label,
-            full.then(|| format!("as measured at {}", test.as_str()).into()),
+            full.then(|| match shared {
+                Some(rcd) => format!(
+                    "as measured at {}; at each visit the slowest time recorded against circuits {}, which {} protects",
+                    test.as_str(),
+                    super::rcd_devices::list_words(&rcd.numbers()),
+                    rcd.designation
+                )
+                .into(),
+                None => format!("as measured at {}", test.as_str()).into(),
+            }),
             points,
             Some(Limit::max(rcd_max.max_ms)),
             full.then(|| rcd_max.words().into()),
@@ -847,6 +896,18 @@ pub(super) fn circuit_analysis(
             .then(b.last_date.cmp(&a.last_date))
     });
     flags.dedup_by(|later, earlier| later.quantity == earlier.quantity);
+    flags.extend(super::facts::polarity(
+        &h.property,
+        &board_name,
+        c,
+        rows.iter().map(|r| (r.visit.date, r.readings.polarity)),
+    ));
+    flags.extend(super::facts::button(
+        &h.property,
+        &board_name,
+        c,
+        rcd_visits.iter().map(|r| (r.date, r.button)),
+    ));
     super::rank_flags(&mut flags);
 
     CircuitAnalysis {

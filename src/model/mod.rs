@@ -870,6 +870,36 @@ mod tests {
     }
 
     #[test]
+    fn schedule_words_parse_as_the_trade_writes_them() {
+        // BS 7671:2018 Appendix 4: reference methods A to G, and 100 to 103 for flat twin and
+        // earth in thermal insulation (from memory for the table numbers, 4A2 and 4D5).
+        assert_eq!("c".parse::<RefMethod>(), Ok(RefMethod::C));
+        assert_eq!(" 102 ".parse::<RefMethod>(), Ok(RefMethod::M102));
+        for bad in ["H", "104", "99", "", "C1"] {
+            let e = bad.parse::<RefMethod>().unwrap_err();
+            assert!(e.contains("A, B, C, D, E, F, G, 100, 101, 102, 103"), "{e}");
+        }
+        // Polarity and the test button: the plain words, or a tick and a cross (common
+        // practice, no source).
+        assert_eq!("✓".parse::<Polarity>(), Ok(Polarity::Correct));
+        assert_eq!("✗".parse::<Polarity>(), Ok(Polarity::Incorrect));
+        assert_eq!("Incorrect".parse::<Polarity>(), Ok(Polarity::Incorrect));
+        assert!("yes".parse::<Polarity>().is_err());
+        assert_eq!("✓".parse::<ButtonTest>(), Ok(ButtonTest::Operates));
+        assert_eq!("FAILED".parse::<ButtonTest>(), Ok(ButtonTest::Failed));
+        assert!("ok".parse::<ButtonTest>().is_err());
+        // BS 7671:2018 Table 64 test voltages.
+        assert_eq!(validate_ir_test_v(500), Ok(500));
+        assert!(validate_ir_test_v(400).is_err());
+        assert!(validate_breaking_ka(6.0).is_ok());
+        assert!(validate_breaking_ka(0.0).is_err());
+        assert!(validate_breaking_ka(f64::NAN).is_err());
+        assert!(validate_points(1000).is_err());
+        assert!(validate_code("RCD identifier", "RCD\u{1b}1").is_err());
+        assert!(validate_code("RCD identifier", "RCD1").is_ok());
+    }
+
+    #[test]
     fn validation_refuses_nonsense() {
         assert!(validate_csa("live", 0.0).is_err());
         assert!(validate_csa("live", -2.5).is_err());

@@ -426,6 +426,10 @@ fn board_table(o: &mut String, b: &BoardTable) {
             meta.push(d.clone());
         }
         let _ = write!(circ, "<span>{}</span>", esc(&meta.join(", ")));
+        let schedule = row.schedule.words();
+        if !schedule.is_empty() {
+            let _ = write!(circ, "<span>{}</span>", esc(&schedule.join(" · ")));
+        }
         match row.last_visit {
             Some(d) => {
                 let _ = write!(circ, "<span>read {}</span>", d.format("%Y-%m-%d"));
