@@ -6,6 +6,7 @@
 use chrono::NaiveDate;
 
 use super::Flag;
+use crate::limits::{Source, SourceStatus};
 use crate::model::{ButtonTest, Circuit, Polarity, Property};
 
 /// The `quantity` of a polarity finding on the worklist.
@@ -13,11 +14,28 @@ pub const POLARITY: &str = "polarity";
 /// The `quantity` of an RCD test button finding on the worklist.
 pub const RCD_BUTTON: &str = "rcd_button";
 
-/// Polarity (BS 7671:2018 Regulation 643.6, from memory for the number).
-const POLARITY_SOURCE: &str =
-    "BS 7671:2018 Regulation 643.6, polarity verified (from memory for the number)";
-/// The test button is part of the RCD's inspection (common practice, no source).
-const BUTTON_SOURCE: &str = "RCD test button operation (common practice, no source)";
+/// Polarity is verified at every visit (BS 7671:2018 Regulation 643.6, from memory for the
+/// number).
+const POLARITY_SOURCE: Source = Source::new(
+    "BS 7671:2018 Regulation 643.6",
+    SourceStatus::FromMemory,
+    "polarity verified; recorded correct or incorrect by the inspector",
+);
+/// The test button is part of an RCD's inspection (common practice, no source).
+const BUTTON_SOURCE: Source = Source::new(
+    "RCD test button operation",
+    SourceStatus::CommonPractice,
+    "the RCD trips on its own test button; recorded operates or failed by the inspector",
+);
+
+/// The source behind a recorded fact's finding, by its quantity.
+pub fn source(quantity: &str) -> Option<Source> {
+    match quantity {
+        POLARITY => Some(POLARITY_SOURCE),
+        RCD_BUTTON => Some(BUTTON_SOURCE),
+        _ => None,
+    }
+}
 
 /// The latest recorded value and its date, from (date, value) pairs in date order.
 fn latest<T: Copy>(
@@ -44,7 +62,7 @@ pub(super) fn polarity(
             format!(
                 "Polarity was recorded incorrect at the visit of {date}, the latest visit to record it"
             ),
-            POLARITY_SOURCE,
+            &POLARITY_SOURCE,
         )),
         (_, Polarity::Correct) => None,
     }
@@ -68,7 +86,7 @@ pub(super) fn button(
             format!(
                 "RCD test button recorded as failed at the visit of {date}, the latest visit to record it"
             ),
-            BUTTON_SOURCE,
+            &BUTTON_SOURCE,
         )),
         (_, ButtonTest::Operates) => None,
     }
@@ -85,7 +103,7 @@ fn fact_flag(
     kind: &'static str,
     date: NaiveDate,
     reason: String,
-    source: &str,
+    source: &Source,
 ) -> Flag {
     Flag {
         property_ref: property.reference.clone(),
@@ -101,7 +119,7 @@ fn fact_flag(
         limit: None,
         projected_date: None,
         projected_earliest: None,
-        limit_source: Some(source.to_string()),
+        limit_source: Some(super::source_text(source)),
         margin_used_pct: None,
         recommended_interval_months: None,
         findings: Vec::new(),

@@ -717,7 +717,7 @@ fn flagged(a: &PropertyAnalysis) -> Vec<FlaggedCircuit> {
                     .and_then(|c| c.ring_check.as_ref())
                     .map(|rc| rc.source.clone())
             } else if found.is_none() {
-                None
+                crate::analysis::facts::source(f.quantity)
             } else {
                 series.and_then(|s| s.limit_source.clone())
             },

@@ -278,7 +278,9 @@ fn finding_block(o: &mut String, name: &str, f: &FlaggedFinding, repeat: bool) {
         return;
     }
     let mut facts = Vec::new();
-    if f.kind != "ring_check" {
+    // A recorded fact (polarity, test button) has no reading: its sentence gives the visit.
+    let recorded = crate::analysis::facts::label(f.quantity).is_some();
+    if f.kind != "ring_check" && !recorded {
         facts.push(format!(
             "last reading {} on {}",
             esc(&value_words(f.last_value, f.unit, false)),
