@@ -296,3 +296,51 @@ fn insulation_tested_at_250_v_is_still_held_to_1_megohm() {
     let src = series.limit_source.as_ref().unwrap();
     assert!(src.rule.contains("643.3.3"), "{}", src.rule);
 }
+
+#[test]
+fn a_named_rcd_whose_circuits_disagree_on_its_delay_says_how_it_was_judged() {
+    // One device has one delay (BS EN 61008-1: general or S); the register says otherwise for
+    // one of RCD1's circuits, so the judgement names the basis it took.
+    let s = home();
+    with_rcd1(&s);
+    let c4 = s.find_circuit("T-1", "CU1", "4").unwrap();
+    s.edit_circuit(
+        c4.id,
+        &CircuitDetails {
+            rcd_delay: Some(crate::model::RcdDelay::S),
+            ..Default::default()
+        },
+        d(2010, 1, 1),
+        None,
+        None,
+        None,
+    )
+    .unwrap();
+    visit(
+        &s,
+        d(2020, 5, 1),
+        Some(14.0),
+        0.22,
+        &[(
+            "CU1",
+            "2",
+            Readings {
+                rcd_ms: Some(27.0),
+                ..noisy(1)
+            },
+        )],
+    );
+    let a = analyse_property(&s, "T-1", &settings()).unwrap();
+    let c2 = a.circuits.iter().find(|c| c.circuit.number == "2").unwrap();
+    assert!(
+        c2.notes.iter().any(|n| n
+            == "RCD1: circuit 4 records a different delay from this circuit's (not recorded); it is judged as this circuit records it"),
+        "{:?}",
+        c2.notes
+    );
+    assert!(
+        !c2.notes.iter().any(|n| n.contains("IΔn")),
+        "{:?}",
+        c2.notes
+    );
+}

@@ -696,6 +696,37 @@ pub(super) fn circuit_analysis(
             Vec::new()
         }
         Some(rcd) => {
+            // One device has one rating and one delay: where its circuits record them
+            // differently, it is judged as this circuit records them, and says so.
+            let others: Vec<&Circuit> = rcd.members[1..]
+                .iter()
+                .filter_map(|(id, _)| idx.by_id.get(id).copied())
+                .collect();
+            let disagree = |what: &str, mine: String, theirs: &dyn Fn(&Circuit) -> String| {
+                let odd: Vec<&str> = others
+                    .iter()
+                    .filter(|o| theirs(o) != mine)
+                    .map(|o| o.number.as_str())
+                    .collect();
+                (!odd.is_empty()).then(|| {
+                    format!(
+                        "{}: circuit {} records a different {what} from this circuit's ({mine}); it is judged as this circuit records it",
+                        rcd.designation,
+                        super::rcd_devices::list_words(&odd)
+                    )
+                })
+            };
+            let ma = |c: &Circuit| {
+                c.rcd_ma
+                    .map_or("not recorded".into(), |m| format!("{m} mA"))
+            };
+            let delay = |c: &Circuit| {
+                c.rcd_delay
+                    .map_or("not recorded", |d| d.as_str())
+                    .to_string()
+            };
+            notes.extend(disagree("IΔn", ma(c), &ma));
+            notes.extend(disagree("delay", delay(c), &delay));
             let mut all: Vec<RcdVisit> = rows
                 .iter()
                 .map(|r| RcdVisit::of(r.visit.date, r.readings))
