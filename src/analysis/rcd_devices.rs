@@ -16,7 +16,8 @@ use foldhash::{HashMap, HashMapExt};
 
 use super::CircuitAnalysis;
 use super::facts::RCD_BUTTON;
-use crate::model::{BreakerStandard, ButtonTest, Device, Readings, Status};
+use super::series::Index;
+use crate::model::{BreakerStandard, ButtonTest, Circuit, Device, Readings, Status};
 use crate::store::PropertyHistory;
 
 /// An RCD the register names on a board, with the circuits in service it protects.
@@ -132,6 +133,72 @@ pub(super) fn merge_visits(mut all: Vec<RcdVisit>) -> Vec<RcdVisit> {
         }
     }
     out
+}
+
+/// The RCD results a circuit's RCD series and test button finding are made of, oldest first.
+/// A circuit on no RCD the register names shared: its own (`own`). The first circuit of a
+/// shared one: every circuit's, merged by [`merge_visits`], with a note where its circuits
+/// record the device's IΔn or delay differently. Any other circuit of a shared one: none, with
+/// a note saying where the RCD is judged.
+pub(super) fn device_visits(
+    c: &Circuit,
+    shared: Option<&RecordedRcd>,
+    own: impl Iterator<Item = RcdVisit>,
+    idx: &Index,
+    notes: &mut Vec<String>,
+) -> Vec<RcdVisit> {
+    let Some(rcd) = shared else {
+        return own.collect();
+    };
+    if rcd.keeper() != c.id {
+        notes.push(format!(
+            "RCD trip times and test button: {} is judged once, with circuit {}",
+            rcd.designation, rcd.members[0].1
+        ));
+        return Vec::new();
+    }
+    // One device has one rating and one delay: where its circuits record them differently,
+    // it is judged as this circuit records them, and says so.
+    let others: Vec<&Circuit> = rcd.members[1..]
+        .iter()
+        .filter_map(|(id, _)| idx.by_id.get(id).copied())
+        .collect();
+    let disagree = |what: &str, mine: String, theirs: &dyn Fn(&Circuit) -> String| {
+        let odd: Vec<&str> = others
+            .iter()
+            .filter(|o| theirs(o) != mine)
+            .map(|o| o.number.as_str())
+            .collect();
+        (!odd.is_empty()).then(|| {
+            format!(
+                "{}: circuit {} records a different {what} from this circuit's ({mine}); it is judged as this circuit records it",
+                rcd.designation,
+                list_words(&odd)
+            )
+        })
+    };
+    let ma = |c: &Circuit| {
+        c.rcd_ma
+            .map_or("not recorded".into(), |m| format!("{m} mA"))
+    };
+    let delay = |c: &Circuit| {
+        c.rcd_delay
+            .map_or("not recorded", |d| d.as_str())
+            .to_string()
+    };
+    notes.extend(disagree("IΔn", ma(c), &ma));
+    notes.extend(disagree("delay", delay(c), &delay));
+    let mut all: Vec<RcdVisit> = own.collect();
+    for (id, _) in &rcd.members[1..] {
+        all.extend(
+            idx.records
+                .get(id)
+                .into_iter()
+                .flatten()
+                .filter_map(|t| Some(RcdVisit::of(idx.visits.get(&t.visit_id)?.date, &t.readings))),
+        );
+    }
+    merge_visits(all)
 }
 
 /// Whether a flag is the RCD's own, not its circuit's.

@@ -6,7 +6,7 @@ use std::rc::Rc;
 
 use chrono::NaiveDate;
 
-use super::rcd_devices::{RcdVisit, merge_visits};
+use super::rcd_devices::RcdVisit;
 use super::{CircuitAnalysis, Flag, SeriesAnalysis, Settings, make_flag, note_limits_error};
 use crate::limits::{
     self, CircuitFacts, CircuitUse, DisconnectionChoice, FaultPathInputs, IrCircuit, MeasuredRule,
@@ -106,10 +106,10 @@ fn event_words(
 
 /// Lookups over one property's history, built once and shared by its circuits.
 pub(super) struct Index<'a> {
-    by_id: HashMap<i64, &'a Circuit>,
+    pub(super) by_id: HashMap<i64, &'a Circuit>,
     boards: HashMap<i64, &'a Board>,
-    visits: HashMap<i64, &'a Visit>,
-    records: HashMap<i64, Vec<&'a TestRecord>>,
+    pub(super) visits: HashMap<i64, &'a Visit>,
+    pub(super) records: HashMap<i64, Vec<&'a TestRecord>>,
     /// Ze measured at a board at a visit: (visit_id, board_id) → Ω.
     board_ze: HashMap<(i64, i64), f64>,
     changes: HashMap<i64, Vec<&'a CircuitChange>>,
@@ -687,62 +687,8 @@ pub(super) fn circuit_analysis(
     // An RCD the register names as protecting several circuits is one device: its results are
     // gathered from all of them and judged once, on the first.
     let shared = rcds.shared(c.id);
-    let rcd_visits: Vec<RcdVisit> = match shared {
-        Some(rcd) if rcd.keeper() != c.id => {
-            notes.push(format!(
-                "RCD trip times and test button: {} is judged once, with circuit {}",
-                rcd.designation, rcd.members[0].1
-            ));
-            Vec::new()
-        }
-        Some(rcd) => {
-            // One device has one rating and one delay: where its circuits record them
-            // differently, it is judged as this circuit records them, and says so.
-            let others: Vec<&Circuit> = rcd.members[1..]
-                .iter()
-                .filter_map(|(id, _)| idx.by_id.get(id).copied())
-                .collect();
-            let disagree = |what: &str, mine: String, theirs: &dyn Fn(&Circuit) -> String| {
-                let odd: Vec<&str> = others
-                    .iter()
-                    .filter(|o| theirs(o) != mine)
-                    .map(|o| o.number.as_str())
-                    .collect();
-                (!odd.is_empty()).then(|| {
-                    format!(
-                        "{}: circuit {} records a different {what} from this circuit's ({mine}); it is judged as this circuit records it",
-                        rcd.designation,
-                        super::rcd_devices::list_words(&odd)
-                    )
-                })
-            };
-            let ma = |c: &Circuit| {
-                c.rcd_ma
-                    .map_or("not recorded".into(), |m| format!("{m} mA"))
-            };
-            let delay = |c: &Circuit| {
-                c.rcd_delay
-                    .map_or("not recorded", |d| d.as_str())
-                    .to_string()
-            };
-            notes.extend(disagree("IΔn", ma(c), &ma));
-            notes.extend(disagree("delay", delay(c), &delay));
-            let mut all: Vec<RcdVisit> = rows
-                .iter()
-                .map(|r| RcdVisit::of(r.visit.date, r.readings))
-                .collect();
-            for (id, _) in &rcd.members[1..] {
-                all.extend(idx.records.get(id).into_iter().flatten().filter_map(|t| {
-                    Some(RcdVisit::of(idx.visits.get(&t.visit_id)?.date, &t.readings))
-                }));
-            }
-            merge_visits(all)
-        }
-        None => rows
-            .iter()
-            .map(|r| RcdVisit::of(r.visit.date, r.readings))
-            .collect(),
-    };
+    let own = rows.iter().map(|r| RcdVisit::of(r.visit.date, r.readings));
+    let rcd_visits = super::rcd_devices::device_visits(c, shared, own, idx, &mut notes);
     let timing = RcdTiming::of(c.rcd_delay.unwrap_or(crate::model::RcdDelay::General));
     for (test, label, get) in [
         (
