@@ -166,6 +166,14 @@ bad! {
         "out_of_range_readings.csv:3:4: visit_date: \"1899-12-30\" is before 1950-01-01: expected the date of an inspection and test, which no record in use predates",
         "out_of_range_readings.csv:3:7: rcd_ms: \"99999\" is out of range: expected at most 5000 ms for a reading",
     ];
+    schedule_values_refused_each_in_place: "schedule_values.csv" => [
+        "schedule_values.csv:2:5: polarity: unknown polarity \"yes\": expected correct or incorrect (or ✓ / ✗)",
+        "schedule_values.csv:2:6: ir_test_v: 400 V is not an insulation test voltage: expected 250, 500 or 1000 V (BS 7671 Table 64)",
+        "schedule_values.csv:2:7: rcd_button: unknown RCD test button result \"ok\": expected operates or failed (or ✓ / ✗)",
+        "schedule_values.csv:2:8: ref_method: unknown reference method \"H\": expected one of A, B, C, D, E, F, G, 100, 101, 102, 103 (BS 7671 Appendix 4)",
+        "schedule_values.csv:2:9: points: \"8.5\" is not a number: expected a whole number of points such as 8",
+        "schedule_values.csv:2:10: afdd: \"maybe\" is not yes or no",
+    ];
     observation_code: "observation_bad_code.csv" => ["observation_bad_code.csv:2:3: code: unknown observation code \"C4\": expected C1, C2, C3 or FI as recorded"];
     observation_unknown_board: "observation_unknown_board.csv" => ["observation_unknown_board.csv:2:3: board: board \"DB7\" not found at property SMP-001: import its visit file first"];
     observation_with_reading_column: "observation_mixed_columns.csv" => ["observation_mixed_columns.csv:1:5: column zs_ohm does not belong in an observation file (it has a code column): split readings and observations into two files, or pass --ignore-unknown"];
