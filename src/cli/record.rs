@@ -25,7 +25,8 @@ use super::{CAUTION, Context, parse_date, today};
 visit-file columns (ze_ohm with the circuit empty, r1r2_ohm, r1rn_ohm, r2_ohm, ring_r1_ohm, \
 ring_rn_ohm, ring_r2_ohm, zs_ohm, ir_ll_mohm, ir_le_mohm, rcd_5x_ms, rcd_ms) or their short \
 names without the unit as the worklist prints them (ze, r1r2, zs, ir_le, rcd, rcd_5x, ...), plus `device` \
-(the device fitted) and `cable` (live/cpc mm² fitted). Values as in the visit file: a number with \
+(the device fitted) and `cable` (live/cpc mm² fitted), and the facts `polarity` (correct or incorrect), \
+`ir_test_v` (250, 500 or 1000) and `rcd_button` (operates or failed). Values as in the visit file: a number with \
 an optional matching unit, >200 or 200+ (over range), LIM, N/A. Each value is stored at once; the visit is completed \
 at the end of the input unless a line was refused or --no-finish is given."
 )]
@@ -875,6 +876,17 @@ fn apply_line(
             }
             store.update_reading(visit.id, c.circuit_id, |rd| f.apply(rd, &entry))?;
             writeln!(out, "{at} {}: {}", f.column(), judge(e, &entry).sentence)?;
+            Ok(Applied::Stored)
+        }
+        (LineWhat::Fact(fact), Some(c)) => {
+            // Checked before anything is stored: a refused value leaves the record as it was.
+            let words = fact
+                .apply(&mut Default::default(), &line.value)
+                .map_err(|e| anyhow::anyhow!("{}: {e}", fact.column()))?;
+            store.update_reading(visit.id, c.circuit_id, |rd| {
+                let _ = fact.apply(rd, &line.value);
+            })?;
+            writeln!(out, "{at} {}: {words}", fact.column())?;
             Ok(Applied::Stored)
         }
         (LineWhat::Device, Some(c)) => {
