@@ -967,6 +967,7 @@ fn the_schedule_details_and_recorded_faults_are_shown_where_they_belong() {
         text.contains("RCD test button recorded as failed at the visit of 2024-06-18"),
         "{text}"
     );
+    assert!(text.contains("protective device B6; on RCD1"), "{text}");
     // A recorded fact has no reading to show, only its source.
     let block = &html[html.find("Polarity was recorded incorrect").unwrap()..];
     let sub = &block[block.find("<p class=\"sub\">").unwrap()..];

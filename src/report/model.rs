@@ -122,6 +122,9 @@ pub struct FlaggedCircuit {
     pub circuit: Option<String>,
     pub description: Option<String>,
     pub device: Option<String>,
+    /// The RCD protecting the circuit, by its identifier on the board, where recorded.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub rcd_id: Option<String>,
     /// Where the history came from, oldest first, when the circuit moved or was replaced.
     pub lineage: Vec<String>,
     /// The worst severity among the findings.
@@ -743,6 +746,7 @@ fn flagged(a: &PropertyAnalysis) -> Vec<FlaggedCircuit> {
                 circuit: f.circuit.clone(),
                 description: f.description.clone(),
                 device: circuit.and_then(|c| c.circuit.device.map(|d| d.to_string())),
+                rcd_id: circuit.and_then(|c| c.circuit.rcd_id.clone()),
                 lineage: circuit
                     .map(|c| c.lineage.clone())
                     .filter(|l| l.len() > 1)

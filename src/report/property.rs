@@ -248,6 +248,9 @@ fn flagged_circuit(o: &mut String, i: usize, f: &FlaggedCircuit) {
     if let Some(d) = &f.device {
         sub.push(format!("protective device {}", esc(d)));
     }
+    if let Some(r) = &f.rcd_id {
+        sub.push(format!("on {}", esc(r)));
+    }
     if !f.lineage.is_empty() {
         sub.push(format!(
             "history carried through {}",
