@@ -89,6 +89,7 @@ fn add_property(
                 ambient_c: Some(12.0 + 6.0 * wobble(v, 7)),
                 ze_ohm: Some(0.22),
                 pfc_ka: Some(1.1),
+                ..Default::default()
             },
             VisitState::Complete,
         )?;

@@ -12,7 +12,8 @@ use rand_chacha::ChaCha8Rng;
 
 use crate::error::{Error, Result};
 use crate::model::{
-    ChangeKind, CircuitKind, Device, Earthing, Megohms, ObservationCode, Readings, VisitState,
+    Bonding, ChangeKind, CircuitKind, Device, Earthing, Megohms, ObservationCode, Readings,
+    SupplyRecord, VisitReport, VisitState,
 };
 use crate::store::{CircuitDetails, NewBoard, NewProperty, NewVisit, Store};
 
@@ -698,11 +699,67 @@ fn build_home(
                 ambient_c: recorded_ambient,
                 ze_ohm: Some(ze),
                 pfc_ka: Some(round2(0.23 / ze.max(0.05))),
+                ..Default::default()
             },
             VisitState::Complete,
         )?;
         summary.visits += 1;
+        // The inspector's report and the supply as recorded (invented): the outcome in the
+        // inspector's own words, unsatisfactory where they recorded a C1 or C2 at the visit.
+        let coded = home.observations.iter().any(|(at, code, _, _)| {
+            *at == i && matches!(code, ObservationCode::C1 | ObservationCode::C2)
+        });
+        s.set_visit_report_supply(
+            visit.id,
+            &VisitReport {
+                report_ref: Some(format!("{}-{year}", home.reference)),
+                outcome: Some(
+                    if coded {
+                        "Unsatisfactory"
+                    } else {
+                        "Satisfactory"
+                    }
+                    .into(),
+                ),
+                interval_months: Some(60),
+                extent: Some("Whole installation".into()),
+                limitations: None,
+            },
+            &SupplyRecord {
+                u0_v: Some(230.0),
+                bonding_csa_mm2: Some(10.0),
+                bonding_water: Some(Bonding::Yes),
+                bonding_gas: Some(Bonding::Yes),
+                ..Default::default()
+            },
+        )?;
+        // A sub-board's Zdb is Ze plus its sub-main's R1+R2 (the feeding board's circuit
+        // described as a sub-main); the demo records Zdb at even visits and only the sub-main's
+        // R1+R2 at odd ones.
+        let mut board_ze: Vec<(&str, f64)> = Vec::new();
+        for b in home.boards.iter().filter(|b| b.fed_from.is_some()) {
+            let submain = home
+                .boards
+                .iter()
+                .filter(|p| Some(p.designation) == b.fed_from)
+                .flat_map(|p| &p.circuits)
+                .find(|c| c.description.contains("sub-main"))
+                .map_or(0.0, |c| round2(at_temp(c.r1r2, ambient)));
+            let zdb = round2(ze + submain);
+            let board = s.board(property.id, home.reference, b.designation)?;
+            let (zdb_rec, sub_rec) = if i % 2 == 0 {
+                (Some(zdb), None)
+            } else {
+                (None, Some(submain))
+            };
+            s.set_board_submain(visit.id, board.id, zdb_rec, sub_rec)?;
+            board_ze.push((b.designation, zdb));
+        }
         for (k, (board, number, c)) in live.iter().enumerate() {
+            let ze_here = board_ze
+                .iter()
+                .find(|(b, _)| b == board)
+                .map_or(ze, |(_, z)| *z);
             let circuit = s.find_circuit(home.reference, board, number)?;
             let e = (c.story)(i);
             let noise = |rng: &mut ChaCha8Rng| rng.random_range(-0.006..0.006);
@@ -742,7 +799,7 @@ fn build_home(
             };
             // Measured Zs at most visits; the rest leave it to Ze + R1+R2.
             if i % 3 != 1 {
-                readings.zs_ohm = Some(round2(ze + r1r2 + noise(rng)));
+                readings.zs_ohm = Some(round2(ze_here + r1r2 + noise(rng)));
             }
             if c.kind == CircuitKind::Ring {
                 // End to end: r1 = rn = 4 × line share, r2 = 4 × cpc share (IET Guidance Note 3 relations).

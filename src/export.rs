@@ -62,6 +62,21 @@ pub fn record_cells(rec: &ExportRecord, changes: &[IngestChange]) -> Vec<Option<
             Column::ZeOhm => {
                 reading_text(&rec.readings, Column::ZeOhm).or_else(|| rec.ze_ohm.map(format_number))
             }
+            Column::FedFrom => rec.fed_from.clone(),
+            Column::ZdbOhm => rec.board_test.zdb_ohm.map(format_number),
+            Column::SubmainR1r2Ohm => rec.board_test.submain_r1r2_ohm.map(format_number),
+            Column::PfcKa => rec.board_test.pfc_ka.map(format_number),
+            Column::U0V => rec.supply.u0_v.map(format_number),
+            Column::RaOhm => rec.supply.ra_ohm.map(format_number),
+            Column::BondingCsaMm2 => rec.supply.bonding_csa_mm2.map(format_number),
+            Column::BondingWater => rec.supply.bonding_water.map(|b| b.as_str().into()),
+            Column::BondingGas => rec.supply.bonding_gas.map(|b| b.as_str().into()),
+            Column::BondingOther => rec.supply.bonding_other.map(|b| b.as_str().into()),
+            Column::ReportRef => rec.report.report_ref.clone(),
+            Column::Outcome => rec.report.outcome.clone(),
+            Column::IntervalMonths => rec.report.interval_months.map(|m| m.to_string()),
+            Column::Extent => rec.report.extent.clone(),
+            Column::Limitations => rec.report.limitations.clone(),
             other => reading_text(&rec.readings, *other),
         })
         .collect()
@@ -236,7 +251,10 @@ fn json_object(
                     | Kind::Celsius
                     | Kind::Mm2
                     | Kind::Metres
-                    | Kind::RcdMa => t
+                    | Kind::RcdMa
+                    | Kind::KiloAmps
+                    | Kind::Volts
+                    | Kind::Interval => t
                         .parse::<i64>()
                         .ok()
                         .map(serde_json::Number::from)

@@ -54,7 +54,7 @@ fn demo_files(dir: &Path) -> (Vec<PathBuf>, PathBuf) {
         .assert()
         .success()
         .get_output()
-        .stdout
+        .stderr
         .clone();
     let text = String::from_utf8(out).unwrap();
     let mut files: Vec<PathBuf> = text

@@ -128,7 +128,7 @@ bad! {
     us_order_date: "us_date.csv" => ["us_date.csv:2:4: visit_date: \"06/14/2023\" reads only month first (US order): write the day first (14/06/2023) or as ISO 2023-06-14"];
     impossible_date: "impossible_date.csv" => ["impossible_date.csv:2:4: visit_date: \"31/02/2023\" is not a date in the calendar"];
     short_year: "short_year.csv" => ["short_year.csv:2:4: visit_date: \"14/06/23\" has a two-digit year: write all four digits"];
-    unknown_column: "unknown_column.csv" => ["unknown_column.csv:1:5: unknown column \"colour\": expected one of property_ref, address, board, earthing, circuit, description, ring, device, rcd_ma, rcd_type, rcd_delay, live_mm2, cpc_mm2, length_m, insulation, wiring_type, ref_method, points, breaking_ka, afdd, rcd_id, visit_date, inspector, instrument, ambient_c, ze_ohm, ring_r1_ohm, ring_rn_ohm, ring_r2_ohm, r1r2_ohm, r2_ohm, r1rn_ohm, zs_ohm, polarity, ir_test_v, ir_ll_mohm, ir_le_mohm, rcd_ms, rcd_5x_ms, rcd_button, note (or pass --ignore-unknown)"];
+    unknown_column: "unknown_column.csv" => ["unknown_column.csv:1:5: unknown column \"colour\": expected one of property_ref, address, board, earthing, fed_from, circuit, description, ring, device, rcd_ma, rcd_type, rcd_delay, live_mm2, cpc_mm2, length_m, insulation, wiring_type, ref_method, points, breaking_ka, afdd, rcd_id, visit_date, inspector, instrument, ambient_c, ze_ohm, zdb_ohm, submain_r1r2_ohm, pfc_ka, u0_v, ra_ohm, bonding_csa_mm2, bonding_water, bonding_gas, bonding_other, report_ref, outcome, interval_months, extent, limitations, ring_r1_ohm, ring_rn_ohm, ring_r2_ohm, r1r2_ohm, r2_ohm, r1rn_ohm, zs_ohm, polarity, ir_test_v, ir_ll_mohm, ir_le_mohm, rcd_ms, rcd_5x_ms, rcd_button, note (or pass --ignore-unknown)"];
     missing_required_column: "missing_required.csv" => ["missing_required.csv:1:1: missing required column visit_date: a visit file needs property_ref, board, circuit, visit_date"];
     unknown_device: "unknown_device.csv" => ["unknown_device.csv:2:5: device: unknown protective device \"X32\": expected a breaker curve and rating such as B16, C32, D6 or RCBO B20, an older breaker such as BS 3871 type 2 30A, or a fuse standard and rating such as BS 88-3 32A, BS 88-2 32A, BS 1361 30A, BS 3036 15A, BS 1362 13A"];
     non_standard_rating: "non_standard_rating.csv" => ["non_standard_rating.csv:2:5: device: B33 is not a standard rating: known ratings are 3, 6, 10, 16, 20, 25, 32, 40, 50, 63, 80, 100, 125 A"];
@@ -154,6 +154,18 @@ bad! {
     visit_details_conflict_in_one_file: "visit_details_conflict_in_file.csv" => [
         "visit_details_conflict_in_file.csv:3:5: inspector: conflicts with an earlier row of this file for the visit to SMP-077 on 2024-05-20: earlier \"E. Northcote\", this row \"F. Southwell\"",
         "visit_details_conflict_in_file.csv:3:6: ambient_c: conflicts with an earlier row of this file for the visit to SMP-077 on 2024-05-20: earlier \"18\", this row \"25\"",
+    ];
+    report_and_board_values_conflict_in_one_file: "visit_report_conflict_in_file.csv" => [
+        "visit_report_conflict_in_file.csv:3:8: zdb_ohm: conflicts with an earlier row of this file for board DB2 at SMP-078 on 2024-05-20: earlier \"0.35\", this row \"0.38\"",
+        "visit_report_conflict_in_file.csv:3:9: outcome: conflicts with an earlier row of this file for the visit to SMP-078 on 2024-05-20: earlier \"Satisfactory\", this row \"Unsatisfactory\"",
+    ];
+    schedule_values_refused: "bad_schedule_values.csv" => [
+        "bad_schedule_values.csv:2:7: bonding_gas: unknown bonding continuity \"maybe\": expected yes (confirmed), no (not confirmed) or none (no such service)",
+        "bad_schedule_values.csv:2:8: interval_months: interval \"five years\" is not an interval: expected whole months or years, such as 60, 60 months or 5 years",
+        "bad_schedule_values.csv:2:9: u0_v: U0 0 V is out of range: expected a nominal voltage to earth such as 230 V (1 to 1000 V)",
+        "bad_schedule_values.csv:2:10: pfc_ka: \"2 kV\" is not a number: expected a current in kA such as 1.6 (a fault current) or 6 (a breaking capacity)",
+        "bad_schedule_values.csv:2:11: ra_ohm: LIM (a limitation) is kept with a circuit's readings, not the board's or the visit's: write the visit's limitations in the limitations column",
+        "bad_schedule_values.csv:3:3: fed_from: board DB2 cannot be fed from itself: expected the designation of the board feeding it, or empty at the origin",
     ];
     ze_conflict_in_one_file: "ze_conflict_in_file.csv" => ["ze_conflict_in_file.csv:3:5: ze_ohm: conflicts with an earlier row of this file for Ze at board DB1 on 2024-05-20: earlier \"0.21\", this row \"0.23\""];
     register_change_out_of_order: "out_of_order_change.csv" => ["out_of_order_change.csv:2:5: device: SMP-001 DB1/3 on 2018-03-01 has \"B40\" but the register has \"B32\" and a later visit (2024-05-20) is already recorded: import visit files oldest first, or record the change with `ohmtrail circuit edit`"];
@@ -281,7 +293,7 @@ fn unbounded_input_is_refused_at_a_limit() {
         dir.path(),
         "wide_name.csv",
         &[&format!(
-            "wide_name.csv:1:5: unknown column \"{}\"… (5000 bytes long): expected one of property_ref, address, board, earthing, circuit, description, ring, device, rcd_ma, rcd_type, rcd_delay, live_mm2, cpc_mm2, length_m, insulation, wiring_type, ref_method, points, breaking_ka, afdd, rcd_id, visit_date, inspector, instrument, ambient_c, ze_ohm, ring_r1_ohm, ring_rn_ohm, ring_r2_ohm, r1r2_ohm, r2_ohm, r1rn_ohm, zs_ohm, polarity, ir_test_v, ir_ll_mohm, ir_le_mohm, rcd_ms, rcd_5x_ms, rcd_button, note (or pass --ignore-unknown)",
+            "wide_name.csv:1:5: unknown column \"{}\"… (5000 bytes long): expected one of property_ref, address, board, earthing, fed_from, circuit, description, ring, device, rcd_ma, rcd_type, rcd_delay, live_mm2, cpc_mm2, length_m, insulation, wiring_type, ref_method, points, breaking_ka, afdd, rcd_id, visit_date, inspector, instrument, ambient_c, ze_ohm, zdb_ohm, submain_r1r2_ohm, pfc_ka, u0_v, ra_ohm, bonding_csa_mm2, bonding_water, bonding_gas, bonding_other, report_ref, outcome, interval_months, extent, limitations, ring_r1_ohm, ring_rn_ohm, ring_r2_ohm, r1r2_ohm, r2_ohm, r1rn_ohm, zs_ohm, polarity, ir_test_v, ir_ll_mohm, ir_le_mohm, rcd_ms, rcd_5x_ms, rcd_button, note (or pass --ignore-unknown)",
             "z".repeat(60)
         )],
     );
@@ -294,7 +306,7 @@ fn unbounded_input_is_refused_at_a_limit() {
         dir.path(),
         "wide_header.csv",
         &[
-            "wide_header.csv:1:257: the header has 30004 columns: expected at most 256 (a visit file has 41 known columns)",
+            "wide_header.csv:1:257: the header has 30004 columns: expected at most 256 (a visit file has 56 known columns)",
         ],
     );
 }
@@ -477,6 +489,149 @@ fn export_then_import_reproduces_the_records() {
 }
 
 #[test]
+fn the_rest_of_the_schedule_survives_export_and_import() {
+    // A sub-board fed from the origin with Zdb, its sub-main's R1+R2 and the fault current,
+    // and each visit's supply, main bonding and report as recorded (invented data).
+    let dir = TempDir::new().unwrap();
+    let db = dir.path().join("db.db");
+    bin(&db)
+        .arg("import")
+        .arg(fixtures().join("visits/sampleton.csv"))
+        .arg(fixtures().join("visits/sampleton-schedule.csv"))
+        .assert()
+        .success();
+    let a = dir.path().join("a.csv");
+    bin(&db).args(["export", "-o"]).arg(&a).assert().success();
+    let copy = dir.path().join("copy.db");
+    bin(&copy).arg("import").arg(&a).assert().success();
+    assert_eq!(dump(&copy), dump(&db));
+    // Importing the export again writes nothing: every value reads back the same.
+    bin(&copy)
+        .arg("import")
+        .arg(&a)
+        .assert()
+        .success()
+        .stdout(predicates::str::contains("test records unchanged   31"));
+    let store = Store::open(&copy).unwrap();
+    let p = store.property("SMP-020").unwrap();
+    let h = store.history(p.id).unwrap();
+    let db2 = h.boards.iter().find(|b| b.designation == "DB2").unwrap();
+    assert_eq!(db2.fed_from.as_deref(), Some("CU1"));
+    let (v19, v24) = (&h.visits[0], &h.visits[1]);
+    assert_eq!(v19.report.outcome.as_deref(), Some("Satisfactory"));
+    assert_eq!(v19.report.interval_months, Some(60));
+    assert_eq!(v24.report.interval_months, Some(36));
+    assert_eq!(v24.report.report_ref.as_deref(), Some("SMP-020/24"));
+    assert_eq!(
+        v24.report.limitations.as_deref(),
+        Some("-Loft boarded, not inspected")
+    );
+    assert_eq!(v24.supply.bonding_csa_mm2, Some(6.0));
+    assert_eq!(v24.supply.bonding_gas, Some(ohmtrail::model::Bonding::No));
+    assert_eq!(v19.supply.u0_v, Some(230.0));
+    // The origin's fault current is the visit's.
+    assert_eq!(v19.pfc_ka, Some(1.4));
+    let t = h
+        .board_tests
+        .iter()
+        .find(|t| t.visit_id == v19.id && t.board_id == db2.id)
+        .unwrap();
+    assert_eq!(
+        (t.zdb_ohm, t.submain_r1r2_ohm, t.pfc_ka),
+        (Some(0.41), Some(0.12), Some(0.9))
+    );
+    let text = std::fs::read_to_string(&a).unwrap();
+    assert!(
+        text.contains(",\"'-Loft boarded, not inspected\","),
+        "{text}"
+    );
+    // visit list gives the outcome as recorded, newest first.
+    let out = bin(&copy)
+        .args(["visit", "list", "--property", "SMP-020", "--json"])
+        .output()
+        .unwrap();
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    assert_eq!(v[0]["outcome"], "Unsatisfactory");
+    assert_eq!(v[0]["interval_months"], 36);
+    assert_eq!(v[1]["report_ref"], "SMP-020/19");
+    let table = bin(&copy)
+        .args(["visit", "list", "--property", "SMP-020"])
+        .output()
+        .unwrap();
+    let table = String::from_utf8(table.stdout).unwrap();
+    assert!(
+        table.contains("OUTCOME (AS RECORDED)") && table.contains("Satisfactory"),
+        "{table}"
+    );
+}
+
+#[test]
+fn a_sub_board_s_ze_is_its_zdb_and_never_the_visit_s() {
+    // The first row is a sub-board's: its ze_ohm is the loop impedance at that board (its
+    // Zdb), so the visit's own Ze (at the origin) comes from the origin's row, not from it.
+    let dir = TempDir::new().unwrap();
+    let db = dir.path().join("db.db");
+    let f = dir.path().join("sub_first.csv");
+    std::fs::write(
+        &f,
+        "property_ref,board,fed_from,circuit,visit_date,ze_ohm,r1r2_ohm\n\
+         SMP-091,DB2,CU1,1,2024-05-20,0.45,0.50\n\
+         SMP-091,CU1,,1,2024-05-20,0.28,0.40\n",
+    )
+    .unwrap();
+    bin(&db).arg("import").arg(&f).assert().success();
+    let store = Store::open(&db).unwrap();
+    let p = store.property("SMP-091").unwrap();
+    let h = store.history(p.id).unwrap();
+    assert_eq!(h.visits[0].ze_ohm, Some(0.28));
+    let db2 = h.boards.iter().find(|b| b.designation == "DB2").unwrap();
+    assert_eq!(db2.fed_from.as_deref(), Some("CU1"));
+}
+
+#[test]
+fn a_second_file_with_another_outcome_is_a_conflict_unless_replaced() {
+    let dir = TempDir::new().unwrap();
+    let db = dir.path().join("db.db");
+    let file = |name: &str, outcome: &str| {
+        let f = dir.path().join(name);
+        std::fs::write(
+            &f,
+            format!(
+                "property_ref,board,circuit,visit_date,r1r2_ohm,outcome\nSMP-090,DB1,1,2024-05-20,0.42,{outcome}\n"
+            ),
+        )
+        .unwrap();
+        f
+    };
+    let first = file("first.csv", "Satisfactory");
+    bin(&db).arg("import").arg(&first).assert().success();
+    let second = file("second.csv", "Unsatisfactory");
+    bin(&db)
+        .arg("import")
+        .arg(&second)
+        .assert()
+        .code(1)
+        .stderr(predicates::str::contains(
+            "second.csv:2:6: outcome: conflicts with the visit to SMP-090 on 2024-05-20: stored \"Satisfactory\", file \"Unsatisfactory\" (pass --replace to overwrite)",
+        ));
+    bin(&db)
+        .args(["import", "--replace"])
+        .arg(&second)
+        .assert()
+        .success()
+        .stdout(predicates::str::contains("details replaced         1"));
+    let store = Store::open(&db).unwrap();
+    let p = store.property("SMP-090").unwrap();
+    assert_eq!(
+        store.property_visits(p.id).unwrap()[0]
+            .report
+            .outcome
+            .as_deref(),
+        Some("Unsatisfactory")
+    );
+}
+
+#[test]
 fn export_of_one_property_as_json() {
     let dir = TempDir::new().unwrap();
     let db = baseline(&dir);
@@ -505,7 +660,7 @@ fn skip_invalid_writes_valid_rows_and_a_sidecar() {
         .arg(&file)
         .assert()
         .success()
-        .stdout(predicates::str::contains(format!(
+        .stderr(predicates::str::contains(format!(
             "rejected rows written to {}",
             sidecar.display()
         )));

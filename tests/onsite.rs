@@ -159,7 +159,10 @@ fn line_mode_builds_history_and_the_brief_projects_it() {
         "",
     );
     let text = std::fs::read_to_string(&csv_path).unwrap();
-    let mut rdr = csv::Reader::from_reader(text.as_bytes());
+    // The caution comes first, as a comment line; a reader told so skips it.
+    let mut rdr = csv::ReaderBuilder::new()
+        .comment(Some(b'#'))
+        .from_reader(text.as_bytes());
     let header = rdr.headers().unwrap().clone();
     let col = |name: &str| header.iter().position(|h| h == name).unwrap();
     let rows: Vec<csv::StringRecord> = rdr.records().map(|r| r.unwrap()).collect();
@@ -867,4 +870,255 @@ fn line_mode_records_polarity_the_test_voltage_and_the_test_button() {
             .unwrap()
             .is_none()
     );
+}
+
+/// The circuits in service on board CU of P-9, by number.
+fn cu_numbers(store: &Store) -> Vec<String> {
+    let p = store.property("P-9").unwrap();
+    let board = store.boards(p.id).unwrap()[0].id;
+    store
+        .circuits(board)
+        .unwrap()
+        .into_iter()
+        .map(|c| c.number)
+        .collect()
+}
+
+/// A circuit added during an interactive visit that is then cut off (killed) and abandoned
+/// leaves the register as it was before the visit: the circuit goes with the visit.
+#[test]
+fn abandoning_a_visit_removes_the_circuit_added_at_it() {
+    let e = Env::with_history();
+    let mut p = e.spawn(&["record", "P-9", "--date", "2025-03-01", "--temp", "15"]);
+    answer(&mut p, "Inspector carrying out the test", "A. Tester");
+    answer(&mut p, "Ze [Ω]", "0.21");
+    answer(&mut p, "Fitted as in the register (B32, 2.5/1.5 mm²)", "");
+    for prompt in ["R1+R2", "R1+Rn", "IR L–L", "IR L–E", "Zs"] {
+        answer(&mut p, prompt, "");
+    }
+    answer(&mut p, "Fitted as in the register (B6, 1.5/1 mm²)", "");
+    for prompt in ["R1+R2", "R1+Rn", "IR L–L", "IR L–E", "Zs"] {
+        answer(&mut p, prompt, "");
+    }
+    answer(&mut p, "not in the register?", "3");
+    answer(&mut p, "What it supplies", "Garage");
+    answer(&mut p, "Protective device", "B16");
+    answer(&mut p, "RCD protecting it", "30");
+    p.expect("added circuit CU/3 to the register with B16")
+        .unwrap();
+    answer(&mut p, "R1+R2 [Ω]", "0.83");
+    p.expect("R1+Rn [Ω]").unwrap();
+    p.get_process_mut().kill(Signal::SIGKILL).unwrap();
+    let _ = p.get_process().wait();
+
+    let s = e.store();
+    let v = pending(&s);
+    assert_eq!(cu_numbers(&s), ["1", "2", "3"]);
+    assert_eq!(readings(&s, v.id, "3").r1r2_ohm, Some(0.83));
+
+    let out = e.ok(&["record", "P-9", "--abandon"], "");
+    assert!(
+        out.contains("1 circuit added at it taken out of the register"),
+        "{out}"
+    );
+    assert_eq!(cu_numbers(&s), ["1", "2"]);
+    assert!(s.find_circuit("P-9", "CU", "3").is_err());
+    for n in ["1", "2"] {
+        let c = s.find_circuit("P-9", "CU", n).unwrap();
+        assert!(s.changes(c.id).unwrap().is_empty(), "circuit {n}");
+    }
+    assert!(s.visit_on(v.property_id, v.date).unwrap().is_none());
+    // The number is free again, as before the visit.
+    e.ok(&["circuit", "add", "P-9", "CU", "3", "--device", "B20"], "");
+}
+
+/// The line mode adds a circuit the register lacks with an `add` line (what it supplies, the
+/// device, the RCD, as the prompts ask), takes its readings from the lines after it, and an
+/// abandoned visit takes it out again.
+#[test]
+fn line_mode_adds_a_circuit_and_abandon_takes_it_out() {
+    let e = Env::with_history();
+    let out = e.ok(
+        &["record", "P-9", "--date", "2025-02-01", "--temp", "20"],
+        "CU,,ze_ohm,0.21\nCU,3,add,\"Sockets, garage\",RCBO B20,30\nCU,3,r1r2_ohm,0.61\n\
+         CU,3,zs_ohm,0.83\nCU,4,add,Loft lights\nCU,4,r1r2_ohm,1.12\n",
+    );
+    assert!(
+        out.contains("added circuit CU/3 to the register with RCBO B20"),
+        "{out}"
+    );
+    assert!(
+        out.contains("added circuit CU/4 to the register, device not recorded"),
+        "{out}"
+    );
+    assert!(out.contains("finished"), "{out}");
+    let s = e.store();
+    let pid = s.property("P-9").unwrap().id;
+    let v = s
+        .visit_on(pid, chrono::NaiveDate::from_ymd_opt(2025, 2, 1).unwrap())
+        .unwrap()
+        .unwrap();
+    assert_eq!(v.state, VisitState::Complete);
+    let c3 = s.find_circuit("P-9", "CU", "3").unwrap();
+    assert_eq!(c3.description.as_deref(), Some("Sockets, garage"));
+    assert_eq!(c3.device.unwrap().to_string(), "RCBO B20");
+    assert_eq!(c3.rcd_ma, Some(30));
+    assert_eq!(readings(&s, v.id, "3").zs_ohm, Some(0.83));
+    assert_eq!(readings(&s, v.id, "4").r1r2_ohm, Some(1.12));
+    // A number the board already has is refused, naming the line.
+    e.cmd(
+        &["record", "P-9", "--date", "2025-03-01", "--no-finish"],
+        "CU,1,add,Sockets\n",
+    )
+    .failure()
+    .stderr(predicates::str::contains(
+        "line 1: board \"CU\" already has a circuit 1",
+    ));
+    e.ok(&["record", "P-9", "--abandon"], "");
+
+    e.ok(
+        &["record", "P-9", "--date", "2025-03-01", "--no-finish"],
+        "CU,5,add,Shed,B16\nCU,5,r1r2_ohm,0.95\n",
+    );
+    assert!(cu_numbers(&s).contains(&"5".to_string()));
+    let out = e.ok(&["record", "P-9", "--abandon"], "");
+    assert!(
+        out.contains("1 circuit added at it taken out of the register"),
+        "{out}"
+    );
+    assert_eq!(cu_numbers(&s), ["1", "2", "3", "4"]);
+}
+
+/// A sub-board with no circuits in the register is in the brief (text and page), saying so,
+/// and `record` walks it: Zdb, then the circuits found there, interactively or by `add` lines.
+#[test]
+fn a_sub_board_with_no_circuits_is_briefed_and_walked() {
+    let e = Env::with_history();
+    e.ok(&["board", "add", "P-9", "DB2", "--fed-from", "CU"], "");
+    let text = e.ok(&["brief", "P-9", "--date", "2025-03-01"], "");
+    let at = text.find("Board DB2").expect(&text);
+    assert!(
+        text[at..].contains("no circuits recorded on this board"),
+        "{text}"
+    );
+    let html = e.dir.path().join("b.html");
+    e.ok(
+        &[
+            "brief",
+            "P-9",
+            "--date",
+            "2025-03-01",
+            "-o",
+            html.to_str().unwrap(),
+        ],
+        "",
+    );
+    let html = std::fs::read_to_string(&html).unwrap();
+    assert!(html.contains("Board DB2"), "{html}");
+    assert!(html.contains("no circuits recorded on this board"));
+
+    let mut p = e.spawn(&["record", "P-9", "--date", "2025-03-01", "--temp", "15"]);
+    answer(&mut p, "Inspector carrying out the test", "");
+    answer(&mut p, "Ze [Ω]", "");
+    for _ in 0..2 {
+        answer(&mut p, "Fitted as in the register", "");
+        for prompt in ["R1+R2", "R1+Rn", "IR L–L", "IR L–E", "Zs"] {
+            answer(&mut p, prompt, "");
+        }
+    }
+    answer(
+        &mut p,
+        "A circuit on board CU that is not in the register?",
+        "",
+    );
+    p.expect("== Board DB2 ==").unwrap();
+    p.expect("no circuits recorded on this board").unwrap();
+    answer(&mut p, "Zdb [Ω]", "0.35");
+    answer(
+        &mut p,
+        "A circuit on board DB2 that is not in the register?",
+        "1",
+    );
+    answer(&mut p, "What it supplies", "Immersion heater");
+    answer(&mut p, "Protective device", "B16");
+    answer(&mut p, "RCD protecting it", "");
+    answer(&mut p, "R1+R2 [Ω]", "0.42");
+    for prompt in ["R1+Rn", "IR L–L", "IR L–E", "Zs"] {
+        answer(&mut p, prompt, "");
+    }
+    answer(
+        &mut p,
+        "A circuit on board DB2 that is not in the register?",
+        "",
+    );
+    answer(&mut p, "Finish the visit", "y");
+    p.expect("finished").unwrap();
+    p.expect(Eof).unwrap();
+    let s = e.store();
+    let c = s.find_circuit("P-9", "DB2", "1").unwrap();
+    assert_eq!(c.description.as_deref(), Some("Immersion heater"));
+
+    // The line mode reaches such a board too.
+    e.ok(&["board", "add", "P-9", "DB3", "--fed-from", "CU"], "");
+    e.ok(
+        &["record", "P-9", "--date", "2025-04-01"],
+        "DB3,,ze_ohm,0.31\nDB3,1,add,Garage,B20\nDB3,1,zs_ohm,0.88\n",
+    );
+    assert!(s.find_circuit("P-9", "DB3", "1").is_ok());
+}
+
+/// The brief's CSV carries the caution once, as its first line, a `#` comment; a reader that
+/// takes `#` as a comment reads the header and rows as before, and a cell that holds a `#`
+/// (here a description) is quoted, so it is neither dropped nor cut short.
+#[test]
+fn the_brief_csv_carries_the_caution_as_a_comment_line() {
+    let e = Env::with_history();
+    e.ok(
+        &[
+            "circuit",
+            "add",
+            "P-9",
+            "CU",
+            "3",
+            "--description",
+            "# spare, was #2",
+            "--device",
+            "B16",
+        ],
+        "",
+    );
+    let path = e.dir.path().join("b.csv");
+    e.ok(
+        &[
+            "brief",
+            "P-9",
+            "--date",
+            "2025-03-01",
+            "-o",
+            path.to_str().unwrap(),
+        ],
+        "",
+    );
+    let text = std::fs::read_to_string(&path).unwrap();
+    let first = text.lines().next().unwrap();
+    assert_eq!(first, format!("# Caution: {}", ohmtrail::CAUTION));
+    assert_eq!(text.matches(ohmtrail::CAUTION).count(), 1);
+    let mut rdr = csv::ReaderBuilder::new()
+        .comment(Some(b'#'))
+        .from_reader(text.as_bytes());
+    let header = rdr.headers().unwrap().clone();
+    assert_eq!(
+        header.iter().collect::<Vec<_>>(),
+        ohmtrail::onsite::CSV_HEADER
+    );
+    let rows: Vec<csv::StringRecord> = rdr.records().map(|r| r.unwrap()).collect();
+    let desc = header.iter().position(|h| h == "description").unwrap();
+    let circuit = header.iter().position(|h| h == "circuit").unwrap();
+    let spare: Vec<_> = rows.iter().filter(|r| &r[circuit] == "3").collect();
+    assert!(!spare.is_empty());
+    for r in spare {
+        assert_eq!(&r[desc], "# spare, was #2");
+    }
+    // Every row has every column: the comment is not a record.
+    assert!(rows.iter().all(|r| r.len() == header.len()));
 }

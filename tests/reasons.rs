@@ -30,6 +30,8 @@ struct Checks {
     ring_ratio: Regex,
     ring_cross: Regex,
     overdue: Regex,
+    sub_board: Regex,
+    bonding: Regex,
     /// The analysis date, which an overdue inspection's figures count to.
     today: NaiveDate,
 }
@@ -83,7 +85,13 @@ impl Checks {
             ),
             ring_cross: r(r"highest R1\+R[2n] N Ω is N Ω below \([^)]*\) = N Ω, more than N Ω"),
             overdue: r(
-                r"^inspection due ([0-9-]{10}), N (months?|days?) overdue; last full inspection ([0-9-]{10}), interval N months",
+                r"^inspection due ([0-9-]{10}), N (months?|days?) overdue; last full inspection ([0-9-]{10}), interval N months \((as recorded by the inspector at that inspection|the property's interval; none recorded at that inspection)\)",
+            ),
+            sub_board: r(
+                r"Zs here (?:is|leaves out the sub-main: no Zdb and no sub-main R1\+R2 recorded at [^ ]+ on [0-9-]{10}, so it is) (?:Ze N Ω at the origin|Zdb N Ω measured at [^ ]+)((?: \+ sub-main R1\+R2 N Ω)*) \+ R1\+R2 N Ω = N Ω",
+            ),
+            bonding: r(
+                r"^main protective bonding was N mm² at the visit of [0-9-]{10}, below the minimum of N mm² for a (T\S+) supply \((BS 7671:2018\+A2:2022 (?:Table 54.8|Regulation 544.1.1)), from memory;",
             ),
             today,
         }
@@ -224,6 +232,32 @@ impl Checks {
             assert_eq!(f.limit, Some(interval), "{reason}");
             assert_eq!(f.last_date, last, "{reason}");
         }
+        if let Some(m) = self.sub_board.find(reason) {
+            known += 1;
+            // The figures in ohms, in order: Ze (or Zdb), each sub-main's R1+R2, the circuit's
+            // R1+R2, and their sum last.
+            let ohms = Regex::new(&format!("{N} Ω")).unwrap();
+            let figures: Vec<(f64, f64)> =
+                ohms.captures_iter(m.as_str()).map(|x| num(&x[1])).collect();
+            let (total, parts) = figures.split_last().unwrap();
+            let sum: f64 = parts.iter().map(|p| p.0).sum();
+            let slack: f64 = parts.iter().map(|p| p.1).sum::<f64>() + total.1;
+            assert!(
+                parts.len() >= 2 && (sum - total.0).abs() <= slack,
+                "the parts do not add up: {reason}"
+            );
+        }
+        if let Some(m) = self.bonding.captures(reason) {
+            known += 1;
+            let (csa, min) = (c(&m, 1).0, c(&m, 2).0);
+            assert!(csa < min, "not below the minimum: {reason}");
+            let want = match &m[3] {
+                "TN-C-S" => 10.0,
+                _ => 6.0,
+            };
+            assert_eq!(min, want, "Table 54.8 / Regulation 544.1.1: {reason}");
+            assert_eq!((f.last_value, f.limit), (csa, Some(min)), "{reason}");
+        }
         if let Some(m) = self.ring_cross.captures(reason) {
             known += 1;
             let (got, d, want) = (c(&m, 1), c(&m, 2), c(&m, 3));
@@ -343,7 +377,7 @@ pub fn check_all(store: &Store, settings: &Settings) -> usize {
             f.reason
         );
         if let (Some(l), Some(m)) = (f.limit, f.margin_used_pct) {
-            let share = if f.quantity.starts_with("ir") {
+            let share = if f.quantity.starts_with("ir") || f.quantity == "bonding" {
                 l / f.last_value
             } else {
                 f.last_value / l
@@ -516,4 +550,98 @@ fn every_recorded_fact_and_named_rcd_adds_up() {
     assert_eq!(facts("polarity"), 3, "{rows:#?}");
     assert_eq!(facts("rcd_button"), 8, "{rows:#?}");
     assert!(seen >= facts("polarity") + facts("rcd_button"));
+}
+
+#[test]
+fn sub_board_zs_and_bonding_reasons_add_up() {
+    use ohmtrail::model::{Earthing, Readings, SupplyRecord, VisitState};
+    use ohmtrail::store::{CircuitDetails, NewBoard, NewProperty, NewVisit};
+    // CU1 (TN-C-S) feeds DB2 and DB3; Zs not measured. DB2/1: Zdb 0.43 + R1+R2 0.77 = 1.20 Ω,
+    // DB3/1: Ze 0.27 + sub-main 0.12 + R1+R2 0.79 = 1.18 Ω, both past 1.14 Ω for a B32 at
+    // 20 °C (BS 7671:2018+A2:2022 Table 41.3 1.37 Ω / 1.20). Main bonding 6 mm², below 10 mm²
+    // for PME (Table 54.8, from memory).
+    let store = Store::open_in_memory().unwrap();
+    store
+        .add_property(&NewProperty {
+            reference: "R-1".into(),
+            ..Default::default()
+        })
+        .unwrap();
+    for (b, fed) in [("CU1", None), ("DB2", Some("CU1")), ("DB3", Some("CU1"))] {
+        store
+            .add_board(
+                "R-1",
+                &NewBoard {
+                    designation: b.into(),
+                    fed_from: fed.map(Into::into),
+                    earthing: Some(Earthing::TnCS),
+                    ..Default::default()
+                },
+            )
+            .unwrap();
+    }
+    let p = store.property("R-1").unwrap();
+    let v = store
+        .add_visit(
+            p.id,
+            &NewVisit {
+                date: NaiveDate::from_ymd_opt(2025, 5, 6),
+                ambient_c: Some(20.0),
+                ze_ohm: Some(0.27),
+                supply: SupplyRecord {
+                    bonding_csa_mm2: Some(6.0),
+                    ..Default::default()
+                },
+                ..Default::default()
+            },
+            VisitState::Complete,
+        )
+        .unwrap();
+    for (b, zdb, sub, r12) in [
+        ("DB2", Some(0.43), None, 0.77),
+        ("DB3", None, Some(0.12), 0.79),
+    ] {
+        let board = store.board(p.id, "R-1", b).unwrap();
+        store.set_board_submain(v.id, board.id, zdb, sub).unwrap();
+        let c = store
+            .add_circuit(
+                "R-1",
+                b,
+                "1",
+                &CircuitDetails {
+                    device: Some("B32".parse().unwrap()),
+                    ..Default::default()
+                },
+            )
+            .unwrap();
+        store
+            .put_test_record(
+                v.id,
+                c.id,
+                &Readings {
+                    r1r2_ohm: Some(r12),
+                    ..Default::default()
+                },
+            )
+            .unwrap();
+    }
+    let settings = Settings::defaults(NaiveDate::from_ymd_opt(2026, 1, 1).unwrap());
+    let seen = check_all(&store, &settings);
+    let rows = analysis::worklist(&store, &settings, &WorklistFilter::default()).unwrap();
+    let reasons: Vec<&str> = rows
+        .iter()
+        .flat_map(|r| &r.findings)
+        .map(|f| f.reason.as_str())
+        .collect();
+    assert!(seen >= 3, "{reasons:#?}");
+    assert!(
+        reasons
+            .iter()
+            .any(|r| r.contains("Zdb 0.43 Ω measured at DB2"))
+            && reasons.iter().any(|r| r.contains("sub-main R1+R2 0.12 Ω"))
+            && reasons
+                .iter()
+                .any(|r| r.starts_with("main protective bonding")),
+        "{reasons:#?}"
+    );
 }

@@ -223,6 +223,35 @@ fn property_add_list_show() {
     assert!(shown.contains("fed from the origin; TN-C-S"), "{shown}");
 }
 
+/// A new client given in another case than a stored one is refused, naming the stored
+/// spelling, and nothing is written; the exact stored spelling joins that client.
+#[test]
+fn a_client_differing_only_in_case_is_refused_with_the_stored_spelling() {
+    let e = Env::new();
+    e.ok(&["property", "add", "P-1", "--client", "Acme Lets (test)"]);
+    e.cmd(&["property", "add", "P-2", "--client", "acme lets (TEST)"])
+        .code(1)
+        .stderr(predicates::str::contains(
+            "client \"acme lets (TEST)\" differs from the stored \"Acme Lets (test)\" only in case",
+        ));
+    // Nothing written: the property is not there.
+    e.cmd(&["property", "show", "P-2"]).code(1);
+    e.ok(&["property", "add", "P-2", "--client", "Acme Lets (test)"]);
+    let list: serde_json::Value =
+        serde_json::from_str(&e.ok(&["property", "list", "--json"])).unwrap();
+    let clients: Vec<&str> = list
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|p| p["client"].as_str().unwrap())
+        .collect();
+    assert_eq!(clients, ["Acme Lets (test)", "Acme Lets (test)"]);
+    // A name that differs in more than case is a new client.
+    e.ok(&["property", "add", "P-3", "--client", "Acme Lettings (test)"]);
+    let out = e.ok(&["flags", "--client", "Acme Lettings (test)"]);
+    assert!(!out.contains("P-1"), "{out}");
+}
+
 #[test]
 fn unknown_property_or_board_is_an_error_naming_it() {
     let e = Env::with_board();
@@ -390,7 +419,7 @@ fn demo_builds_a_database_and_reports() {
         .assert()
         .success()
         .get_output()
-        .stdout
+        .stderr
         .clone();
     let out = String::from_utf8(out).unwrap();
     assert!(out.contains("open first:"), "{out}");
@@ -423,7 +452,7 @@ fn demo_names_its_database_in_the_next_commands_and_refuses_another() {
         .assert()
         .success()
         .get_output()
-        .stdout
+        .stderr
         .clone();
     let out = String::from_utf8(out).unwrap();
     let db = dir.join("demo.db");

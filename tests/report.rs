@@ -119,6 +119,7 @@ fn fixture(store: &Store, reference: &str, address: &str) {
                     ambient_c: *ambient,
                     ze_ohm: Some(*ze),
                     pfc_ka: Some(1.2),
+                    ..Default::default()
                 },
                 VisitState::Complete,
             )
@@ -126,6 +127,30 @@ fn fixture(store: &Store, reference: &str, address: &str) {
         store
             .set_board_test(v.id, board.id, Some(*ze), Some(1.2))
             .unwrap();
+        if i == 3 {
+            // The last visit's report as the inspector recorded it (invented), with text that
+            // must be escaped, and its supply and main bonding.
+            store
+                .set_visit_report_supply(
+                    v.id,
+                    &ohmtrail::model::VisitReport {
+                        report_ref: Some("HC-7/24 <b>".into()),
+                        outcome: Some("Unsatisfactory".into()),
+                        // As the property's, so the projections' horizon stays where it was.
+                        interval_months: Some(60),
+                        extent: Some("Whole house & garden lights".into()),
+                        limitations: Some("Loft not accessible".into()),
+                    },
+                    &ohmtrail::model::SupplyRecord {
+                        u0_v: Some(230.0),
+                        bonding_csa_mm2: Some(10.0),
+                        bonding_water: Some(ohmtrail::model::Bonding::Yes),
+                        bonding_gas: Some(ohmtrail::model::Bonding::No),
+                        ..Default::default()
+                    },
+                )
+                .unwrap();
+        }
         let loose = [0.0, 0.0, 0.20, 0.42][i];
         let put = |c, r: Readings| store.put_test_record(v.id, c, &r).unwrap();
         put(
@@ -574,8 +599,9 @@ fn report_writes_to_the_default_name_and_says_where() {
         .args(["report", REF])
         .assert()
         .success()
-        .stdout(predicate::str::contains("wrote report report-HC-7.html"))
-        .stdout(predicate::str::contains("never replace"));
+        .stdout(predicate::str::is_empty())
+        .stderr(predicate::str::contains("wrote report report-HC-7.html"))
+        .stderr(predicate::str::contains("never replace"));
     let html = std::fs::read_to_string(dir.path().join("report-HC-7.html")).unwrap();
     assert!(html.starts_with("<!DOCTYPE html>"));
     // A reference with a slash gets a safe, distinct file name.
@@ -584,7 +610,7 @@ fn report_writes_to_the_default_name_and_says_where() {
         .assert()
         .success()
         .get_output()
-        .stdout
+        .stderr
         .clone();
     let out = String::from_utf8(out).unwrap();
     let name = out
@@ -707,8 +733,9 @@ fn portfolio_index_links_every_property_report() {
         .args(["report", "--portfolio", "-o", "out/index.html"])
         .assert()
         .success()
-        .stdout(predicate::str::contains("wrote 2 property reports"))
-        .stdout(predicate::str::contains("open first: out/index.html"));
+        .stdout(predicate::str::is_empty())
+        .stderr(predicate::str::contains("wrote 2 property reports"))
+        .stderr(predicate::str::contains("open first: out/index.html"));
     let index = std::fs::read_to_string(out_dir.join("index.html")).unwrap();
     assert!(!index.to_ascii_lowercase().contains("<script"));
     let links: Vec<&str> = index
@@ -1004,4 +1031,164 @@ fn the_schedule_details_and_recorded_faults_are_shown_where_they_belong() {
         .collect();
     assert!(labels.contains(&"polarity"), "{labels:?}");
     assert!(labels.contains(&"RCD test button"), "{labels:?}");
+}
+
+/// Every command that writes files says what it wrote on standard error, and leaves standard
+/// output empty, so a pipe never gets a status line mixed into data: report, brief, export
+/// and import's rejected rows alike.
+#[test]
+fn commands_that_write_files_say_so_on_stderr_only() {
+    let dir = tempfile::tempdir().unwrap();
+    let db = db_with_fixture(dir.path());
+    let runs: &[(&[&str], &str)] = &[
+        (&["report", REF, "-o", "r.html"], "wrote report r.html"),
+        (
+            &["report", "--portfolio", "-o", "index.html"],
+            "wrote portfolio index index.html",
+        ),
+        (
+            &["brief", REF, "-o", "b.csv"],
+            "wrote the brief for HC-7 to b.csv",
+        ),
+        (
+            &["brief", REF, "-o", "b.html"],
+            "wrote the brief for HC-7 to b.html",
+        ),
+        (&["export", "-o", "e.csv"], "to e.csv"),
+        (&["export", "--format", "json", "-o", "e.json"], "to e.json"),
+    ];
+    for (args, said) in runs {
+        let out = cmd(&db, dir.path()).args(*args).assert().success();
+        let o = out.get_output();
+        assert!(
+            o.stdout.is_empty(),
+            "{args:?}: stdout {:?}",
+            String::from_utf8_lossy(&o.stdout)
+        );
+        let err = String::from_utf8_lossy(&o.stderr);
+        assert!(err.contains(said), "{args:?}: stderr {err}");
+    }
+    // Data sent to standard output stays clean: no status line comes with it.
+    let out = cmd(&db, dir.path())
+        .args(["report", REF, "-o", "-", "--format", "json"])
+        .assert()
+        .success();
+    let v: serde_json::Value = serde_json::from_slice(&out.get_output().stdout).unwrap();
+    assert!(v.is_object());
+}
+
+#[test]
+fn the_inspectors_report_and_the_supply_are_shown_as_recorded() {
+    // The fixture's last visit records its report, U0, main bonding 10 mm² and gas bonding
+    // not confirmed (invented). ohmtrail assigns no outcome: it shows the inspector's, labelled.
+    let store = Store::open_in_memory().unwrap();
+    fixture(&store, REF, "1 Invented Row");
+    let r = report::property_report(&store, REF, &settings("2025-01-10")).unwrap();
+    let latest = r.schedule.latest_report.as_ref().unwrap();
+    assert_eq!(latest.outcome.as_deref(), Some("Unsatisfactory"));
+    assert_eq!(latest.outcome_label, "as recorded by the inspector");
+    // 2024-06-18 + 60 months as recorded at that (full) inspection.
+    assert_eq!(r.header.next_due, Some(d("2029-06-18")));
+    assert_eq!(
+        r.header.next_due_basis,
+        Some("as recorded by the inspector at that inspection")
+    );
+    let html = report::property::render(&r);
+    assert!(
+        html.contains("Unsatisfactory<br><span class=\"small\">as recorded by the inspector"),
+        "{}",
+        outline(&html)
+    );
+    assert!(html.contains("HC-7/24 &lt;b&gt;"));
+    assert!(!html.contains("HC-7/24 <b>"));
+    assert!(
+        html.contains("Main bonding to gas: continuity not confirmed at the visit of 2024-06-18")
+    );
+    assert!(html.contains("<dt>U0</dt><dd>230 V"));
+    // The same in the JSON.
+    let json = serde_json::to_value(&r).unwrap();
+    assert_eq!(
+        json["schedule"]["latest_report"]["outcome"],
+        "Unsatisfactory"
+    );
+    assert_eq!(json["visits"][3]["report"]["interval_months"], 60);
+    assert_eq!(json["visits"][3]["supply"]["bonding_gas"], "no");
+    // The supply's figures visit by visit: Ze 0.21, 0.22, 0.22, 0.23 Ω and 1.2 kA as recorded.
+    let series = &r.schedule.series;
+    assert_eq!(series.columns, ["U0 V", "Ze Ω", "Ipf kA", "Bonding mm²"]);
+    let ze: Vec<Option<&str>> = series.rows.iter().map(|(_, v)| v[1].as_deref()).collect();
+    assert_eq!(ze, [Some("0.21"), Some("0.22"), Some("0.22"), Some("0.23")]);
+    assert_eq!(series.rows[3].1[0].as_deref(), Some("230"));
+    assert_eq!(series.rows[0].1[0], None);
+}
+
+#[test]
+fn a_rising_earth_electrode_is_charted_on_ra_in_the_report() {
+    // A TT home whose electrode's Ra, recorded on its own, rises 58 → 77 → 149 → 410 Ω, past
+    // the 200 Ω above which an electrode may not be stable (common practice; the note to
+    // BS 7671 Table 41.5). Invented readings with a few ohms of scatter.
+    let store = Store::open_in_memory().unwrap();
+    store
+        .add_property(&NewProperty {
+            reference: "TT-1".into(),
+            ..Default::default()
+        })
+        .unwrap();
+    store
+        .add_board(
+            "TT-1",
+            &NewBoard {
+                designation: "CU1".into(),
+                earthing: Some(Earthing::Tt),
+                ..Default::default()
+            },
+        )
+        .unwrap();
+    let p = store.property("TT-1").unwrap();
+    for (date, ra) in [
+        ("2012-01-20", 58.0),
+        ("2016-07-28", 77.0),
+        ("2020-02-11", 149.0),
+        ("2024-08-05", 410.0),
+    ] {
+        store
+            .add_visit(
+                p.id,
+                &NewVisit {
+                    date: Some(d(date)),
+                    supply: ohmtrail::model::SupplyRecord {
+                        ra_ohm: Some(ra),
+                        ..Default::default()
+                    },
+                    ..Default::default()
+                },
+                VisitState::Complete,
+            )
+            .unwrap();
+    }
+    let r = report::property_report(&store, "TT-1", &settings("2025-01-10")).unwrap();
+    let supply = r
+        .flagged
+        .iter()
+        .find(|f| f.circuit.is_none())
+        .expect("the supply's row");
+    let ra = supply
+        .findings
+        .iter()
+        .find(|f| f.quantity == "ra")
+        .expect("a finding on Ra");
+    assert!(
+        ra.chart.is_some(),
+        "Ra's finding is charted on its own series"
+    );
+    assert!(
+        r.summary
+            .headline
+            .contains("earth electrode's resistance (Ra)")
+    );
+    let html = report::property::render(&r);
+    assert!(
+        html.contains("Ra, the earth electrode&#x27;s resistance")
+            || html.contains("Ra, the earth electrode's resistance")
+    );
 }

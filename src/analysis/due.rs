@@ -5,6 +5,12 @@
 //! a partial re-test: its readings count for the trends, but it does not restart the due date.
 //! A periodic inspection tests every circuit but for agreed limitations, and a re-test after
 //! repairs touches the few circuits worked on, so half sits well clear of both.
+//!
+//! The interval is the one the inspector recorded at that full inspection when there is one
+//! (a shorter interval is what "or sooner where the last report says so" means; The Electrical
+//! Safety Standards in the Private Rented Sector (England) Regulations 2020, regulation 3),
+//! else the property's own interval (60 months unless set). A partial re-test's recorded
+//! interval does not count, as its date does not.
 
 use chrono::NaiveDate;
 
@@ -27,13 +33,38 @@ impl Coverage {
     }
 }
 
+/// Where the interval to the next inspection comes from.
+#[derive(Debug, Clone, Copy, Default, PartialEq, Eq, serde::Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum IntervalBasis {
+    /// The interval the inspector recorded at the last full inspection.
+    Recorded,
+    /// The property's own interval (`property add --interval`, 60 months by default): none
+    /// was recorded at the last full inspection.
+    #[default]
+    Property,
+}
+
+impl IntervalBasis {
+    /// The basis in words, after "interval N months".
+    pub fn words(self) -> &'static str {
+        match self {
+            IntervalBasis::Recorded => "as recorded by the inspector at that inspection",
+            IntervalBasis::Property => "the property's interval; none recorded at that inspection",
+        }
+    }
+}
+
 /// The property's inspection dates as the worklist reads them.
 #[derive(Debug, Clone, Default, PartialEq)]
 pub struct Schedule {
     /// The last visit that was a full inspection.
     pub last_full: Option<NaiveDate>,
-    /// The last full inspection plus the property's interval.
+    /// The last full inspection plus the interval.
     pub next_due: Option<NaiveDate>,
+    /// The interval `next_due` runs by, in months, and where it comes from.
+    pub interval_months: u32,
+    pub basis: IntervalBasis,
     /// Partial re-tests after the last full inspection, oldest first.
     pub partial_since: Vec<Coverage>,
 }
@@ -92,9 +123,15 @@ pub fn schedule(h: &PropertyHistory) -> Schedule {
         return Schedule::default();
     };
     let last_full = visits[i].date;
+    let (interval_months, basis) = match h.visits[i].report.interval_months {
+        Some(m) if m > 0 => (m, IntervalBasis::Recorded),
+        _ => (h.property.interval_months, IntervalBasis::Property),
+    };
     Schedule {
         last_full: Some(last_full),
-        next_due: Some(add_months(last_full, h.property.interval_months)),
+        next_due: Some(add_months(last_full, interval_months)),
+        interval_months,
+        basis,
         partial_since: visits[i + 1..].to_vec(),
     }
 }
@@ -126,7 +163,7 @@ pub fn overdue_row(
     if due >= today {
         return None;
     }
-    let interval = property.interval_months;
+    let interval = s.interval_months;
     let since = months_between(last, today);
     let late = since.saturating_sub(interval);
     let lateness = if late > 0 {
@@ -135,7 +172,8 @@ pub fn overdue_row(
         plural((today - due).num_days(), "day")
     };
     let mut reason = format!(
-        "inspection due {due}, {lateness} overdue; last full inspection {last}, interval {interval} months"
+        "inspection due {due}, {lateness} overdue; last full inspection {last}, interval {interval} months ({})",
+        s.basis.words()
     );
     if let Some(p) = s.partial_since.last() {
         let (k, n) = (p.tested, p.in_service);
@@ -165,7 +203,15 @@ pub fn overdue_row(
         limit: Some(f64::from(interval)),
         projected_date: None,
         projected_earliest: None,
-        limit_source: Some("inspection interval recorded for the property".into()),
+        limit_source: Some(
+            match s.basis {
+                IntervalBasis::Recorded => {
+                    "inspection interval recorded by the inspector at the last full inspection"
+                }
+                IntervalBasis::Property => "inspection interval recorded for the property",
+            }
+            .into(),
+        ),
         margin_used_pct: share.map(|m| (m * 1000.0).round() / 10.0),
         recommended_interval_months: None,
         findings: Vec::new(),
@@ -302,8 +348,8 @@ mod tests {
         assert_eq!(
             overdue[0].reason,
             "inspection due 2026-03-09, 2 months overdue; last full inspection 2021-03-09, \
-             interval 60 months; the partial re-test on 2022-03-15 (2 of 8 circuits) does not \
-             restart it"
+             interval 60 months (the property's interval; none recorded at that inspection); \
+             the partial re-test on 2022-03-15 (2 of 8 circuits) does not restart it"
         );
     }
 
@@ -331,6 +377,58 @@ mod tests {
         assert!(schedule(&h).partial_since.is_empty());
     }
 
+    /// Set the interval the inspector recorded at the visit on `date`.
+    fn record_interval(s: &Store, date: NaiveDate, months: u32) {
+        let p = s.property("P-1").unwrap();
+        let v = s.visit_on(p.id, date).unwrap().unwrap();
+        let report = crate::model::VisitReport {
+            interval_months: Some(months),
+            ..v.report
+        };
+        s.set_visit_report_supply(v.id, &report, &v.supply).unwrap();
+    }
+
+    #[test]
+    fn the_interval_recorded_at_the_last_full_inspection_sets_the_due_date() {
+        // "At intervals of no more than 5 years, or sooner where the last report says so"
+        // (The Electrical Safety Standards in the Private Rented Sector (England) Regulations
+        // 2020, regulation 3): a recorded 36 months runs from the full inspection.
+        let s = property(8);
+        visit(&s, d(2016, 3, 9), &[1, 2, 3, 4, 5, 6, 7, 8], 1.0);
+        visit(&s, d(2021, 3, 9), &[1, 2, 3, 4, 5, 6, 7, 8], 1.03);
+        record_interval(&s, d(2021, 3, 9), 36);
+        let sch = schedule(&history(&s));
+        // 2021-03-09 + 36 months = 2024-03-09 (arithmetic).
+        assert_eq!(sch.next_due, Some(d(2024, 3, 9)));
+        assert_eq!(
+            (sch.interval_months, sch.basis),
+            (36, IntervalBasis::Recorded)
+        );
+        // A partial re-test recording 60 months restarts neither the date nor the interval.
+        visit(&s, d(2022, 3, 15), &[3, 7], 0.98);
+        record_interval(&s, d(2022, 3, 15), 60);
+        let h = history(&s);
+        let sch = schedule(&h);
+        assert_eq!(sch.next_due, Some(d(2024, 3, 9)));
+        assert_eq!(sch.basis, IntervalBasis::Recorded);
+        // Overdue on 2024-11-20: 2021-03-09 to then is 44 whole months, 8 past 36;
+        // 44 / 36 = 122.2 %.
+        let r = overdue_row(&h.property, "CU1", &sch, d(2024, 11, 20)).unwrap();
+        assert_eq!(
+            r.reason,
+            "inspection due 2024-03-09, 8 months overdue; last full inspection 2021-03-09, \
+             interval 36 months (as recorded by the inspector at that inspection); the partial \
+             re-test on 2022-03-15 (2 of 8 circuits) does not restart it"
+        );
+        assert_eq!((r.last_value, r.limit), (44.0, Some(36.0)));
+        assert_eq!(r.margin_used_pct, Some(122.2));
+        assert!(
+            r.limit_source
+                .unwrap()
+                .contains("recorded by the inspector")
+        );
+    }
+
     #[test]
     fn with_no_visit_nothing_is_due_or_overdue() {
         let s = property(2);
@@ -347,13 +445,15 @@ mod tests {
         let sch = |last: NaiveDate| Schedule {
             last_full: Some(last),
             next_due: Some(add_months(last, 60)),
+            interval_months: 60,
+            basis: IntervalBasis::Property,
             partial_since: vec![],
         };
         let r = overdue_row(&p, "CU1", &sch(d(2019, 6, 14)), d(2024, 11, 20)).unwrap();
         assert_eq!(
             r.reason,
             "inspection due 2024-06-14, 5 months overdue; last full inspection 2019-06-14, \
-             interval 60 months"
+             interval 60 months (the property's interval; none recorded at that inspection)"
         );
         // 65 months since, against 60: 65 / 60 = 108.3 %.
         assert_eq!((r.last_value, r.limit), (65.0, Some(60.0)));

@@ -5,6 +5,7 @@
 //! returns every circuit's series, findings and flags. [`worklist`] walks the portfolio one
 //! property at a time, so memory stays bounded by the largest property.
 
+mod bonding;
 pub mod due;
 #[cfg(test)]
 mod fact_tests;
@@ -14,7 +15,11 @@ mod rcd_devices;
 pub mod rows;
 mod series;
 pub mod settings;
+#[cfg(test)]
+mod sub_board_tests;
 mod supply;
+#[cfg(test)]
+mod supply_tests;
 #[cfg(test)]
 mod tests;
 #[cfg(test)]
@@ -147,14 +152,24 @@ pub struct PropertyAnalysis {
     /// The last visit that was a full inspection (see [`due`]): a partial re-test counts for
     /// the trends but does not restart the due date.
     pub last_full_inspection: Option<NaiveDate>,
-    /// The last full inspection plus the property's interval.
+    /// The last full inspection plus the interval: the one recorded at that inspection, else
+    /// the property's (`next_due_basis` says which).
     pub next_due: Option<NaiveDate>,
+    /// The interval `next_due` runs by, in months.
+    pub next_due_interval_months: Option<u32>,
+    pub next_due_basis: due::IntervalBasis,
     /// The next inspection ohmtrail recommends: earlier than `next_due` when a projection
     /// reaches a limit before it.
     pub recommended_next: Option<NaiveDate>,
     pub recommended_interval_months: Option<u32>,
     /// Ze at the origin, visit by visit.
     pub supply: Option<SeriesAnalysis>,
+    /// Ra, the earth electrode's resistance, visit by visit where recorded.
+    pub electrode: Option<SeriesAnalysis>,
+    /// Notes on the supply and main bonding (a bonding connection not confirmed).
+    pub supply_notes: Vec<String>,
+    /// What was measured at each board per visit (Ze, fault current, Zdb, sub-main R1+R2).
+    pub board_tests: Vec<crate::model::BoardTest>,
     pub circuits: Vec<CircuitAnalysis>,
     /// The property's worklist rows, most urgent first: one per circuit with findings, one for
     /// the supply, one for an overdue inspection. Every finding is in its row's `findings`.
@@ -240,6 +255,7 @@ fn analyse_with(
         .or_else(|| h.boards.first());
 
     let supply = supply::supply_series(h, origin, horizon, settings);
+    let electrode = supply::electrode_series(h, horizon, settings);
 
     let continuity_offsets = offsets::visit_offsets(h);
     let index = series::Index::new(h, &continuity_offsets);
@@ -264,9 +280,11 @@ fn analyse_with(
     rcd_devices::merge_shared_rcds(&mut circuits, &rcds);
 
     let mut flags: Vec<Flag> = Vec::new();
-    if let (Some(s), Some(o)) = (&supply, origin) {
-        for f in &s.report.findings {
-            flags.push(make_flag(&h.property, &o.designation, None, s, f));
+    if let Some(o) = origin {
+        for s in supply.iter().chain(&electrode) {
+            for f in &s.report.findings {
+                flags.push(make_flag(&h.property, &o.designation, None, s, f));
+            }
         }
     }
     for c in &circuits {
@@ -301,7 +319,11 @@ fn analyse_with(
         }
     }
     let origin_board = origin.map(|o| o.designation.as_str()).unwrap_or_default();
-    if let Some(row) = due::overdue_row(&h.property, origin_board, &schedule, settings.today) {
+    let own_rows = [
+        due::overdue_row(&h.property, origin_board, &schedule, settings.today),
+        bonding::bonding_row(h, origin_board, origin.and_then(|o| o.earthing)),
+    ];
+    for row in own_rows.into_iter().flatten() {
         flags.push(row.clone());
         let last = flags.len() - 1;
         flags[last].findings = vec![row];
@@ -335,9 +357,18 @@ fn analyse_with(
         last_visit,
         last_full_inspection: schedule.last_full,
         next_due,
+        next_due_interval_months: schedule.next_due.map(|_| schedule.interval_months),
+        next_due_basis: schedule.basis,
         recommended_next,
         recommended_interval_months,
         supply,
+        electrode,
+        supply_notes: bonding::bonding_notes(h),
+        board_tests: if detail == Detail::Full {
+            h.board_tests.clone()
+        } else {
+            Vec::new()
+        },
         circuits,
         flags,
         counts,

@@ -70,11 +70,16 @@ fn place(a: &Flag, b: &Flag) -> Ordering {
         .then_with(|| a.circuit.cmp(&b.circuit))
 }
 
-/// The share of the limit used, as a fraction; a row with none sorts last.
+/// The share of the limit used, as a fraction; a row with none sorts last. A row with no
+/// trend finding gives it as its margin (a minimum's is the limit over the value), else as the
+/// value over the limit.
 fn share(f: &Flag) -> f64 {
     match &f.finding {
         Some(x) => x.margin_used,
-        None => f.limit.filter(|l| *l > 0.0).map(|l| f.last_value / l),
+        None => f
+            .margin_used_pct
+            .map(|m| m / 100.0)
+            .or_else(|| f.limit.filter(|l| *l > 0.0).map(|l| f.last_value / l)),
     }
     .unwrap_or(f64::NEG_INFINITY)
 }

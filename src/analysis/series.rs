@@ -14,8 +14,8 @@ use crate::limits::{
     TestConditions, ZsLimit,
 };
 use crate::model::{
-    Board, ChangeKind, Circuit, CircuitChange, CircuitKind, Device, Earthing, Insulation, Megohms,
-    Readings, TestRecord, Visit,
+    Board, BoardTest, ChangeKind, Circuit, CircuitChange, CircuitKind, Device, Earthing,
+    Insulation, Megohms, Readings, TestRecord, Visit,
 };
 use crate::store::PropertyHistory;
 use crate::trend::{
@@ -48,8 +48,27 @@ struct Row<'a> {
     /// The visit's shared continuity offset (leads not nulled), taken off its continuity
     /// readings; 0 at most visits.
     offset: f64,
-    /// Ze at the circuit's board at that visit (Zdb for a sub-board), else at the origin.
+    /// Ze at the circuit's board at that visit, on the basis [`Index::board_ze`] names.
     ze: Option<f64>,
+    how: ZeHow,
+    /// The board the lineage's circuit was on at that visit.
+    board_id: i64,
+}
+
+/// How the Ze a circuit's loop is built on was found at its board (BS 7671 Part 6: at a
+/// distribution board fed from another, the loop impedance at its incoming terminals, Zdb,
+/// takes the place of Ze; common practice, no source, for the sum when Zdb was not measured).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub(super) enum ZeHow {
+    /// At the origin: Ze measured there (or the visit's Ze).
+    Origin,
+    /// Zdb measured at the circuit's own board, fed from another.
+    Zdb,
+    /// The feeding board's Ze (or Zdb) plus the sub-main's R1+R2.
+    SubMain { submain_ohm: f64 },
+    /// Neither Zdb nor the sub-main's R1+R2 recorded at the board: the feeding board's figure
+    /// alone, which leaves the sub-main out.
+    LeavesOutSubMain,
 }
 
 /// A resistance reading as a point: normalised to 20 °C when the ambient is known.
@@ -100,6 +119,8 @@ fn event_words(
     match (field, old, new) {
         (Some(f), Some(o), Some(n)) if f != "circuit" => format!("{what}: {f} {o} → {n}"),
         (_, Some(o), Some(n)) => format!("{what}: {o} → {n}"),
+        // A circuit the register lacked, added at a visit (`Store::add_circuit_at_visit`).
+        (Some("circuit"), None, Some(n)) => format!("{n} added to the register"),
         _ => what,
     }
 }
@@ -110,8 +131,10 @@ pub(super) struct Index<'a> {
     boards: HashMap<i64, &'a Board>,
     pub(super) visits: HashMap<i64, &'a Visit>,
     pub(super) records: HashMap<i64, Vec<&'a TestRecord>>,
-    /// Ze measured at a board at a visit: (visit_id, board_id) → Ω.
-    board_ze: HashMap<(i64, i64), f64>,
+    /// What was measured at a board at a visit: (visit_id, board_id) → the board test.
+    board_tests: HashMap<(i64, i64), &'a BoardTest>,
+    /// A property's boards by designation, for the board feeding a sub-board.
+    by_designation: HashMap<&'a str, &'a Board>,
     changes: HashMap<i64, Vec<&'a CircuitChange>>,
     /// Visits whose continuity readings sit high by a shared amount (leads not nulled), Ω.
     offsets: HashMap<i64, f64>,
@@ -135,13 +158,81 @@ impl<'a> Index<'a> {
             boards: h.boards.iter().map(|b| (b.id, b)).collect(),
             visits: h.visits.iter().map(|v| (v.id, v)).collect(),
             records,
-            board_ze: h
+            board_tests: h
                 .board_tests
                 .iter()
-                .filter_map(|t| t.2.map(|z| ((t.0, t.1), z)))
+                .map(|t| ((t.visit_id, t.board_id), t))
+                .collect(),
+            by_designation: h
+                .boards
+                .iter()
+                .map(|b| (b.designation.as_str(), b))
                 .collect(),
             changes,
             offsets: offsets.iter().map(|o| (o.visit_id, o.offset_ohm)).collect(),
+        }
+    }
+}
+
+impl Index<'_> {
+    /// A board's feeding board, when it has one in the register.
+    fn parent(&self, board_id: i64) -> Option<&Board> {
+        let b = self.boards.get(&board_id)?;
+        let p = self.by_designation.get(b.fed_from.as_deref()?)?;
+        (p.id != board_id).then_some(*p)
+    }
+
+    /// Ze at a board at a visit and how it was found: at the origin, Ze measured there or the
+    /// visit's; at a board fed from another, Zdb when recorded (a Ze recorded at that board is
+    /// its Zdb), else the feeding board's figure plus the sub-main's R1+R2, else the feeding
+    /// board's figure alone, which leaves the sub-main out.
+    pub(super) fn board_ze(&self, visit: &Visit, board_id: i64) -> (Option<f64>, ZeHow) {
+        self.board_ze_at(visit, board_id, 0)
+    }
+
+    fn board_ze_at(&self, visit: &Visit, board_id: i64, depth: u8) -> (Option<f64>, ZeHow) {
+        let test = self.board_tests.get(&(visit.id, board_id));
+        let parent = self.parent(board_id).filter(|_| depth < 8);
+        let Some(parent) = parent else {
+            return (test.and_then(|t| t.ze_ohm).or(visit.ze_ohm), ZeHow::Origin);
+        };
+        if let Some(z) = test.and_then(|t| t.zdb_ohm.or(t.ze_ohm)) {
+            return (Some(z), ZeHow::Zdb);
+        }
+        let (up, up_how) = self.board_ze_at(visit, parent.id, depth + 1);
+        match (up, test.and_then(|t| t.submain_r1r2_ohm)) {
+            (Some(u), Some(sm)) if up_how != ZeHow::LeavesOutSubMain => {
+                (Some(u + sm), ZeHow::SubMain { submain_ohm: sm })
+            }
+            (up, _) => (up, ZeHow::LeavesOutSubMain),
+        }
+    }
+
+    /// The words of [`Self::board_ze`]'s figure: "Ze 0.28 Ω at the origin", "Zdb 0.41 Ω
+    /// measured at DB2", "Ze 0.28 Ω at the origin + sub-main R1+R2 0.10 Ω".
+    pub(super) fn board_ze_words(&self, visit: &Visit, board_id: i64) -> String {
+        self.words_at(visit, board_id, 0)
+    }
+
+    fn words_at(&self, visit: &Visit, board_id: i64, depth: u8) -> String {
+        let (ze, how) = self.board_ze_at(visit, board_id, depth);
+        let ze = ze.unwrap_or_default();
+        let name = self
+            .boards
+            .get(&board_id)
+            .map_or("?", |b| b.designation.as_str());
+        let up = || {
+            self.parent(board_id)
+                .map(|p| self.words_at(visit, p.id, depth + 1))
+                .unwrap_or_default()
+        };
+        match how {
+            ZeHow::Origin => format!("Ze {ze:.2} Ω at the origin"),
+            ZeHow::Zdb => format!("Zdb {ze:.2} Ω measured at {name}"),
+            ZeHow::SubMain { submain_ohm } => {
+                format!("{} + sub-main R1+R2 {submain_ohm:.2} Ω", up())
+            }
+            ZeHow::LeavesOutSubMain => up(),
         }
     }
 }
@@ -371,13 +462,15 @@ pub(super) fn circuit_analysis(
             })
             .filter_map(|(x, r)| {
                 let visit = idx.visits.get(&r.visit_id)?;
-                let ze_board = idx.board_ze.get(&(r.visit_id, x.board_id)).copied();
+                let (ze, how) = idx.board_ze(visit, x.board_id);
                 Some((
                     Row {
                         visit,
                         readings: &r.readings,
                         offset: idx.offsets.get(&r.visit_id).copied().unwrap_or(0.0),
-                        ze: ze_board.or(visit.ze_ohm),
+                        ze,
+                        how,
+                        board_id: x.board_id,
                     },
                     r.circuit_id,
                 ))
@@ -517,6 +610,8 @@ pub(super) fn circuit_analysis(
     // Zs: measured where it was, otherwise Ze + R1+R2. Only the circuit's own part is
     // corrected for temperature; Ze is the supply's.
     let mut derived = 0;
+    // Derived points at a board fed from another: (row, R1+R2 used), for the basis sentence.
+    let mut at_sub_board: Vec<(&Row, f64)> = Vec::new();
     let zs_points: Vec<Point> = rows
         .iter()
         .filter_map(|r| {
@@ -529,6 +624,9 @@ pub(super) fn circuit_analysis(
                 }
                 (None, Some(ze), Some(r12)) => {
                     derived += 1;
+                    if r.how != ZeHow::Origin {
+                        at_sub_board.push((r, r12));
+                    }
                     (ze + r12, r12, ze)
                 }
                 _ => return None,
@@ -564,6 +662,7 @@ pub(super) fn circuit_analysis(
         loop_source.as_ref(),
         &mut notes,
     );
+
     run(
         Quantity::R1r2,
         "r1r2",
@@ -724,6 +823,8 @@ pub(super) fn circuit_analysis(
             &mut notes,
         );
     }
+
+    sub_board_zs(idx, &mut out, &at_sub_board, rows.last(), &mut notes);
 
     let last = rows.last();
     let mut findings: Vec<(usize, Finding)> = Vec::new();
@@ -902,6 +1003,60 @@ pub(super) fn circuit_analysis(
         flags,
         notes,
     }
+}
+
+/// A Zs worked out as Ze + R1+R2 on a board fed from another says what it is built on: each
+/// of its findings resting on such a point gets the sum in words, and when the last such
+/// point left the sub-main out (no Zdb, no sub-main R1+R2) the circuit gets a note saying so.
+fn sub_board_zs(
+    idx: &Index,
+    out: &mut [SeriesAnalysis],
+    at_sub_board: &[(&Row, f64)],
+    last: Option<&Row>,
+    notes: &mut Vec<String>,
+) {
+    if at_sub_board.is_empty() {
+        return;
+    }
+    let words = |r: &Row, r12: f64| {
+        let ze = r.ze.unwrap_or_default();
+        let base = idx.board_ze_words(r.visit, r.board_id);
+        match r.how {
+            ZeHow::LeavesOutSubMain => format!(
+                "Zs here leaves out the sub-main: no Zdb and no sub-main R1+R2 recorded at {} on {}, so it is {base} + R1+R2 {r12:.2} Ω = {:.2} Ω, and the true Zs is higher",
+                board_name(idx, r.board_id),
+                r.visit.date,
+                ze + r12
+            ),
+            _ => format!(
+                "Zs here is {base} + R1+R2 {r12:.2} Ω = {:.2} Ω (Zs not measured)",
+                ze + r12
+            ),
+        }
+    };
+    if let Some(zs) = out.iter_mut().find(|s| s.quantity == "zs") {
+        for f in &mut zs.report.findings {
+            if let Some(&(r, r12)) = at_sub_board.iter().find(|(r, _)| r.visit.date == f.date) {
+                let end = f.sentence.trim_end_matches('.').len();
+                f.sentence.truncate(end);
+                f.sentence.push_str("; ");
+                f.sentence.push_str(&words(r, r12));
+                f.sentence.push('.');
+            }
+        }
+    }
+    if let (Some(&(r, r12)), Some(l)) = (at_sub_board.last(), last)
+        && r.visit.date == l.visit.date
+        && r.how == ZeHow::LeavesOutSubMain
+    {
+        notes.push(format!("{}.", words(r, r12)));
+    }
+}
+
+fn board_name<'a>(idx: &'a Index, board_id: i64) -> &'a str {
+    idx.boards
+        .get(&board_id)
+        .map_or("?", |b| b.designation.as_str())
 }
 
 /// R1+Rn / R1+R2 for sound copper conductors of the recorded sizes (IEC 60228 resistances).

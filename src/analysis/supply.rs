@@ -27,8 +27,8 @@ pub(super) fn supply_series(
             let at_board = origin_id.and_then(|id| {
                 h.board_tests
                     .iter()
-                    .find(|t| t.0 == v.id && t.1 == id)
-                    .and_then(|t| t.2)
+                    .find(|t| t.visit_id == v.id && t.board_id == id)
+                    .and_then(|t| t.ze_ohm)
             });
             at_board
                 .or(v.ze_ohm)
@@ -109,6 +109,48 @@ fn tt_supply_series(
     Some(SeriesAnalysis {
         quantity: "ze",
         label: Cow::Borrowed("Ze at the origin (TT: with the installation's earth electrode)"),
+        basis: Some(Cow::Borrowed(
+            "as measured; judged on a log scale, since an electrode's resistance swings with the seasons",
+        )),
+        limit: None,
+        limit_words: None,
+        limit_source: None,
+        events: Vec::new(),
+        report,
+    })
+}
+
+/// The earth electrode's resistance Ra, as recorded visit by visit (a TT installation's own
+/// electrode, measured on its own): judged on a log scale like a TT Ze, with the same seasonal
+/// floor, and above 200 Ω an electrode that may not be stable is *investigate* (common
+/// practice, the team's reference sheet; BS 7671 Table 41.5, note, from memory).
+pub(super) fn electrode_series(
+    h: &PropertyHistory,
+    horizon: NaiveDate,
+    settings: &Settings,
+) -> Option<SeriesAnalysis> {
+    let points: Vec<Point> = h
+        .visits
+        .iter()
+        .filter_map(|v| {
+            v.supply
+                .ra_ohm
+                .filter(|r| r.is_finite() && *r > 0.0)
+                .map(|r| Point::raw(v.date, r))
+        })
+        .collect();
+    if points.is_empty() {
+        return None;
+    }
+    let mut series = Series::new(Quantity::Ra, points);
+    series.concern = Some(Concern {
+        words: "the level above which an earth electrode's resistance may not be stable (BS 7671 Table 41.5, note)",
+        ..TT_CONCERN
+    });
+    let report = trend::analyse(&series, horizon, &settings.trend).ok()?;
+    Some(SeriesAnalysis {
+        quantity: "ra",
+        label: Cow::Borrowed("Ra, the earth electrode's resistance"),
         basis: Some(Cow::Borrowed(
             "as measured; judged on a log scale, since an electrode's resistance swings with the seasons",
         )),

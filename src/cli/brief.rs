@@ -1,7 +1,7 @@
 use std::io::Write;
 use std::path::PathBuf;
 
-use anyhow::{Context as _, Result, bail};
+use anyhow::{Result, bail};
 use chrono::NaiveDate;
 use clap::Args as ClapArgs;
 
@@ -10,7 +10,7 @@ use ohmtrail::onsite::verdict::expectation_text;
 use ohmtrail::onsite::{self, Brief, DEFAULT_TEMP_C};
 use ohmtrail::trend::LimitKind;
 
-use super::output::table;
+use super::output::{status, table, write_atomic};
 use super::{CAUTION, Context, parse_date, today};
 
 #[derive(ClapArgs, Debug)]
@@ -67,25 +67,36 @@ pub fn run(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
                     path.display()
                 ),
             };
-            std::fs::write(path, body).with_context(|| format!("{}", path.display()))?;
-            writeln!(
+            write_atomic(path, body.as_bytes())?;
+            status(
                 out,
-                "wrote the brief for {} to {}",
-                b.property_ref,
-                path.display()
+                format_args!(
+                    "wrote the brief for {} to {}",
+                    b.property_ref,
+                    path.display()
+                ),
             )?;
             Ok(())
         }
     }
 }
 
+/// The brief as CSV. The caution comes first, once, as a comment line (`# Caution: …`): a
+/// reader told that `#` starts a comment (csv's `comment`, pandas' `comment="#"`, or one that
+/// skips the first line) gets the header and the rows alone. Any cell holding a `#` is quoted,
+/// so no data line can be taken for a comment, nor cut short at one.
 fn csv_text(b: &Brief) -> Result<String> {
-    let mut w = csv::Writer::from_writer(Vec::new());
+    let mut body = format!("# Caution: {CAUTION}\n").into_bytes();
+    let mut w = csv::WriterBuilder::new()
+        .comment(Some(b'#'))
+        .from_writer(&mut body);
     w.write_record(onsite::CSV_HEADER)?;
     for r in onsite::csv_rows(b) {
         w.write_record(&r)?;
     }
-    Ok(String::from_utf8(w.into_inner()?)?)
+    w.flush()?;
+    drop(w);
+    Ok(String::from_utf8(body)?)
 }
 
 fn print_text(b: &Brief, out: &mut dyn Write) -> Result<()> {
@@ -245,11 +256,15 @@ fn print_text(b: &Brief, out: &mut dyn Write) -> Result<()> {
                 ]);
             }
         }
-        table(
-            out,
-            &["CIRCUIT", "QUANTITY", "LAST", "EXPECTED", "BAND", "LIMIT"],
-            rows,
-        )?;
+        if board.circuits.is_empty() {
+            writeln!(out, "  {}", onsite::NO_CIRCUITS)?;
+        } else {
+            table(
+                out,
+                &["CIRCUIT", "QUANTITY", "LAST", "EXPECTED", "BAND", "LIMIT"],
+                rows,
+            )?;
+        }
         for c in &board.circuits {
             if let Some(refs) = onsite::test_first_refs(c) {
                 writeln!(out, "  {}/{}: {refs}", board.designation, c.number)?;

@@ -7,7 +7,7 @@ use clap::Args as ClapArgs;
 use ohmtrail::analysis::Settings;
 use ohmtrail::store::Store;
 
-use super::output::write_atomic;
+use super::output::{status, write_atomic};
 use super::today;
 
 #[derive(ClapArgs, Debug)]
@@ -37,13 +37,17 @@ pub fn run(args: &Args, ctx: &super::Context, out: &mut dyn Write) -> Result<()>
             std::fs::remove_file(&p).with_context(|| format!("cannot remove {}", p.display()))?;
         }
     }
+    // Everything the demo says is a status line (what it built and wrote, what to try next):
+    // gathered here and given on standard error at the end, as other commands that write
+    // files do.
+    let mut msg: Vec<u8> = Vec::new();
     let store = Store::open(&db)?;
     let summary = ohmtrail::demo::build(&store)?;
     if summary.properties.is_empty() {
         bail!("the demo built no properties");
     }
     writeln!(
-        out,
+        msg,
         "built demo database {} ({} properties, {} visits, {} test records)",
         db.display(),
         summary.properties.len(),
@@ -63,15 +67,15 @@ pub fn run(args: &Args, ctx: &super::Context, out: &mut dyn Write) -> Result<()>
         Ok(())
     })?;
     for p in &written {
-        writeln!(out, "wrote trend report {}", p.display())?;
+        writeln!(msg, "wrote trend report {}", p.display())?;
     }
     let index_path = dir.join("portfolio.html");
     write_atomic(
         &index_path,
         ohmtrail::report::portfolio::render(&index).as_bytes(),
     )?;
-    writeln!(out, "wrote portfolio index {}", index_path.display())?;
-    writeln!(out, "open first: {}", index_path.display())?;
+    writeln!(msg, "wrote portfolio index {}", index_path.display())?;
+    writeln!(msg, "open first: {}", index_path.display())?;
     // The next commands, spelled out with the demo's database: a plain `flags` would read the
     // default database, which the demo does not touch.
     let first = summary
@@ -79,13 +83,16 @@ pub fn run(args: &Args, ctx: &super::Context, out: &mut dyn Write) -> Result<()>
         .first()
         .map(String::as_str)
         .unwrap_or("QL-001");
-    writeln!(out, "then try, on the demo's database:")?;
+    writeln!(msg, "then try, on the demo's database:")?;
     for cmd in [
         "flags".to_string(),
         format!("trend {first}"),
         format!("brief {first} --temp 12"),
     ] {
-        writeln!(out, "  ohmtrail --db {} {cmd}", db.display())?;
+        writeln!(msg, "  ohmtrail --db {} {cmd}", db.display())?;
     }
-    Ok(())
+    status(
+        out,
+        format_args!("{}", String::from_utf8_lossy(&msg).trim_end()),
+    )
 }

@@ -8,7 +8,7 @@ use clap::{Args as ClapArgs, ValueEnum};
 use ohmtrail::export::{export_csv, export_json, observation_count};
 
 use super::Context;
-use super::output::{is_special, write_atomic, write_atomic_with};
+use super::output::{is_special, status, write_atomic, write_atomic_with};
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
 pub enum Format {
@@ -55,42 +55,54 @@ pub fn run(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
         }
         (Format::Json, Some(p)) => {
             let n = write_atomic_with(p, |w| Ok(export_json(&store, property, w)?))?;
-            eprintln!(
-                "wrote {} and {} to {}",
-                count(n.test_records, "test record", "test records"),
-                count(n.observations, "observation", "observations"),
-                p.display()
-            );
+            status(
+                out,
+                format_args!(
+                    "wrote {} and {} to {}",
+                    count(n.test_records, "test record", "test records"),
+                    count(n.observations, "observation", "observations"),
+                    p.display()
+                ),
+            )?;
         }
         (Format::Csv, Some(p)) if is_special(p) => {
             // A device or a pipe has no directory of its own to hold a second file beside it.
             let n = write_atomic_with(p, |w| Ok(export_csv(&store, property, w, None)?))?;
-            eprintln!(
-                "wrote {} to {}",
-                count(n.test_records, "test record", "test records"),
-                p.display()
-            );
+            status(
+                out,
+                format_args!(
+                    "wrote {} to {}",
+                    count(n.test_records, "test record", "test records"),
+                    p.display()
+                ),
+            )?;
             let obs = observation_count(&store, property)?;
             if obs > 0 {
-                eprintln!(
-                    "{} not written: {} is not a regular file, so there is no place beside it for {}; pass -o with a regular file to write {}",
-                    count(obs, "observation", "observations"),
-                    p.display(),
-                    if obs == 1 { "it" } else { "them" },
-                    if obs == 1 { "it" } else { "them" }
-                );
+                status(
+                    out,
+                    format_args!(
+                        "{} not written: {} is not a regular file, so there is no place beside it for {}; pass -o with a regular file to write {}",
+                        count(obs, "observation", "observations"),
+                        p.display(),
+                        if obs == 1 { "it" } else { "them" },
+                        if obs == 1 { "it" } else { "them" }
+                    ),
+                )?;
             }
         }
         (Format::Csv, None) => {
             let n = export_csv(&store, property, out, None)?;
             let obs = observation_count(&store, property)?;
             if obs > 0 {
-                eprintln!(
-                    "{} written; {} not written: pass -o FILE to write {} beside the visit file",
-                    count(n.test_records, "test record", "test records"),
-                    count(obs, "observation", "observations"),
-                    if obs == 1 { "it" } else { "them" }
-                );
+                status(
+                    out,
+                    format_args!(
+                        "{} written; {} not written: pass -o FILE to write {} beside the visit file",
+                        count(n.test_records, "test record", "test records"),
+                        count(obs, "observation", "observations"),
+                        if obs == 1 { "it" } else { "them" }
+                    ),
+                )?;
             }
         }
         (Format::Csv, Some(p)) => {
@@ -110,17 +122,23 @@ pub fn run(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
             if has_obs {
                 write_atomic(&obs_path, &obs)?;
             }
-            eprintln!(
-                "wrote {} to {}",
-                count(n.test_records, "test record", "test records"),
-                p.display()
-            );
-            if has_obs {
-                eprintln!(
+            status(
+                out,
+                format_args!(
                     "wrote {} to {}",
-                    count(n.observations, "observation", "observations"),
-                    obs_path.display()
-                );
+                    count(n.test_records, "test record", "test records"),
+                    p.display()
+                ),
+            )?;
+            if has_obs {
+                status(
+                    out,
+                    format_args!(
+                        "wrote {} to {}",
+                        count(n.observations, "observation", "observations"),
+                        obs_path.display()
+                    ),
+                )?;
             }
         }
     }

@@ -8,7 +8,7 @@ use indicatif::{ProgressBar, ProgressStyle};
 
 use ohmtrail::import::{ImportOptions, Summary, import_file};
 
-use super::output::json;
+use super::output::{json, status};
 use super::{Context, today};
 
 /// Import visit files (one row per circuit per visit) or observation files
@@ -76,6 +76,12 @@ pub fn run(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
         }
         if !args.json {
             print_summary(out, &summary)?;
+        }
+        if let Some(p) = &summary.sidecar {
+            status(
+                out,
+                format_args!("{}: rejected rows written to {}", summary.file, p.display()),
+            )?;
         }
         summaries.push(summary);
     }
@@ -180,9 +186,6 @@ fn print_summary(out: &mut dyn Write, s: &Summary) -> Result<()> {
             "  and {} more changes",
             s.changes.len() - CHANGES_SHOWN
         )?;
-    }
-    if let Some(p) = &s.sidecar {
-        writeln!(out, "  rejected rows written to {}", p.display())?;
     }
     Ok(())
 }

@@ -15,6 +15,17 @@ pub fn json<T: Serialize + ?Sized>(out: &mut dyn Write, value: &T) -> Result<()>
     Ok(())
 }
 
+/// A status line: what a command wrote and where, or what it left out. Status lines go to
+/// standard error, so standard output carries only data (a listing, JSON, a report sent to
+/// `-o -`) and a pipe gets nothing else. `out` is flushed first, so on a terminal the lines
+/// come in the order they were made. A status line that cannot be written (standard error
+/// closed) is dropped: the file it would announce is already in place.
+pub fn status(out: &mut dyn Write, line: std::fmt::Arguments) -> Result<()> {
+    out.flush()?;
+    let _ = writeln!(std::io::stderr().lock(), "{line}");
+    Ok(())
+}
+
 /// An aligned plain-text table with a header row.
 pub fn table(out: &mut dyn Write, header: &[&str], rows: Vec<Vec<String>>) -> Result<()> {
     let mut t = Table::new();

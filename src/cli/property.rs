@@ -19,7 +19,7 @@ pub enum Cmd {
         /// The property's postal address, as the landlord's report shows it
         #[arg(long)]
         address: Option<String>,
-        /// Landlord or managing agent; created on first use
+        /// Landlord or managing agent; created on first use, spelled as stored after that (a name differing only in case is refused)
         #[arg(long)]
         client: Option<String>,
         /// Inspection interval in months

@@ -25,8 +25,11 @@ use super::{CAUTION, Context, parse_date, today};
 visit-file columns (ze_ohm with the circuit empty, r1r2_ohm, r1rn_ohm, r2_ohm, ring_r1_ohm, \
 ring_rn_ohm, ring_r2_ohm, zs_ohm, ir_ll_mohm, ir_le_mohm, rcd_5x_ms, rcd_ms) or their short \
 names without the unit as the worklist prints them (ze, r1r2, zs, ir_le, rcd, rcd_5x, ...), plus `device` \
-(the device fitted) and `cable` (live/cpc mm² fitted), and the facts `polarity` (correct or incorrect), \
-`ir_test_v` (250, 500 or 1000) and `rcd_button` (operates or failed). Values as in the visit file: a number with \
+(the device fitted), `cable` (live/cpc mm² fitted) and `add`, which adds a circuit the register does not \
+have, as the interactive session asks for one: `board,circuit,add,what it supplies[,device[,RCD mA]]`, \
+e.g. `CU,7,add,\"Sockets, garage\",B20,30`; its readings follow on lines of their own; and the facts \
+`polarity` (correct or incorrect), `ir_test_v` (250, 500 or 1000) and `rcd_button` (operates or failed). \
+Values as in the visit file: a number with \
 an optional matching unit, >200 or 200+ (over range), LIM, N/A. Each value is stored at once; the visit is completed \
 at the end of the input unless a line was refused or --no-finish is given."
 )]
@@ -48,7 +51,7 @@ pub struct Args {
     /// Carry on with the property's pending visit from the first unanswered prompt
     #[arg(long, conflicts_with = "abandon")]
     pub resume: bool,
-    /// Discard the property's pending visit and everything recorded at it
+    /// Discard the property's pending visit and everything recorded at it, putting the register back as it was (circuits added at it are taken out)
     #[arg(long)]
     pub abandon: bool,
     /// Read `board,circuit,quantity,value` lines from standard input even at a terminal
@@ -71,9 +74,17 @@ pub fn run(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
             bail!("{r} has no pending visit to abandon");
         };
         let a = store.abandon_visit(v.id)?;
+        let removed = if a.circuits_removed > 0 {
+            format!(
+                ", {} added at it taken out of the register",
+                count(a.circuits_removed, "circuit", "circuits")
+            )
+        } else {
+            String::new()
+        };
         writeln!(
             out,
-            "abandoned the pending visit of {} to {r}: {} and {} discarded, {} put back",
+            "abandoned the pending visit of {} to {r}: {} and {} discarded, {} put back{removed}",
             v.date,
             count(a.test_records, "circuit record", "circuit records"),
             count(a.board_readings, "board reading", "board readings"),
@@ -338,6 +349,9 @@ fn run_prompts(
                     .map(|e| format!(" ({e})"))
                     .unwrap_or_default()
             )?;
+            if board.circuits.is_empty() {
+                writeln!(out, "   {}", onsite::NO_CIRCUITS)?;
+            }
             shown = (Some(b), None);
         }
         if let Some(ci) = c
@@ -414,7 +428,7 @@ fn run_prompts(
             }
             Step::NewCircuit { board: bi } => {
                 let board = brief.boards[bi].designation.clone();
-                match ask_new_circuit(store, &r, &board, input, out)? {
+                match ask_new_circuit(store, visit, &r, &board, input, out)? {
                     None => return paused(out, &r, visit),
                     Some(None) => {}
                     Some(Some(id)) => {
@@ -484,10 +498,12 @@ fn say(out: &mut dyn Write, e: &Expectation, entry: &Entry) -> Result<()> {
 }
 
 /// Ask for a circuit on `board` that the register does not have: its number, description,
-/// device and RCD, added to the register as `circuit add` does. `Some(Some(id))` when one was
+/// device and RCD, added to the register as `circuit add` does and recorded on the visit, so
+/// abandoning the visit takes it out again. `Some(Some(id))` when one was
 /// added, `Some(None)` when there is none, `None` at the end of input.
 fn ask_new_circuit(
     store: &Store,
+    visit: &Visit,
     reference: &str,
     board: &str,
     input: &mut dyn BufRead,
@@ -538,16 +554,9 @@ fn ask_new_circuit(
             else {
                 return Ok(None);
             };
-            let t = text.trim().trim_end_matches("mA").trim();
-            if t.is_empty() {
-                break None;
-            }
-            match t.parse::<u16>() {
-                Ok(ma) if ma > 0 => break Some(ma),
-                _ => writeln!(
-                    out,
-                    "   NOT STORED: {text:?} is not a rated residual current: expected whole mA, e.g. 30; try again"
-                )?,
+            match session::parse_rcd_ma(&text) {
+                Ok(ma) => break ma,
+                Err(e) => writeln!(out, "   NOT STORED: {e}; try again")?,
             }
         };
         let details = CircuitDetails {
@@ -556,21 +565,25 @@ fn ask_new_circuit(
             rcd_ma,
             ..Default::default()
         };
-        match store.add_circuit(reference, board, &number, &details) {
+        match store.add_circuit_at_visit(visit.id, reference, board, &number, &details) {
             Ok(c) => {
-                writeln!(
-                    out,
-                    "   added circuit {board}/{} to the register{}",
-                    c.number,
-                    device
-                        .map(|d| format!(" with {d}"))
-                        .unwrap_or_else(|| ", device not recorded".into())
-                )?;
+                writeln!(out, "   {}", added_words(board, &c))?;
                 return Ok(Some(Some(c.id)));
             }
             Err(e) => writeln!(out, "   NOT ADDED: {e}; try again")?,
         }
     }
+}
+
+/// What `record` says when it has added a circuit to the register.
+fn added_words(board: &str, c: &ohmtrail::model::Circuit) -> String {
+    format!(
+        "added circuit {board}/{} to the register{}",
+        c.number,
+        c.device
+            .map(|d| format!(" with {d}"))
+            .unwrap_or_else(|| ", device not recorded".into())
+    )
 }
 
 /// Ask whether the device and cable are as the register says; record a change when not.
@@ -812,6 +825,22 @@ fn apply_line(
                 .join(", ")
         );
     };
+    if let (LineWhat::Add, Some(number), Some(new)) = (line.what, &line.circuit, &line.added) {
+        let c = store.add_circuit_at_visit(
+            visit.id,
+            &brief.property_ref,
+            &board.designation,
+            number,
+            &CircuitDetails {
+                description: new.description.clone(),
+                device: new.device,
+                rcd_ma: new.rcd_ma,
+                ..Default::default()
+            },
+        )?;
+        writeln!(out, "{}", added_words(&board.designation, &c))?;
+        return Ok(Applied::RegisterChanged);
+    }
     let circuit = match &line.circuit {
         None => None,
         Some(n) => Some(
@@ -934,6 +963,7 @@ fn apply_line(
                 Applied::Nothing
             })
         }
+        (LineWhat::Add, Some(_)) => bail!("the circuit to add was not read"),
         (_, None) => bail!("a circuit number is needed"),
     }
 }

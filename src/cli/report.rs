@@ -18,7 +18,7 @@ use clap::{ArgGroup, Args as ClapArgs, ValueEnum};
 use ohmtrail::analysis::Settings;
 use ohmtrail::report::{self, portfolio, property};
 
-use super::output::{is_special, output_dir, write_atomic};
+use super::output::{is_special, output_dir, status, write_atomic};
 use super::{CAUTION, Context, today};
 
 #[derive(ValueEnum, Clone, Copy, Debug, PartialEq, Eq)]
@@ -123,15 +123,20 @@ pub fn run(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
         };
         write_atomic(&target, &body)?;
         if written > 0 {
-            writeln!(
+            status(
                 out,
-                "wrote {written} property report{} in {}",
-                if written == 1 { "" } else { "s" },
-                dir.display()
+                format_args!(
+                    "wrote {written} property report{} in {}",
+                    if written == 1 { "" } else { "s" },
+                    dir.display()
+                ),
             )?;
         }
-        writeln!(out, "wrote portfolio index {}", target.display())?;
-        writeln!(out, "open first: {}", target.display())?;
+        status(
+            out,
+            format_args!("wrote portfolio index {}", target.display()),
+        )?;
+        status(out, format_args!("open first: {}", target.display()))?;
     } else {
         let reference = args
             .property
@@ -143,9 +148,9 @@ pub fn run(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
             Format::Json => json_bytes(&r)?,
         };
         write_atomic(&target, &body)?;
-        writeln!(out, "wrote report {}", target.display())?;
+        status(out, format_args!("wrote report {}", target.display()))?;
     }
-    writeln!(out, "Caution: {CAUTION}")?;
+    status(out, format_args!("Caution: {CAUTION}"))?;
     Ok(())
 }
 

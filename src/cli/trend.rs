@@ -31,6 +31,8 @@ struct TrendOut<'a> {
     visits_without_ambient: &'a [chrono::NaiveDate],
     continuity_offsets: &'a [ohmtrail::analysis::offsets::VisitOffset],
     supply: Option<&'a SeriesAnalysis>,
+    /// Ra, the earth electrode's resistance, where recorded.
+    electrode: Option<&'a SeriesAnalysis>,
     circuits: Vec<&'a CircuitAnalysis>,
 }
 
@@ -79,6 +81,11 @@ pub fn run(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
                 } else {
                     None
                 },
+                electrode: if args.circuit.is_none() {
+                    a.electrode.as_ref()
+                } else {
+                    None
+                },
                 circuits,
             },
         );
@@ -114,11 +121,11 @@ pub fn run(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
     for o in &a.continuity_offsets {
         writeln!(out, "{}", o.note)?;
     }
-    if args.circuit.is_none()
-        && let Some(s) = &a.supply
-    {
-        writeln!(out)?;
-        series(out, "", s)?;
+    if args.circuit.is_none() {
+        for s in a.supply.iter().chain(&a.electrode) {
+            writeln!(out)?;
+            series(out, "", s)?;
+        }
     }
     for c in circuits {
         writeln!(out)?;

@@ -42,6 +42,7 @@ pub fn run(cmd: &Cmd, ctx: &Context, out: &mut dyn Write) -> Result<()> {
                         cell(&v.ze_ohm),
                         v.test_records.to_string(),
                         v.observations.to_string(),
+                        cell(&v.outcome),
                     ]
                 })
                 .collect();
@@ -56,6 +57,7 @@ pub fn run(cmd: &Cmd, ctx: &Context, out: &mut dyn Write) -> Result<()> {
                     "ZE Ω",
                     "CIRCUITS",
                     "OBSERVATIONS",
+                    "OUTCOME (AS RECORDED)",
                 ],
                 rows,
             )?;

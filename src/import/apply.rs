@@ -42,6 +42,8 @@ impl Importer<'_> {
         let board_id = self.board(row, &mut eff)?;
         let circuit = self.circuit(row, board_id, &mut eff)?;
         let visit_id = self.visit(row, &wanted, instrument_id, &mut eff)?;
+        // The board's feed first, so a board fed from another does not give the visit its Ze.
+        self.schedule(row, visit_id, board_id, &mut eff)?;
         self.board_ze(row, visit_id, board_id, &mut eff)?;
         self.register_changes(row, line, &circuit, visit_id, &mut eff)?;
         self.test_record(row, visit_id, circuit.id, &mut eff)?;
@@ -103,6 +105,7 @@ impl Importer<'_> {
                         earthing: e.map(String::from),
                         circuits: HashMap::new(),
                         ambiguous: HashMap::new(),
+                        feed_from_file: None,
                     }
                 }
             };

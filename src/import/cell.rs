@@ -8,9 +8,10 @@ use std::borrow::Cow;
 use chrono::{Datelike, NaiveDate};
 
 use crate::model::{
-    ButtonTest, CircuitKind, Device, Earthing, Insulation, MAX_POINTS, ObservationCode, Polarity,
-    RcdDelay, RcdMarking, RefMethod, validate_breaking_ka, validate_code, validate_csa,
-    validate_ir_test_v, validate_length, validate_points, validate_rcd_ma,
+    Bonding, ButtonTest, CircuitKind, Device, Earthing, Insulation, MAX_POINTS, ObservationCode,
+    Polarity, RcdDelay, RcdMarking, RefMethod, parse_interval_months, validate_breaking_ka,
+    validate_code, validate_csa, validate_ir_test_v, validate_length, validate_points,
+    validate_rcd_ma, validate_u0,
 };
 
 /// Longest cell accepted, in bytes. A longer cell is almost certainly a broken file.
@@ -62,6 +63,23 @@ pub enum Column {
     Note,
     Code,
     Text,
+    // The board's feed and what was measured at the board (per board and visit).
+    FedFrom,
+    ZdbOhm,
+    SubmainR1r2Ohm,
+    PfcKa,
+    // The visit's supply characteristics and main bonding, and its report as recorded.
+    U0V,
+    RaOhm,
+    BondingCsaMm2,
+    BondingWater,
+    BondingGas,
+    BondingOther,
+    ReportRef,
+    Outcome,
+    IntervalMonths,
+    Extent,
+    Limitations,
 }
 
 /// How a column's cells are read.
@@ -89,23 +107,34 @@ pub enum Kind {
     RefMethod,
     /// A whole number of things (points).
     Count,
+    /// Prospective fault current in kA.
     KiloAmps,
+    /// A device's breaking capacity in kA.
+    BreakingKa,
     /// yes or no.
     YesNo,
     /// A short code as recorded (a wiring type, an RCD's identifier): trimmed and checked.
     ShortCode,
     Polarity,
+    /// An insulation test voltage: 250, 500 or 1000 V.
     TestVolts,
     Button,
+    /// A nominal voltage in V.
+    Volts,
+    /// Main bonding continuity: yes, no or none.
+    Bonding,
+    /// An inspection interval: months, or years with the unit.
+    Interval,
 }
 
 impl Column {
     /// Visit-file columns, in the order export writes them.
-    pub const VISIT: [Column; 41] = [
+    pub const VISIT: [Column; 56] = [
         Column::PropertyRef,
         Column::Address,
         Column::Board,
         Column::Earthing,
+        Column::FedFrom,
         Column::Circuit,
         Column::Description,
         Column::Ring,
@@ -128,6 +157,20 @@ impl Column {
         Column::Instrument,
         Column::AmbientC,
         Column::ZeOhm,
+        Column::ZdbOhm,
+        Column::SubmainR1r2Ohm,
+        Column::PfcKa,
+        Column::U0V,
+        Column::RaOhm,
+        Column::BondingCsaMm2,
+        Column::BondingWater,
+        Column::BondingGas,
+        Column::BondingOther,
+        Column::ReportRef,
+        Column::Outcome,
+        Column::IntervalMonths,
+        Column::Extent,
+        Column::Limitations,
         Column::RingR1Ohm,
         Column::RingRnOhm,
         Column::RingR2Ohm,
@@ -214,6 +257,21 @@ impl Column {
             Column::Note => "note",
             Column::Code => "code",
             Column::Text => "text",
+            Column::FedFrom => "fed_from",
+            Column::ZdbOhm => "zdb_ohm",
+            Column::SubmainR1r2Ohm => "submain_r1r2_ohm",
+            Column::PfcKa => "pfc_ka",
+            Column::U0V => "u0_v",
+            Column::RaOhm => "ra_ohm",
+            Column::BondingCsaMm2 => "bonding_csa_mm2",
+            Column::BondingWater => "bonding_water",
+            Column::BondingGas => "bonding_gas",
+            Column::BondingOther => "bonding_other",
+            Column::ReportRef => "report_ref",
+            Column::Outcome => "outcome",
+            Column::IntervalMonths => "interval_months",
+            Column::Extent => "extent",
+            Column::Limitations => "limitations",
         }
     }
 
@@ -235,7 +293,17 @@ impl Column {
             | Column::Inspector
             | Column::Instrument
             | Column::Note
-            | Column::Text => Kind::Text,
+            | Column::Text
+            | Column::FedFrom
+            | Column::ReportRef
+            | Column::Outcome
+            | Column::Extent
+            | Column::Limitations => Kind::Text,
+            Column::PfcKa => Kind::KiloAmps,
+            Column::U0V => Kind::Volts,
+            Column::BondingWater | Column::BondingGas | Column::BondingOther => Kind::Bonding,
+            Column::IntervalMonths => Kind::Interval,
+            Column::BondingCsaMm2 => Kind::Mm2,
             Column::VisitDate => Kind::Date,
             Column::AmbientC => Kind::Celsius,
             Column::Device => Kind::Device,
@@ -253,7 +321,10 @@ impl Column {
             | Column::R1r2Ohm
             | Column::R2Ohm
             | Column::R1rnOhm
-            | Column::ZsOhm => Kind::Ohms,
+            | Column::ZsOhm
+            | Column::ZdbOhm
+            | Column::SubmainR1r2Ohm
+            | Column::RaOhm => Kind::Ohms,
             Column::IrLlMohm | Column::IrLeMohm => Kind::Megohms,
             Column::RcdMs | Column::Rcd5xMs => Kind::Millis,
             Column::Code => Kind::Code,
@@ -261,7 +332,7 @@ impl Column {
             Column::WiringType | Column::RcdId => Kind::ShortCode,
             Column::RefMethod => Kind::RefMethod,
             Column::Points => Kind::Count,
-            Column::BreakingKa => Kind::KiloAmps,
+            Column::BreakingKa => Kind::BreakingKa,
             Column::Afdd => Kind::YesNo,
             Column::Polarity => Kind::Polarity,
             Column::IrTestV => Kind::TestVolts,
@@ -269,9 +340,33 @@ impl Column {
         }
     }
 
-    /// Whether `LIM` (a recorded limitation) is accepted: only for measured quantities.
+    /// Whether `LIM` (a recorded limitation) is accepted: only for a circuit's measured
+    /// quantities (a limitation is kept with the circuit's test record).
     pub fn takes_limitation(self) -> bool {
-        matches!(self.kind(), Kind::Ohms | Kind::Megohms | Kind::Millis)
+        matches!(self.kind(), Kind::Ohms | Kind::Megohms | Kind::Millis) && !self.per_visit()
+    }
+
+    /// Whether the column is about the board or the visit rather than the row's circuit: its
+    /// value must agree on every row of one board (or visit) within a file.
+    pub fn per_visit(self) -> bool {
+        matches!(
+            self,
+            Column::FedFrom
+                | Column::ZdbOhm
+                | Column::SubmainR1r2Ohm
+                | Column::PfcKa
+                | Column::U0V
+                | Column::RaOhm
+                | Column::BondingCsaMm2
+                | Column::BondingWater
+                | Column::BondingGas
+                | Column::BondingOther
+                | Column::ReportRef
+                | Column::Outcome
+                | Column::IntervalMonths
+                | Column::Extent
+                | Column::Limitations
+        )
     }
 }
 
@@ -316,6 +411,9 @@ pub enum Cell {
     Polarity(Polarity),
     Volts(u16),
     Button(ButtonTest),
+    Bonding(Bonding),
+    /// An inspection interval in months.
+    Months(u32),
 }
 
 /// Why a cell was refused. Each message quotes the cell and says what was expected.
@@ -353,6 +451,10 @@ pub enum CellError {
     OverRangeNotAllowed(String),
     #[error("LIM (a limitation) applies only to measured readings, not to this column")]
     LimitationNotAllowed,
+    #[error(
+        "LIM (a limitation) is kept with a circuit's readings, not the board's or the visit's: write the visit's limitations in the limitations column"
+    )]
+    LimitationOfVisit,
     #[error("{0:?} is not a date: expected YYYY-MM-DD or DD/MM/YYYY")]
     NotADate(String),
     #[error("{0:?} is not a date in the calendar")]
@@ -460,6 +562,8 @@ pub fn parse_cell(column: Column, text: &str, opts: &ParseOptions) -> Result<Cel
     if t.eq_ignore_ascii_case("lim") {
         return if column.takes_limitation() {
             Ok(Cell::Limitation)
+        } else if column.per_visit() && matches!(kind, Kind::Ohms | Kind::KiloAmps) {
+            Err(CellError::LimitationOfVisit)
         } else {
             Err(CellError::LimitationNotAllowed)
         };
@@ -529,8 +633,15 @@ pub fn parse_cell(column: Column, text: &str, opts: &ParseOptions) -> Result<Cel
                 .and_then(|n| validate_points(n).map_err(CellError::Value))
                 .map(Cell::Count)
         }
-        Kind::KiloAmps | Kind::TestVolts => {
-            let unit = if kind == Kind::KiloAmps {
+        Kind::Bonding => t
+            .parse::<Bonding>()
+            .map(Cell::Bonding)
+            .map_err(CellError::Value),
+        Kind::Interval => parse_interval_months(t)
+            .map(Cell::Months)
+            .map_err(CellError::Value),
+        Kind::KiloAmps | Kind::BreakingKa | Kind::Volts | Kind::TestVolts => {
+            let unit = if matches!(kind, Kind::KiloAmps | Kind::BreakingKa) {
                 Unit::KiloAmps
             } else {
                 Unit::Volts
@@ -542,19 +653,32 @@ pub fn parse_cell(column: Column, text: &str, opts: &ParseOptions) -> Result<Cel
             if n.over {
                 return Err(CellError::OverRangeNotAllowed(t.to_string()));
             }
-            if kind == Kind::KiloAmps {
-                return validate_breaking_ka(n.value)
+            match kind {
+                Kind::BreakingKa => validate_breaking_ka(n.value)
                     .map(Cell::Number)
-                    .map_err(CellError::Value);
+                    .map_err(CellError::Value),
+                Kind::Volts => validate_u0(n.value)
+                    .map(Cell::Number)
+                    .map_err(CellError::Value),
+                Kind::TestVolts => {
+                    if n.value.fract() != 0.0 || n.value > f64::from(u16::MAX) {
+                        return Err(CellError::Value(format!(
+                            "{t:?} is not an insulation test voltage: expected 250, 500 or 1000 V (BS 7671 Table 64)"
+                        )));
+                    }
+                    validate_ir_test_v(n.value as u16)
+                        .map(Cell::Volts)
+                        .map_err(CellError::Value)
+                }
+                _ => {
+                    if n.value > MAX_KILOAMPS {
+                        return Err(CellError::Value(format!(
+                            "{t:?} is out of range: expected at most {MAX_KILOAMPS} kA for a prospective fault current"
+                        )));
+                    }
+                    Ok(Cell::Number(n.value))
+                }
             }
-            if n.value.fract() != 0.0 || n.value > f64::from(u16::MAX) {
-                return Err(CellError::Value(format!(
-                    "{t:?} is not an insulation test voltage: expected 250, 500 or 1000 V (BS 7671 Table 64)"
-                )));
-            }
-            validate_ir_test_v(n.value as u16)
-                .map(Cell::Volts)
-                .map_err(CellError::Value)
         }
         Kind::RcdMa => {
             let n = parse_quantity(t, Unit::MilliAmps, opts)?;
@@ -674,8 +798,10 @@ impl Unit {
             Unit::SquareMm => "a conductor size in mm² such as 2.5",
             Unit::Metres => "a length in metres such as 24",
             Unit::MilliAmps => "a residual current in mA such as 30",
-            Unit::KiloAmps => "a breaking capacity in kA such as 6",
-            Unit::Volts => "a test voltage of 250, 500 or 1000 V",
+            Unit::KiloAmps => {
+                "a current in kA such as 1.6 (a fault current) or 6 (a breaking capacity)"
+            }
+            Unit::Volts => "a voltage in V such as 230 (U0) or 500 (an insulation test)",
         }
     }
 }
@@ -691,6 +817,8 @@ fn unit_of(s: &str) -> Option<Unit> {
         "°C" | "℃" | "° C" => return Some(Unit::Celsius),
         "mm²" => return Some(Unit::SquareMm),
         "mA" => return Some(Unit::MilliAmps),
+        "kA" => return Some(Unit::KiloAmps),
+        "V" => return Some(Unit::Volts),
         _ => {}
     }
     match s.to_ascii_lowercase().as_str() {
@@ -702,7 +830,7 @@ fn unit_of(s: &str) -> Option<Unit> {
         "m" => Some(Unit::Metres),
         "ma" => Some(Unit::MilliAmps),
         "ka" => Some(Unit::KiloAmps),
-        "v" => Some(Unit::Volts),
+        "v" | "volt" | "volts" => Some(Unit::Volts),
         _ => None,
     }
 }
@@ -886,6 +1014,9 @@ pub const EARLIEST_VISIT: NaiveDate = match NaiveDate::from_ymd_opt(1950, 1, 1) 
 pub const MAX_OHMS: f64 = 2_000.0;
 pub const MAX_MEGOHMS: f64 = 10_000.0;
 pub const MAX_MILLIS: f64 = 5_000.0;
+/// A home's prospective fault current is a few kA (16 kA is the usual rating asked of its
+/// devices); 100 kA is far beyond any supply a visit file describes. Common practice, no source.
+pub const MAX_KILOAMPS: f64 = 100.0;
 
 /// Text of a number as export writes it: the shortest decimal that reads back the same.
 pub fn format_number(v: f64) -> String {
@@ -951,7 +1082,7 @@ mod tests {
             p(Column::ZsOhm, "0.35 kV"),
             Err(CellError::NotANumber { .. })
         ));
-        // Volts are known since the insulation test voltage has its column: a wrong unit.
+        // Volts are a unit (u0_v, ir_test_v), so in an ohm column they are the wrong one.
         assert!(matches!(
             p(Column::ZsOhm, "0.35 V"),
             Err(CellError::WrongUnit { .. })
@@ -1014,6 +1145,33 @@ mod tests {
         assert_eq!(p(Column::RcdId, "-"), Ok(Cell::Missing));
         assert_eq!(p(Column::WiringType, "'-"), Ok(Cell::Text("-".into())));
         assert!(p(Column::RcdId, &"R".repeat(41)).is_err());
+    }
+
+    #[test]
+    fn the_schedule_s_own_cells_read_with_their_units() {
+        // Common practice, no source: a schedule writes U0 as 230 V, the prospective fault
+        // current in kA, the interval in years or months, bonding continuity as yes / no.
+        assert_eq!(p(Column::U0V, "230 V"), Ok(Cell::Number(230.0)));
+        assert_eq!(p(Column::U0V, "230"), Ok(Cell::Number(230.0)));
+        assert_eq!(p(Column::PfcKa, "1.6kA"), Ok(Cell::Number(1.6)));
+        assert_eq!(p(Column::IntervalMonths, "5 years"), Ok(Cell::Months(60)));
+        assert_eq!(p(Column::IntervalMonths, "N/A"), Ok(Cell::Missing));
+        assert_eq!(
+            p(Column::BondingGas, "No"),
+            Ok(Cell::Bonding(crate::model::Bonding::No))
+        );
+        assert_eq!(p(Column::RaOhm, "85 Ω"), Ok(Cell::Number(85.0)));
+        assert_eq!(
+            p(Column::Outcome, "Unsatisfactory"),
+            Ok(Cell::Text("Unsatisfactory".into()))
+        );
+        assert!(matches!(p(Column::PfcKa, "101"), Err(CellError::Value(_))));
+        assert!(matches!(
+            p(Column::PfcKa, "1.6 mA"),
+            Err(CellError::WrongUnit { .. })
+        ));
+        assert_eq!(p(Column::ZdbOhm, "LIM"), Err(CellError::LimitationOfVisit));
+        assert_eq!(p(Column::U0V, "LIM"), Err(CellError::LimitationNotAllowed));
     }
 
     #[test]

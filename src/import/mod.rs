@@ -13,6 +13,7 @@ mod reading;
 mod register;
 mod rejected;
 pub mod row;
+mod schedule;
 mod source;
 mod state;
 

@@ -5,7 +5,7 @@ use chrono::NaiveDate;
 use super::cell::{Cell, CellError, Column, ParseOptions, parse_cell};
 use crate::model::{
     CircuitKind, Device, Earthing, Insulation, Megohms, ObservationCode, RcdDelay, RcdType,
-    Readings, RefMethod,
+    Readings, RefMethod, SupplyRecord, VisitReport,
 };
 
 /// The two kinds of file, told apart by their header.
@@ -229,6 +229,16 @@ pub struct RowRegister {
     pub rcd_id: Option<String>,
 }
 
+/// What a row says about its board at the visit: the board feeding it, and Zdb, the
+/// sub-main's R1+R2 and the prospective fault current measured there.
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct RowBoard {
+    pub fed_from: Option<String>,
+    pub zdb_ohm: Option<f64>,
+    pub submain_r1r2_ohm: Option<f64>,
+    pub pfc_ka: Option<f64>,
+}
+
 /// One row of a visit file.
 #[derive(Debug, Clone, PartialEq)]
 pub struct VisitRow {
@@ -243,6 +253,10 @@ pub struct VisitRow {
     pub instrument: Option<String>,
     pub ambient_c: Option<f64>,
     pub ze_ohm: Option<f64>,
+    pub board_test: RowBoard,
+    /// The visit's report as recorded, and its supply characteristics and main bonding.
+    pub report: VisitReport,
+    pub supply: SupplyRecord,
     pub readings: Readings,
 }
 
@@ -338,6 +352,9 @@ pub fn parse_visit_row(
         instrument: None,
         ambient_c: None,
         ze_ohm: None,
+        board_test: RowBoard::default(),
+        report: VisitReport::default(),
+        supply: SupplyRecord::default(),
         readings: Readings::default(),
     };
     let mut limitations: Vec<Column> = Vec::new();
@@ -467,8 +484,45 @@ pub fn parse_visit_row(
                     r.rcd_button = Some(b);
                 }
             }
+            Column::FedFrom => row.board_test.fed_from = text().map(|t| t.trim().to_string()),
+            Column::ZdbOhm => row.board_test.zdb_ohm = num,
+            Column::SubmainR1r2Ohm => row.board_test.submain_r1r2_ohm = num,
+            Column::PfcKa => row.board_test.pfc_ka = num,
+            Column::U0V => row.supply.u0_v = num,
+            Column::RaOhm => row.supply.ra_ohm = num,
+            Column::BondingCsaMm2 => row.supply.bonding_csa_mm2 = num,
+            Column::BondingWater | Column::BondingGas | Column::BondingOther => {
+                if let Cell::Bonding(b) = cell {
+                    match col {
+                        Column::BondingWater => row.supply.bonding_water = Some(b),
+                        Column::BondingGas => row.supply.bonding_gas = Some(b),
+                        _ => row.supply.bonding_other = Some(b),
+                    }
+                }
+            }
+            Column::ReportRef => row.report.report_ref = text().map(|t| t.trim().to_string()),
+            Column::Outcome => row.report.outcome = text(),
+            Column::IntervalMonths => {
+                if let Cell::Months(m) = cell {
+                    row.report.interval_months = Some(m);
+                }
+            }
+            Column::Extent => row.report.extent = text(),
+            Column::Limitations => row.report.limitations = text(),
             Column::Code | Column::Text => {}
         }
+    }
+    if let Some(f) = &row.board_test.fed_from
+        && f.eq_ignore_ascii_case(&row.board)
+    {
+        return Err(vec![FieldError::new(
+            header.position(Column::FedFrom).unwrap_or(1),
+            Some("fed_from"),
+            format!(
+                "board {} cannot be fed from itself: expected the designation of the board feeding it, or empty at the origin",
+                row.board
+            ),
+        )]);
     }
     match (marked_delay, row.register.rcd_delay) {
         (Some(a), Some(b)) if a != b => {

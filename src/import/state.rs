@@ -32,6 +32,8 @@ pub(super) struct BoardState {
     /// Numbers that two stored circuits share once read as import reads them (`1` and `01`
     /// stored before numbers were normalised), with the stored numbers: rows cannot say which.
     pub(super) ambiguous: HashMap<String, Vec<String>>,
+    /// The board feeding it as a row of this file gave it.
+    pub(super) feed_from_file: Option<String>,
 }
 
 pub(super) struct VisitState {
@@ -45,6 +47,9 @@ pub(super) struct VisitState {
     pub(super) from_file: [bool; 3],
     /// Boards whose Ze a row of this file set.
     pub(super) ze_from_file: HashSet<i64>,
+    /// The visit's report, supply and board measurements as stored and as this file set them,
+    /// read when a row first gives one (most files give none).
+    pub(super) recorded: Option<Box<super::schedule::Recorded>>,
 }
 
 pub(super) struct PropertyState {
@@ -174,6 +179,7 @@ pub(super) fn stored_board(s: &Store, b: IngestBoard) -> RowResult<BoardState> {
         earthing: b.earthing,
         circuits,
         ambiguous,
+        feed_from_file: None,
     })
 }
 
@@ -217,6 +223,7 @@ pub(super) fn visit_state<'a>(
                 written: HashSet::new(),
                 from_file: [false; 3],
                 ze_from_file: HashSet::new(),
+                recorded: None,
             },
             None => {
                 let id = s.ingest_insert_visit(p.id, date, wanted, instrument_id)?;
@@ -232,6 +239,7 @@ pub(super) fn visit_state<'a>(
                     written: HashSet::new(),
                     from_file: [false; 3],
                     ze_from_file: HashSet::new(),
+                    recorded: None,
                 }
             }
         };

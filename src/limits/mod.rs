@@ -12,6 +12,7 @@
 //! - [`temperature`]: normalising a resistance to 20 °C and back.
 //! - [`ir`], [`rcd`], [`supply`]: insulation resistance minima, RCD times, typical Ze.
 
+pub mod bonding;
 pub mod conductors;
 pub mod fault;
 pub mod ir;
@@ -22,6 +23,7 @@ pub mod supply;
 pub mod temperature;
 pub mod zs;
 
+pub use bonding::{BondingMinimum, min_main_bonding};
 pub use conductors::{
     Cable, PerMetre, RadialExpectation, RingCheck, RingExpectation, RingFinding, RingFindingKind,
     RingReadings, RingTolerance, check_ring, copper_mohm_per_m, expected_radial, expected_ring,

@@ -369,6 +369,146 @@ pub struct Visit {
     /// Prospective fault current at the origin, kA.
     pub pfc_ka: Option<f64>,
     pub state: VisitState,
+    /// The report as the inspector recorded it (reference, outcome, interval, extent).
+    #[serde(flatten)]
+    pub report: VisitReport,
+    /// The supply characteristics and main bonding recorded at the origin.
+    #[serde(flatten)]
+    pub supply: SupplyRecord,
+}
+
+/// A visit's report as the inspector recorded it. ohmtrail assigns none of it: the overall
+/// outcome is kept in the inspector's own words and shown as theirs.
+#[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
+pub struct VisitReport {
+    /// The report's own reference number.
+    pub report_ref: Option<String>,
+    /// The overall outcome as recorded (e.g. Satisfactory, Unsatisfactory).
+    pub outcome: Option<String>,
+    /// The interval to the next inspection the inspector recommended, in months.
+    pub interval_months: Option<u32>,
+    /// The extent of the installation covered by the report.
+    pub extent: Option<String>,
+    /// The limitations agreed for the inspection.
+    pub limitations: Option<String>,
+}
+
+/// The supply characteristics and main protective bonding recorded at a visit (Ze and the
+/// prospective fault current are the visit's own fields).
+#[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
+pub struct SupplyRecord {
+    /// Nominal voltage to earth U0, V.
+    pub u0_v: Option<f64>,
+    /// Earth electrode resistance Ra of a TT installation, Ω.
+    pub ra_ohm: Option<f64>,
+    /// Main protective bonding conductor csa, mm².
+    pub bonding_csa_mm2: Option<f64>,
+    /// Main bonding continuity to the water service.
+    pub bonding_water: Option<Bonding>,
+    /// Main bonding continuity to the gas service.
+    pub bonding_gas: Option<Bonding>,
+    /// Main bonding continuity to other services (oil, structural steel, ...).
+    pub bonding_other: Option<Bonding>,
+}
+
+/// Whether the continuity of a main bonding connection to a service was confirmed.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Bonding {
+    /// Continuity confirmed.
+    Yes,
+    /// Continuity not confirmed (absent, disconnected or not verified).
+    No,
+    /// No such service to bond.
+    None,
+}
+
+impl Bonding {
+    pub fn as_str(self) -> &'static str {
+        match self {
+            Bonding::Yes => "yes",
+            Bonding::No => "no",
+            Bonding::None => "none",
+        }
+    }
+}
+
+impl FromStr for Bonding {
+    type Err = String;
+    fn from_str(s: &str) -> Result<Self, String> {
+        match s.trim().to_ascii_lowercase().as_str() {
+            "yes" | "y" | "ok" | "confirmed" | "\u{2713}" => Ok(Bonding::Yes),
+            "no" | "n" | "not confirmed" | "\u{2717}" => Ok(Bonding::No),
+            "none" | "no service" => Ok(Bonding::None),
+            _ => Err(format!(
+                "unknown bonding continuity {s:?}: expected yes (confirmed), no (not confirmed) or none (no such service)"
+            )),
+        }
+    }
+}
+
+/// Read an inspection interval as months: a whole number of months (`60`, `60 months`) or
+/// of years (`5 years`, `5 yr`), from 1 month to 10 years.
+pub fn parse_interval_months(s: &str) -> Result<u32, String> {
+    let t = s.trim().to_ascii_lowercase();
+    let bad = || {
+        format!(
+            "interval {s:?} is not an interval: expected whole months or years, such as 60, 60 months or 5 years"
+        )
+    };
+    let split = t.find(|c: char| !c.is_ascii_digit()).unwrap_or(t.len());
+    let (digits, unit) = t.split_at(split);
+    if digits.is_empty() || digits.len() > 4 {
+        return Err(bad());
+    }
+    let n: u32 = digits.parse().map_err(|_| bad())?;
+    let months = match unit.trim() {
+        "" | "m" | "mo" | "month" | "months" => n,
+        "y" | "yr" | "yrs" | "year" | "years" => n * 12,
+        _ => return Err(bad()),
+    };
+    if !(1..=120).contains(&months) {
+        return Err(format!(
+            "interval {s:?} is out of range: expected 1 month to 10 years (120 months)"
+        ));
+    }
+    Ok(months)
+}
+
+/// Check a recorded nominal voltage U0 in volts.
+pub fn validate_u0(v: f64) -> Result<f64, String> {
+    if !v.is_finite() || !(1.0..=1000.0).contains(&v) {
+        return Err(format!(
+            "U0 {v} V is out of range: expected a nominal voltage to earth such as 230 V (1 to 1000 V)"
+        ));
+    }
+    Ok(v)
+}
+
+/// Check a visit's recorded outcome: kept as written, but not empty.
+pub fn validate_outcome(text: &str) -> Result<&str, String> {
+    if text.trim().is_empty() {
+        return Err(
+            "outcome is empty: give the overall outcome as the inspector recorded it".into(),
+        );
+    }
+    check_text("outcome", text)?;
+    Ok(text)
+}
+
+/// What was measured at one board at one visit: Ze (at a sub-board, the loop impedance at
+/// its incoming terminals), the prospective fault current, and at a board fed from another,
+/// Zdb and the sub-main's R1+R2.
+#[derive(Debug, Clone, Copy, Default, PartialEq, Serialize, Deserialize)]
+pub struct BoardTest {
+    pub visit_id: i64,
+    pub board_id: i64,
+    pub ze_ohm: Option<f64>,
+    pub pfc_ka: Option<f64>,
+    /// Zdb: the earth fault loop impedance measured at a sub-board's incoming terminals, Ω.
+    pub zdb_ohm: Option<f64>,
+    /// R1+R2 of the sub-main feeding the board, Ω.
+    pub submain_r1r2_ohm: Option<f64>,
 }
 
 /// An insulation resistance reading. An over-range reading (`>200`) is a lower bound only.
@@ -648,6 +788,54 @@ mod tests {
                 .unwrap_err()
                 .contains("general or S")
         );
+    }
+
+    #[test]
+    fn intervals_read_as_months() {
+        // The longest interval for a private rented home in England is 5 years (The Electrical
+        // Safety Standards in the Private Rented Sector (England) Regulations 2020, reg. 3);
+        // 5 years = 60 months, 10 years = 120 months (arithmetic).
+        for (text, months) in [
+            ("60", 60),
+            ("60 months", 60),
+            ("5 years", 60),
+            ("5 Years", 60),
+            ("5yr", 60),
+            (" 1 year ", 12),
+            ("10 years", 120),
+            ("6 months", 6),
+        ] {
+            assert_eq!(parse_interval_months(text), Ok(months), "{text}");
+        }
+        for bad in [
+            "",
+            "five years",
+            "0",
+            "11 years",
+            "121",
+            "5 weeks",
+            "-5",
+            "5.5 years",
+            "99999999999",
+        ] {
+            assert!(parse_interval_months(bad).is_err(), "{bad}");
+        }
+    }
+
+    #[test]
+    fn bonding_and_outcome_are_read_as_recorded() {
+        // Main bonding continuity is confirmed, not confirmed, or there is no such service
+        // (common practice, no source).
+        assert_eq!("Yes".parse::<Bonding>(), Ok(Bonding::Yes));
+        assert_eq!("no".parse::<Bonding>(), Ok(Bonding::No));
+        assert_eq!("none".parse::<Bonding>(), Ok(Bonding::None));
+        assert!("maybe".parse::<Bonding>().is_err());
+        assert_eq!(validate_outcome("Unsatisfactory"), Ok("Unsatisfactory"));
+        assert!(validate_outcome("  ").is_err());
+        assert!(validate_outcome("Sat\u{1b}[2J").is_err());
+        assert!(validate_u0(230.0).is_ok());
+        assert!(validate_u0(0.0).is_err());
+        assert!(validate_u0(f64::NAN).is_err());
     }
 
     #[test]

@@ -18,6 +18,11 @@ use crate::trend::{LimitKind, TrendConfig};
 /// Stated on every brief that uses it.
 pub const DEFAULT_TEMP_C: f64 = 15.0;
 
+/// What the brief says of a board whose register has no circuits yet (a first visit, or a
+/// sub-board added without them): it is listed all the same, so `record` walks it.
+pub const NO_CIRCUITS: &str =
+    "no circuits recorded on this board: note those found on site (record asks for them)";
+
 /// The last reading of a quantity.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct LastReading {
@@ -227,9 +232,6 @@ pub fn brief(
                 )
             })
             .collect::<Vec<_>>();
-        if circuits.is_empty() && !origin {
-            continue;
-        }
         boards.push(BoardBrief {
             board_id: b.id,
             designation: b.designation.clone(),

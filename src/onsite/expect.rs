@@ -56,7 +56,7 @@ pub fn reading_sigma(q: Quantity, value: f64) -> f64 {
         }
         // Seasonal swing on a log scale: natural-log amplitude to decades, as a standard
         // deviation of a sine's value (amplitude / √2), with the year-to-year wetness.
-        Quantity::ZeTt => {
+        Quantity::ZeTt | Quantity::Ra => {
             let ln = ((n::TT_SEASON_LOG / 2f64.sqrt()).powi(2) + n::TT_YEAR_SIGMA.powi(2)).sqrt();
             return ln / std::f64::consts::LN_10;
         }

@@ -16,7 +16,7 @@ pub mod session;
 pub mod verdict;
 
 pub use brief::{
-    Band, BoardBrief, Brief, CircuitBrief, DEFAULT_TEMP_C, Expectation, LimitAt, brief,
+    Band, BoardBrief, Brief, CircuitBrief, DEFAULT_TEMP_C, Expectation, LimitAt, NO_CIRCUITS, brief,
 };
 pub use entry::{Entry, EntryError, Field, Unit, parse_entry};
 pub use verdict::{Judgement, Verdict, judge};

@@ -262,6 +262,34 @@ pub enum LineWhat {
     Device,
     /// The cable fitted, as live/cpc, recorded as a cable replacement when it differs.
     Cable,
+    /// A circuit the register does not have, to be added: the value is what it supplies, and
+    /// two more fields may give its device and its RCD's IΔn (`Line::added`).
+    Add,
+}
+
+/// A circuit to add, as a line of the non-interactive mode gives it: what the interactive
+/// session asks for one (what it supplies, the device, the RCD), each optional.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct NewCircuit {
+    pub description: Option<String>,
+    pub device: Option<Device>,
+    pub rcd_ma: Option<u16>,
+}
+
+/// The rated residual current of the RCD protecting a circuit, as typed: whole mA with an
+/// optional `mA`; empty means none.
+pub fn parse_rcd_ma(text: &str) -> Result<Option<u16>, String> {
+    let t = text.trim().trim_end_matches("mA").trim();
+    if t.is_empty() {
+        return Ok(None);
+    }
+    match t.parse::<u16>() {
+        Ok(ma) if ma > 0 => Ok(Some(ma)),
+        _ => Err(format!(
+            "{:?} is not a rated residual current: expected whole mA, e.g. 30",
+            text.trim()
+        )),
+    }
 }
 
 /// One `board,circuit,quantity,value` line.
@@ -273,6 +301,8 @@ pub struct Line {
     pub circuit: Option<String>,
     pub what: LineWhat,
     pub value: String,
+    /// The circuit to add, for an `add` line.
+    pub added: Option<NewCircuit>,
 }
 
 /// A line that could not be read; the message names the line and what is expected.
@@ -283,13 +313,13 @@ pub struct LineError {
     pub message: String,
 }
 
-/// Quantity names a line may carry: the visit-file columns, and `device` and `cable`.
+/// Quantity names a line may carry: the visit-file columns, `device`, `cable` and `add`.
 pub fn line_quantities() -> Vec<&'static str> {
     std::iter::once(Field::Ze)
         .chain(Field::CIRCUIT)
         .map(|f| f.column())
         .chain(Fact::ALL.map(Fact::column))
-        .chain(["device", "cable"])
+        .chain(["device", "cable", "add"])
         .collect()
 }
 
@@ -315,7 +345,14 @@ pub fn parse_line(number: usize, fields: &[&str]) -> Result<Option<Line>, LineEr
     if lower == ["board", "circuit", "quantity", "value"] {
         return Ok(None);
     }
-    if fields.len() != 4 {
+    let adding = lower.get(2).is_some_and(|q| q == "add");
+    if adding && !(4..=6).contains(&fields.len()) {
+        return Err(err(format!(
+            "{} fields: expected 4 to 6, board,circuit,add,description[,device[,rcd_ma]]",
+            fields.len()
+        )));
+    }
+    if !adding && fields.len() != 4 {
         return Err(err(format!(
             "{} fields: expected 4, board,circuit,quantity,value",
             fields.len()
@@ -323,7 +360,10 @@ pub fn parse_line(number: usize, fields: &[&str]) -> Result<Option<Line>, LineEr
     }
     // As import refuses them in a cell: echoed or stored, an escape sequence would act on the
     // terminal.
-    for (name, text) in ["board", "circuit", "quantity", "value"].iter().zip(fields) {
+    for (name, text) in ["board", "circuit", "quantity", "value", "device", "rcd_ma"]
+        .iter()
+        .zip(fields)
+    {
         crate::model::check_text(&format!("the {name}"), text).map_err(err)?;
     }
     let board = fields[0].trim();
@@ -337,6 +377,7 @@ pub fn parse_line(number: usize, fields: &[&str]) -> Result<Option<Line>, LineEr
     let what = match q {
         "device" => LineWhat::Device,
         "cable" => LineWhat::Cable,
+        "add" => LineWhat::Add,
         _ if let Some(f) = Fact::ALL.into_iter().find(|f| f.column() == q) => LineWhat::Fact(f),
         _ => match Field::from_column(q) {
             Some(f) => LineWhat::Value(f),
@@ -363,12 +404,31 @@ pub fn parse_line(number: usize, fields: &[&str]) -> Result<Option<Line>, LineEr
         }
         _ => {}
     }
+    let added = if what == LineWhat::Add {
+        let device = match fields.get(4).map(|d| d.trim()).filter(|d| !d.is_empty()) {
+            None => None,
+            Some(d) => Some(
+                d.parse::<Device>()
+                    .map_err(|e| err(format!("the device {d:?}: {e}")))?,
+            ),
+        };
+        let rcd_ma = parse_rcd_ma(fields.get(5).copied().unwrap_or(""))
+            .map_err(|e| err(format!("the RCD: {e}")))?;
+        Some(NewCircuit {
+            description: Some(fields[3].trim().to_string()).filter(|d| !d.is_empty()),
+            device,
+            rcd_ma,
+        })
+    } else {
+        None
+    };
     Ok(Some(Line {
         number,
         board: board.to_string(),
         circuit: circuit.map(String::from),
         what,
         value: fields[3].to_string(),
+        added,
     }))
 }
 
@@ -407,6 +467,38 @@ mod tests {
         assert!(parse_line(7, &["DB1", "3", "r1r2_ohm"]).is_err());
         assert!(parse_line(8, &["DB1", "3", "ze_ohm", "0.2"]).is_err());
         assert!(parse_line(9, &["DB1", "", "zs_ohm", "0.2"]).is_err());
+    }
+
+    #[test]
+    fn an_add_line_gives_a_circuit_as_the_prompts_ask_for_one() {
+        let l = parse_line(
+            3,
+            &["DB1", "7", "add", "Sockets, garage", "RCBO B20", "30mA"],
+        )
+        .unwrap()
+        .unwrap();
+        assert_eq!(l.what, LineWhat::Add);
+        let n = l.added.unwrap();
+        assert_eq!(n.description.as_deref(), Some("Sockets, garage"));
+        assert_eq!(n.device.unwrap().to_string(), "RCBO B20");
+        assert_eq!(n.rcd_ma, Some(30));
+        // Device and RCD may be left out, or left empty.
+        let bare = parse_line(4, &["DB1", "8", "ADD", ""]).unwrap().unwrap();
+        assert_eq!(bare.added, Some(NewCircuit::default()));
+        let e = parse_line(5, &["DB1", "9", "add", "Lights", "B77"]).unwrap_err();
+        assert!(
+            e.to_string().starts_with("line 5: the device \"B77\""),
+            "{e}"
+        );
+        let e = parse_line(6, &["DB1", "9", "add", "Lights", "B6", "thirty"]).unwrap_err();
+        assert!(
+            e.to_string().contains("not a rated residual current"),
+            "{e}"
+        );
+        assert!(parse_line(7, &["DB1", "", "add", "Lights"]).is_err());
+        assert!(parse_line(8, &["DB1", "9", "add", "a", "B6", "30", "x"]).is_err());
+        // Other quantities still take exactly four fields.
+        assert!(parse_line(9, &["DB1", "9", "r1r2_ohm", "0.4", "B6"]).is_err());
     }
 
     #[test]

@@ -205,6 +205,13 @@ pub fn brief_html(b: &Brief) -> String {
             if board.origin { "Ze" } else { "Zdb" },
             esc(&expectation_text(&board.ze))
         );
+        if board.circuits.is_empty() {
+            let _ = write!(
+                h,
+                "<p class=\"note\">Note: {}</p>",
+                esc(crate::onsite::NO_CIRCUITS)
+            );
+        }
         for c in &board.circuits {
             let mut reg = Vec::new();
             reg.push(c.kind.as_str().to_string());

@@ -42,6 +42,8 @@ pub struct PropertyReport {
     pub flagged: Vec<FlaggedCircuit>,
     /// Every board with every circuit's last readings.
     pub boards: Vec<BoardTable>,
+    /// The inspector's latest report as recorded, the due date's basis, the supply and bonding.
+    pub schedule: super::schedule::ScheduleSection,
     /// Visits oldest first.
     pub visits: Vec<VisitEntry>,
     pub method: Method,
@@ -59,8 +61,11 @@ pub struct Header {
     /// The last visit that was a full inspection; earlier than `last_visit` when the last
     /// visit was a partial re-test, which does not restart the due date.
     pub last_full_inspection: Option<NaiveDate>,
-    /// The last full inspection plus the property's interval.
+    /// The last full inspection plus the interval recorded at it, else the property's.
     pub next_due: Option<NaiveDate>,
+    pub next_due_interval_months: Option<u32>,
+    /// Which interval `next_due` runs by, in words.
+    pub next_due_basis: Option<&'static str>,
 }
 
 #[derive(Debug, Clone, Serialize)]
@@ -330,6 +335,11 @@ pub struct VisitEntry {
     pub ambient_c: Option<f64>,
     pub ze_ohm: Option<f64>,
     pub pfc_ka: Option<f64>,
+    /// The visit's report as the inspector recorded it (reference, outcome, interval, extent,
+    /// limitations); ohmtrail assigns none of it.
+    pub report: crate::model::VisitReport,
+    /// Supply characteristics and main bonding recorded at the visit.
+    pub supply: crate::model::SupplyRecord,
     pub observations: Vec<ObservationEntry>,
 }
 
@@ -429,6 +439,8 @@ pub fn build(a: &PropertyAnalysis) -> PropertyReport {
         last_visit: a.last_visit,
         last_full_inspection: a.last_full_inspection,
         next_due: a.next_due,
+        next_due_interval_months: a.next_due_interval_months,
+        next_due_basis: a.next_due.map(|_| a.next_due_basis.words()),
     };
     let flagged = flagged(a);
     let summary = summary(a, &flagged, today);
@@ -439,6 +451,7 @@ pub fn build(a: &PropertyAnalysis) -> PropertyReport {
         summary,
         flagged,
         boards: boards(a),
+        schedule: super::schedule::build(a),
         visits: visits(a),
         method: method(a),
         cautions: cautions(a),
@@ -520,10 +533,29 @@ fn summary(a: &PropertyAnalysis, flagged: &[FlaggedCircuit], today: NaiveDate) -
             is_are(counts.approaching)
         ));
     }
-    if supply_flagged {
+    // The supply row's findings: Ze is the network operator's matter on TN; a TT Ze or an
+    // electrode's Ra is the installation's own earth electrode, the landlord's.
+    let electrode_only = supply_flagged
+        && flagged
+            .iter()
+            .filter(|f| f.circuit.is_none())
+            .flat_map(|f| &f.findings)
+            .all(|f| f.quantity == "ra");
+    if electrode_only {
+        headline.push_str(
+            " The earth electrode's resistance (Ra) has risen or is high: the installation's \
+             own, for the landlord to put right.",
+        );
+    } else if supply_flagged {
         headline.push_str(
             " The supply's earth fault loop impedance (Ze) has risen or is high: a matter for \
              the network operator.",
+        );
+    }
+    let bonding = a.flags.iter().find(|f| f.quantity == "bonding");
+    if bonding.is_some() {
+        headline.push_str(
+            " The main protective bonding recorded is smaller than the supply calls for.",
         );
     }
 
@@ -604,7 +636,27 @@ fn summary(a: &PropertyAnalysis, flagged: &[FlaggedCircuit], today: NaiveDate) -
             },
         });
     }
-    if supply_flagged {
+    if let Some(b) = bonding {
+        actions.push(Action {
+            severity: Some("exceeds"),
+            what: format!(
+                "Have a qualified electrician check the main protective bonding: {}.",
+                b.reason
+            ),
+            by: None,
+            when: "as soon as possible".into(),
+        });
+    }
+    if electrode_only {
+        actions.push(Action {
+            severity: Some("changed"),
+            what: "Ask the electrician to test the installation's earth electrode and its \
+                   connection and, if need be, improve it."
+                .into(),
+            by: None,
+            when: "soon".into(),
+        });
+    } else if supply_flagged {
         actions.push(Action {
             severity: Some("changed"),
             what: "Ask the electrician to report the supply's earth fault loop impedance (Ze) to \
@@ -615,7 +667,13 @@ fn summary(a: &PropertyAnalysis, flagged: &[FlaggedCircuit], today: NaiveDate) -
         });
     }
     if let Some(d) = next_inspection {
-        let usual = p_interval_words(a.property.interval_months);
+        let usual = match (a.next_due_interval_months, a.next_due_basis) {
+            (Some(m), crate::analysis::due::IntervalBasis::Recorded) => format!(
+                "{}, the interval the inspector recorded",
+                p_interval_words(m)
+            ),
+            _ => p_interval_words(a.property.interval_months),
+        };
         actions.push(Action {
             severity: None,
             what: if next_inspection_shortened {
@@ -766,6 +824,7 @@ fn flagged(a: &PropertyAnalysis) -> Vec<FlaggedCircuit> {
 fn find_series<'a>(a: &'a PropertyAnalysis, f: &Flag) -> Option<&'a SeriesAnalysis> {
     let q = f.finding()?.quantity;
     match &f.circuit {
+        None if q == Quantity::Ra => a.electrode.as_ref(),
         None => a.supply.as_ref(),
         Some(n) => a
             .circuits
@@ -959,6 +1018,8 @@ fn visits(a: &PropertyAnalysis) -> Vec<VisitEntry> {
             ambient_c: v.visit.ambient_c,
             ze_ohm: v.visit.ze_ohm,
             pfc_ka: v.visit.pfc_ka,
+            report: v.visit.report.clone(),
+            supply: v.visit.supply.clone(),
             observations: v
                 .observations
                 .iter()

@@ -45,6 +45,7 @@ pub fn render(r: &PropertyReport) -> String {
     o.push_str("<main>\n");
     summary(&mut o, r);
     findings(&mut o, r);
+    super::schedule::render(&mut o, &r.schedule);
     boards(&mut o, r);
     visits(&mut o, &r.visits);
     method(&mut o, r);
@@ -123,8 +124,34 @@ fn masthead(o: &mut String, r: &PropertyReport) {
     fact(
         o,
         "Routine inspection due",
-        time_or(h.next_due, "not known"),
+        match (h.next_due, h.next_due_interval_months, h.next_due_basis) {
+            (Some(d), Some(m), Some(basis)) => format!(
+                "{}<br><span class=\"small\">interval {m} months, {}</span>",
+                time(d),
+                esc(basis)
+            ),
+            (d, _, _) => time_or(d, "not known"),
+        },
     );
+    if let Some(r) = &r.schedule.latest_report
+        && let Some(outcome) = &r.outcome
+    {
+        // The inspector's words, labelled as theirs: ohmtrail assigns no outcome.
+        fact(
+            o,
+            "Last outcome recorded",
+            format!(
+                "{}<br><span class=\"small\">{}, {}{}</span>",
+                esc(outcome),
+                esc(r.outcome_label),
+                time(r.date),
+                r.report_ref
+                    .as_deref()
+                    .map(|x| format!(", report {}", esc(x)))
+                    .unwrap_or_default()
+            ),
+        );
+    }
     let s = &r.summary;
     let recommended = match s.next_inspection {
         Some(d) if s.next_inspection_overdue => format!("{} (now due)", time(d)),
@@ -519,7 +546,8 @@ fn visits(o: &mut String, visits: &[VisitEntry]) {
     o.push_str(
         "<table>\n<thead><tr><th scope=\"col\">Date</th><th scope=\"col\">Inspector</th>\
          <th scope=\"col\">Instrument</th><th scope=\"col\" class=\"num\">Ambient °C</th>\
-         <th scope=\"col\" class=\"num\">Ze Ω</th><th scope=\"col\">Observations as recorded</th></tr></thead>\n<tbody>\n",
+         <th scope=\"col\" class=\"num\">Ze Ω</th><th scope=\"col\">Report as recorded</th>\
+         <th scope=\"col\">Observations as recorded</th></tr></thead>\n<tbody>\n",
     );
     for v in visits.iter().rev() {
         let instrument = match (&v.instrument, v.instrument_in_calibration) {
@@ -557,9 +585,10 @@ fn visits(o: &mut String, visits: &[VisitEntry]) {
                 .collect();
             format!("<ul class=\"obs\">{}</ul>", items.join(""))
         };
+        let report = recorded_report(&v.report);
         let _ = writeln!(
             o,
-            "<tr><td>{}</td><td>{}</td><td>{instrument}</td><td class=\"num\">{}</td><td class=\"num\">{}</td><td>{obs}</td></tr>",
+            "<tr><td>{}</td><td>{}</td><td>{instrument}</td><td class=\"num\">{}</td><td class=\"num\">{}</td><td>{report}</td><td>{obs}</td></tr>",
             time(v.date),
             esc(v.inspector.as_deref().unwrap_or("not recorded")),
             v.ambient_c
@@ -575,6 +604,39 @@ fn visits(o: &mut String, visits: &[VisitEntry]) {
         "<p class=\"small\">Observation codes are shown exactly as the inspector recorded them; \
          ohmtrail never assigns or changes a code.</p>\n</section>\n",
     );
+}
+
+/// A visit's report in the inspector's words: outcome, reference, interval, extent and
+/// limitations, each as recorded.
+fn recorded_report(r: &crate::model::VisitReport) -> String {
+    let mut parts: Vec<String> = Vec::new();
+    if let Some(out) = &r.outcome {
+        parts.push(format!(
+            "<strong>{}</strong> <span class=\"small\">({})</span>",
+            esc(out),
+            super::schedule::OUTCOME_LABEL
+        ));
+    }
+    if let Some(x) = &r.report_ref {
+        parts.push(format!("report {}", esc(x)));
+    }
+    if let Some(m) = r.interval_months {
+        parts.push(format!("next in {m} months"));
+    }
+    if let Some(x) = &r.extent {
+        parts.push(format!("<span class=\"small\">extent: {}</span>", esc(x)));
+    }
+    if let Some(x) = &r.limitations {
+        parts.push(format!(
+            "<span class=\"small\">limitations: {}</span>",
+            esc(x)
+        ));
+    }
+    if parts.is_empty() {
+        "<span class=\"small\">not recorded</span>".into()
+    } else {
+        parts.join("<br>")
+    }
 }
 
 fn method(o: &mut String, r: &PropertyReport) {
@@ -648,7 +710,7 @@ pub(super) fn cautions<'a>(o: &mut String, cautions: impl IntoIterator<Item = &'
 }
 
 /// A note as a sentence: its first letter in capitals.
-fn upper_first(s: &str) -> String {
+pub(super) fn upper_first(s: &str) -> String {
     let mut c = s.chars();
     match c.next() {
         Some(f) => f.to_uppercase().chain(c).collect(),

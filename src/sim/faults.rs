@@ -69,7 +69,9 @@ impl FaultKind {
             FaultKind::RingLeg => &["ring"],
             FaultKind::InsulationFalling => &["ir_le", "ir_ll"],
             FaultKind::RcdSlowing => &["rcd"],
-            FaultKind::PenDeterioration | FaultKind::TtElectrode => &["ze"],
+            FaultKind::PenDeterioration => &["ze"],
+            // The electrode shows in the TT Ze and, where recorded, in Ra.
+            FaultKind::TtElectrode => &["ze", "ra"],
         }
     }
 

@@ -41,7 +41,7 @@ pub use backtest::{Backtest, backtest};
 pub use score::{FlagKey, RowClass, Scorecard, Scored, score};
 
 /// The visit file's header, in the order the simulator writes it.
-pub const HEADER: [&str; 29] = [
+pub const HEADER: [&str; 31] = [
     "property_ref",
     "address",
     "board",
@@ -59,6 +59,8 @@ pub const HEADER: [&str; 29] = [
     "instrument",
     "ambient_c",
     "ze_ohm",
+    "ra_ohm",
+    "bonding_csa_mm2",
     "ring_r1_ohm",
     "ring_rn_ohm",
     "ring_r2_ohm",
@@ -72,6 +74,9 @@ pub const HEADER: [&str; 29] = [
     "rcd_5x_ms",
     "note",
 ];
+
+/// Xored into the seed for the supply record's own stream.
+const SUPPLY_STREAM: u64 = 0x5241_424f_4e44;
 
 /// Every home's single board.
 pub const BOARD: &str = "DB1";
@@ -131,6 +136,10 @@ pub struct SimRow {
     pub instrument: String,
     pub ambient_c: Option<f64>,
     pub ze_ohm: f64,
+    /// TT: the electrode's resistance measured on its own, where the visit recorded it.
+    pub ra_ohm: Option<f64>,
+    /// The main bonding conductors' csa, where the visit recorded it.
+    pub bonding_csa_mm2: Option<f64>,
     pub ring_r1_ohm: Option<f64>,
     pub ring_rn_ohm: Option<f64>,
     pub ring_r2_ohm: Option<f64>,
@@ -169,7 +178,7 @@ fn opt(v: Option<f64>, f: fn(f64) -> String) -> String {
 
 impl SimRow {
     /// The row's cells, in [`HEADER`] order.
-    pub fn cells(&self) -> [String; 29] {
+    pub fn cells(&self) -> [String; 31] {
         let ms = |v: f64| format!("{v:.0}");
         [
             self.property_ref.clone(),
@@ -189,6 +198,8 @@ impl SimRow {
             self.instrument.clone(),
             opt(self.ambient_c, |v| format!("{v:.0}")),
             fmt_ohm(self.ze_ohm),
+            opt(self.ra_ohm, fmt_ohm),
+            opt(self.bonding_csa_mm2, |v| format!("{v}")),
             opt(self.ring_r1_ohm, fmt_ohm),
             opt(self.ring_rn_ohm, fmt_ohm),
             opt(self.ring_r2_ohm, fmt_ohm),
@@ -336,6 +347,10 @@ fn generate_with(cfg: &SimConfig, leads: Leads) -> Portfolio {
     for index in 0..cfg.homes {
         let mut rng = ChaCha8Rng::seed_from_u64(cfg.seed);
         rng.set_stream(index as u64 + 1);
+        // The supply record (Ra, bonding) draws from a stream of its own, so adding it left
+        // every other reading of the portfolio as it was.
+        let mut supply_rng = ChaCha8Rng::seed_from_u64(cfg.seed ^ SUPPLY_STREAM);
+        supply_rng.set_stream(index as u64 + 1);
         let mut plan = home::plan_home(&mut rng, index, &noise, INSTRUMENTS, INSPECTORS);
         let mut faults = plant(&mut rng, &mut plan);
         let first_id = all_faults.len();
@@ -350,6 +365,7 @@ fn generate_with(cfg: &SimConfig, leads: Leads) -> Portfolio {
         }
         home_rows(
             &mut rng,
+            &mut supply_rng,
             &noise,
             index,
             &plan,
@@ -530,8 +546,10 @@ fn effect(
 }
 
 /// Every row of one home, visit by visit.
+#[allow(clippy::too_many_arguments)]
 fn home_rows(
     rng: &mut ChaCha8Rng,
+    supply_rng: &mut ChaCha8Rng,
     noise: &NoiseModel,
     index: usize,
     plan: &HomePlan,
@@ -549,8 +567,16 @@ fn home_rows(
                     .is_some_and(|&c| f.circuits.contains(&plan.circuits[c].number))
         })
     };
+    // The main bonding as fitted: 10 mm² on PME (BS 7671 Table 54.8 for a supply neutral up
+    // to 35 mm², from memory); 10 or 6 mm² elsewhere (Regulation 544.1.1, from memory).
+    let bonding_mm2 = match plan.earthing {
+        Earthing::TnCS => 10.0,
+        _ if supply_rng.random_bool(1.0 / 3.0) => 6.0,
+        _ => 10.0,
+    };
     for (v, visit) in plan.visits.iter().enumerate() {
         let inst = &instruments[visit.instrument];
+        let mut electrode_now = None;
         // Ze at this visit: the network's swing, or the electrode and the weather on TT.
         let ze_true = match plan.earthing {
             Earthing::Tt => {
@@ -563,7 +589,9 @@ fn home_rows(
                     },
                     _ => plan.ze_base_ohm,
                 };
-                electrode * noise.tt_weather(rng, visit.date.ordinal()) + noise::TT_SUPPLY_OHM
+                let now = electrode * noise.tt_weather(rng, visit.date.ordinal());
+                electrode_now = Some(now);
+                now + noise::TT_SUPPLY_OHM
             }
             _ => {
                 let swing = plan.ze_base_ohm * noise.log_factor(rng, noise::ZE_SIGMA);
@@ -577,6 +605,13 @@ fn home_rows(
             }
         };
         let ze_reading = noise.loop_reading(rng, inst, ze_true);
+        // Ra, measured on its own on the same day: the same electrode in the same weather.
+        let ra_ohm = electrode_now
+            .filter(|_| supply_rng.random_bool(noise::RA_RECORDED))
+            .map(|e| noise.ra_reading(supply_rng, e));
+        let bonding_csa_mm2 = supply_rng
+            .random_bool(noise::BONDING_RECORDED)
+            .then_some(bonding_mm2);
         // Each RCD is tested once; its times go on every circuit it protects.
         let rcd_times: Vec<(f64, Option<f64>)> = plan
             .rcds
@@ -668,6 +703,8 @@ fn home_rows(
                 instrument: inst.serial.clone(),
                 ambient_c: visit.ambient_recorded,
                 ze_ohm: ze_reading,
+                ra_ohm,
+                bonding_csa_mm2,
                 ring_r1_ohm: legs.map(|l| l[0]),
                 ring_rn_ohm: legs.map(|l| l[1]),
                 ring_r2_ohm: legs.map(|l| l[2]),

@@ -25,6 +25,9 @@
 //! | TT electrode resistance | log-uniform 20–140 Ω | from memory |
 //! | TT seasonal swing | × exp(0.3 cos(2π (day − 200) / 365)): summer/winter ≈ 1.8 | from memory |
 //! | TT year-to-year wetness | log-normal, σ = 0.1 | from memory |
+//! | TT visits recording Ra, the electrode measured on its own | 70 % | common practice, no source |
+//! | Ra measurement scatter (test spikes, method) | log-normal, σ = 0.05, loop resolution | from memory |
+//! | main bonding csa recorded | 10 mm² on TN-C-S; 10 or 6 mm² (a third) on TN-S and TT; at 85 % of visits | common practice, no source |
 //! | healthy IR, per circuit | log-uniform 100–3,000 MΩ | from memory |
 //! | healthy IR wander visit to visit (humidity, what is left connected) | log-normal, σ = ln 2.2 | from memory |
 //! | healthy IR with equipment left connected | 4 % of readings, log-uniform 4–60 MΩ | common practice, no source |
@@ -71,6 +74,13 @@ pub const TT_ELECTRODE_OHM: (f64, f64) = (20.0, 140.0);
 pub const TT_SEASON_LOG: f64 = 0.3;
 /// TT year-to-year wetness, log-normal σ: from memory.
 pub const TT_YEAR_SIGMA: f64 = 0.1;
+/// Share of TT visits that record Ra, the electrode's resistance measured on its own: common
+/// practice, no source (many inspectors record only the Ze that includes it).
+pub const RA_RECORDED: f64 = 0.7;
+/// Ra measurement scatter (where the test spikes go, the method), log-normal σ: from memory.
+pub const RA_SIGMA: f64 = 0.05;
+/// Share of visits recording the main bonding's csa: common practice, no source.
+pub const BONDING_RECORDED: f64 = 0.85;
 /// The supply's own part of a TT Ze, Ω: from memory.
 pub const TT_SUPPLY_OHM: f64 = 0.3;
 /// Healthy insulation resistance per circuit, log-uniform MΩ: from memory.
@@ -220,6 +230,12 @@ impl NoiseModel {
     pub fn loop_reading(&self, rng: &mut ChaCha8Rng, inst: &Instrument, true_ohm: f64) -> f64 {
         let sigma = (LOOP_SCATTER.0 * true_ohm + LOOP_SCATTER.1) * self.scale;
         let v = true_ohm * (1.0 + inst.loop_gain) + sigma * gauss(rng);
+        quantise(v, loop_resolution(v))
+    }
+
+    /// Ra of an electrode of `true_ohm`, measured on its own, to the loop resolution.
+    pub fn ra_reading(&self, rng: &mut ChaCha8Rng, true_ohm: f64) -> f64 {
+        let v = true_ohm * self.log_factor(rng, RA_SIGMA);
         quantise(v, loop_resolution(v))
     }
 

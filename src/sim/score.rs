@@ -11,8 +11,9 @@
 //!   supply moved, not the circuit): not a false alarm, but a row;
 //! - `wrong_quantity`: on a circuit that has a planted fault, but on a quantity that fault
 //!   does not move: not a false alarm on a healthy circuit, but a row the fault does not earn;
-//! - `property`: a row with no circuit on a quantity other than Ze (not a circuit's finding);
-//! - `false`: on a healthy circuit, or Ze on a home whose supply is healthy.
+//! - `property`: a row with no circuit on a quantity other than Ze or Ra (not a circuit's
+//!   finding: main bonding);
+//! - `false`: on a healthy circuit, or Ze or Ra on a home whose supply is healthy.
 //!
 //! The false-alarm rate is the share of healthy circuits (no planted fault, RCD faults
 //! included) with at least one `false` row.
@@ -182,7 +183,7 @@ pub fn score(truth: &Truth, flags: &[FlagKey]) -> Scored {
             RowClass::Consequence
         } else if !here.is_empty() && f.circuit.is_some() {
             RowClass::WrongQuantity
-        } else if f.circuit.is_none() && f.quantity != "ze" {
+        } else if f.circuit.is_none() && !matches!(f.quantity.as_str(), "ze" | "ra") {
             RowClass::Property
         } else {
             match &f.circuit {

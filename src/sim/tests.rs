@@ -27,7 +27,7 @@ fn the_same_config_gives_byte_identical_output() {
 fn a_home_is_the_same_whatever_the_portfolio_size() {
     let small = generate(&SimConfig::new(5, 11, 1.0));
     let large = generate(&SimConfig::new(12, 11, 1.0));
-    let rows = |p: &Portfolio| -> Vec<[String; 29]> {
+    let rows = |p: &Portfolio| -> Vec<[String; 31]> {
         p.rows
             .iter()
             .filter(|r| r.home < 5)

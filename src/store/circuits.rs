@@ -654,7 +654,8 @@ impl Store {
         let mut stmt = self.conn.prepare(
             "SELECT p.ref, v.date, v.inspector, i.serial, v.ambient_c, v.ze_ohm, v.pfc_ka,
                     (SELECT count(*) FROM test_record t WHERE t.visit_id = v.id),
-                    (SELECT count(*) FROM observation o WHERE o.visit_id = v.id)
+                    (SELECT count(*) FROM observation o WHERE o.visit_id = v.id),
+                    v.report_ref, v.outcome, v.interval_months
              FROM visit v JOIN property p ON p.id = v.property_id
              LEFT JOIN instrument i ON i.id = v.instrument_id
              WHERE v.state = 'complete' AND (?1 IS NULL OR v.property_id = ?1)
@@ -671,6 +672,9 @@ impl Store {
                 pfc_ka: r.get(6)?,
                 test_records: r.get(7)?,
                 observations: r.get(8)?,
+                report_ref: r.get(9)?,
+                outcome: r.get(10)?,
+                interval_months: r.get(11)?,
             })
         })?;
         Ok(rows.collect::<rusqlite::Result<_>>()?)

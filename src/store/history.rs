@@ -10,7 +10,9 @@ use rusqlite::{Row, Statement};
 
 use super::{Store, change_from_row, observation_from_row};
 use crate::error::Result;
-use crate::model::{Board, Circuit, CircuitChange, Observation, Property, TestRecord, Visit};
+use crate::model::{
+    Board, BoardTest, Circuit, CircuitChange, Observation, Property, TestRecord, Visit,
+};
 
 /// Everything recorded about one property: the register (retired parts included), the completed
 /// visits, their test records, the dated circuit changes and the observations.
@@ -23,8 +25,8 @@ pub struct PropertyHistory {
     pub visits: Vec<Visit>,
     /// Test records at completed visits, by visit date.
     pub records: Vec<TestRecord>,
-    /// Ze and fault current per board per visit: (visit_id, board_id, ze_ohm, pfc_ka).
-    pub board_tests: Vec<(i64, i64, Option<f64>, Option<f64>)>,
+    /// What was measured at each board per visit (Ze, fault current, Zdb, sub-main R1+R2).
+    pub board_tests: Vec<BoardTest>,
     /// Circuit changes, oldest first.
     pub changes: Vec<CircuitChange>,
     pub observations: Vec<Observation>,
@@ -127,7 +129,8 @@ fn all_queries() -> Queries {
              AND v.property_id BETWEEN ?2 AND ?3 ORDER BY v.property_id, v.date, t.circuit_id",
             qualified(Store::RECORD_COLS, "t")
         ),
-        board_tests: "SELECT bt.visit_id, bt.board_id, bt.ze_ohm, bt.pfc_ka, v.property_id
+        board_tests: "SELECT bt.visit_id, bt.board_id, bt.ze_ohm, bt.pfc_ka, bt.zdb_ohm,
+                bt.submain_r1r2_ohm, v.property_id
              FROM visit v JOIN board_test bt ON bt.visit_id = v.id
              WHERE v.state = 'complete' AND (?1 IS NULL OR v.property_id = ?1)
              AND v.property_id BETWEEN ?2 AND ?3 ORDER BY v.property_id"
@@ -320,8 +323,15 @@ impl Store {
             Store::RECORD_COL_COUNT,
             Store::record_from_row,
         )?;
-        let mut tests = stream(&mut st_t, filter, 4, |r| {
-            Ok((r.get(0)?, r.get(1)?, r.get(2)?, r.get(3)?))
+        let mut tests = stream(&mut st_t, filter, 6, |r| {
+            Ok(BoardTest {
+                visit_id: r.get(0)?,
+                board_id: r.get(1)?,
+                ze_ohm: r.get(2)?,
+                pfc_ka: r.get(3)?,
+                zdb_ohm: r.get(4)?,
+                submain_r1r2_ohm: r.get(5)?,
+            })
         })?;
         let mut changes = stream(&mut st_ch, filter, 8, change_from_row)?;
         let mut observations = match &mut st_o {

@@ -7,7 +7,7 @@ use chrono::NaiveDate;
 use rusqlite::config::DbConfig;
 use rusqlite::{OptionalExtension, Row, Statement, params};
 
-use super::record::{RECORD_VALUES, execute_record, readings_at};
+use super::record::{RECORD_VALUE_COUNT, RECORD_VALUES, execute_record, readings_at};
 use super::{CircuitDetails, Store};
 use crate::error::Result;
 use crate::model::Readings;
@@ -91,6 +91,12 @@ pub struct ExportRecord {
     pub instrument: Option<String>,
     pub ambient_c: Option<f64>,
     pub ze_ohm: Option<f64>,
+    /// The board feeding the record's board, by designation.
+    pub fed_from: Option<String>,
+    /// Zdb, the sub-main's R1+R2 and the fault current at the board (its Ze is `ze_ohm`).
+    pub board_test: crate::model::BoardTest,
+    pub report: crate::model::VisitReport,
+    pub supply: crate::model::SupplyRecord,
     pub readings: Readings,
 }
 
@@ -418,17 +424,19 @@ impl Store {
             .optional()?)
     }
 
-    /// Store Ze at a board; the visit's own Ze (at the origin) is filled when still empty.
+    /// Store Ze at a board; the visit's own Ze (at the origin) is filled when still empty from
+    /// a board fed from no other (at a sub-board the figure is its Zdb).
     pub fn ingest_set_board_ze(&self, visit_id: i64, board_id: i64, ze: f64) -> Result<()> {
         let mut st = self.conn.prepare_cached(
             "INSERT INTO board_test (visit_id, board_id, ze_ohm) VALUES (?1, ?2, ?3)
              ON CONFLICT (visit_id, board_id) DO UPDATE SET ze_ohm = excluded.ze_ohm",
         )?;
         st.execute(params![visit_id, board_id, ze])?;
-        let mut v = self
-            .conn
-            .prepare_cached("UPDATE visit SET ze_ohm = ?2 WHERE id = ?1 AND ze_ohm IS NULL")?;
-        v.execute(params![visit_id, ze])?;
+        let mut v = self.conn.prepare_cached(
+            "UPDATE visit SET ze_ohm = ?2 WHERE id = ?1 AND ze_ohm IS NULL
+                 AND (SELECT fed_from_board_id FROM board WHERE id = ?3) IS NULL",
+        )?;
+        v.execute(params![visit_id, ze, board_id])?;
         Ok(())
     }
 
@@ -535,7 +543,11 @@ impl Store {
         let sql = format!(
             "SELECT p.ref, p.address, b.designation, b.earthing, c.id, c.number,
                     {}, v.date, v.inspector, i.serial, v.ambient_c, bt.ze_ohm,
-                    {}
+                    {},
+                    (SELECT f.designation FROM board f WHERE f.id = b.fed_from_board_id),
+                    bt.zdb_ohm, bt.submain_r1r2_ohm, bt.pfc_ka, v.report_ref, v.outcome,
+                    v.interval_months, v.extent, v.agreed_limitations, v.u0_v, v.ra_ohm,
+                    v.bonding_csa_mm2, v.bonding_water, v.bonding_gas, v.bonding_other
              FROM test_record t
              JOIN visit v ON v.id = t.visit_id
              JOIN circuit c ON c.id = t.circuit_id
@@ -552,6 +564,8 @@ impl Store {
                 .collect::<Vec<_>>()
                 .join(", ")
         );
+        // The board and visit columns that follow the test record's values.
+        const AFTER: usize = 11 + DETAILS_COLS + RECORD_VALUE_COUNT;
         let mut st = self.conn.prepare(&sql)?;
         let mut rows = st.query([property_ref])?;
         while let Some(r) = rows.next()? {
@@ -569,6 +583,28 @@ impl Store {
                 ambient_c: r.get(9 + DETAILS_COLS)?,
                 ze_ohm: r.get(10 + DETAILS_COLS)?,
                 readings: readings_at(r, 11 + DETAILS_COLS)?,
+                fed_from: r.get(AFTER)?,
+                board_test: crate::model::BoardTest {
+                    zdb_ohm: r.get(AFTER + 1)?,
+                    submain_r1r2_ohm: r.get(AFTER + 2)?,
+                    pfc_ka: r.get(AFTER + 3)?,
+                    ..Default::default()
+                },
+                report: crate::model::VisitReport {
+                    report_ref: r.get(AFTER + 4)?,
+                    outcome: r.get(AFTER + 5)?,
+                    interval_months: r.get(AFTER + 6)?,
+                    extent: r.get(AFTER + 7)?,
+                    limitations: r.get(AFTER + 8)?,
+                },
+                supply: crate::model::SupplyRecord {
+                    u0_v: r.get(AFTER + 9)?,
+                    ra_ohm: r.get(AFTER + 10)?,
+                    bonding_csa_mm2: r.get(AFTER + 11)?,
+                    bonding_water: bonding_text(r.get(AFTER + 12)?),
+                    bonding_gas: bonding_text(r.get(AFTER + 13)?),
+                    bonding_other: bonding_text(r.get(AFTER + 14)?),
+                },
             };
             f(rec)?;
         }
@@ -601,6 +637,11 @@ impl Store {
         })?;
         Ok(rows.collect::<rusqlite::Result<_>>()?)
     }
+}
+
+/// A main bond's recorded state, as stored; a value this build does not know reads as none.
+fn bonding_text(t: Option<String>) -> Option<crate::model::Bonding> {
+    t.and_then(|t| t.parse().ok())
 }
 
 /// How many columns [`details_cols`] names.

@@ -35,6 +35,10 @@ pub const MIGRATIONS: &[(&str, &str)] = &[
         include_str!("../../schema/008_rcd_delay.sql"),
     ),
     (
+        "009_visit_report_supply",
+        include_str!("../../schema/009_visit_report_supply.sql"),
+    ),
+    (
         "010_circuit_schedule",
         include_str!("../../schema/010_circuit_schedule.sql"),
     ),
@@ -131,15 +135,8 @@ mod tests {
 
     #[test]
     fn migration_names_are_numbered_in_order() {
-        // 009 is held for a migration written alongside 010: until it is in this list, 010
-        // sits at version 9. Remove HELD when 009 is added; the check is then exact again.
-        const HELD: usize = 9;
         for (i, (name, _)) in MIGRATIONS.iter().enumerate() {
-            let mut number = i + 1;
-            if number >= HELD && !MIGRATIONS.iter().any(|(n, _)| n.starts_with("009_")) {
-                number += 1;
-            }
-            assert!(name.starts_with(&format!("{number:03}_")), "{name}");
+            assert!(name.starts_with(&format!("{:03}_", i + 1)), "{name}");
         }
     }
 
@@ -212,6 +209,62 @@ mod tests {
         ));
     }
 
+    #[test]
+    fn visit_report_and_supply_columns_are_added_empty_with_their_checks() {
+        // 009 adds nullable columns: a visit stored before it keeps its values and has none
+        // of the new ones; each new column refuses what it cannot hold.
+        let conn = Connection::open_in_memory().unwrap();
+        for (_, sql) in &MIGRATIONS[..8] {
+            conn.execute_batch(sql).unwrap();
+        }
+        conn.execute_batch(
+            "INSERT INTO property (id, ref) VALUES (1, 'P1');
+             INSERT INTO board (id, property_id, designation) VALUES (1, 1, 'CU1');
+             INSERT INTO visit (id, property_id, date, ze_ohm) VALUES (1, 1, '2024-05-01', 0.31);
+             INSERT INTO board_test (visit_id, board_id, ze_ohm) VALUES (1, 1, 0.31);",
+        )
+        .unwrap();
+        conn.execute_batch(MIGRATIONS[8].1).unwrap();
+        assert_eq!(
+            dump(
+                &conn,
+                "SELECT ze_ohm, report_ref, outcome, interval_months, extent, agreed_limitations,
+                        u0_v, ra_ohm, bonding_csa_mm2, bonding_water, bonding_gas, bonding_other
+                 FROM visit"
+            ),
+            ["Real(0.31)|Null|Null|Null|Null|Null|Null|Null|Null|Null|Null|Null"]
+        );
+        assert_eq!(
+            dump(
+                &conn,
+                "SELECT ze_ohm, zdb_ohm, submain_r1r2_ohm FROM board_test"
+            ),
+            ["Real(0.31)|Null|Null"]
+        );
+        let refuses = |sql: &str| conn.execute(sql, []).is_err();
+        for bad in [
+            "outcome = ' '",
+            "report_ref = ''",
+            "interval_months = 0",
+            "interval_months = 121",
+            "u0_v = 0",
+            "ra_ohm = -1",
+            "bonding_csa_mm2 = 0",
+            "bonding_water = 'n/a'",
+            "bonding_gas = 'Yes'",
+            "bonding_other = 'maybe'",
+        ] {
+            assert!(refuses(&format!("UPDATE visit SET {bad}")), "{bad}");
+        }
+        assert!(!refuses(
+            "UPDATE visit SET outcome = 'Satisfactory', interval_months = 60, u0_v = 230,
+             ra_ohm = 85, bonding_csa_mm2 = 10, bonding_water = 'yes', bonding_gas = 'none',
+             bonding_other = 'no'"
+        ));
+        assert!(refuses("UPDATE board_test SET zdb_ohm = -0.1"));
+        assert!(refuses("UPDATE board_test SET submain_r1r2_ohm = -0.1"));
+    }
+
     /// A database at version 3 with a register in it, as an earlier build left it.
     fn at_version_3() -> Connection {
         let conn = Connection::open_in_memory().unwrap();
@@ -276,6 +329,7 @@ mod tests {
                 "006_application_id",
                 "007_property_ref_nocase_index",
                 "008_rcd_delay",
+                "009_visit_report_supply",
                 "010_circuit_schedule"
             ]
         );

@@ -186,6 +186,10 @@ pub struct VisitSummary {
     pub pfc_ka: Option<f64>,
     pub test_records: i64,
     pub observations: i64,
+    /// The visit's report as the inspector recorded it: reference, overall outcome, interval.
+    pub report_ref: Option<String>,
+    pub outcome: Option<String>,
+    pub interval_months: Option<u32>,
 }
 
 /// Refuse text holding a control character (NUL, escape, backspace and the like; a tab or a

@@ -76,6 +76,9 @@ pub(super) fn readings_at(r: &Row, o: usize) -> rusqlite::Result<Readings> {
     })
 }
 
+/// How many columns [`RECORD_VALUES`] names.
+pub(super) const RECORD_VALUE_COUNT: usize = RECORD_VALUE_NAMES.len();
+
 /// The [`RECORD_VALUES`] one by one, for error messages.
 const RECORD_VALUE_NAMES: [&str; 18] = [
     "r1r2_ohm",

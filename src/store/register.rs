@@ -31,20 +31,38 @@ impl Store {
 
     // ----- clients and properties -----
 
-    /// The client's id, creating the client on first sight.
+    /// The client's id, creating the client on first sight. A new name that differs from a
+    /// stored one only in case (`acme` when `Acme` is stored) is refused with the stored
+    /// spelling, never merged into it nor stored beside it: the exact spelling is needed.
     pub fn ensure_client(&self, name: &str) -> Result<i64> {
         let name = name.trim();
         if name.is_empty() {
             return Err(Error::invalid("client name is empty"));
         }
-        if let Some(id) = self
+        let clients = self
             .conn
-            .query_row("SELECT id FROM client WHERE name = ?1", [name], |r| {
-                r.get(0)
-            })
-            .optional()?
-        {
-            return Ok(id);
+            .prepare("SELECT id, name FROM client ORDER BY name")?
+            .query_map([], |r| Ok((r.get::<_, i64>(0)?, r.get::<_, String>(1)?)))?
+            .collect::<rusqlite::Result<Vec<_>>>()?;
+        if let Some((id, _)) = clients.iter().find(|(_, n)| n == name) {
+            return Ok(*id);
+        }
+        let folded = name.to_lowercase();
+        let alike: Vec<String> = clients
+            .iter()
+            .filter(|(_, n)| n.to_lowercase() == folded)
+            .map(|(_, n)| format!("{n:?}"))
+            .collect();
+        if !alike.is_empty() {
+            return Err(Error::invalid(format!(
+                "client {name:?} differs from the stored {} only in case: give {} exactly to use that client, or a name that differs in more than case for a new one",
+                alike.join(" and "),
+                if alike.len() == 1 {
+                    "it"
+                } else {
+                    "one of them"
+                }
+            )));
         }
         self.conn
             .execute("INSERT INTO client (name) VALUES (?1)", [name])?;

@@ -5,7 +5,10 @@ use rusqlite::{OptionalExtension, Row, params};
 
 use super::Store;
 use crate::error::{Error, Result};
-use crate::model::{Observation, ObservationCode, Readings, TestRecord, Visit, VisitState};
+use crate::model::{
+    BoardTest, Bonding, Observation, ObservationCode, Readings, SupplyRecord, TestRecord, Visit,
+    VisitReport, VisitState,
+};
 
 /// A visit to add to the history.
 #[derive(Debug, Clone, Default, PartialEq)]
@@ -17,6 +20,54 @@ pub struct NewVisit {
     pub ambient_c: Option<f64>,
     pub ze_ohm: Option<f64>,
     pub pfc_ka: Option<f64>,
+    /// The report as the inspector recorded it.
+    pub report: VisitReport,
+    /// Supply characteristics and main bonding at the origin.
+    pub supply: SupplyRecord,
+}
+
+/// Refuse a recorded report or supply that no schedule holds: control characters, an empty
+/// outcome, an interval outside 1 to 120 months, readings that are not readings.
+pub fn validate_report_supply(r: &VisitReport, s: &SupplyRecord) -> Result<()> {
+    super::check_text("report reference", r.report_ref.as_deref())?;
+    super::check_text("extent", r.extent.as_deref())?;
+    super::check_text("limitations", r.limitations.as_deref())?;
+    if let Some(o) = &r.outcome {
+        crate::model::validate_outcome(o).map_err(Error::Invalid)?;
+    }
+    if r.report_ref.as_deref().is_some_and(|t| t.trim().is_empty()) {
+        return Err(Error::invalid("report reference is empty"));
+    }
+    if let Some(m) = r.interval_months
+        && !(1..=120).contains(&m)
+    {
+        return Err(Error::invalid(format!(
+            "interval {m} months is out of range: expected 1 to 120 months"
+        )));
+    }
+    if let Some(v) = s.u0_v {
+        crate::model::validate_u0(v).map_err(Error::Invalid)?;
+    }
+    if let Some(x) = s.ra_ohm
+        && !(x.is_finite() && x >= 0.0)
+    {
+        return Err(Error::invalid(format!(
+            "Ra {x} is not a reading: expected a number of zero or more"
+        )));
+    }
+    if let Some(v) = s.bonding_csa_mm2 {
+        crate::model::validate_csa("main bonding csa", v).map_err(Error::Invalid)?;
+    }
+    Ok(())
+}
+
+fn bonding_str(b: Option<Bonding>) -> Option<&'static str> {
+    b.map(Bonding::as_str)
+}
+
+fn bonding_at(r: &Row, i: usize) -> rusqlite::Result<Option<Bonding>> {
+    let t: Option<String> = r.get(i)?;
+    Ok(t.and_then(|t| t.parse().ok()))
 }
 
 impl Store {
@@ -34,6 +85,7 @@ impl Store {
                 "ambient temperature {t} °C is out of range: expected -40 to 60 °C"
             )));
         }
+        validate_report_supply(&v.report, &v.supply)?;
         for (name, x) in [("Ze", v.ze_ohm), ("prospective fault current", v.pfc_ka)] {
             if let Some(x) = x
                 && !(x.is_finite() && x >= 0.0)
@@ -74,13 +126,49 @@ impl Store {
                     state_str(state)
                 ],
             )?;
-            s.visit_by_id(s.conn.last_insert_rowid())
+            let id = s.conn.last_insert_rowid();
+            s.set_visit_report_supply(id, &v.report, &v.supply)?;
+            s.visit_by_id(id)
         })
     }
 
     pub(super) const VISIT_COLS: &'static str = "v.id, v.property_id, v.date, v.inspector,
         (SELECT i.serial FROM instrument i WHERE i.id = v.instrument_id),
-        v.ambient_c, v.ze_ohm, v.pfc_ka, v.state";
+        v.ambient_c, v.ze_ohm, v.pfc_ka, v.state, v.report_ref, v.outcome, v.interval_months,
+        v.extent, v.agreed_limitations, v.u0_v, v.ra_ohm, v.bonding_csa_mm2, v.bonding_water,
+        v.bonding_gas, v.bonding_other";
+
+    /// Write a visit's recorded report and supply details, replacing those stored (a `None`
+    /// clears a value). Validated first.
+    pub fn set_visit_report_supply(
+        &self,
+        visit_id: i64,
+        r: &VisitReport,
+        s: &SupplyRecord,
+    ) -> Result<()> {
+        validate_report_supply(r, s)?;
+        let mut st = self.conn.prepare_cached(
+            "UPDATE visit SET report_ref = ?2, outcome = ?3, interval_months = ?4, extent = ?5,
+                 agreed_limitations = ?6, u0_v = ?7, ra_ohm = ?8, bonding_csa_mm2 = ?9,
+                 bonding_water = ?10, bonding_gas = ?11, bonding_other = ?12
+             WHERE id = ?1",
+        )?;
+        st.execute(params![
+            visit_id,
+            r.report_ref,
+            r.outcome,
+            r.interval_months,
+            r.extent,
+            r.limitations,
+            s.u0_v,
+            s.ra_ohm,
+            s.bonding_csa_mm2,
+            bonding_str(s.bonding_water),
+            bonding_str(s.bonding_gas),
+            bonding_str(s.bonding_other),
+        ])?;
+        Ok(())
+    }
 
     pub(super) fn visit_from_row(r: &Row) -> rusqlite::Result<Visit> {
         let state: String = r.get(8)?;
@@ -97,6 +185,21 @@ impl Store {
                 VisitState::Pending
             } else {
                 VisitState::Complete
+            },
+            report: VisitReport {
+                report_ref: r.get(9)?,
+                outcome: r.get(10)?,
+                interval_months: r.get(11)?,
+                extent: r.get(12)?,
+                limitations: r.get(13)?,
+            },
+            supply: SupplyRecord {
+                u0_v: r.get(14)?,
+                ra_ohm: r.get(15)?,
+                bonding_csa_mm2: r.get(16)?,
+                bonding_water: bonding_at(r, 17)?,
+                bonding_gas: bonding_at(r, 18)?,
+                bonding_other: bonding_at(r, 19)?,
             },
         })
     }
@@ -142,6 +245,127 @@ impl Store {
     pub fn delete_visit(&self, visit_id: i64) -> Result<()> {
         self.conn
             .execute("DELETE FROM visit WHERE id = ?1", [visit_id])?;
+        Ok(())
+    }
+
+    /// Record Zdb and the sub-main's R1+R2 at a board fed from another, keeping its Ze and
+    /// fault current.
+    pub fn set_board_submain(
+        &self,
+        visit_id: i64,
+        board_id: i64,
+        zdb_ohm: Option<f64>,
+        submain_r1r2_ohm: Option<f64>,
+    ) -> Result<()> {
+        for (name, x) in [("Zdb", zdb_ohm), ("sub-main R1+R2", submain_r1r2_ohm)] {
+            if let Some(x) = x
+                && !(x.is_finite() && x >= 0.0)
+            {
+                return Err(Error::invalid(format!(
+                    "{name} {x} is not a reading: expected a number of zero or more"
+                )));
+            }
+        }
+        self.conn
+            .prepare_cached(
+                "INSERT INTO board_test (visit_id, board_id, zdb_ohm, submain_r1r2_ohm)
+                 VALUES (?1, ?2, ?3, ?4)
+                 ON CONFLICT (visit_id, board_id) DO UPDATE SET zdb_ohm = excluded.zdb_ohm,
+                     submain_r1r2_ohm = excluded.submain_r1r2_ohm",
+            )?
+            .execute(params![visit_id, board_id, zdb_ohm, submain_r1r2_ohm])?;
+        Ok(())
+    }
+
+    /// Everything measured at a board at a visit; all `None` when nothing is stored.
+    pub fn board_test_record(&self, visit_id: i64, board_id: i64) -> Result<BoardTest> {
+        let mut st = self.conn.prepare_cached(
+            "SELECT ze_ohm, pfc_ka, zdb_ohm, submain_r1r2_ohm FROM board_test
+             WHERE visit_id = ?1 AND board_id = ?2",
+        )?;
+        let found = st
+            .query_row(params![visit_id, board_id], |r| {
+                Ok(BoardTest {
+                    visit_id,
+                    board_id,
+                    ze_ohm: r.get(0)?,
+                    pfc_ka: r.get(1)?,
+                    zdb_ohm: r.get(2)?,
+                    submain_r1r2_ohm: r.get(3)?,
+                })
+            })
+            .optional()?;
+        Ok(found.unwrap_or(BoardTest {
+            visit_id,
+            board_id,
+            ..Default::default()
+        }))
+    }
+
+    /// Write Zdb, the sub-main's R1+R2 and the fault current measured at a board, keeping its
+    /// Ze. The visit's own fault current (at the origin) is filled from a board fed from no
+    /// other when still empty, as the visit's Ze is.
+    pub fn set_board_measured(&self, t: &BoardTest) -> Result<()> {
+        for (name, x) in [
+            ("Zdb", t.zdb_ohm),
+            ("sub-main R1+R2", t.submain_r1r2_ohm),
+            ("prospective fault current", t.pfc_ka),
+        ] {
+            if let Some(x) = x
+                && !(x.is_finite() && x >= 0.0)
+            {
+                return Err(Error::invalid(format!(
+                    "{name} {x} is not a reading: expected a number of zero or more"
+                )));
+            }
+        }
+        self.conn
+            .prepare_cached(
+                "INSERT INTO board_test (visit_id, board_id, zdb_ohm, submain_r1r2_ohm, pfc_ka)
+                 VALUES (?1, ?2, ?3, ?4, ?5)
+                 ON CONFLICT (visit_id, board_id) DO UPDATE SET zdb_ohm = excluded.zdb_ohm,
+                     submain_r1r2_ohm = excluded.submain_r1r2_ohm, pfc_ka = excluded.pfc_ka",
+            )?
+            .execute(params![
+                t.visit_id,
+                t.board_id,
+                t.zdb_ohm,
+                t.submain_r1r2_ohm,
+                t.pfc_ka
+            ])?;
+        if let Some(pfc) = t.pfc_ka {
+            self.conn
+                .prepare_cached(
+                    "UPDATE visit SET pfc_ka = ?2 WHERE id = ?1 AND pfc_ka IS NULL
+                     AND (SELECT fed_from_board_id FROM board WHERE id = ?3) IS NULL",
+                )?
+                .execute(params![t.visit_id, pfc, t.board_id])?;
+        }
+        Ok(())
+    }
+
+    /// The board feeding a board: its id and designation, `None` at the origin.
+    pub fn board_feed(&self, board_id: i64) -> Result<Option<(i64, String)>> {
+        let mut st = self.conn.prepare_cached(
+            "SELECT f.id, f.designation FROM board b JOIN board f ON f.id = b.fed_from_board_id
+             WHERE b.id = ?1",
+        )?;
+        Ok(st
+            .query_row([board_id], |r| Ok((r.get(0)?, r.get(1)?)))
+            .optional()?)
+    }
+
+    /// Record which board feeds a board (both of one property).
+    pub fn set_board_feed(&self, board_id: i64, fed_from_board_id: i64) -> Result<()> {
+        if board_id == fed_from_board_id {
+            return Err(Error::invalid("a board cannot be fed from itself"));
+        }
+        self.conn
+            .prepare_cached(
+                "UPDATE board SET fed_from_board_id = ?2 WHERE id = ?1
+                 AND property_id = (SELECT property_id FROM board WHERE id = ?2)",
+            )?
+            .execute(params![board_id, fed_from_board_id])?;
         Ok(())
     }
 

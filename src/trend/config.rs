@@ -138,7 +138,8 @@ impl TrendConfig {
     pub fn floor_for(&self, q: Quantity) -> &NoiseFloor {
         match q {
             Quantity::Ze => &self.ze,
-            Quantity::ZeTt => &self.ze_tt_log10,
+            // An electrode's seasonal swing is the same measured alone or within a TT Ze.
+            Quantity::ZeTt | Quantity::Ra => &self.ze_tt_log10,
             Quantity::IrLl | Quantity::IrLe => &self.insulation_log10,
             Quantity::Rcd => &self.rcd_ms,
             _ => &self.resistance,

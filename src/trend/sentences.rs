@@ -162,6 +162,7 @@ fn meaning_tail(q: Quantity) -> String {
     match q {
         Quantity::Ze => "; a rise in Ze is a supply or earthing matter to report to the network operator".into(),
         Quantity::ZeTt => "; on a TT installation Ze includes the installation's own earth electrode, so a rise like this points to the electrode or its connection, the landlord's to put right".into(),
+        Quantity::Ra => "; a rise in the earth electrode's resistance beyond its seasonal swing points to the electrode or its connection, the landlord's to put right".into(),
         Quantity::IrLl | Quantity::IrLe => String::new(),
         _ => format!("; {}", step_meaning(q)),
     }

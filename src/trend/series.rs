@@ -14,7 +14,7 @@ pub enum RingLeg {
     R2,
 }
 
-/// A measured quantity. Serialises to its stable key (`ze`, `zs`, `r1r2`, `r1rn`, `r2`,
+/// A measured quantity. Serialises to its stable key (`ze`, `ra`, `zs`, `r1r2`, `r1rn`, `r2`,
 /// `ring`, `ir_ll`, `ir_le`, `rcd`); the three ring legs share the key `ring`.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, PartialOrd, Ord)]
 pub enum Quantity {
@@ -22,6 +22,10 @@ pub enum Quantity {
     /// Ze of a TT installation: the supply's loop and the installation's own earth electrode.
     /// It swings with the seasons by a factor, so it is judged on a log scale.
     ZeTt,
+    /// The resistance of a TT installation's own earth electrode, measured on its own. It
+    /// swings with the seasons as the electrode's part of a TT Ze does, so it is judged on a
+    /// log scale too.
+    Ra,
     Zs,
     R1r2,
     R1rn,
@@ -55,6 +59,7 @@ impl Quantity {
     pub fn key(self) -> &'static str {
         match self {
             Quantity::Ze | Quantity::ZeTt => "ze",
+            Quantity::Ra => "ra",
             Quantity::Zs => "zs",
             Quantity::R1r2 => "r1r2",
             Quantity::R1rn => "r1rn",
@@ -71,6 +76,7 @@ impl Quantity {
         match self {
             Quantity::Ze => "Ze",
             Quantity::ZeTt => "Ze (TT, with the earth electrode)",
+            Quantity::Ra => "Ra (earth electrode)",
             Quantity::Zs => "Zs",
             Quantity::R1r2 => "R1+R2",
             Quantity::R1rn => "R1+Rn",
@@ -101,7 +107,7 @@ impl Quantity {
 
     pub fn scale(self) -> Scale {
         match self {
-            Quantity::IrLl | Quantity::IrLe | Quantity::ZeTt => Scale::Log10,
+            Quantity::IrLl | Quantity::IrLe | Quantity::ZeTt | Quantity::Ra => Scale::Log10,
             _ => Scale::Linear,
         }
     }
