@@ -721,3 +721,115 @@ fn check_shows_the_rows_and_writes_nothing() {
     assert_eq!((bytes(&db), bytes(&wal)), before);
     assert_eq!(exported(&db).len(), 0);
 }
+
+/// A schedule's other columns under the trade's own headers: `layout guess` maps each with
+/// nothing left to ask, and through the layout (with the source's own words for a pass and a
+/// fail in `[values]`) ticks, crosses and those words are stored as polarity and the RCD's
+/// test button, beside the test voltage, points, reference method, breaking capacity and AFDD.
+/// A bad test voltage is refused at its line under the source's header. Tick and cross for
+/// correct and incorrect: common practice, no source; 250/500/1000 V: BS 7671 Table 64
+/// (from memory).
+#[test]
+fn schedule_columns_guessed_and_read_through_a_layout() {
+    let dir = TempDir::new().unwrap();
+    let db = dir.path().join("t.db");
+    let text = "\
+Cct,Date,Board,Zs,Polarity,Test voltage (V),IR L-E,RCD test button,Points,Ref Method,Breaking capacity kA,AFDD
+1,14/06/2025,DB1,0.69,✓,500,>999,✓,8,C,6,no
+2,14/06/2025,DB1,1.26, ✗ ,250,45,✗,4,A,10,yes
+3,14/06/2025,DB1,0.55,Pass,500,N/T,Fail,,C,6,
+";
+    let file = write(dir.path(), "sched.csv", text);
+    let proposed = dir.path().join("proposed.toml");
+    let out = bin(&db)
+        .args(["layout", "guess", "-o"])
+        .arg(&proposed)
+        .arg(&file)
+        .output()
+        .unwrap();
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let mut layout = std::fs::read_to_string(&proposed).unwrap();
+    for (h, c) in [
+        ("Polarity", "polarity"),
+        ("Test voltage (V)", "ir_test_v"),
+        ("RCD test button", "rcd_button"),
+        ("Points", "points"),
+        ("Ref Method", "ref_method"),
+        ("Breaking capacity kA", "breaking_ka"),
+        ("AFDD", "afdd"),
+    ] {
+        assert!(
+            layout.contains(&format!("\n\"{h}\" = \"{c}\"  #")),
+            "{h} -> {c}:\n{layout}"
+        );
+    }
+    assert!(!layout.contains("QUESTION"), "{layout}");
+    layout.push_str("\n[values]\n\"Pass\" = \"✓\"\n\"Fail\" = \"✗\"\n");
+    let layout_file = write(dir.path(), "sched.toml", &layout);
+    bin(&db)
+        .args(["layout", "save", "Sched"])
+        .arg(&layout_file)
+        .assert()
+        .success();
+    bin(&db)
+        .args([
+            "import",
+            "--layout",
+            "Sched",
+            "--set",
+            "property_ref=SC-001",
+        ])
+        .arg(&file)
+        .assert()
+        .success();
+    let rows = exported(&db);
+    let one = row(&rows, "1");
+    assert_eq!(one["polarity"], "correct");
+    assert_eq!(one["ir_test_v"], "500");
+    assert_eq!(one["rcd_button"], "operates");
+    assert_eq!(one["points"], "8");
+    assert_eq!(one["ref_method"], "C");
+    assert_eq!(one["breaking_ka"], "6");
+    assert_eq!(one["afdd"], "no");
+    let two = row(&rows, "2");
+    assert_eq!(two["polarity"], "incorrect");
+    assert_eq!(two["ir_test_v"], "250");
+    assert_eq!(two["rcd_button"], "failed");
+    assert_eq!(two["afdd"], "yes");
+    let three = row(&rows, "3");
+    assert_eq!(three["polarity"], "correct");
+    assert_eq!(three["rcd_button"], "failed");
+    assert_eq!(three["ir_le_mohm"], "N/T");
+    assert_eq!(three["points"], "");
+
+    // 400 V is no test voltage of Table 64: refused at its line, named as the file names it.
+    let bad = write(
+        dir.path(),
+        "bad.csv",
+        &text.replace(
+            "2,14/06/2025,DB1,1.26, ✗ ,250",
+            "2,14/06/2025,DB1,1.26, ✗ ,400",
+        ),
+    );
+    let lines = refused(
+        bin(&db)
+            .args([
+                "import",
+                "--layout",
+                "Sched",
+                "--set",
+                "property_ref=SC-002",
+            ])
+            .arg(&bad)
+            .output()
+            .unwrap(),
+    );
+    assert_eq!(lines.len(), 1, "{lines:?}");
+    assert!(lines[0].contains("bad.csv:3:6"), "{lines:?}");
+    assert!(lines[0].contains("Test voltage (V)"), "{lines:?}");
+    assert!(lines[0].contains("250, 500 or 1000"), "{lines:?}");
+}

@@ -58,6 +58,13 @@ fn stored_text(cell: &Cell) -> String {
         Cell::Code(c) => c.as_str().to_string(),
         Cell::Bonding(b) => b.as_str().to_string(),
         Cell::Months(m) => format!("{m} months"),
+        Cell::Insulation(i) => i.as_str().to_string(),
+        Cell::RefMethod(m) => m.as_str().to_string(),
+        Cell::Count(n) => n.to_string(),
+        Cell::YesNo(b) => if *b { "yes" } else { "no" }.to_string(),
+        Cell::Polarity(p) => p.as_str().to_string(),
+        Cell::Volts(v) => format!("{v} V"),
+        Cell::Button(b) => b.as_str().to_string(),
     }
 }
 

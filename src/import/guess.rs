@@ -247,6 +247,91 @@ const SYNONYMS: &[(Column, &[&str])] = &[
     (Column::U0V, &["u0", "uo", "u0v", "nominalvoltage"]),
     (Column::RaOhm, &["ra", "raohm", "electroderesistance"]),
     (Column::FedFrom, &["fedfrom", "suppliedfrom"]),
+    (
+        Column::SubmainR1r2Ohm,
+        &["submainr1r2", "submain", "submainr1r2ohm"],
+    ),
+    (
+        Column::BondingCsaMm2,
+        &["bondingcsa", "mainbondingcsa", "mainbonding", "bondingsize"],
+    ),
+    (
+        Column::ReportRef,
+        &["reportref", "reportno", "reportnumber", "reportreference"],
+    ),
+    (
+        Column::IntervalMonths,
+        &["interval", "retestinterval", "inspectioninterval"],
+    ),
+    (Column::Extent, &["extent", "extentofinspection"]),
+    (
+        Column::Insulation,
+        &["insulationtype", "cableinsulation", "conductorinsulation"],
+    ),
+    (
+        Column::WiringType,
+        &["wiringtype", "typeofwiring", "cabletype", "wiring"],
+    ),
+    (
+        Column::RefMethod,
+        &[
+            "refmethod",
+            "referencemethod",
+            "refmethodofinstallation",
+            "installationmethod",
+        ],
+    ),
+    (
+        Column::Points,
+        &["points", "noofpoints", "numberofpoints", "pointsserved"],
+    ),
+    (
+        Column::BreakingKa,
+        &[
+            "breakingcapacity",
+            "breakingcapacityka",
+            "breakingka",
+            "ratedbreakingcapacity",
+            "icn",
+        ],
+    ),
+    (Column::Afdd, &["afdd", "afddfitted", "arcfaultdetection"]),
+    (
+        Column::RcdId,
+        &[
+            "rcdid",
+            "rcdref",
+            "rcdreference",
+            "protectingrcd",
+            "rcddesignation",
+        ],
+    ),
+    (
+        Column::Polarity,
+        &["polarity", "polaritycorrect", "polaritychecked"],
+    ),
+    (
+        Column::IrTestV,
+        &[
+            "testvoltage",
+            "testvoltagev",
+            "irtestvoltage",
+            "irtestv",
+            "insulationtestvoltage",
+            "irvoltage",
+        ],
+    ),
+    (
+        Column::RcdButton,
+        &[
+            "rcdbutton",
+            "rcdtestbutton",
+            "testbutton",
+            "rcdtestbuttonoperation",
+            "testbuttonoperation",
+            "manualtestbutton",
+        ],
+    ),
 ];
 
 /// Headers that look like a column but are not one, and why they are never mapped.
@@ -325,6 +410,7 @@ pub fn normalise(header: &str) -> (String, String) {
     let whole: String = tokens.iter().filter(|t| **t != "plus").copied().collect();
     let units = [
         "ohm", "ohms", "mohm", "mohms", "megohm", "megohms", "ms", "mm2", "m", "c", "ma", "s",
+        "ka", "v",
     ];
     let bare: String = tokens
         .iter()
@@ -586,6 +672,34 @@ mod tests {
             ("zs_ohm", Column::ZsOhm),
         ] {
             assert_eq!(mapped(h), Some(c), "{h}");
+        }
+    }
+
+    /// The schedule's other columns under the headers the trade writes for them (common
+    /// practice, no source), units in the header or not.
+    #[test]
+    fn schedule_headers_map() {
+        for (h, c) in [
+            ("Polarity", Column::Polarity),
+            ("Polarity ✓/✗", Column::Polarity),
+            ("Points", Column::Points),
+            ("No. of points", Column::Points),
+            ("Ref Method", Column::RefMethod),
+            ("Reference method", Column::RefMethod),
+            ("Breaking capacity kA", Column::BreakingKa),
+            ("Breaking capacity (kA)", Column::BreakingKa),
+            ("AFDD", Column::Afdd),
+            ("Test voltage", Column::IrTestV),
+            ("Test voltage (V)", Column::IrTestV),
+            ("IR test voltage V", Column::IrTestV),
+            ("RCD test button", Column::RcdButton),
+            ("Test button operation", Column::RcdButton),
+            ("Type of wiring", Column::WiringType),
+            ("RCD ref", Column::RcdId),
+            ("Sub-main R1+R2", Column::SubmainR1r2Ohm),
+            ("U0 (V)", Column::U0V),
+        ] {
+            assert_eq!(mapped(h), Some(c), "{h}: {:?}", one(h));
         }
     }
 
