@@ -126,8 +126,9 @@ impl Store {
         }
         self.conn.execute(
             "INSERT INTO circuit (board_id, number, description, kind, live_mm2, cpc_mm2, length_m,
-                 device, rcd_ma, rcd_type, insulation, disconnect_s, replaces_circuit_id, rcd_delay)
-             VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11, ?12, ?13, ?14)",
+                 device, rcd_ma, rcd_type, insulation, disconnect_s, replaces_circuit_id, rcd_delay,
+                 uuid)
+             VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11, ?12, ?13, ?14, ?15)",
             params![
                 board.id,
                 number,
@@ -143,6 +144,7 @@ impl Store {
                 d.disconnect_s,
                 replaces,
                 d.rcd_delay.map(|t| t.as_str()),
+                new_uuid(),
             ],
         )?;
         self.circuit_by_id(self.conn.last_insert_rowid())

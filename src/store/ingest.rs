@@ -132,6 +132,7 @@ impl HeldInserts<'_> {
             d.rcd_ma,
             d.rcd_type.map(|t| t.as_str()),
             d.rcd_delay.map(|t| t.as_str()),
+            super::new_uuid(),
         ])?)
     }
 }
@@ -147,8 +148,8 @@ impl Store {
             ))?,
             circuit: self.conn.prepare(
                 "INSERT INTO circuit (board_id, number, description, kind, live_mm2, cpc_mm2, length_m,
-                     device, rcd_ma, rcd_type, rcd_delay)
-                 VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11)",
+                     device, rcd_ma, rcd_type, rcd_delay, uuid)
+                 VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11, ?12)",
             )?,
         })
     }
@@ -188,8 +189,8 @@ impl Store {
     pub fn ingest_insert_property(&self, reference: &str, address: Option<&str>) -> Result<i64> {
         let mut st = self
             .conn
-            .prepare_cached("INSERT INTO property (ref, address) VALUES (?1, ?2)")?;
-        st.execute(params![reference, address])?;
+            .prepare_cached("INSERT INTO property (ref, address, uuid) VALUES (?1, ?2, ?3)")?;
+        st.execute(params![reference, address, super::new_uuid()])?;
         Ok(self.conn.last_insert_rowid())
     }
 
@@ -222,9 +223,14 @@ impl Store {
         earthing: Option<&str>,
     ) -> Result<i64> {
         let mut st = self.conn.prepare_cached(
-            "INSERT INTO board (property_id, designation, earthing) VALUES (?1, ?2, ?3)",
+            "INSERT INTO board (property_id, designation, earthing, uuid) VALUES (?1, ?2, ?3, ?4)",
         )?;
-        st.execute(params![property_id, designation, earthing])?;
+        st.execute(params![
+            property_id,
+            designation,
+            earthing,
+            super::new_uuid()
+        ])?;
         Ok(self.conn.last_insert_rowid())
     }
 
@@ -355,15 +361,16 @@ impl Store {
         instrument_id: Option<i64>,
     ) -> Result<i64> {
         let mut st = self.conn.prepare_cached(
-            "INSERT INTO visit (property_id, date, inspector, instrument_id, ambient_c)
-             VALUES (?1, ?2, ?3, ?4, ?5)",
+            "INSERT INTO visit (property_id, date, inspector, instrument_id, ambient_c, uuid)
+             VALUES (?1, ?2, ?3, ?4, ?5, ?6)",
         )?;
         st.execute(params![
             property_id,
             date,
             v.inspector,
             instrument_id,
-            v.ambient_c
+            v.ambient_c,
+            super::new_uuid()
         ])?;
         Ok(self.conn.last_insert_rowid())
     }

@@ -206,6 +206,14 @@ pub(crate) fn observation_from_row(r: &Row) -> rusqlite::Result<crate::model::Ob
     })
 }
 
+/// A new random identifier (RFC 9562 version 4) for a property, board, circuit or visit, as
+/// the 16 bytes stored in their `uuid` column (migration 011).
+pub(crate) fn new_uuid() -> [u8; 16] {
+    *uuid::Builder::from_random_bytes(rand::random())
+        .as_uuid()
+        .as_bytes()
+}
+
 /// Shortest decimal text of a number, as the register shows it (2.5, not 2.5000).
 pub fn fmt_num(v: f64) -> String {
     let s = format!("{v}");
