@@ -7,19 +7,28 @@
 #[macro_use]
 mod record;
 
+mod archive;
 mod circuits;
 mod history;
 mod ingest;
+mod merge;
 pub mod migrate;
 mod open;
 mod pending;
 mod register;
 mod visits;
 
+pub use archive::{
+    ColumnKind, ColumnSchema, Identity, MACHINE_STATE_TABLES, TableSchema, UUID_COLUMN,
+};
 pub use history::{ALL_PROPERTIES, HistoryParts, PropertyHistory};
 pub use ingest::{
     ExportObservation, ExportRecord, HeldInserts, IngestBoard, IngestChange, IngestProperty,
     IngestVisit, LaterHistory,
+};
+pub use merge::{
+    ArchiveCell, ArchiveTable, Conflict, ConflictKind, MergeOutcome, Merger, Prefer, TableCounts,
+    show_value,
 };
 pub use open::APPLICATION_ID;
 pub use pending::Abandoned;
