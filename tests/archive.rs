@@ -648,3 +648,40 @@ fn no_archive_while_a_visit_is_being_recorded() {
         "{err}"
     );
 }
+
+#[test]
+fn the_csv_export_carries_ze_per_board_and_reads_it_back() {
+    let dir = TempDir::new().unwrap();
+    let db = demo(&dir);
+    let csv = dir.path().join("v.csv");
+    bin(&db).args(["export", "-o"]).arg(&csv).assert().success();
+    let copy = dir.path().join("copy.db");
+    bin(&copy).arg("import").arg(&csv).assert().success();
+    // The demo keeps Ze on the visit (measured at the origin, where its one board is).
+    let ze = |db: &Path| -> Vec<(String, String, Option<f64>)> {
+        let v: serde_json::Value =
+            serde_json::from_str(&run(db, &["visit", "list", "--json"])).unwrap();
+        let mut out: Vec<_> = v
+            .as_array()
+            .unwrap()
+            .iter()
+            .map(|x| {
+                (
+                    x["property_ref"].as_str().unwrap().to_string(),
+                    x["date"].as_str().unwrap().to_string(),
+                    x["ze_ohm"].as_f64(),
+                )
+            })
+            .collect();
+        out.sort_by(|a, b| (&a.0, &a.1).cmp(&(&b.0, &b.1)));
+        out
+    };
+    let source = ze(&db);
+    assert!(
+        source
+            .iter()
+            .filter(|v| v.0.starts_with("QL-"))
+            .all(|v| v.2.is_some())
+    );
+    assert_eq!(ze(&copy), source);
+}

@@ -81,6 +81,8 @@ pub struct ExportRecord {
     pub inspector: Option<String>,
     pub instrument: Option<String>,
     pub ambient_c: Option<f64>,
+    /// Ze measured at the board at the visit (Zdb at a sub-board); at a board fed from the
+    /// origin, the visit's own Ze when no board reading is stored.
     pub ze_ohm: Option<f64>,
     /// The board feeding the record's board, by designation.
     pub fed_from: Option<String>,
@@ -509,7 +511,8 @@ impl Store {
         let sql = format!(
             "SELECT p.ref, p.address, b.designation, b.earthing, c.id, c.number,
                     c.description, c.kind, c.live_mm2, c.cpc_mm2, c.length_m, c.device, c.rcd_ma,
-                    c.rcd_type, c.rcd_delay, v.date, v.inspector, i.serial, v.ambient_c, bt.ze_ohm,
+                    c.rcd_type, c.rcd_delay, v.date, v.inspector, i.serial, v.ambient_c,
+                    COALESCE(bt.ze_ohm, CASE WHEN b.fed_from_board_id IS NULL THEN v.ze_ohm END),
                     {},
                     (SELECT f.designation FROM board f WHERE f.id = b.fed_from_board_id),
                     bt.zdb_ohm, bt.submain_r1r2_ohm, bt.pfc_ka, v.report_ref, v.outcome,
