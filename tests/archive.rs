@@ -685,3 +685,50 @@ fn the_csv_export_carries_ze_per_board_and_reads_it_back() {
     );
     assert_eq!(ze(&copy), source);
 }
+
+/// A circuit replaced on a laptop: the old circuit is retired there and in service at the
+/// office, so the merge reports it and writes nothing; taken with `--prefer archive`, the new
+/// circuit arrives pointing at the old one, with both events, and the history follows it.
+#[test]
+fn a_circuit_replaced_on_a_laptop_is_a_conflict_and_merges_with_its_lineage_when_asked() {
+    let dir = TempDir::new().unwrap();
+    let office = demo(&dir);
+    let a = dir.path().join("a.db");
+    std::fs::copy(&office, &a).unwrap();
+    run(
+        &a,
+        &[
+            "circuit",
+            "replace",
+            "QL-002",
+            "CU1",
+            "3",
+            "--to-number",
+            "7",
+            "--date",
+            "2026-09-01",
+        ],
+    );
+    let file = dir.path().join("a.jsonl");
+    archive(&a, &file);
+    let held = tables(&office);
+    let out = merge(&office, &file, &[]);
+    assert_eq!(out.status.code(), Some(1));
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert!(
+        err.contains("conflict: circuit 3 of board CU1 of property QL-002 differs (not settled); status: here \"in_service\", archive \"retired\""),
+        "{err}"
+    );
+    assert_eq!(tables(&office), held);
+    let out = merge(&office, &file, &["--prefer", "archive"]);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    assert_eq!(tables(&office), tables(&a));
+    assert_eq!(
+        run(&office, &["trend", "QL-002", "--json"]),
+        run(&a, &["trend", "QL-002", "--json"])
+    );
+}
