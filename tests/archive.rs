@@ -59,6 +59,42 @@ fn demo(dir: &TempDir) -> PathBuf {
             "Garage",
         ],
     );
+    // The schedule details of migration 010: two circuits behind one named RCD (a row of the
+    // rcd_device table, which has no identifier of its own and is matched by its board and
+    // designation), the second naming it in another case.
+    for (n, rcd, more) in [
+        (
+            "1",
+            "RCD1",
+            &[
+                "--wiring-type",
+                "A",
+                "--ref-method",
+                "101",
+                "--points",
+                "8",
+                "--breaking-ka",
+                "6",
+                "--afdd",
+                "no",
+            ][..],
+        ),
+        ("2", "rcd1", &[][..]),
+    ] {
+        let mut args = vec![
+            "circuit",
+            "edit",
+            "QL-001",
+            "CU1",
+            n,
+            "--rcd-id",
+            rcd,
+            "--date",
+            "2026-03-01",
+        ];
+        args.extend_from_slice(more);
+        run(&db, &args);
+    }
     let fixtures = PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("fixtures/visits");
     bin(&db)
         .arg("import")
@@ -228,9 +264,30 @@ fn archive_then_merge_into_an_empty_database_gives_the_same_tables_and_outputs()
         "board_test",
         "circuit_change",
         "observation",
+        "rcd_device",
     ] {
         assert!(!before[t].is_empty(), "{t} is empty in the source");
     }
+    // One RCD for the two circuits that name it, and the columns of migrations 009 and 010
+    // hold values to be carried.
+    assert_eq!(before["rcd_device"].len(), 1, "{:?}", before["rcd_device"]);
+    assert!(
+        before["circuit"]
+            .iter()
+            .filter(|c| c.contains("rcd_device_id->["))
+            .count()
+            >= 2
+    );
+    assert!(
+        before["circuit"]
+            .iter()
+            .any(|c| c.contains("ref_method=Text(\"101\")"))
+    );
+    assert!(
+        before["visit"]
+            .iter()
+            .any(|v| v.contains("u0_v=Real(230.0)"))
+    );
     assert!(before["board"].iter().any(|b| b.contains("Garage")));
     assert!(
         before["circuit"]
@@ -313,13 +370,17 @@ fn the_archive_header_names_every_column_of_every_table() {
 
 /// A visit file of one new visit to QL-001's four circuits, with site noise in the readings.
 fn visit_file(dir: &Path, name: &str, date: &str, inspector: &str, r1r2: [f64; 4]) -> PathBuf {
-    let mut text =
-        String::from("property_ref,board,circuit,visit_date,inspector,r1r2_ohm,zs_ohm\n");
+    // Migration 010's facts of a visit ride along: polarity, the IR test voltage and the RCD's
+    // test button.
+    let mut text = String::from(
+        "property_ref,board,circuit,visit_date,inspector,r1r2_ohm,zs_ohm,polarity,ir_test_v,rcd_button\n",
+    );
     for (i, r) in r1r2.iter().enumerate() {
         text.push_str(&format!(
-            "QL-001,CU1,{},{date},{inspector},{r},{:.2}\n",
+            "QL-001,CU1,{},{date},{inspector},{r},{:.2},correct,500,{}\n",
             i + 1,
-            0.24 + r
+            0.24 + r,
+            if i < 2 { "operates" } else { "" }
         ));
     }
     let p = dir.join(name);
@@ -382,6 +443,15 @@ fn two_laptops_merge_into_the_office_with_both_visits_and_no_duplicates() {
     assert!(visits.contains(&"2026-10-15".to_string()), "{visits:?}");
     assert_eq!(after["visit"].len(), before["visit"].len() + 2);
     assert_eq!(after["test_record"].len(), before["test_record"].len() + 8);
+    // Migration 010's facts of the visits came with them.
+    assert_eq!(
+        after["test_record"]
+            .iter()
+            .filter(|r| r.contains("polarity=Text(\"correct\")")
+                && r.contains("ir_test_v=Integer(500)"))
+            .count(),
+        8
+    );
     // No duplicates: the register is the office's, row for row, the lineage included.
     for t in [
         "property",
