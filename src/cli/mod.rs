@@ -13,6 +13,7 @@ pub mod init;
 pub mod instrument;
 pub mod layout;
 pub mod limits;
+pub mod merge;
 pub mod output;
 pub mod property;
 pub mod record;
@@ -73,6 +74,8 @@ pub enum Command {
     Layout(layout::Cmd),
     /// Export test records and observations as CSV or JSON, in the format import reads
     Export(export::Args),
+    /// Merge an archive (from `export --archive`) into this database: new visits added, identical ones skipped, conflicts reported with both values
+    Merge(merge::Args),
     /// List the visits in the history
     #[command(subcommand)]
     Visit(visit::Cmd),
@@ -161,6 +164,7 @@ pub fn run(cli: Cli, out: &mut dyn Write) -> Result<()> {
         Command::Import(args) => import::run(&args, &ctx, out),
         Command::Layout(cmd) => layout::run(&cmd, &ctx, out),
         Command::Export(args) => export::run(&args, &ctx, out),
+        Command::Merge(args) => merge::run(&args, &ctx, out),
         Command::Brief(args) => brief::run(&args, &ctx, out),
         Command::Record(args) => record::run(&args, &ctx, out),
     }

@@ -43,6 +43,10 @@ pub const MIGRATIONS: &[(&str, &str)] = &[
         include_str!("../../schema/010_circuit_schedule.sql"),
     ),
     (
+        "011_stable_ids",
+        include_str!("../../schema/011_stable_ids.sql"),
+    ),
+    (
         "013_layouts_and_reading_marks",
         include_str!("../../schema/013_layouts_and_reading_marks.sql"),
     ),
@@ -140,9 +144,9 @@ mod tests {
     #[test]
     fn migration_names_are_numbered_in_order() {
         // Numbers run on from one another, as the version each one stamps is its place in the
-        // list. For now the only gap allowed is 011 and 012: those numbers are given out to
-        // work not merged yet, and 013 is renumbered to follow them when it lands.
-        const NOT_YET_MERGED: [u32; 2] = [11, 12];
+        // list. For now the only gap allowed is 012: that number is given out to work not
+        // merged yet, and 013 follows it once it lands.
+        const NOT_YET_MERGED: [u32; 1] = [12];
         let mut last = 0;
         for (name, _) in MIGRATIONS {
             let n: u32 = name[..3].parse().unwrap();
@@ -282,6 +286,35 @@ mod tests {
         assert!(refuses("UPDATE board_test SET submain_r1r2_ohm = -0.1"));
     }
 
+    #[test]
+    fn rows_made_before_011_get_distinct_version_4_uuids() {
+        let mut conn = at_version_3();
+        apply(&mut conn).unwrap();
+        let mut seen = std::collections::HashSet::new();
+        for t in ["property", "board", "circuit", "visit"] {
+            let ids: Vec<Vec<u8>> = conn
+                .prepare(&format!("SELECT uuid FROM {t}"))
+                .unwrap()
+                .query_map([], |r| r.get(0))
+                .unwrap()
+                .collect::<rusqlite::Result<_>>()
+                .unwrap();
+            assert!(!ids.is_empty(), "{t}");
+            for id in ids {
+                // RFC 9562 section 5.4: version 4 in the high nibble of byte 6, variant 10 in
+                // the two high bits of byte 8.
+                let u = uuid::Uuid::from_slice(&id).unwrap();
+                assert_eq!(u.get_version_num(), 4, "{t} {u}");
+                assert_eq!(u.get_variant(), uuid::Variant::RFC4122, "{t} {u}");
+                assert!(seen.insert(u), "{t} {u} twice");
+            }
+        }
+        // The column takes 16 bytes and nothing else.
+        let refuses = |sql: &str| conn.execute(sql, []).is_err();
+        assert!(refuses("UPDATE property SET uuid = x'0102'"));
+        assert!(refuses("UPDATE property SET uuid = 'not bytes'"));
+    }
+
     /// A database at version 3 with a register in it, as an earlier build left it.
     fn at_version_3() -> Connection {
         let conn = Connection::open_in_memory().unwrap();
@@ -348,13 +381,15 @@ mod tests {
                 "008_rcd_delay",
                 "009_visit_report_supply",
                 "010_circuit_schedule",
+                "011_stable_ids",
                 "013_layouts_and_reading_marks"
             ]
         );
         assert_eq!(user_version(&conn).unwrap(), latest_version());
         for (t, rows) in tables.iter().zip(&before) {
             // 008 adds rcd_delay as the circuit's last column and 010 six more, NULL for these
-            // rows; 010 adds three to test records.
+            // rows; 010 adds three to test records; 011 then adds a random 16-byte uuid to
+            // boards and circuits, after all of them.
             let added = match *t {
                 "circuit" => 7,
                 "test_record" => 3,
@@ -367,6 +402,13 @@ mod tests {
                     *row = row.strip_suffix("|Text([])").unwrap().to_string();
                 }
             }
+            if *t == "circuit" || *t == "board" {
+                for row in &mut after {
+                    let (rest, uuid) = row.rsplit_once('|').unwrap();
+                    assert!(uuid.starts_with("Blob("), "{uuid}");
+                    *row = rest.to_string();
+                }
+            }
             for row in &mut after {
                 for _ in 0..added {
                     *row = row.strip_suffix("|Null").unwrap().to_string();
@@ -374,12 +416,14 @@ mod tests {
             }
             assert_eq!(&after, rows, "{t}");
         }
-        // Every index is kept; 007 adds one, 010 the unique index of its RCD table and 013 that
-        // of its layout table.
+        // Every index is kept; 007 adds one, 010 the unique index of its RCD table, 011 two and
+        // 013 that of its layout table.
         let mut expected = indexes_before.clone();
         for name in [
             "property_ref_nocase",
             "sqlite_autoindex_rcd_device_1",
+            "property_uuid",
+            "board_uuid",
             "sqlite_autoindex_layout_1",
         ] {
             expected.push(format!(
