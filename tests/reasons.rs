@@ -32,6 +32,7 @@ struct Checks {
     overdue: Regex,
     sub_board: Regex,
     bonding: Regex,
+    remedial: Regex,
     /// The analysis date, which an overdue inspection's figures count to.
     today: NaiveDate,
 }
@@ -92,6 +93,12 @@ impl Checks {
             ),
             bonding: r(
                 r"^main protective bonding was N mm² at the visit of [0-9-]{10}, below the minimum of N mm² for a (T\S+) supply \((BS 7671:2018\+A2:2022 (?:Table 54.8|Regulation 544.1.1)), from memory;",
+            ),
+            // Overdue remedial work: the period's last day is the inspection date + period − 1
+            // (SI 2020/312 regulation 3(4): "within 28 days ... starting with the date of the
+            // inspection and testing", the first day counted).
+            remedial: r(
+                r#"^(C1|C2|FI) recorded ([0-9-]{10}) \(observation [0-9]+\): ".*"; (?:remedial work|further investigation) due by ([0-9-]{10}), N days starting with the inspection date(?:, the period the report gives)? \(The Electrical Safety Standards in the Private Rented Sector \(England\) Regulations 2020, regulation 3\(4\)\((a|b)\)\), N days? overdue; (?:open|made safe on [0-9-]{10} by .*, the (?:remedial work|further investigation) is still required)$"#,
             ),
             today,
         }
@@ -257,6 +264,25 @@ impl Checks {
             };
             assert_eq!(min, want, "Table 54.8 / Regulation 544.1.1: {reason}");
             assert_eq!((f.last_value, f.limit), (csa, Some(min)), "{reason}");
+        }
+        if let Some(m) = self.remedial.captures(reason) {
+            known += 1;
+            let date = |i: usize| m[i].parse::<NaiveDate>().unwrap();
+            let (inspected, due, period, late) = (date(2), date(3), c(&m, 4).0, c(&m, 6).0);
+            assert_eq!(
+                inspected + chrono::Days::new(period as u64 - 1),
+                due,
+                "due ≠ inspection date + period − 1: {reason}"
+            );
+            assert_eq!(&m[5] == "a", period == 28.0, "{reason}");
+            assert_eq!(late, (self.today - due).num_days() as f64, "{reason}");
+            assert!(late > 0.0, "not overdue: {reason}");
+            let day = (self.today - inspected).num_days() as f64 + 1.0;
+            assert_eq!(f.last_value, day, "{reason}");
+            assert_eq!(f.limit, Some(period), "{reason}");
+            assert_eq!(f.last_value - period, late, "{reason}");
+            assert_eq!(f.last_date, inspected, "{reason}");
+            assert_eq!((f.quantity, f.kind), ("remedial", "overdue"), "{reason}");
         }
         if let Some(m) = self.ring_cross.captures(reason) {
             known += 1;

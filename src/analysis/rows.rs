@@ -38,13 +38,25 @@ pub fn group(mut flags: Vec<Flag>) -> Vec<Flag> {
     rows
 }
 
-/// Sort flags (or rows) most urgent first: exceeds, then approaching, then changed, by the
-/// trend engine's order ([`trend::compare_urgency`]). A row with no trend finding behind it
-/// (an overdue inspection, always an exceeds) goes among the exceeds by the share of its limit
-/// used, before the first exceeds that uses less; ties keep the trend's row first.
+/// Sort flags (or rows) most urgent first. Overdue remedial work comes first of all: a danger
+/// or potential danger the inspector recorded (C1, C2) or an investigation required (FI), past
+/// the date the regulation gives; C1 before C2 before FI, then the most days overdue. Then
+/// exceeds, approaching and changed, by the trend engine's order
+/// ([`trend::compare_urgency`]). A row with no trend finding behind it (an overdue inspection,
+/// always an exceeds) goes among the exceeds by the share of its limit used, before the first
+/// exceeds that uses less; ties keep the trend's row first.
 pub fn rank(flags: &mut Vec<Flag>) {
+    let (mut remedial, rest): (Vec<Flag>, Vec<Flag>) =
+        flags.drain(..).partition(|f| f.code.is_some());
+    remedial.sort_by(|a, b| {
+        code_rank(a)
+            .cmp(&code_rank(b))
+            .then_with(|| overdue_days(b).total_cmp(&overdue_days(a)))
+            .then_with(|| place(a, b))
+    });
+    flags.extend(remedial);
     let (mut trend_rows, mut others): (Vec<Flag>, Vec<Flag>) =
-        flags.drain(..).partition(|f| f.finding.is_some());
+        rest.into_iter().partition(|f| f.finding.is_some());
     trend_rows.sort_by(|a, b| match (&a.finding, &b.finding) {
         (Some(x), Some(y)) => trend::compare_urgency(x, y).then_with(|| place(a, b)),
         _ => place(a, b),
@@ -60,6 +72,22 @@ pub fn rank(flags: &mut Vec<Flag>) {
         flags.push(t);
     }
     flags.extend(others);
+}
+
+/// C1, C2, FI: the order of overdue remedial rows.
+fn code_rank(f: &Flag) -> u8 {
+    use crate::model::ObservationCode;
+    match f.code {
+        Some(ObservationCode::C1) => 0,
+        Some(ObservationCode::C2) => 1,
+        Some(ObservationCode::FI) => 2,
+        _ => 3,
+    }
+}
+
+/// Days past the period: the day of the period less its length.
+fn overdue_days(f: &Flag) -> f64 {
+    f.last_value - f.limit.unwrap_or(f.last_value)
 }
 
 /// Property, board, circuit: the order among equally urgent rows.
@@ -169,6 +197,7 @@ mod tests {
             recommended_interval_months: None,
             findings: Vec::new(),
             finding: Some(f),
+            code: None,
         }
     }
 

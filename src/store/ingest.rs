@@ -450,7 +450,7 @@ impl Store {
 
     /// Rows in each table, for a summary or to show that nothing was written.
     pub fn row_counts(&self) -> Result<Vec<(&'static str, i64)>> {
-        const TABLES: [&str; 10] = [
+        const TABLES: [&str; 11] = [
             "client",
             "property",
             "board",
@@ -461,6 +461,7 @@ impl Store {
             "test_record",
             "circuit_change",
             "observation",
+            "remedial_event",
         ];
         let mut out = Vec::new();
         for t in TABLES {

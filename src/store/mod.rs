@@ -14,6 +14,7 @@ pub mod migrate;
 mod open;
 mod pending;
 mod register;
+mod remedial;
 mod visits;
 
 pub use history::{ALL_PROPERTIES, HistoryParts, PropertyHistory};
@@ -23,6 +24,7 @@ pub use ingest::{
 };
 pub use open::APPLICATION_ID;
 pub use pending::Abandoned;
+pub use remedial::ObservationAt;
 pub use visits::{NewVisit, validate_readings};
 
 use std::path::{Path, PathBuf};
