@@ -7,11 +7,12 @@ use chrono::NaiveDate;
 use serde::Serialize;
 
 use super::Flag;
+use crate::error::Result;
 use crate::model::ObservationCode;
 use crate::model::remedial::{
     self, REGULATION, RemedialEvent, RemedialKind, RemedialStatus, STATUTORY_PERIOD_DAYS,
 };
-use crate::store::PropertyHistory;
+use crate::store::{ALL_PROPERTIES, HistoryParts, PropertyHistory, Store};
 
 /// One observation that requires work, as `remedial list`, the report and the written
 /// confirmation show it.
@@ -131,6 +132,51 @@ pub fn items(
     }
     out.sort_by_key(|i| (i.inspected, i.observation));
     out
+}
+
+/// Which items [`list`] gives.
+#[derive(Debug, Clone, Default)]
+pub struct ListFilter {
+    /// One property, by reference (without regard to case).
+    pub property: Option<String>,
+    /// One client, by name (without regard to case).
+    pub client: Option<String>,
+}
+
+/// Every C1, C2 and FI observation of the portfolio (or of one property or client), property by
+/// property in reference order, each oldest first, with its status on `today`. The histories
+/// are read as the worklist reads them (only the observations that need work), one property in
+/// memory at a time.
+pub fn list(store: &Store, today: NaiveDate, filter: &ListFilter) -> Result<Vec<RemedialItem>> {
+    let mut out = Vec::new();
+    let mut take = |h: &PropertyHistory| {
+        let client_fits = filter.client.as_deref().is_none_or(|c| {
+            h.property
+                .client
+                .as_deref()
+                .is_some_and(|pc| pc.eq_ignore_ascii_case(c.trim()))
+        });
+        if client_fits && !h.observations.is_empty() {
+            let schedule = super::due::schedule(h);
+            out.extend(items(h, schedule.last_full, today));
+        }
+    };
+    match &filter.property {
+        Some(r) => {
+            let id = store.property(r)?.id;
+            take(&store.history(id)?);
+        }
+        None => store.for_each_history_in(ALL_PROPERTIES, HistoryParts::FOR_FLAGS, |h| {
+            take(&h);
+            Ok(())
+        })?,
+    }
+    out.sort_by(|a, b| {
+        a.property_ref
+            .cmp(&b.property_ref)
+            .then_with(|| (a.inspected, a.observation).cmp(&(b.inspected, b.observation)))
+    });
+    Ok(out)
 }
 
 /// The worklist row of an overdue item: at its board and circuit (the origin board when the

@@ -38,6 +38,9 @@ pub struct PropertyReport {
     pub ohmtrail_version: &'static str,
     pub header: Header,
     pub summary: Summary,
+    /// Remedial work still to do on observations coded C1, C2 or FI (open or made safe, and
+    /// not superseded by a later full inspection), most overdue first.
+    pub open_remedials: Vec<crate::analysis::remedial::RemedialItem>,
     /// Circuits (and the supply) with something to report, most urgent first.
     pub flagged: Vec<FlaggedCircuit>,
     /// Every board with every circuit's last readings.
@@ -372,6 +375,7 @@ pub fn build(a: &PropertyAnalysis) -> PropertyReport {
         ohmtrail_version: env!("CARGO_PKG_VERSION"),
         header,
         summary,
+        open_remedials: open_remedials(a),
         flagged,
         boards: boards(a),
         schedule: super::schedule::build(a),
@@ -379,6 +383,18 @@ pub fn build(a: &PropertyAnalysis) -> PropertyReport {
         method: method(a),
         cautions: cautions(a),
     }
+}
+
+/// The remedial items still open, the earliest due first.
+fn open_remedials(a: &PropertyAnalysis) -> Vec<crate::analysis::remedial::RemedialItem> {
+    let mut open: Vec<_> = a
+        .remedials
+        .iter()
+        .filter(|i| i.status.is_open())
+        .cloned()
+        .collect();
+    open.sort_by_key(|i| (i.due, i.observation));
+    open
 }
 
 fn cautions(a: &PropertyAnalysis) -> Vec<String> {
