@@ -44,6 +44,17 @@ fn flags_json_keeps_the_contract_fields_and_order() {
         other => panic!("unknown severity {other}"),
     };
     let mut last = 0;
+    // Overdue remedial work leads the worklist (C1, C2, FI, then the most days overdue).
+    let remedial = flags
+        .iter()
+        .take_while(|f| f["quantity"] == "remedial")
+        .count();
+    assert!(remedial > 0, "the demo has an FI left open");
+    assert!(
+        flags[remedial..]
+            .iter()
+            .all(|f| f["quantity"] != "remedial")
+    );
     for f in flags {
         for key in [
             "property_ref",
@@ -71,7 +82,8 @@ fn flags_json_keeps_the_contract_fields_and_order() {
                 "ir_ll",
                 "ir_le",
                 "rcd",
-                "inspection"
+                "inspection",
+                "remedial"
             ]
             .contains(&q),
             "{q}"
@@ -104,7 +116,8 @@ fn flags_json_keeps_the_contract_fields_and_order() {
     );
     assert!(!one.as_array().unwrap().is_empty());
 
-    // One row per circuit (and per supply) across the portfolio.
+    // One row per circuit (and per supply) across the portfolio; an overdue inspection and
+    // each overdue remedial observation (named by its reason) have rows of their own.
     let mut places: Vec<_> = flags
         .iter()
         .map(|f| {
@@ -113,6 +126,7 @@ fn flags_json_keeps_the_contract_fields_and_order() {
                 f["board"].to_string(),
                 f["circuit"].to_string(),
                 f["quantity"] == "inspection",
+                (f["quantity"] == "remedial").then(|| f["reason"].to_string()),
             )
         })
         .collect();

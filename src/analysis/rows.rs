@@ -296,4 +296,54 @@ mod tests {
             ]
         );
     }
+
+    /// An overdue remedial row as `analysis::remedial::overdue_row` makes it: days into the
+    /// period against the period.
+    fn remedial(code: crate::model::ObservationCode, day: f64, period: f64) -> Flag {
+        Flag {
+            quantity: "remedial",
+            severity: "exceeds",
+            kind: "overdue",
+            circuit: None,
+            last_value: day,
+            limit: Some(period),
+            margin_used_pct: Some((day / period * 1000.0).round() / 10.0),
+            finding: None,
+            code: Some(code),
+            ..flag(None, ZE, FindingKind::Exceeds, None, None)
+        }
+    }
+
+    #[test]
+    fn overdue_remedial_work_goes_first_c1_then_c2_then_fi_then_the_most_overdue() {
+        use crate::model::ObservationCode::{C1, C2, FI};
+        let mut rows = vec![
+            flag(Some("4"), ZS, FindingKind::Exceeds, Some(1.60), None),
+            remedial(FI, 90.0, 28.0),
+            overdue(70.0, 60.0),
+            // 3 days overdue on a 7-day period: 143 % of it, more than the C1's share below.
+            remedial(C2, 10.0, 7.0),
+            remedial(C1, 30.0, 28.0),
+            remedial(C2, 45.0, 28.0),
+            flag(Some("2"), IR_LE, FindingKind::Approaching, Some(0.9), None),
+        ];
+        rank(&mut rows);
+        let order: Vec<_> = rows
+            .iter()
+            .map(|r| (r.quantity, r.code, r.last_value))
+            .collect();
+        assert_eq!(
+            order,
+            vec![
+                ("remedial", Some(C1), 30.0),
+                // 45 − 28 = 17 days overdue before 10 − 7 = 3.
+                ("remedial", Some(C2), 45.0),
+                ("remedial", Some(C2), 10.0),
+                ("remedial", Some(FI), 90.0),
+                ("zs", None, 1.0),
+                ("inspection", None, 70.0),
+                ("ir_le", None, 1.0),
+            ]
+        );
+    }
 }
