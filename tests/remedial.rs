@@ -457,6 +457,10 @@ fn bad_requests_name_what_was_expected_and_write_nothing() {
     // Nothing was written by any of them.
     assert_eq!(json(&db, &["export", "--format", "json"]), all);
     assert_eq!(json(&db, &["remedial", "list", "--json"]), listed);
+    // The help carries the caution.
+    run(&db, &["remedial", "confirm", "--help"])
+        .success()
+        .stdout(predicate::str::contains("never replace"));
     // A reading command refuses a database that does not exist, and does not make one.
     let none = dir.path().join("none.db");
     run(&none, &["remedial", "list"])

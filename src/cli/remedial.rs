@@ -28,6 +28,7 @@ pub enum Cmd {
 }
 
 #[derive(ClapArgs, Debug)]
+#[command(after_help = super::caution_help())]
 pub struct ListArgs {
     /// Only this property
     pub property: Option<String>,
@@ -46,6 +47,7 @@ pub struct ListArgs {
 }
 
 #[derive(ClapArgs, Debug)]
+#[command(after_help = super::caution_help())]
 pub struct DoneArgs {
     /// The observation's number, as `remedial list` shows it
     pub observation: i64,
@@ -70,6 +72,7 @@ pub struct DoneArgs {
 }
 
 #[derive(ClapArgs, Debug)]
+#[command(after_help = super::caution_help())]
 pub struct PeriodArgs {
     /// The observation's number, as `remedial list` shows it
     pub observation: i64,
@@ -79,6 +82,7 @@ pub struct PeriodArgs {
 }
 
 #[derive(ClapArgs, Debug)]
+#[command(after_help = super::caution_help())]
 pub struct ConfirmArgs {
     /// Property reference
     pub property: String,
