@@ -841,6 +841,21 @@ fn open_remedial_work_is_in_the_report_until_it_is_done() {
             ("C2", d("2024-07-15"), Some(-5))
         ]
     );
+    // The landlord's first action: have the work done, by the earliest due date.
+    let first = &r.summary.actions[0];
+    let (fi, c2) = (
+        r.open_remedials[0].observation,
+        r.open_remedials[1].observation,
+    );
+    assert!(
+        first
+            .what
+            .contains(&format!("on 2 observations (FI {fi} and C2 {c2})")),
+        "{}",
+        first.what
+    );
+    assert_eq!(first.by, Some(d("2024-07-15")));
+    assert_eq!(first.when, "now: it was due by 15 July 2024");
     let html = report::property::render(&r);
     assert!(
         html.contains("Remedial work outstanding"),
