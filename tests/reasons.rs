@@ -335,6 +335,14 @@ fn every_reason_of_the_demo_adds_up() {
     let today = NaiveDate::from_ymd_opt(2026, 12, 1).unwrap();
     let seen = check_all(&store, &Settings::defaults(today));
     assert!(seen >= 5, "only {seen} reasons checked");
+    // The demo's FI left open is among them.
+    let rows = analysis::worklist(
+        &store,
+        &Settings::defaults(today),
+        &WorklistFilter::default(),
+    )
+    .unwrap();
+    assert!(rows.iter().any(|r| r.quantity == "remedial"));
 }
 
 #[test]
