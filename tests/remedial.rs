@@ -169,9 +169,12 @@ fn list_done_and_the_written_confirmation() {
     run(&db, &["remedial", "list", "--client", "invented lets"])
         .success()
         .stdout(predicate::str::contains("7 days left").and(predicate::str::contains("Caution")));
+    // An unknown client is an error naming the known ones, as for `flags --client`.
     run(&db, &["remedial", "list", "--client", "Someone Else"])
-        .success()
-        .stdout(predicate::str::contains("nothing to list"));
+        .code(1)
+        .stderr(predicate::str::contains(
+            "known clients are \"Invented Lets\"",
+        ));
     // A shorter period the report gives (regulation 3(4)(b)): 10 days starting with the
     // inspection date end on day 10, `last + 9`; today is day 21.
     run(&db, &["remedial", "period", &c1, "--days", "10"])
@@ -296,7 +299,7 @@ fn list_done_and_the_written_confirmation() {
         "regulation 3(5)",
         "never replace",
         "competent, licensed person",
-        "assigns no code and no overall outcome",
+        "no overall outcome of its own",
         "Signature",
     ] {
         assert!(html.contains(want), "{want} missing from the confirmation");
@@ -305,6 +308,8 @@ fn list_done_and_the_written_confirmation() {
         !html.contains("No RCD test notice"),
         "the C3 is not confirmed"
     );
+    // The caution once, as in every report.
+    assert_eq!(html.matches(ohmtrail::CAUTION).count(), 1);
     // One observation only.
     run(
         &db,

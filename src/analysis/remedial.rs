@@ -148,28 +148,40 @@ pub struct ListFilter {
 /// are read as the worklist reads them (only the observations that need work), one property in
 /// memory at a time.
 pub fn list(store: &Store, today: NaiveDate, filter: &ListFilter) -> Result<Vec<RemedialItem>> {
+    // The client's properties as the worklist finds them: an unknown name is an error listing
+    // the known clients, and no other client's property is loaded.
+    let client = match &filter.client {
+        Some(c) => Some(store.client_properties(c)?),
+        None => None,
+    };
     let mut out = Vec::new();
     let mut take = |h: &PropertyHistory| {
-        let client_fits = filter.client.as_deref().is_none_or(|c| {
-            h.property
-                .client
-                .as_deref()
-                .is_some_and(|pc| pc.eq_ignore_ascii_case(c.trim()))
-        });
-        if client_fits && !h.observations.is_empty() {
+        if !h.observations.is_empty() {
             let schedule = super::due::schedule(h);
             out.extend(items(h, schedule.last_full, today));
         }
+        Ok(())
     };
-    match &filter.property {
-        Some(r) => {
+    match (&filter.property, &client) {
+        (Some(r), _) => {
             let id = store.property(r)?.id;
-            take(&store.history(id)?);
+            if let Some((name, ids)) = &client
+                && !ids.contains(&id)
+            {
+                return Err(crate::Error::invalid(format!(
+                    "property {r:?} is not one of client {name:?}'s"
+                )));
+            }
+            take(&store.history(id)?)?;
         }
-        None => store.for_each_history_in(ALL_PROPERTIES, HistoryParts::FOR_FLAGS, |h| {
-            take(&h);
-            Ok(())
-        })?,
+        (None, Some((_, ids))) => {
+            for &id in ids {
+                store.for_each_history_in((id, id), HistoryParts::FOR_FLAGS, |h| take(&h))?;
+            }
+        }
+        (None, None) => {
+            store.for_each_history_in(ALL_PROPERTIES, HistoryParts::FOR_FLAGS, |h| take(&h))?
+        }
     }
     out.sort_by(|a, b| {
         a.property_ref

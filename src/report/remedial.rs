@@ -108,9 +108,7 @@ pub fn confirmation(
         regulation: REGULATION_NOTE.into(),
         cautions: vec![
             crate::CAUTION.into(),
-            "Each code (C1, C2, FI) is exactly as the inspector recorded it at the visit; \
-             ohmtrail assigns no code and no overall outcome of its own."
-                .into(),
+            "Each code (C1, C2, FI) is exactly as the inspector recorded it at the visit.".into(),
             "This page records what was entered; it is a written confirmation only when signed \
              by the qualified person who carried out or verified the work."
                 .into(),
