@@ -310,6 +310,14 @@ fn list_done_and_the_written_confirmation() {
     );
     // The caution once, as in every report.
     assert_eq!(html.matches(ohmtrail::CAUTION).count(), 1);
+    // To standard output with `-o -`, as `report` does.
+    run(&db, &["remedial", "confirm", "RM-1", "-o", "-"])
+        .success()
+        .stdout(
+            predicate::str::starts_with("<!DOCTYPE html>").and(predicate::str::contains(
+                "Circuit 2 isolated and locked off",
+            )),
+        );
     // One observation only.
     run(
         &db,

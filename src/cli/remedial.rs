@@ -89,8 +89,13 @@ pub struct ConfirmArgs {
     /// Only these observations (repeat the flag); by default every one with work recorded
     #[arg(long = "observation", value_name = "N")]
     pub observations: Vec<i64>,
-    /// The HTML file to write
-    #[arg(short = 'o', long = "out", value_name = "FILE")]
+    /// The HTML file to write (`-` for standard output)
+    #[arg(
+        short = 'o',
+        long = "out",
+        visible_alias = "output",
+        value_name = "FILE"
+    )]
     pub out: PathBuf,
 }
 
@@ -125,10 +130,18 @@ pub fn run(cmd: &Cmd, ctx: &Context, out: &mut dyn Write) -> Result<()> {
             record(ctx, out, a.observation, &new)
         }
         Cmd::Confirm(a) => {
-            output_dir(&a.out)?;
+            let to_stdout = super::report::is_stdout(&a.out);
+            if !to_stdout {
+                output_dir(&a.out)?;
+            }
             let store = ctx.open_existing()?;
             let c = confirm::confirmation(&store, &a.property, &a.observations, today())?;
-            write_atomic(&a.out, confirm::render(&c).as_bytes())?;
+            let page = confirm::render(&c);
+            if to_stdout {
+                out.write_all(page.as_bytes())?;
+                return Ok(());
+            }
+            write_atomic(&a.out, page.as_bytes())?;
             writeln!(
                 out,
                 "wrote {} ({} confirmed)",
