@@ -150,50 +150,7 @@ pub fn render(c: &Confirmation) -> String {
          <th scope=\"col\">Work done</th></tr></thead>\n<tbody>\n",
     );
     for i in &c.items {
-        let place = match (&i.board, &i.circuit) {
-            (Some(b), Some(n)) => format!("{}/{}: ", esc(b), esc(n)),
-            (Some(b), None) => format!("{}: ", esc(b)),
-            _ => String::new(),
-        };
-        let done: Vec<String> = i
-            .work_events()
-            .map(|e| {
-                let (what, label) = match e.kind {
-                    RemedialKind::MadeSafe => ("Made safe", "What was done"),
-                    RemedialKind::Remedied if i.code == crate::model::ObservationCode::FI => {
-                        ("Investigated", "What was done")
-                    }
-                    RemedialKind::Remedied => ("Remedied", "What was done"),
-                    _ => ("No longer applicable", "Why"),
-                };
-                format!(
-                    "<p><strong>{what}</strong> on {} by {}.<br>{label}: {}</p>",
-                    e.date.map(time).unwrap_or_default(),
-                    esc(e.by.as_deref().unwrap_or("")),
-                    esc(e.what.as_deref().unwrap_or(""))
-                )
-            })
-            .collect();
-        let still = if i.status.is_open() {
-            format!(
-                "<p class=\"small\"><strong>▲ The {} is still required.</strong></p>",
-                i.work_words()
-            )
-        } else {
-            String::new()
-        };
-        let _ = writeln!(
-            o,
-            "<tr><td>{}</td><td>{}</td><td><span class=\"code\">{}</span> {place}{}</td>\
-             <td>{}<br><span class=\"small\">{}</span></td><td>{}{still}</td></tr>",
-            i.observation,
-            time(i.inspected),
-            i.code.as_str(),
-            esc(&i.text),
-            time(i.due),
-            esc(&i.period_basis),
-            done.join("")
-        );
+        item_row(&mut o, i);
     }
     o.push_str("</tbody>\n</table>\n</section>\n");
     o.push_str(
@@ -212,4 +169,52 @@ pub fn render(c: &Confirmation) -> String {
     );
     o.push_str(PAGE_END);
     o
+}
+
+/// One observation's row: as recorded, its due date, and every piece of work done on it.
+fn item_row(o: &mut String, i: &RemedialItem) {
+    let place = match (&i.board, &i.circuit) {
+        (Some(b), Some(n)) => format!("{}/{}: ", esc(b), esc(n)),
+        (Some(b), None) => format!("{}: ", esc(b)),
+        _ => String::new(),
+    };
+    let done: Vec<String> = i
+        .work_events()
+        .map(|e| {
+            let (what, label) = match e.kind {
+                RemedialKind::MadeSafe => ("Made safe", "What was done"),
+                RemedialKind::Remedied if i.code == crate::model::ObservationCode::FI => {
+                    ("Investigated", "What was done")
+                }
+                RemedialKind::Remedied => ("Remedied", "What was done"),
+                _ => ("No longer applicable", "Why"),
+            };
+            format!(
+                "<p><strong>{what}</strong> on {} by {}.<br>{label}: {}</p>",
+                e.date.map(time).unwrap_or_default(),
+                esc(e.by.as_deref().unwrap_or("")),
+                esc(e.what.as_deref().unwrap_or(""))
+            )
+        })
+        .collect();
+    let still = if i.status.is_open() {
+        format!(
+            "<p class=\"small\"><strong>▲ The {} is still required.</strong></p>",
+            i.work_words()
+        )
+    } else {
+        String::new()
+    };
+    let _ = writeln!(
+        o,
+        "<tr><td>{}</td><td>{}</td><td><span class=\"code\">{}</span> {place}{}</td>\
+         <td>{}<br><span class=\"small\">{}</span></td><td>{}{still}</td></tr>",
+        i.observation,
+        time(i.inspected),
+        i.code.as_str(),
+        esc(&i.text),
+        time(i.due),
+        esc(&i.period_basis),
+        done.join("")
+    );
 }
