@@ -218,3 +218,56 @@ fn item_row(o: &mut String, i: &RemedialItem) {
         done.join("")
     );
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::model::ObservationCode;
+    use crate::model::remedial::{RemedialEvent, RemedialStatus};
+
+    #[test]
+    fn user_text_is_escaped_never_markup() {
+        let d = |s: &str| s.parse::<NaiveDate>().unwrap();
+        let item = RemedialItem {
+            observation: 3,
+            property_ref: "P<1>".into(),
+            address: Some("1 \"Quoted\" Row & Co".into()),
+            client: None,
+            inspected: d("2025-06-14"),
+            board: Some("CU1".into()),
+            circuit: Some("2".into()),
+            code: ObservationCode::C2,
+            text: "Cover <script>alert(1)</script> missing".into(),
+            period_days: 28,
+            period_basis: "28 days".into(),
+            due: d("2025-07-11"),
+            status: RemedialStatus::Remedied,
+            superseded_by: None,
+            days_left: None,
+            events: vec![RemedialEvent {
+                id: 1,
+                observation_id: 3,
+                kind: RemedialKind::Remedied,
+                date: Some(d("2025-07-01")),
+                by: Some("A. <b>Tester</b>".into()),
+                what: Some("Fitted & tested".into()),
+                period_days: None,
+            }],
+        };
+        let c = Confirmation {
+            generated: d("2025-07-02"),
+            property_ref: "P<1>".into(),
+            address: item.address.clone(),
+            client: None,
+            items: vec![item],
+            regulation: REGULATION_NOTE.into(),
+            cautions: vec![crate::CAUTION.into()],
+        };
+        let html = render(&c);
+        assert!(!html.contains("<script>") && !html.contains("<b>"));
+        assert!(html.contains("Cover &lt;script&gt;alert(1)&lt;/script&gt; missing"));
+        assert!(html.contains("A. &lt;b&gt;Tester&lt;/b&gt;"));
+        assert!(html.contains("Fitted &amp; tested"));
+        assert!(html.contains("<strong>Remedied</strong> on"));
+    }
+}
