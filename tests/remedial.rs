@@ -279,7 +279,11 @@ fn list_done_and_the_written_confirmation() {
         ],
     )
     .success()
-    .stdout(predicate::str::contains("2 observations confirmed"));
+    .stdout(predicate::str::is_empty())
+    .stderr(
+        predicate::str::contains("2 observations confirmed")
+            .and(predicate::str::contains("Caution")),
+    );
     let html = std::fs::read_to_string(&out).unwrap();
     for want in [
         "RM-1",
@@ -332,7 +336,7 @@ fn list_done_and_the_written_confirmation() {
         ],
     )
     .success()
-    .stdout(predicate::str::contains("1 observation confirmed"));
+    .stderr(predicate::str::contains("1 observation confirmed"));
     let html = std::fs::read_to_string(&out).unwrap();
     assert!(!html.contains("Garden socket cover missing"));
 }

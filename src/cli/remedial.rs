@@ -12,7 +12,7 @@ use ohmtrail::analysis::remedial::{ListFilter, RemedialItem, list};
 use ohmtrail::model::remedial::{NewRemedialEvent, RemedialKind, RemedialStatus};
 use ohmtrail::report::remedial as confirm;
 
-use super::output::{json, output_dir, table, write_atomic};
+use super::output::{json, output_dir, status, table, write_atomic};
 use super::{CAUTION, Context, parse_date, today};
 
 #[derive(Subcommand, Debug)]
@@ -142,12 +142,16 @@ pub fn run(cmd: &Cmd, ctx: &Context, out: &mut dyn Write) -> Result<()> {
                 return Ok(());
             }
             write_atomic(&a.out, page.as_bytes())?;
-            writeln!(
+            // Status lines go to stderr: stdout carries only data.
+            status(
                 out,
-                "wrote {} ({} confirmed)",
-                a.out.display(),
-                super::output::count(c.items.len(), "observation", "observations")
+                format_args!(
+                    "wrote {} ({} confirmed)",
+                    a.out.display(),
+                    super::output::count(c.items.len(), "observation", "observations")
+                ),
             )?;
+            status(out, format_args!("Caution: {CAUTION}"))?;
             Ok(())
         }
     }
