@@ -276,6 +276,9 @@ fn flagged_circuit(o: &mut String, i: usize, f: &FlaggedCircuit) {
     if let Some(d) = &f.device {
         sub.push(format!("protective device {}", esc(d)));
     }
+    if let Some(r) = &f.rcd_id {
+        sub.push(format!("on {}", esc(r)));
+    }
     if !f.lineage.is_empty() {
         sub.push(format!(
             "history carried through {}",
@@ -306,7 +309,9 @@ fn finding_block(o: &mut String, name: &str, f: &FlaggedFinding, repeat: bool) {
         return;
     }
     let mut facts = Vec::new();
-    if f.kind != "ring_check" {
+    // A recorded fact (polarity, test button) has no reading: its sentence gives the visit.
+    let recorded = crate::analysis::facts::label(f.quantity).is_some();
+    if f.kind != "ring_check" && !recorded {
         facts.push(format!(
             "last reading {} on {}",
             esc(&value_words(f.last_value, f.unit, false)),
@@ -454,6 +459,10 @@ fn board_table(o: &mut String, b: &BoardTable) {
             meta.push(d.clone());
         }
         let _ = write!(circ, "<span>{}</span>", esc(&meta.join(", ")));
+        let schedule = row.schedule.words();
+        if !schedule.is_empty() {
+            let _ = write!(circ, "<span>{}</span>", esc(&schedule.join(" · ")));
+        }
         match row.last_visit {
             Some(d) => {
                 let _ = write!(circ, "<span>read {}</span>", d.format("%Y-%m-%d"));
