@@ -8,11 +8,13 @@
 //! - [`store`]: the SQLite history; the only module that talks SQL.
 //! - [`import`]: visit files in, with exact errors.
 //! - [`export`]: the same format out again.
+//! - [`archive`]: the whole history in one file, and its merge into another database.
 //! - [`onsite`]: the visit brief and the live comparison while testing; pure.
 //! - [`sim`]: a seeded portfolio simulator with site noise and planted faults, and the scoring
 //!   of the worklist and the brief against its truth.
 
 pub mod analysis;
+pub mod archive;
 pub mod demo;
 pub mod error;
 pub mod export;

@@ -5,6 +5,7 @@ use super::output::count;
 use anyhow::Result;
 use clap::{Args as ClapArgs, ValueEnum};
 
+use ohmtrail::archive::write_archive;
 use ohmtrail::export::{export_csv, export_json, observation_count};
 
 use super::Context;
@@ -30,6 +31,10 @@ pub struct Args {
     /// csv, the visit-file format, or json
     #[arg(long, value_enum, default_value = "csv")]
     pub format: Format,
+    /// Write the whole history, losslessly, as an archive FILE for `ohmtrail merge` on another
+    /// machine (register, events, lineage, visits, every reading, observations, settings)
+    #[arg(long, value_name = "FILE", conflicts_with_all = ["property", "output"])]
+    pub archive: Option<PathBuf>,
 }
 
 /// `visits.csv` → `visits.observations.csv`, beside it.
@@ -43,6 +48,18 @@ fn observations_path(p: &Path) -> PathBuf {
 
 pub fn run(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
     let store = ctx.open_existing()?;
+    if let Some(p) = &args.archive {
+        let n = write_atomic_with(p, |w| Ok(write_archive(&store, w)?))?;
+        eprintln!(
+            "wrote {}: {}, {}, {}, {}",
+            p.display(),
+            count(n.rows("property"), "property", "properties"),
+            count(n.rows("circuit"), "circuit", "circuits"),
+            count(n.rows("visit"), "visit", "visits"),
+            count(n.rows("test_record"), "test record", "test records"),
+        );
+        return Ok(());
+    }
     let property = args.property.as_deref();
     // `-o -` is standard output, as for `report`.
     let output = args

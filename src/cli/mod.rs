@@ -12,6 +12,7 @@ pub mod import;
 pub mod init;
 pub mod instrument;
 pub mod limits;
+pub mod merge;
 pub mod output;
 pub mod property;
 pub mod record;
@@ -70,6 +71,8 @@ pub enum Command {
     Import(import::Args),
     /// Export test records and observations as CSV or JSON, in the format import reads
     Export(export::Args),
+    /// Merge an archive (from `export --archive`) into this database: new visits added, identical ones skipped, conflicts reported with both values
+    Merge(merge::Args),
     /// List the visits in the history
     #[command(subcommand)]
     Visit(visit::Cmd),
@@ -161,6 +164,7 @@ pub fn run(cli: Cli, out: &mut dyn Write) -> Result<()> {
         Command::Demo(args) => demo::run(&args, &ctx, out),
         Command::Import(args) => import::run(&args, &ctx, out),
         Command::Export(args) => export::run(&args, &ctx, out),
+        Command::Merge(args) => merge::run(&args, &ctx, out),
         Command::Brief(args) => brief::run(&args, &ctx, out),
         Command::Record(args) => record::run(&args, &ctx, out),
     }

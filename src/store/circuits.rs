@@ -168,9 +168,9 @@ impl Store {
         self.conn.execute(
             "INSERT INTO circuit (board_id, number, description, kind, live_mm2, cpc_mm2, length_m,
                  device, rcd_ma, rcd_type, insulation, disconnect_s, replaces_circuit_id, rcd_delay,
-                 wiring_type, ref_method, points, breaking_ka, afdd, rcd_device_id)
+                 wiring_type, ref_method, points, breaking_ka, afdd, rcd_device_id, uuid)
              VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11, ?12, ?13, ?14, ?15, ?16, ?17,
-                 ?18, ?19, ?20)",
+                 ?18, ?19, ?20, ?21)",
             params![
                 board.id,
                 number,
@@ -192,6 +192,7 @@ impl Store {
                 d.breaking_ka,
                 d.afdd,
                 rcd_device_id,
+                new_uuid(),
             ],
         )?;
         self.circuit_by_id(self.conn.last_insert_rowid())

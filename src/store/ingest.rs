@@ -90,6 +90,8 @@ pub struct ExportRecord {
     pub inspector: Option<String>,
     pub instrument: Option<String>,
     pub ambient_c: Option<f64>,
+    /// Ze measured at the board at the visit (Zdb at a sub-board); at a board fed from the
+    /// origin, the visit's own Ze when no board reading is stored.
     pub ze_ohm: Option<f64>,
     /// The board feeding the record's board, by designation.
     pub fed_from: Option<String>,
@@ -155,6 +157,7 @@ impl HeldInserts<'_> {
             d.breaking_ka,
             d.afdd,
             rcd_device_id,
+            super::new_uuid(),
         ])?)
     }
 }
@@ -173,9 +176,9 @@ impl Store {
             circuit: self.conn.prepare(
                 "INSERT INTO circuit (board_id, number, description, kind, live_mm2, cpc_mm2, length_m,
                      device, rcd_ma, rcd_type, rcd_delay, insulation, wiring_type, ref_method,
-                     points, breaking_ka, afdd, rcd_device_id)
+                     points, breaking_ka, afdd, rcd_device_id, uuid)
                  VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11, ?12, ?13, ?14, ?15, ?16,
-                     ?17, ?18)",
+                     ?17, ?18, ?19)",
             )?,
         })
     }
@@ -215,8 +218,8 @@ impl Store {
     pub fn ingest_insert_property(&self, reference: &str, address: Option<&str>) -> Result<i64> {
         let mut st = self
             .conn
-            .prepare_cached("INSERT INTO property (ref, address) VALUES (?1, ?2)")?;
-        st.execute(params![reference, address])?;
+            .prepare_cached("INSERT INTO property (ref, address, uuid) VALUES (?1, ?2, ?3)")?;
+        st.execute(params![reference, address, super::new_uuid()])?;
         Ok(self.conn.last_insert_rowid())
     }
 
@@ -249,9 +252,14 @@ impl Store {
         earthing: Option<&str>,
     ) -> Result<i64> {
         let mut st = self.conn.prepare_cached(
-            "INSERT INTO board (property_id, designation, earthing) VALUES (?1, ?2, ?3)",
+            "INSERT INTO board (property_id, designation, earthing, uuid) VALUES (?1, ?2, ?3, ?4)",
         )?;
-        st.execute(params![property_id, designation, earthing])?;
+        st.execute(params![
+            property_id,
+            designation,
+            earthing,
+            super::new_uuid()
+        ])?;
         Ok(self.conn.last_insert_rowid())
     }
 
@@ -393,15 +401,16 @@ impl Store {
         instrument_id: Option<i64>,
     ) -> Result<i64> {
         let mut st = self.conn.prepare_cached(
-            "INSERT INTO visit (property_id, date, inspector, instrument_id, ambient_c)
-             VALUES (?1, ?2, ?3, ?4, ?5)",
+            "INSERT INTO visit (property_id, date, inspector, instrument_id, ambient_c, uuid)
+             VALUES (?1, ?2, ?3, ?4, ?5, ?6)",
         )?;
         st.execute(params![
             property_id,
             date,
             v.inspector,
             instrument_id,
-            v.ambient_c
+            v.ambient_c,
+            super::new_uuid()
         ])?;
         Ok(self.conn.last_insert_rowid())
     }
@@ -543,7 +552,8 @@ impl Store {
         let property_ref = canonical.as_ref().map(|p| p.reference.as_str());
         let sql = format!(
             "SELECT p.ref, p.address, b.designation, b.earthing, c.id, c.number,
-                    {}, v.date, v.inspector, i.serial, v.ambient_c, bt.ze_ohm,
+                    {}, v.date, v.inspector, i.serial, v.ambient_c,
+                    COALESCE(bt.ze_ohm, CASE WHEN b.fed_from_board_id IS NULL THEN v.ze_ohm END),
                     {},
                     (SELECT f.designation FROM board f WHERE f.id = b.fed_from_board_id),
                     bt.zdb_ohm, bt.submain_r1r2_ohm, bt.pfc_ka, v.report_ref, v.outcome,

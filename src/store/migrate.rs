@@ -42,7 +42,10 @@ pub const MIGRATIONS: &[(&str, &str)] = &[
         "010_circuit_schedule",
         include_str!("../../schema/010_circuit_schedule.sql"),
     ),
-    // 011 is taken by work not yet merged; see `migration_names_are_numbered_in_order`.
+    (
+        "011_stable_ids",
+        include_str!("../../schema/011_stable_ids.sql"),
+    ),
     (
         "012_remedial",
         include_str!("../../schema/012_remedial.sql"),
@@ -140,20 +143,9 @@ mod tests {
 
     #[test]
     fn migration_names_are_numbered_in_order() {
-        // TEMPORARY: 011 is numbered on work not yet merged, so 012 sits eleventh. This allows
-        // exactly that one gap; when 011 lands, drop `GAP` and check `i + 1` for every name.
-        const GAP: u32 = 11;
-        let numbers: Vec<u32> = MIGRATIONS
-            .iter()
-            .map(|(name, _)| {
-                assert_eq!(name.as_bytes().get(3), Some(&b'_'), "{name}");
-                name[..3].parse().unwrap_or_else(|_| panic!("{name}"))
-            })
-            .collect();
-        let expected: Vec<u32> = (1..=MIGRATIONS.len() as u32 + 1)
-            .filter(|n| *n != GAP)
-            .collect();
-        assert_eq!(numbers, expected);
+        for (i, (name, _)) in MIGRATIONS.iter().enumerate() {
+            assert!(name.starts_with(&format!("{:03}_", i + 1)), "{name}");
+        }
     }
 
     #[test]
@@ -281,6 +273,35 @@ mod tests {
         assert!(refuses("UPDATE board_test SET submain_r1r2_ohm = -0.1"));
     }
 
+    #[test]
+    fn rows_made_before_011_get_distinct_version_4_uuids() {
+        let mut conn = at_version_3();
+        apply(&mut conn).unwrap();
+        let mut seen = std::collections::HashSet::new();
+        for t in ["property", "board", "circuit", "visit"] {
+            let ids: Vec<Vec<u8>> = conn
+                .prepare(&format!("SELECT uuid FROM {t}"))
+                .unwrap()
+                .query_map([], |r| r.get(0))
+                .unwrap()
+                .collect::<rusqlite::Result<_>>()
+                .unwrap();
+            assert!(!ids.is_empty(), "{t}");
+            for id in ids {
+                // RFC 9562 section 5.4: version 4 in the high nibble of byte 6, variant 10 in
+                // the two high bits of byte 8.
+                let u = uuid::Uuid::from_slice(&id).unwrap();
+                assert_eq!(u.get_version_num(), 4, "{t} {u}");
+                assert_eq!(u.get_variant(), uuid::Variant::RFC4122, "{t} {u}");
+                assert!(seen.insert(u), "{t} {u} twice");
+            }
+        }
+        // The column takes 16 bytes and nothing else.
+        let refuses = |sql: &str| conn.execute(sql, []).is_err();
+        assert!(refuses("UPDATE property SET uuid = x'0102'"));
+        assert!(refuses("UPDATE property SET uuid = 'not bytes'"));
+    }
+
     /// A database at version 3 with a register in it, as an earlier build left it.
     fn at_version_3() -> Connection {
         let conn = Connection::open_in_memory().unwrap();
@@ -347,19 +368,28 @@ mod tests {
                 "008_rcd_delay",
                 "009_visit_report_supply",
                 "010_circuit_schedule",
+                "011_stable_ids",
                 "012_remedial"
             ]
         );
         assert_eq!(user_version(&conn).unwrap(), latest_version());
         for (t, rows) in tables.iter().zip(&before) {
             // 008 adds rcd_delay as the circuit's last column and 010 six more, NULL for these
-            // rows; 010 adds three to test records.
+            // rows; 010 adds three to test records; 011 then adds a random 16-byte uuid to
+            // boards and circuits, after all of them.
             let added = match *t {
                 "circuit" => 7,
                 "test_record" => 3,
                 _ => 0,
             };
             let mut after = dump(&conn, &format!("SELECT * FROM {t} ORDER BY id"));
+            if *t == "circuit" || *t == "board" {
+                for row in &mut after {
+                    let (rest, uuid) = row.rsplit_once('|').unwrap();
+                    assert!(uuid.starts_with("Blob("), "{uuid}");
+                    *row = rest.to_string();
+                }
+            }
             for row in &mut after {
                 for _ in 0..added {
                     *row = row.strip_suffix("|Null").unwrap().to_string();
@@ -367,11 +397,14 @@ mod tests {
             }
             assert_eq!(&after, rows, "{t}");
         }
-        // Every index is kept; 007 adds one, 010 the unique index of its RCD table, 012 one.
+        // Every index is kept; 007 adds one, 010 the unique index of its RCD table, 011 two,
+        // 012 one.
         let mut expected = indexes_before.clone();
         for name in [
             "property_ref_nocase",
             "sqlite_autoindex_rcd_device_1",
+            "property_uuid",
+            "board_uuid",
             "remedial_event_observation",
         ] {
             expected.push(format!(

@@ -7,9 +7,11 @@
 #[macro_use]
 mod record;
 
+mod archive;
 mod circuits;
 mod history;
 mod ingest;
+mod merge;
 pub mod migrate;
 mod open;
 mod pending;
@@ -17,10 +19,17 @@ mod register;
 mod remedial;
 mod visits;
 
+pub use archive::{
+    ColumnKind, ColumnSchema, Identity, MACHINE_STATE_TABLES, TableSchema, UUID_COLUMN,
+};
 pub use history::{ALL_PROPERTIES, HistoryParts, PropertyHistory};
 pub use ingest::{
     ExportObservation, ExportRecord, HeldInserts, IngestBoard, IngestChange, IngestProperty,
     IngestVisit, LaterHistory,
+};
+pub use merge::{
+    ArchiveCell, ArchiveTable, Conflict, ConflictKind, MergeOutcome, Merger, Prefer, TableCounts,
+    show_value,
 };
 pub use open::APPLICATION_ID;
 pub use pending::Abandoned;
@@ -233,6 +242,14 @@ pub(crate) fn observation_from_row(r: &Row) -> rusqlite::Result<crate::model::Ob
         code: code.parse().unwrap_or(crate::model::ObservationCode::FI),
         text: r.get(5)?,
     })
+}
+
+/// A new random identifier (RFC 9562 version 4) for a property, board, circuit or visit, as
+/// the 16 bytes stored in their `uuid` column (migration 011).
+pub(crate) fn new_uuid() -> [u8; 16] {
+    *uuid::Builder::from_random_bytes(rand::random())
+        .as_uuid()
+        .as_bytes()
 }
 
 /// Shortest decimal text of a number, as the register shows it (2.5, not 2.5000).

@@ -148,9 +148,9 @@ impl Store {
                 .map(|c| s.ensure_client(c))
                 .transpose()?;
             s.conn.execute(
-                "INSERT INTO property (ref, address, client_id, interval_months, notes)
-                 VALUES (?1, ?2, ?3, ?4, ?5)",
-                params![reference, p.address, client_id, interval, p.notes],
+                "INSERT INTO property (ref, address, client_id, interval_months, notes, uuid)
+                 VALUES (?1, ?2, ?3, ?4, ?5, ?6)",
+                params![reference, p.address, client_id, interval, p.notes, new_uuid()],
             )?;
             s.property(reference)
         })
@@ -270,14 +270,15 @@ impl Store {
                 Some(f) => Some(s.board(property.id, property_ref, f)?.id),
             };
             s.conn.execute(
-                "INSERT INTO board (property_id, designation, location, fed_from_board_id, earthing)
-                 VALUES (?1, ?2, ?3, ?4, ?5)",
+                "INSERT INTO board (property_id, designation, location, fed_from_board_id, earthing, uuid)
+                 VALUES (?1, ?2, ?3, ?4, ?5, ?6)",
                 params![
                     property.id,
                     designation,
                     b.location,
                     fed_from,
-                    b.earthing.map(|e| e.as_str())
+                    b.earthing.map(|e| e.as_str()),
+                    new_uuid()
                 ],
             )?;
             s.board(property.id, property_ref, designation)

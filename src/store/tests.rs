@@ -174,6 +174,110 @@ fn atomic_rolls_back_on_error() {
     assert!(s.property_id("X").unwrap().is_none());
 }
 
+/// Every statement in `store` that adds a property, board, circuit or visit gives it an
+/// identifier (migration 011): the archive and the merge recognise rows by it. Read from the
+/// source, so a new insert path that forgets it fails here rather than in a merge.
+#[test]
+fn every_insert_of_an_identified_row_sets_its_uuid() {
+    let dir = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("src/store");
+    let mut found = 0;
+    for entry in std::fs::read_dir(&dir).unwrap() {
+        let path = entry.unwrap().path();
+        if path.file_name().is_some_and(|n| n == "tests.rs") {
+            continue;
+        }
+        let text = std::fs::read_to_string(&path).unwrap();
+        // Tests build old databases by hand; only the code above them counts.
+        let code = text.split("#[cfg(test)]").next().unwrap();
+        for table in ["property", "board", "circuit", "visit"] {
+            let needle = format!("INSERT INTO {table} (");
+            for (at, _) in code.match_indices(&needle) {
+                let cols = &code[at + needle.len()..];
+                let cols = &cols[..cols.find(')').unwrap()];
+                assert!(
+                    cols.split(',').any(|c| c.trim() == "uuid"),
+                    "{}: INSERT INTO {table} ({cols}) sets no uuid",
+                    path.display()
+                );
+                found += 1;
+            }
+        }
+    }
+    // The register commands, the import and the on-site visit: eight statements today.
+    assert!(found >= 8, "found only {found} inserts");
+}
+
+/// The insert paths, run: every row they make carries a version 4 identifier.
+#[test]
+fn register_and_import_paths_give_every_row_a_uuid() {
+    let s = Store::open_in_memory().unwrap();
+    s.add_property(&NewProperty {
+        reference: "P1".into(),
+        ..Default::default()
+    })
+    .unwrap();
+    s.add_board(
+        "P1",
+        &NewBoard {
+            designation: "DB1".into(),
+            ..Default::default()
+        },
+    )
+    .unwrap();
+    let c = s
+        .add_circuit("P1", "DB1", "1", &CircuitDetails::default())
+        .unwrap();
+    s.replace_circuit(
+        c.id,
+        None,
+        None,
+        &CircuitDetails::default(),
+        day("2021-01-01"),
+        ChangeKind::CircuitReplaced,
+        None,
+    )
+    .unwrap();
+    let p = s.property_id("P1").unwrap().unwrap();
+    s.add_visit(
+        p,
+        &crate::store::NewVisit {
+            date: Some(day("2022-02-02")),
+            ..Default::default()
+        },
+        crate::model::VisitState::Pending,
+    )
+    .unwrap();
+    let q = s.ingest_insert_property("P2", None).unwrap();
+    let b = s.ingest_insert_board(q, "CU", None).unwrap();
+    s.ingest_inserts()
+        .unwrap()
+        .circuit(b, "1", &CircuitDetails::default(), None)
+        .unwrap();
+    let v = crate::store::IngestVisit {
+        id: 0,
+        inspector: None,
+        instrument: None,
+        ambient_c: None,
+    };
+    s.ingest_insert_visit(q, day("2023-03-03"), &v, None)
+        .unwrap();
+    for t in ["property", "board", "circuit", "visit"] {
+        let (rows, good): (i64, i64) = s
+            .conn
+            .query_row(
+                &format!(
+                    "SELECT count(*), count(*) FILTER (WHERE length(uuid) = 16
+                       AND substr(hex(uuid), 13, 1) = '4') FROM {t}"
+                ),
+                [],
+                |r| Ok((r.get(0)?, r.get(1)?)),
+            )
+            .unwrap();
+        assert!(rows >= 2, "{t}");
+        assert_eq!(good, rows, "{t}");
+    }
+}
+
 #[test]
 fn the_schedule_attributes_are_kept_and_their_edits_are_dated_changes() {
     let s = store_with_property();

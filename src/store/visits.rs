@@ -113,8 +113,8 @@ impl Store {
                 }),
             };
             s.conn.execute(
-                "INSERT INTO visit (property_id, date, inspector, instrument_id, ambient_c, ze_ohm, pfc_ka, state)
-                 VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8)",
+                "INSERT INTO visit (property_id, date, inspector, instrument_id, ambient_c, ze_ohm, pfc_ka, state, uuid)
+                 VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9)",
                 params![
                     property_id,
                     date,
@@ -123,7 +123,8 @@ impl Store {
                     v.ambient_c,
                     v.ze_ohm,
                     v.pfc_ka,
-                    state_str(state)
+                    state_str(state),
+                    super::new_uuid()
                 ],
             )?;
             let id = s.conn.last_insert_rowid();
