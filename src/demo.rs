@@ -599,6 +599,7 @@ pub fn build(store: &Store) -> Result<DemoSummary> {
             "QL-005: consumer unit replaced in 2015 with circuits renumbered; histories carry on".into(),
             "QL-006 CU1/2: breaker downgraded from B32 to B20 in 2013; the limit changes with it".into(),
             "QL-007 CU1/1: a loose cpc remade after 2017; the baseline restarts and the drop is not 'improving'".into(),
+            "QL-003 DB2/1: the C2 on the garden socket made safe on the day and remedied 18 days later; QL-001's FI still open and overdue".into(),
         ],
         ..Default::default()
     };
@@ -617,9 +618,47 @@ pub fn build(store: &Store) -> Result<DemoSummary> {
             build_home(s, &home, &mut rng, &mut summary)?;
             summary.properties.push(home.reference.to_string());
         }
-        Ok(())
+        remedial_work(s)
     })?;
     Ok(summary)
+}
+
+/// The demo's remedial follow-up: QL-003's C2 made safe at the visit and remedied 18 days
+/// later (invented names and dates).
+fn remedial_work(s: &Store) -> Result<()> {
+    use crate::model::remedial::{NewRemedialEvent, RemedialKind};
+    let p = s.property("QL-003")?;
+    let h = s.history(p.id)?;
+    let Some(o) = h
+        .observations
+        .iter()
+        .find(|o| o.code == ObservationCode::C2)
+    else {
+        return Ok(());
+    };
+    let at = |y, m, d| NaiveDate::from_ymd_opt(y, m, d).expect("valid date");
+    for (kind, date, what) in [
+        (
+            RemedialKind::MadeSafe,
+            at(2026, 6, 6),
+            "Garden socket circuit DB2/1 isolated at the board and labelled",
+        ),
+        (
+            RemedialKind::Remedied,
+            at(2026, 6, 24),
+            "Damaged enclosure replaced with a weatherproof one; DB2/1 re-tested, IR L-E over range",
+        ),
+    ] {
+        let event = NewRemedialEvent {
+            kind,
+            date: Some(date),
+            by: Some("C. Quillon (demo)".into()),
+            what: Some(what.into()),
+            period_days: None,
+        };
+        s.add_remedial_event(o.id, &event, date)?;
+    }
+    Ok(())
 }
 
 fn build_home(

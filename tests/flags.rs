@@ -44,6 +44,17 @@ fn flags_json_keeps_the_contract_fields_and_order() {
         other => panic!("unknown severity {other}"),
     };
     let mut last = 0;
+    // Overdue remedial work leads the worklist (C1, C2, FI, then the most days overdue).
+    let remedial = flags
+        .iter()
+        .take_while(|f| f["quantity"] == "remedial")
+        .count();
+    assert!(remedial > 0, "the demo has an FI left open");
+    assert!(
+        flags[remedial..]
+            .iter()
+            .all(|f| f["quantity"] != "remedial")
+    );
     for f in flags {
         for key in [
             "property_ref",
@@ -71,7 +82,10 @@ fn flags_json_keeps_the_contract_fields_and_order() {
                 "ir_ll",
                 "ir_le",
                 "rcd",
-                "inspection"
+                "polarity",
+                "rcd_button",
+                "inspection",
+                "remedial"
             ]
             .contains(&q),
             "{q}"
@@ -104,7 +118,8 @@ fn flags_json_keeps_the_contract_fields_and_order() {
     );
     assert!(!one.as_array().unwrap().is_empty());
 
-    // One row per circuit (and per supply) across the portfolio.
+    // One row per circuit (and per supply) across the portfolio; an overdue inspection and
+    // each overdue remedial observation (named by its reason) have rows of their own.
     let mut places: Vec<_> = flags
         .iter()
         .map(|f| {
@@ -113,6 +128,7 @@ fn flags_json_keeps_the_contract_fields_and_order() {
                 f["board"].to_string(),
                 f["circuit"].to_string(),
                 f["quantity"] == "inspection",
+                (f["quantity"] == "remedial").then(|| f["reason"].to_string()),
             )
         })
         .collect();
@@ -120,6 +136,98 @@ fn flags_json_keeps_the_contract_fields_and_order() {
     places.sort();
     places.dedup();
     assert_eq!(places.len(), rows, "a circuit on two rows: {flags:#?}");
+}
+
+#[test]
+fn overdue_remedial_rows_lead_then_readings_past_limits_then_recorded_faults() {
+    // An invented property inspected in full twice, the last time 45 days ago, readings
+    // wandering as on site: circuit 2's Zs is past its limit both times, circuit 3's polarity
+    // and circuit 4's RCD test button are recorded as faults at the last visit, and that visit
+    // recorded an FI, a C2 and a C1 (listed in that order), none yet done.
+    let dir = tempfile::tempdir().unwrap();
+    let db = dir.path().join("t.db");
+    let today = chrono::Local::now().date_naive();
+    let last = today - chrono::Days::new(45);
+    let first = last - chrono::Days::new(1826);
+    let mut rows = vec![
+        "property_ref,address,board,earthing,circuit,description,ring,device,rcd_ma,live_mm2,\
+         cpc_mm2,visit_date,ambient_c,ze_ohm,r1r2_ohm,zs_ohm,ir_le_mohm,rcd_ms,polarity,rcd_button"
+            .to_string(),
+    ];
+    let circuits = [
+        ("1", "Kitchen radial", "B32", 4.0, 1.5, 0.31),
+        ("2", "Garden sockets", "B16", 2.5, 1.5, 2.87),
+        ("3", "Lighting", "B6", 1.5, 1.0, 1.12),
+        ("4", "Shower", "B40", 6.0, 2.5, 0.21),
+        ("5", "Immersion", "B16", 2.5, 1.5, 0.58),
+    ];
+    for (date, ambient, ze, wander, at_last) in [
+        (first, 16.5, 0.23, 1.0, false),
+        (last, 11.0, 0.26, 1.04, true),
+    ] {
+        for (n, desc, dev, live, cpc, r) in circuits {
+            let r1r2 = (r * wander * 100.0_f64).round() / 100.0;
+            let zs = ((ze + r1r2) * 100.0_f64).round() / 100.0 + 0.02;
+            let polarity = if at_last && n == "3" {
+                "incorrect"
+            } else {
+                "correct"
+            };
+            let button = if at_last && n == "4" { "failed" } else { "" };
+            rows.push(format!(
+                "FR-1,\"7 Invented Row, Sampleton\",CU1,TN-C-S,{n},{desc},no,{dev},30,{live},{cpc},\
+                 {date},{ambient},{ze},{r1r2},{zs},>299,24,{polarity},{button}"
+            ));
+        }
+    }
+    let visits = dir.path().join("visits.csv");
+    std::fs::write(&visits, rows.join("\n") + "\n").unwrap();
+    let obs = dir.path().join("observations.csv");
+    std::fs::write(
+        &obs,
+        format!(
+            "property_ref,visit_date,board,circuit,code,text\n\
+             FR-1,{last},,,FI,Bathroom fan isolator trips the board now and then\n\
+             FR-1,{last},CU1,1,C2,No cpc at the kitchen spur\n\
+             FR-1,{last},CU1,5,C1,Immersion flex scorched; live parts exposed\n"
+        ),
+    )
+    .unwrap();
+    run(
+        &db,
+        &["import", visits.to_str().unwrap(), obs.to_str().unwrap()],
+    )
+    .success();
+
+    let flags = json(&db, &["flags", "--json"]);
+    let flags = flags.as_array().unwrap();
+    let field = |f: &serde_json::Value, k: &str| f[k].as_str().unwrap_or_default().to_string();
+    // C1, C2, FI first, whatever order they were recorded in.
+    let codes: Vec<_> = flags[..3]
+        .iter()
+        .map(|f| (field(f, "quantity"), field(f, "reason")[..2].to_string()))
+        .collect();
+    let want = ["C1", "C2", "FI"].map(|c| ("remedial".to_string(), c.to_string()));
+    assert_eq!(codes, want, "{flags:#?}");
+    assert!(flags[3..].iter().all(|f| f["quantity"] != "remedial"));
+    // Then circuit 2, past its limit; then the recorded faults by circuit; then the rest.
+    let at = |q: &str, circuit: &str| {
+        flags
+            .iter()
+            .position(|f| f["quantity"] == q && f["circuit"] == circuit)
+            .unwrap_or_else(|| panic!("no {q} row on circuit {circuit}: {flags:#?}"))
+    };
+    let (zs, polarity, button) = (at("zs", "2"), at("polarity", "3"), at("rcd_button", "4"));
+    assert_eq!(flags[zs]["severity"], "exceeds");
+    assert!(zs < polarity && polarity < button, "{flags:#?}");
+    assert_eq!(button, polarity + 1, "{flags:#?}");
+    for f in &flags[3..polarity] {
+        assert_eq!(f["severity"], "exceeds", "{f}");
+        assert!(f["limit"].is_number(), "{f}");
+    }
+    for f in &flags[button + 1..] {
+        assert_ne!(f["severity"], "exceeds", "{f}");
+    }
 }
 
 #[test]

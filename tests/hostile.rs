@@ -1028,6 +1028,8 @@ fn a_reader_that_goes_away_is_not_an_error() {
         &["instrument", "list"],
         &["settings", "show"],
         &["limits", "B32"],
+        &["remedial", "list"],
+        &["remedial", "list", "--json"],
     ];
     for args in listings {
         let (reader, writer) = std::io::pipe().unwrap();

@@ -319,6 +319,15 @@ fn the_brief_lists_each_flag_once() {
     let flags: serde_json::Value = serde_json::from_slice(&flags).unwrap();
     let mut reasons = 0;
     for row in flags.as_array().unwrap() {
+        // Overdue remedial work is not a reading to take (like an overdue inspection): the
+        // brief gives the observation itself among those recorded last time.
+        if row["quantity"] == "remedial" {
+            assert!(
+                text.contains("terminations not inspected at this visit"),
+                "{text}"
+            );
+            continue;
+        }
         for f in row["findings"].as_array().unwrap() {
             let reason = f["reason"].as_str().unwrap();
             reasons += 1;

@@ -805,17 +805,107 @@ fn a_partial_retest_is_shown_and_does_not_move_the_due_date() {
     assert!(!r.summary.supply_flagged);
     let html = report::property::render(&r);
     assert!(html.contains("Last full inspection"), "{}", outline(&html));
-    // Every finding of every worklist row is in the report.
+    // Every finding of every worklist row is in the report; overdue remedial work is in its
+    // own section.
     let a = ohmtrail::analysis::analyse_property(&store, REF, &settings("2030-01-15")).unwrap();
     let in_rows: usize = a
         .flags
         .iter()
-        .filter(|f| f.quantity != "inspection")
+        .filter(|f| f.quantity != "inspection" && f.quantity != "remedial")
         .map(|f| f.findings.len())
         .sum();
     let in_report: usize = r.flagged.iter().map(|f| f.findings.len()).sum();
     assert_eq!(in_report, in_rows);
     assert!(a.flags.iter().any(|f| f.kind == "overdue"));
+    let remedial_rows = a.flags.iter().filter(|f| f.quantity == "remedial").count();
+    assert_eq!(remedial_rows, r.open_remedials.len());
+}
+
+#[test]
+fn open_remedial_work_is_in_the_report_until_it_is_done() {
+    use ohmtrail::model::remedial::{NewRemedialEvent, RemedialKind};
+    let store = Store::open_in_memory().unwrap();
+    fixture(&store, REF, "1 Invented Row");
+    // The 2024-06-18 inspection recorded an FI and a C2 (and, earlier, a C3, which requires no
+    // work). 28 days starting with 18 June end on 15 July (SI 2020/312 regulation 3(4)).
+    let r = report::property_report(&store, REF, &settings("2024-07-20")).unwrap();
+    let open: Vec<_> = r
+        .open_remedials
+        .iter()
+        .map(|i| (i.code.as_str(), i.due, i.days_left))
+        .collect();
+    assert_eq!(
+        open,
+        [
+            ("FI", d("2024-07-15"), Some(-5)),
+            ("C2", d("2024-07-15"), Some(-5))
+        ]
+    );
+    // The landlord's first action: have the work done, by the earliest due date.
+    let first = &r.summary.actions[0];
+    let (fi, c2) = (
+        r.open_remedials[0].observation,
+        r.open_remedials[1].observation,
+    );
+    assert!(
+        first
+            .what
+            .contains(&format!("on 2 observations (FI {fi} and C2 {c2})")),
+        "{}",
+        first.what
+    );
+    assert_eq!(first.by, Some(d("2024-07-15")));
+    assert_eq!(first.when, "now: it was due by 15 July 2024");
+    let html = report::property::render(&r);
+    assert!(
+        html.contains("Remedial work outstanding"),
+        "{}",
+        outline(&html)
+    );
+    assert!(html.contains("No main bonding to gas"));
+    assert!(html.contains("5 days overdue"));
+    assert!(html.contains("regulation 3(4)"));
+    let json = serde_json::to_value(&r).unwrap();
+    assert_eq!(json["open_remedials"][1]["code"], "C2");
+    assert_eq!(json["open_remedials"][1]["status"], "open");
+    // The C2 made safe stays outstanding; remedied, it leaves the report.
+    let c2 = r.open_remedials[1].observation;
+    let work = |kind, date: &str, what: &str| NewRemedialEvent {
+        kind,
+        date: Some(d(date)),
+        by: Some("B. Lumen (test)".into()),
+        what: Some(what.into()),
+        period_days: None,
+    };
+    store
+        .add_remedial_event(
+            c2,
+            &work(
+                RemedialKind::MadeSafe,
+                "2024-06-18",
+                "Gas meter area checked",
+            ),
+            d("2024-07-20"),
+        )
+        .unwrap();
+    let r = report::property_report(&store, REF, &settings("2024-07-20")).unwrap();
+    assert_eq!(r.open_remedials.len(), 2);
+    let html = report::property::render(&r);
+    assert!(html.contains("made safe on"), "{}", outline(&html));
+    store
+        .add_remedial_event(
+            c2,
+            &work(
+                RemedialKind::Remedied,
+                "2024-07-19",
+                "Main protective bonding to gas installed",
+            ),
+            d("2024-07-20"),
+        )
+        .unwrap();
+    let r = report::property_report(&store, REF, &settings("2024-07-20")).unwrap();
+    let left: Vec<_> = r.open_remedials.iter().map(|i| i.code.as_str()).collect();
+    assert_eq!(left, ["FI"]);
 }
 
 /// The caution (the figures support and never replace a competent person; no condition codes

@@ -60,6 +60,7 @@ pub(super) fn bonding_row(
         recommended_interval_months: None,
         findings: Vec::new(),
         finding: None,
+        code: None,
     })
 }
 

@@ -216,6 +216,7 @@ pub fn overdue_row(
         recommended_interval_months: None,
         findings: Vec::new(),
         finding: None,
+        code: None,
     })
 }
 

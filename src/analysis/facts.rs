@@ -124,6 +124,7 @@ fn fact_flag(
         recommended_interval_months: None,
         findings: Vec::new(),
         finding: None,
+        code: None,
     }
 }
 

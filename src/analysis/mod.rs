@@ -12,6 +12,7 @@ mod fact_tests;
 pub mod facts;
 pub mod offsets;
 mod rcd_devices;
+pub mod remedial;
 pub mod rows;
 mod series;
 pub mod settings;
@@ -48,10 +49,12 @@ pub use settings::Settings;
 pub struct Flag {
     pub property_ref: String,
     pub board: String,
-    /// `None` for a supply (Ze) flag or an overdue inspection, which belong to the origin.
+    /// `None` for a supply (Ze) flag or an overdue inspection, which belong to the origin, and
+    /// for an overdue remedial whose observation names no circuit.
     pub circuit: Option<String>,
     pub description: Option<String>,
-    /// One of `ze`, `zs`, `r1r2`, `r1rn`, `r2`, `ring`, `ir_ll`, `ir_le`, `rcd`, `inspection`.
+    /// One of `ze`, `zs`, `r1r2`, `r1rn`, `r2`, `ring`, `ir_ll`, `ir_le`, `rcd`, `inspection`,
+    /// `remedial`.
     pub quantity: &'static str,
     /// `exceeds`, `approaching` or `changed`.
     pub severity: &'static str,
@@ -78,6 +81,9 @@ pub struct Flag {
     pub findings: Vec<Flag>,
     #[serde(skip)]
     finding: Option<Finding>,
+    /// On an overdue remedial row: the observation's code as recorded, for the ranking.
+    #[serde(skip)]
+    code: Option<crate::model::ObservationCode>,
 }
 
 impl Flag {
@@ -180,6 +186,8 @@ pub struct PropertyAnalysis {
     /// Visits whose continuity readings all sit high by about the same amount (test leads not
     /// nulled), each with its note; the trends take that amount off.
     pub continuity_offsets: Vec<offsets::VisitOffset>,
+    /// Every observation coded C1, C2 or FI, with its remedial status and due date.
+    pub remedials: Vec<remedial::RemedialItem>,
     pub settings: Settings,
 }
 
@@ -328,6 +336,14 @@ fn analyse_with(
         let last = flags.len() - 1;
         flags[last].findings = vec![row];
     }
+    let remedials = remedial::items(h, schedule.last_full, settings.today);
+    for item in &remedials {
+        if let Some(row) = remedial::overdue_row(item, origin_board, settings.today) {
+            flags.push(row.clone());
+            let last = flags.len() - 1;
+            flags[last].findings = vec![row];
+        }
+    }
     rank_flags(&mut flags);
 
     let visits = h
@@ -379,6 +395,7 @@ fn analyse_with(
             .map(|v| v.date)
             .collect(),
         continuity_offsets,
+        remedials,
         settings: settings.clone(),
     }
 }
@@ -416,6 +433,7 @@ fn make_flag(
         recommended_interval_months: f.recommended_interval_months,
         findings: Vec::new(),
         finding: Some(f.clone()),
+        code: None,
     }
 }
 

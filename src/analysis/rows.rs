@@ -38,13 +38,25 @@ pub fn group(mut flags: Vec<Flag>) -> Vec<Flag> {
     rows
 }
 
-/// Sort flags (or rows) most urgent first: exceeds, then approaching, then changed, by the
-/// trend engine's order ([`trend::compare_urgency`]). A row with no trend finding behind it
-/// (an overdue inspection, always an exceeds) goes among the exceeds by the share of its limit
-/// used, before the first exceeds that uses less; ties keep the trend's row first.
+/// Sort flags (or rows) most urgent first. Overdue remedial work comes first of all: a danger
+/// or potential danger the inspector recorded (C1, C2) or an investigation required (FI), past
+/// the date the regulation gives; C1 before C2 before FI, then the most days overdue. Then
+/// exceeds, approaching and changed, by the trend engine's order
+/// ([`trend::compare_urgency`]). A row with no trend finding behind it (an overdue inspection,
+/// always an exceeds) goes among the exceeds by the share of its limit used, before the first
+/// exceeds that uses less; ties keep the trend's row first.
 pub fn rank(flags: &mut Vec<Flag>) {
+    let (mut remedial, rest): (Vec<Flag>, Vec<Flag>) =
+        flags.drain(..).partition(|f| f.code.is_some());
+    remedial.sort_by(|a, b| {
+        code_rank(a)
+            .cmp(&code_rank(b))
+            .then_with(|| overdue_days(b).total_cmp(&overdue_days(a)))
+            .then_with(|| place(a, b))
+    });
+    flags.extend(remedial);
     let (mut trend_rows, mut others): (Vec<Flag>, Vec<Flag>) =
-        flags.drain(..).partition(|f| f.finding.is_some());
+        rest.into_iter().partition(|f| f.finding.is_some());
     trend_rows.sort_by(|a, b| match (&a.finding, &b.finding) {
         (Some(x), Some(y)) => trend::compare_urgency(x, y).then_with(|| place(a, b)),
         _ => place(a, b),
@@ -60,6 +72,22 @@ pub fn rank(flags: &mut Vec<Flag>) {
         flags.push(t);
     }
     flags.extend(others);
+}
+
+/// C1, C2, FI: the order of overdue remedial rows.
+fn code_rank(f: &Flag) -> u8 {
+    use crate::model::ObservationCode;
+    match f.code {
+        Some(ObservationCode::C1) => 0,
+        Some(ObservationCode::C2) => 1,
+        Some(ObservationCode::FI) => 2,
+        _ => 3,
+    }
+}
+
+/// Days past the period: the day of the period less its length.
+fn overdue_days(f: &Flag) -> f64 {
+    f.last_value - f.limit.unwrap_or(f.last_value)
 }
 
 /// Property, board, circuit: the order among equally urgent rows.
@@ -169,6 +197,7 @@ mod tests {
             recommended_interval_months: None,
             findings: Vec::new(),
             finding: Some(f),
+            code: None,
         }
     }
 
@@ -264,6 +293,56 @@ mod tests {
                 ("P-2", None, "overdue"),
                 ("P-1", Some("2"), "approaching"),
                 ("P-1", Some("3"), "step"),
+            ]
+        );
+    }
+
+    /// An overdue remedial row as `analysis::remedial::overdue_row` makes it: days into the
+    /// period against the period.
+    fn remedial(code: crate::model::ObservationCode, day: f64, period: f64) -> Flag {
+        Flag {
+            quantity: "remedial",
+            severity: "exceeds",
+            kind: "overdue",
+            circuit: None,
+            last_value: day,
+            limit: Some(period),
+            margin_used_pct: Some((day / period * 1000.0).round() / 10.0),
+            finding: None,
+            code: Some(code),
+            ..flag(None, ZE, FindingKind::Exceeds, None, None)
+        }
+    }
+
+    #[test]
+    fn overdue_remedial_work_goes_first_c1_then_c2_then_fi_then_the_most_overdue() {
+        use crate::model::ObservationCode::{C1, C2, FI};
+        let mut rows = vec![
+            flag(Some("4"), ZS, FindingKind::Exceeds, Some(1.60), None),
+            remedial(FI, 90.0, 28.0),
+            overdue(70.0, 60.0),
+            // 3 days overdue on a 7-day period: 143 % of it, more than the C1's share below.
+            remedial(C2, 10.0, 7.0),
+            remedial(C1, 30.0, 28.0),
+            remedial(C2, 45.0, 28.0),
+            flag(Some("2"), IR_LE, FindingKind::Approaching, Some(0.9), None),
+        ];
+        rank(&mut rows);
+        let order: Vec<_> = rows
+            .iter()
+            .map(|r| (r.quantity, r.code, r.last_value))
+            .collect();
+        assert_eq!(
+            order,
+            vec![
+                ("remedial", Some(C1), 30.0),
+                // 45 − 28 = 17 days overdue before 10 − 7 = 3.
+                ("remedial", Some(C2), 45.0),
+                ("remedial", Some(C2), 10.0),
+                ("remedial", Some(FI), 90.0),
+                ("zs", None, 1.0),
+                ("inspection", None, 70.0),
+                ("ir_le", None, 1.0),
             ]
         );
     }

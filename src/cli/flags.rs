@@ -39,7 +39,7 @@ pub fn run(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
         writeln!(
             out,
             "nothing to report: no circuit exceeds, approaches or has moved beyond the noise floor, \
-             and no inspection is overdue"
+             no inspection is overdue, and no remedial work is overdue"
         )?;
         writeln!(out, "Caution: {CAUTION}")?;
         return Ok(());

@@ -17,6 +17,7 @@ pub mod merge;
 pub mod output;
 pub mod property;
 pub mod record;
+pub mod remedial;
 pub mod report;
 pub mod settings;
 pub mod trend;
@@ -79,10 +80,13 @@ pub enum Command {
     /// List the visits in the history
     #[command(subcommand)]
     Visit(visit::Cmd),
-    /// The portfolio worklist, one row per circuit: circuits past, approaching or moving toward their limits, and overdue inspections, most urgent first
+    /// The portfolio worklist, one row per circuit: circuits past, approaching or moving toward their limits, overdue inspections and overdue remedial work, most urgent first
     Flags(flags::Args),
     /// Every series of a property's circuits with its points, slopes and findings
     Trend(trend::Args),
+    /// Follow up observations coded C1, C2 or FI: due dates, work done, the landlord's written confirmation
+    #[command(subcommand)]
+    Remedial(remedial::Cmd),
     /// Write a property's trend report (HTML or JSON), or the portfolio index with --portfolio
     Report(report::Args),
     /// The brief for a coming visit: what each circuit should read on the day, and what to test first
@@ -157,6 +161,7 @@ pub fn run(cli: Cli, out: &mut dyn Write) -> Result<()> {
         Command::Flags(args) => flags::run(&args, &ctx, out),
         Command::Trend(args) => trend::run(&args, &ctx, out),
         Command::Report(args) => report::run(&args, &ctx, out),
+        Command::Remedial(cmd) => remedial::run(&cmd, &ctx, out),
         Command::Settings(cmd) => settings::run(&cmd, &ctx, out),
         Command::Limits(args) => limits::run(&args, out),
         Command::Check(args) => check::run(&args, &ctx, out),

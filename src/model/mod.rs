@@ -4,6 +4,7 @@
 //! trade has one (R1+R2, Zs, Ze, IR, RCD); our own names otherwise.
 
 pub mod device;
+pub mod remedial;
 pub mod schedule;
 
 use std::fmt;

@@ -15,6 +15,7 @@ pub mod html;
 pub mod model;
 pub mod portfolio;
 pub mod property;
+pub mod remedial;
 pub mod schedule;
 
 use crate::analysis::{self, Settings};

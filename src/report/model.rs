@@ -38,6 +38,9 @@ pub struct PropertyReport {
     pub ohmtrail_version: &'static str,
     pub header: Header,
     pub summary: Summary,
+    /// Remedial work still to do on observations coded C1, C2 or FI (open or made safe, and
+    /// not superseded by a later full inspection), most overdue first.
+    pub open_remedials: Vec<crate::analysis::remedial::RemedialItem>,
     /// Circuits (and the supply) with something to report, most urgent first.
     pub flagged: Vec<FlaggedCircuit>,
     /// Every board with every circuit's last readings.
@@ -449,6 +452,7 @@ pub fn build(a: &PropertyAnalysis) -> PropertyReport {
         ohmtrail_version: env!("CARGO_PKG_VERSION"),
         header,
         summary,
+        open_remedials: open_remedials(a),
         flagged,
         boards: boards(a),
         schedule: super::schedule::build(a),
@@ -456,6 +460,44 @@ pub fn build(a: &PropertyAnalysis) -> PropertyReport {
         method: method(a),
         cautions: cautions(a),
     }
+}
+
+/// The first thing to do when remedial work is still open: have it done by its due date
+/// (SI 2020/312 regulation 3(4)) and keep the written confirmation.
+fn remedial_action(a: &PropertyAnalysis, today: NaiveDate) -> Option<Action> {
+    let open: Vec<_> = a.remedials.iter().filter(|i| i.status.is_open()).collect();
+    let due = open.iter().map(|i| i.due).min()?;
+    let items: Vec<String> = open
+        .iter()
+        .map(|i| format!("{} {}", i.code.as_str(), i.observation))
+        .collect();
+    let overdue = due < today;
+    Some(Action {
+        severity: Some("exceeds"),
+        what: format!(
+            "Have the work the inspection report requires on {} ({}) carried out by a qualified              person, and keep their written confirmation (The Electrical Safety Standards in the              Private Rented Sector (England) Regulations 2020, regulation 3(4)).",
+            count(open.len(), "observation", "observations"),
+            and_list(&items)
+        ),
+        by: Some(due),
+        when: if overdue {
+            format!("now: it was due by {}", date_words(due))
+        } else {
+            format!("by {}", date_words(due))
+        },
+    })
+}
+
+/// The remedial items still open, the earliest due first.
+fn open_remedials(a: &PropertyAnalysis) -> Vec<crate::analysis::remedial::RemedialItem> {
+    let mut open: Vec<_> = a
+        .remedials
+        .iter()
+        .filter(|i| i.status.is_open())
+        .cloned()
+        .collect();
+    open.sort_by_key(|i| (i.due, i.observation));
+    open
 }
 
 fn cautions(a: &PropertyAnalysis) -> Vec<String> {
@@ -565,6 +607,9 @@ fn summary(a: &PropertyAnalysis, flagged: &[FlaggedCircuit], today: NaiveDate) -
     let next_inspection_overdue = next_inspection.is_some_and(|d| d <= today);
 
     let mut actions = Vec::new();
+    if let Some(action) = remedial_action(a, today) {
+        actions.push(action);
+    }
     let exceeds = names("exceeds");
     if !exceeds.is_empty() {
         actions.push(Action {

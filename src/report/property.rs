@@ -44,6 +44,7 @@ pub fn render(r: &PropertyReport) -> String {
     masthead(&mut o, r);
     o.push_str("<main>\n");
     summary(&mut o, r);
+    remedials(&mut o, r);
     findings(&mut o, r);
     super::schedule::render(&mut o, &r.schedule);
     boards(&mut o, r);
@@ -534,6 +535,62 @@ fn board_table(o: &mut String, b: &BoardTable) {
             notes.join("")
         );
     }
+}
+
+/// Remedial work still to do, with its due date: only when there is some.
+fn remedials(o: &mut String, r: &PropertyReport) {
+    if r.open_remedials.is_empty() {
+        return;
+    }
+    o.push_str("<section class=\"remedials\" aria-labelledby=\"remedials-h\">\n");
+    o.push_str("<h2 id=\"remedials-h\">Remedial work outstanding</h2>\n");
+    o.push_str(
+        "<table>\n<thead><tr><th scope=\"col\">No.</th><th scope=\"col\">Recorded</th>\
+         <th scope=\"col\">Code and observation, as recorded</th><th scope=\"col\">Due by</th>\
+         <th scope=\"col\">Status</th></tr></thead>\n<tbody>\n",
+    );
+    for i in &r.open_remedials {
+        let place = match (&i.board, &i.circuit) {
+            (Some(b), Some(c)) => format!("{}/{}: ", esc(b), esc(c)),
+            (Some(b), None) => format!("{}: ", esc(b)),
+            _ => String::new(),
+        };
+        let days = match i.days_left {
+            Some(n) if n < 0 => format!(
+                "<strong>▲ {} overdue</strong>",
+                count((-n) as usize, "day", "days")
+            ),
+            Some(0) => "due today".into(),
+            Some(n) => format!("{} left", count(n as usize, "day", "days")),
+            None => String::new(),
+        };
+        let status = match i.work_events().last() {
+            Some(e) => format!(
+                "made safe on {} by {}; the {} is still required",
+                e.date.map(time).unwrap_or_default(),
+                esc(e.by.as_deref().unwrap_or("")),
+                i.work_words()
+            ),
+            None => "open".into(),
+        };
+        let _ = writeln!(
+            o,
+            "<tr><td>{}</td><td>{}</td><td><span class=\"code\">{}</span> {place}{}</td>\
+             <td>{}<br><span class=\"small\">{days}</span></td><td>{status}</td></tr>",
+            i.observation,
+            time(i.inspected),
+            i.code.as_str(),
+            esc(&i.text),
+            time(i.due),
+        );
+    }
+    o.push_str("</tbody>\n</table>\n");
+    o.push_str(
+        "<p class=\"small\">Due: 28 days starting with the inspection date, or the shorter \
+         period the report gives (The Electrical Safety Standards in the Private Rented Sector \
+         (England) Regulations 2020, regulation 3(4)). Making safe does not end the duty: the \
+         remedial work or investigation itself is required.</p>\n</section>\n",
+    );
 }
 
 fn visits(o: &mut String, visits: &[VisitEntry]) {

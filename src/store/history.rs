@@ -8,8 +8,10 @@ use std::collections::HashMap;
 use chrono::NaiveDate;
 use rusqlite::{Row, Statement};
 
+use super::remedial::{REMEDIAL_COLS, remedial_event_from_row};
 use super::{Store, change_from_row, observation_from_row};
 use crate::error::Result;
+use crate::model::remedial::RemedialEvent;
 use crate::model::{
     Board, BoardTest, Circuit, CircuitChange, Observation, Property, TestRecord, Visit,
 };
@@ -29,7 +31,11 @@ pub struct PropertyHistory {
     pub board_tests: Vec<BoardTest>,
     /// Circuit changes, oldest first.
     pub changes: Vec<CircuitChange>,
+    /// The visits' observations (with [`HistoryParts::FOR_FLAGS`], only those coded C1, C2 or
+    /// FI, which the remedial rows need).
     pub observations: Vec<Observation>,
+    /// The remedial events of those observations, oldest first (migration 012).
+    pub remedial_events: Vec<RemedialEvent>,
     /// Calibration due date per instrument serial used at these visits.
     pub calibration: Vec<(String, Option<NaiveDate>)>,
 }
@@ -59,12 +65,16 @@ struct Queries {
     board_tests: String,
     changes: String,
     observations: String,
+    /// The observations a remedial duty follows (C1, C2, FI), for the worklist.
+    coded_observations: String,
+    remedial_events: String,
 }
 
 /// Which parts of a history to load.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub struct HistoryParts {
-    /// The visits' observations, which only reports show; the worklist goes without.
+    /// Every observation, which reports show; without, only those coded C1, C2 or FI (the
+    /// worklist's remedial rows need them, and they are few).
     pub observations: bool,
 }
 
@@ -95,6 +105,8 @@ fn queries(one: bool) -> Queries {
         board_tests: f(q.board_tests),
         changes: f(q.changes),
         observations: f(q.observations),
+        coded_observations: f(q.coded_observations),
+        remedial_events: f(q.remedial_events),
     }
 }
 
@@ -149,6 +161,19 @@ fn all_queries() -> Queries {
              WHERE v.state = 'complete' AND (?1 IS NULL OR v.property_id = ?1)
              AND v.property_id BETWEEN ?2 AND ?3 ORDER BY v.property_id, o.id"
             .into(),
+        coded_observations: "SELECT o.id, o.visit_id, b.designation, c.number, o.code, o.text, v.property_id
+             FROM visit v JOIN observation o ON o.visit_id = v.id
+             LEFT JOIN board b ON b.id = o.board_id LEFT JOIN circuit c ON c.id = o.circuit_id
+             WHERE v.state = 'complete' AND o.code <> 'C3' AND (?1 IS NULL OR v.property_id = ?1)
+             AND v.property_id BETWEEN ?2 AND ?3 ORDER BY v.property_id, o.id"
+            .into(),
+        remedial_events: format!(
+            "SELECT {REMEDIAL_COLS}, v.property_id
+             FROM visit v JOIN observation o ON o.visit_id = v.id
+             JOIN remedial_event e ON e.observation_id = o.id
+             WHERE v.state = 'complete' AND (?1 IS NULL OR v.property_id = ?1)
+             AND v.property_id BETWEEN ?2 AND ?3 ORDER BY v.property_id, e.id"
+        ),
     }
 }
 
@@ -298,11 +323,12 @@ impl Store {
         let mut st_r = self.conn.prepare(&q.records)?;
         let mut st_t = self.conn.prepare(&q.board_tests)?;
         let mut st_ch = self.conn.prepare(&q.changes)?;
-        let mut st_o = if parts.observations {
-            Some(self.conn.prepare(&q.observations)?)
+        let mut st_o = self.conn.prepare(if parts.observations {
+            &q.observations
         } else {
-            None
-        };
+            &q.coded_observations
+        })?;
+        let mut st_e = self.conn.prepare(&q.remedial_events)?;
 
         let properties = st_p.query_map(
             rusqlite::params![filter, run.0, run.1],
@@ -334,10 +360,8 @@ impl Store {
             })
         })?;
         let mut changes = stream(&mut st_ch, filter, 8, change_from_row)?;
-        let mut observations = match &mut st_o {
-            Some(st) => Some(stream(st, filter, 6, observation_from_row)?),
-            None => None,
-        };
+        let mut observations = stream(&mut st_o, filter, 6, observation_from_row)?;
+        let mut remedial_events = stream(&mut st_e, filter, 7, remedial_event_from_row)?;
 
         for property in properties {
             let property = property?;
@@ -360,10 +384,8 @@ impl Store {
                 records: take(&mut records, id)?,
                 board_tests: take(&mut tests, id)?,
                 changes: take(&mut changes, id)?,
-                observations: match &mut observations {
-                    Some(o) => take(o, id)?,
-                    None => Vec::new(),
-                },
+                observations: take(&mut observations, id)?,
+                remedial_events: take(&mut remedial_events, id)?,
                 visits,
                 calibration: used,
             })?;
@@ -391,6 +413,8 @@ mod tests {
             ("board_tests", &q.board_tests),
             ("changes", &q.changes),
             ("observations", &q.observations),
+            ("coded_observations", &q.coded_observations),
+            ("remedial_events", &q.remedial_events),
         ] {
             let mut stmt = store
                 .conn
@@ -619,8 +643,22 @@ mod tests {
                 .flat_map(|h| &h.records)
                 .any(|r| r.readings.note.is_some() && !r.readings.limitations.is_empty())
         );
+        assert!(
+            whole
+                .iter()
+                .flat_map(|h| &h.observations)
+                .any(|o| o.code == crate::model::ObservationCode::C3)
+        );
         for (w, l) in whole.iter().zip(&lean) {
-            assert!(l.observations.is_empty());
+            // Only the observations a remedial duty follows: C1, C2 and FI.
+            let coded: Vec<_> = w
+                .observations
+                .iter()
+                .filter(|o| o.code != crate::model::ObservationCode::C3)
+                .cloned()
+                .collect();
+            assert_eq!(l.observations, coded);
+            assert_eq!(w.remedial_events, l.remedial_events);
             assert_eq!(w.records.len(), l.records.len());
             assert_eq!(w.records, l.records);
             assert_eq!(w.circuits, l.circuits);

@@ -499,7 +499,7 @@ impl Store {
 
     /// Rows in each table, for a summary or to show that nothing was written.
     pub fn row_counts(&self) -> Result<Vec<(&'static str, i64)>> {
-        const TABLES: [&str; 11] = [
+        const TABLES: [&str; 12] = [
             "client",
             "property",
             "board",
@@ -511,6 +511,7 @@ impl Store {
             "test_record",
             "circuit_change",
             "observation",
+            "remedial_event",
         ];
         let mut out = Vec::new();
         for t in TABLES {

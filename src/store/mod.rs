@@ -18,6 +18,7 @@ pub mod migrate;
 mod open;
 mod pending;
 mod register;
+mod remedial;
 mod visits;
 
 pub use archive::{
@@ -34,6 +35,7 @@ pub use merge::{
 };
 pub use open::APPLICATION_ID;
 pub use pending::Abandoned;
+pub use remedial::ObservationAt;
 pub use visits::{NewVisit, validate_readings};
 
 use std::path::{Path, PathBuf};
