@@ -6,9 +6,10 @@ use super::chart::{self, ChartSpec};
 use super::css::CSS;
 use super::html::{PAGE_END, attr, count, date_words, esc, page_start, reading, time, time_or};
 use super::model::{
-    BoardTable, Chart, FlaggedCircuit, FlaggedFinding, PropertyReport, VisitEntry, severity_words,
-    value_words,
+    BoardTable, Cell, Chart, CircuitRow, Contractor, FlaggedCircuit, FlaggedFinding, Header,
+    PropertyReport, Summary, VisitEntry, severity_words, value_words,
 };
+use chrono::NaiveDate;
 
 /// The chart's drawing size in pixels; CSS scales it to the column.
 const CHART_W: u32 = 720;
@@ -45,15 +46,17 @@ pub fn render(r: &PropertyReport) -> String {
     o.push_str("<main>\n");
     summary(&mut o, r);
     findings(&mut o, r);
-    super::schedule::render(&mut o, &r.schedule);
-    boards(&mut o, r);
-    visits(&mut o, &r.visits);
-    method(&mut o, r);
-    // The general caution is in the summary, on the first page; the list gives the rest.
+    // The notes close the landlord's part; the figures for an electrician follow them, so
+    // the notes are never left alone on a last page. The general caution is in the summary,
+    // on the first page; the list gives the rest.
     cautions(
         &mut o,
         r.cautions.iter().filter(|c| c.as_str() != crate::CAUTION),
     );
+    super::schedule::render(&mut o, &r.schedule);
+    boards(&mut o, r);
+    visits(&mut o, &r.visits);
+    method(&mut o, r);
     o.push_str("</main>\n");
     let _ = writeln!(
         o,
@@ -68,8 +71,39 @@ pub fn render(r: &PropertyReport) -> String {
     o
 }
 
+/// The contractor's name, address, registration and logo above the masthead, when set.
+/// The logo is embedded as a data URL, so the page stays one self-contained file.
+pub(super) fn letterhead(o: &mut String, c: Option<&Contractor>) {
+    use base64::Engine as _;
+    let Some(c) = c else {
+        return;
+    };
+    o.push_str("<div class=\"letterhead\">");
+    if let Some(logo) = &c.logo {
+        let _ = write!(
+            o,
+            "<img class=\"logo\" alt=\"\" src=\"data:{};base64,{}\">",
+            if logo.svg {
+                "image/svg+xml"
+            } else {
+                "image/png"
+            },
+            base64::engine::general_purpose::STANDARD.encode(&logo.bytes)
+        );
+    }
+    o.push_str("<div>");
+    if let Some(n) = &c.name {
+        let _ = write!(o, "<p class=\"name\">{}</p>", esc(n));
+    }
+    for l in c.lines() {
+        let _ = write!(o, "<p>{}</p>", esc(&l));
+    }
+    o.push_str("</div></div>\n");
+}
+
 fn masthead(o: &mut String, r: &PropertyReport) {
     let h = &r.header;
+    letterhead(o, r.contractor.as_ref());
     o.push_str("<header class=\"masthead\">\n<div>\n");
     o.push_str("<p class=\"what\">Wiring condition over time</p>\n");
     let _ = writeln!(
@@ -87,32 +121,7 @@ fn masthead(o: &mut String, r: &PropertyReport) {
         "Client",
         esc(h.client.as_deref().unwrap_or("not recorded")),
     );
-    let boards: Vec<String> = h
-        .boards
-        .iter()
-        .filter(|b| b.in_service)
-        .map(|b| {
-            let mut s = esc(&b.designation);
-            let extra: Vec<String> = [b.location.as_deref(), b.earthing.as_deref()]
-                .into_iter()
-                .flatten()
-                .map(esc)
-                .collect();
-            if !extra.is_empty() {
-                let _ = write!(s, " ({})", extra.join(", "));
-            }
-            s
-        })
-        .collect();
-    fact(
-        o,
-        "Boards",
-        if boards.is_empty() {
-            "none recorded".into()
-        } else {
-            boards.join("; ")
-        },
-    );
+    fact(o, "Boards", esc(&boards_words(h)));
     fact(o, "Last visit", time_or(h.last_visit, "none yet"));
     if let Some(full) = h
         .last_full_inspection
@@ -152,17 +161,52 @@ fn masthead(o: &mut String, r: &PropertyReport) {
             ),
         );
     }
-    let s = &r.summary;
-    let recommended = match s.next_inspection {
-        Some(d) if s.next_inspection_overdue => format!("{} (now due)", time(d)),
-        Some(d) if s.next_inspection_shortened => format!("{} (brought forward)", time(d)),
-        Some(d) => time(d),
-        None => "arrange one".into(),
-    };
-    fact(o, "Next inspection recommended", recommended);
+    fact(
+        o,
+        "Next inspection recommended",
+        recommended_words(&r.summary, time),
+    );
     fact(o, "Report made", time(r.generated));
     fact(o, "ohmtrail", esc(r.ohmtrail_version));
     o.push_str("</dl>\n</header>\n");
+}
+
+/// After the caution in the summary: where the other notes are.
+pub(super) const SEE_THE_NOTES: &str = "See also “Please note” after the findings.";
+
+/// The recommended date of the next inspection in words, each date written by `date`.
+pub(super) fn recommended_words(s: &Summary, date: impl Fn(NaiveDate) -> String) -> String {
+    match s.next_inspection {
+        Some(d) if s.next_inspection_overdue => format!("{} (now due)", date(d)),
+        Some(d) if s.next_inspection_shortened => format!("{} (brought forward)", date(d)),
+        Some(d) => date(d),
+        None => "arrange one".into(),
+    }
+}
+
+/// The board facts beside the masthead: "CU1 (Hall cupboard, TN-C-S)", plain text.
+pub(super) fn boards_words(h: &Header) -> String {
+    let boards: Vec<String> = h
+        .boards
+        .iter()
+        .filter(|b| b.in_service)
+        .map(|b| {
+            let extra: Vec<&str> = [b.location.as_deref(), b.earthing.as_deref()]
+                .into_iter()
+                .flatten()
+                .collect();
+            if extra.is_empty() {
+                b.designation.clone()
+            } else {
+                format!("{} ({})", b.designation, extra.join(", "))
+            }
+        })
+        .collect();
+    if boards.is_empty() {
+        "none recorded".into()
+    } else {
+        boards.join("; ")
+    }
 }
 
 fn summary(o: &mut String, r: &PropertyReport) {
@@ -210,8 +254,9 @@ fn summary(o: &mut String, r: &PropertyReport) {
     o.push_str("</ol>\n");
     let _ = writeln!(
         o,
-        "<p class=\"small\"><strong>{}</strong> See “Please note” at the end.</p>",
-        esc(super::model::CAUTIONS[0])
+        "<p class=\"small\"><strong>{}</strong> {}</p>",
+        esc(crate::CAUTION),
+        esc(SEE_THE_NOTES)
     );
     let _ = writeln!(
         o,
@@ -295,6 +340,8 @@ fn flagged_circuit(o: &mut String, i: usize, f: &FlaggedCircuit) {
 }
 
 fn finding_block(o: &mut String, name: &str, f: &FlaggedFinding, repeat: bool) {
+    // A reason, its figures and its chart are one unit: printing never parts them.
+    o.push_str("<div class=\"part\">");
     let _ = writeln!(
         o,
         "<p class=\"reason\"><strong>{}:</strong> {}</p>",
@@ -302,37 +349,10 @@ fn finding_block(o: &mut String, name: &str, f: &FlaggedFinding, repeat: bool) {
         esc(&f.reason)
     );
     if repeat {
+        o.push_str("</div>\n");
         return;
     }
-    let mut facts = Vec::new();
-    if f.kind != "ring_check" {
-        facts.push(format!(
-            "last reading {} on {}",
-            esc(&value_words(f.last_value, f.unit, false)),
-            date_words(f.last_date)
-        ));
-    }
-    if let (Some(l), Some(w)) = (f.limit, &f.limit_words) {
-        facts.push(format!(
-            "limit {}: {}",
-            esc(&value_words(l, f.unit, false)),
-            esc(w)
-        ));
-    }
-    // The landlord's part cites the standard plainly; how sure each figure is (published,
-    // derived, from memory) is in the method section, for the electrician.
-    if let Some(s) = &f.limit_source {
-        facts.push(format!("source {}", esc(&s.citation)));
-    }
-    if let Some(d) = f.projected_date {
-        facts.push(format!(
-            "projected to reach the limit around {}{}",
-            d.format("%B %Y"),
-            f.projected_earliest
-                .map(|e| format!(", possibly as early as {}", e.format("%B %Y")))
-                .unwrap_or_default()
-        ));
-    }
+    let facts: Vec<String> = finding_facts(f).iter().map(|x| esc(x)).collect();
     let _ = writeln!(o, "<p class=\"sub\">{}</p>", facts.join(" · "));
     if let Some(c) = &f.chart {
         let title = format!("{name}: {} over the visits", c.title);
@@ -343,9 +363,53 @@ fn finding_block(o: &mut String, name: &str, f: &FlaggedFinding, repeat: bool) {
             esc(&caption(c))
         );
     }
+    o.push_str("</div>\n");
 }
 
-fn chart_spec(title: &str, c: &Chart) -> ChartSpec {
+/// A finding's figures as plain phrases: the last reading, the limit, the standard it comes
+/// from (cited plainly: how sure each figure is stays in the method section, for the
+/// electrician) and the projection.
+pub(super) fn finding_facts(f: &FlaggedFinding) -> Vec<String> {
+    let mut facts = Vec::new();
+    // Figures as measured first; a corrected figure is named as such.
+    match (f.last_measured, f.last_at_20c) {
+        _ if f.kind == "ring_check" => {}
+        (Some(m), Some(c)) => facts.push(format!(
+            "last reading {} as measured on {} ({} corrected to 20 °C)",
+            value_words(m, f.unit, f.last_over_range),
+            date_words(f.last_date),
+            value_words(c, f.unit, f.last_over_range)
+        )),
+        (Some(m), None) => facts.push(format!(
+            "last reading {} as measured on {}",
+            value_words(m, f.unit, f.last_over_range),
+            date_words(f.last_date)
+        )),
+        (None, _) => facts.push(format!(
+            "last value {} on {}",
+            value_words(f.last_value, f.unit, false),
+            date_words(f.last_date)
+        )),
+    }
+    if let (Some(l), Some(w)) = (f.limit, &f.limit_words) {
+        facts.push(format!("limit {}: {w}", value_words(l, f.unit, false)));
+    }
+    if let Some(s) = &f.limit_source {
+        facts.push(format!("source {}", s.citation));
+    }
+    if let Some(d) = f.projected_date {
+        facts.push(format!(
+            "projected to reach the limit around {}{}",
+            d.format("%B %Y"),
+            f.projected_earliest
+                .map(|e| format!(", possibly as early as {}", e.format("%B %Y")))
+                .unwrap_or_default()
+        ));
+    }
+    facts
+}
+
+pub(super) fn chart_spec(title: &str, c: &Chart) -> ChartSpec {
     ChartSpec {
         title: title.to_string(),
         unit: c.unit.to_string(),
@@ -382,7 +446,7 @@ fn chart_spec(title: &str, c: &Chart) -> ChartSpec {
     }
 }
 
-fn caption(c: &Chart) -> String {
+pub(super) fn caption(c: &Chart) -> String {
     let mut parts = Vec::new();
     if let Some(b) = &c.basis {
         parts.push(capitalise(b));
@@ -420,16 +484,79 @@ fn boards(o: &mut String, r: &PropertyReport) {
     o.push_str("</section>\n");
 }
 
-fn board_table(o: &mut String, b: &BoardTable) {
-    let mut cap = format!("Board {}", esc(&b.designation));
-    let extra: Vec<String> = [b.location.as_deref(), b.earthing.as_deref()]
+/// "Board CU1 · Hall cupboard · TN-C-S", plain text.
+pub(super) fn board_caption(b: &BoardTable) -> String {
+    let mut cap = format!("Board {}", b.designation);
+    for extra in [b.location.as_deref(), b.earthing.as_deref()]
         .into_iter()
         .flatten()
-        .map(esc)
-        .collect();
-    if !extra.is_empty() {
-        let _ = write!(cap, " · {}", extra.join(" · "));
+    {
+        let _ = write!(cap, " · {extra}");
     }
+    cap
+}
+
+/// The lines under a circuit's number in the board table: its description, its kind and
+/// device, and when it was read.
+pub(super) fn circuit_lines(row: &CircuitRow) -> Vec<String> {
+    let mut lines = Vec::new();
+    if let Some(d) = &row.description {
+        lines.push(d.clone());
+    }
+    let mut meta = vec![row.kind.to_string()];
+    if let Some(d) = &row.device {
+        meta.push(d.clone());
+    }
+    lines.push(meta.join(", "));
+    lines.push(match row.last_visit {
+        Some(d) => format!("read {}", d.format("%Y-%m-%d")),
+        None => "no readings".into(),
+    });
+    lines
+}
+
+/// A last reading as the board table shows it, and its margin to the limit with whether it
+/// is past: ("0.45", "39 % of max 1.16"), (">200", "200× min 1.0").
+pub(super) fn cell_words(c: &Cell) -> (String, Option<(String, bool)>) {
+    let mut v = if c.over_range {
+        format!(">{}", reading(c.raw, c.unit))
+    } else {
+        reading(c.raw, c.unit)
+    };
+    if c.calculated {
+        v.push_str(" calc.");
+    }
+    let margin = match (c.limit, c.share_of_limit_pct) {
+        (Some(l), Some(pct)) => {
+            let past = pct >= 100.0;
+            let text = if c.limit_kind == Some("min") {
+                // A minimum reads better as a multiple: "200× min 1.0".
+                let times = 100.0 / pct;
+                format!(
+                    "{}{}× min {}",
+                    if c.over_range { "≥" } else { "" },
+                    if times >= 10.0 {
+                        format!("{times:.0}")
+                    } else {
+                        format!("{times:.1}")
+                    },
+                    reading(l, c.unit)
+                )
+            } else {
+                format!("{pct:.0} % of max {}", reading(l, c.unit))
+            };
+            Some((
+                format!("{}{text}", if past { "▲ past: " } else { "" }),
+                past,
+            ))
+        }
+        _ => None,
+    };
+    (v, margin)
+}
+
+fn board_table(o: &mut String, b: &BoardTable) {
+    let cap = esc(&board_caption(b));
     let _ = writeln!(
         o,
         "<table>\n<caption>{cap}</caption>\n<thead><tr><th scope=\"col\">Circuit</th>"
@@ -445,59 +572,24 @@ fn board_table(o: &mut String, b: &BoardTable) {
     o.push_str("<th scope=\"col\">State</th></tr></thead>\n<tbody>\n");
     for row in &b.circuits {
         let mut circ = format!("<b>{}</b>", esc(&row.circuit));
-        if let Some(d) = &row.description {
-            let _ = write!(circ, "<span>{}</span>", esc(d));
-        }
-        let mut meta = vec![row.kind.to_string()];
-        if let Some(d) = &row.device {
-            meta.push(d.clone());
-        }
-        let _ = write!(circ, "<span>{}</span>", esc(&meta.join(", ")));
-        match row.last_visit {
-            Some(d) => {
-                let _ = write!(circ, "<span>read {}</span>", d.format("%Y-%m-%d"));
-            }
-            None => circ.push_str("<span>no readings</span>"),
+        for line in circuit_lines(row) {
+            let _ = write!(circ, "<span>{}</span>", esc(&line));
         }
         let _ = write!(o, "<tr><td class=\"circ\">{circ}</td>");
         for col in &b.columns {
             match row.cells.get(col.label) {
                 None => o.push_str("<td class=\"num\">–</td>"),
                 Some(c) => {
-                    let v = if c.over_range {
-                        format!("&gt;{}", reading(c.raw, c.unit))
-                    } else {
-                        reading(c.raw, c.unit)
+                    let (v, margin) = cell_words(c);
+                    let margin = match margin {
+                        Some((text, past)) => format!(
+                            "<span class=\"m{}\">{}</span>",
+                            if past { " past" } else { "" },
+                            esc(&text)
+                        ),
+                        None => String::new(),
                     };
-                    let calc = if c.calculated { " calc." } else { "" };
-                    let margin = match (c.limit, c.share_of_limit_pct) {
-                        (Some(l), Some(pct)) => {
-                            let past = pct >= 100.0;
-                            let text = if c.limit_kind == Some("min") {
-                                // A minimum reads better as a multiple: "200× min 1.0".
-                                let times = 100.0 / pct;
-                                format!(
-                                    "{}{}× min {}",
-                                    if c.over_range { "≥" } else { "" },
-                                    if times >= 10.0 {
-                                        format!("{times:.0}")
-                                    } else {
-                                        format!("{times:.1}")
-                                    },
-                                    reading(l, c.unit)
-                                )
-                            } else {
-                                format!("{pct:.0} % of max {}", reading(l, c.unit))
-                            };
-                            format!(
-                                "<span class=\"m{}\">{}{text}</span>",
-                                if past { " past" } else { "" },
-                                if past { "▲ past: " } else { "" },
-                            )
-                        }
-                        _ => String::new(),
-                    };
-                    let _ = write!(o, "<td class=\"num\">{v}{calc}{margin}</td>");
+                    let _ = write!(o, "<td class=\"num\">{}{margin}</td>", esc(&v));
                 }
             }
         }
@@ -527,6 +619,17 @@ fn board_table(o: &mut String, b: &BoardTable) {
     }
 }
 
+/// A visit's instrument, what is known of its calibration, and whether it had lapsed; `None`
+/// when no instrument was recorded.
+pub(super) fn instrument_words(v: &VisitEntry) -> Option<(String, &'static str, bool)> {
+    let i = v.instrument.clone()?;
+    Some(match v.instrument_in_calibration {
+        Some(true) => (i, "in calibration", false),
+        Some(false) => (i, "▲ calibration had lapsed", true),
+        None => (i, "calibration not recorded", false),
+    })
+}
+
 fn visits(o: &mut String, visits: &[VisitEntry]) {
     o.push_str("<section class=\"visits\" aria-labelledby=\"visits-h\">\n");
     o.push_str("<h2 id=\"visits-h\">Visit history</h2>\n");
@@ -541,18 +644,16 @@ fn visits(o: &mut String, visits: &[VisitEntry]) {
          <th scope=\"col\">Observations as recorded</th></tr></thead>\n<tbody>\n",
     );
     for v in visits.iter().rev() {
-        let instrument = match (&v.instrument, v.instrument_in_calibration) {
-            (None, _) => "not recorded".to_string(),
-            (Some(i), Some(true)) => {
-                format!("{}<br><span class=\"small\">in calibration</span>", esc(i))
-            }
-            (Some(i), Some(false)) => format!(
-                "{}<br><span class=\"small\"><strong>▲ calibration had lapsed</strong></span>",
-                esc(i)
-            ),
-            (Some(i), None) => format!(
-                "{}<br><span class=\"small\">calibration not recorded</span>",
-                esc(i)
+        let instrument = match instrument_words(v) {
+            None => "not recorded".to_string(),
+            Some((name, note, lapsed)) => format!(
+                "{}<br><span class=\"small\">{}</span>",
+                esc(&name),
+                if lapsed {
+                    format!("<strong>{}</strong>", esc(note))
+                } else {
+                    esc(note)
+                }
             ),
         };
         let obs = if v.observations.is_empty() {
