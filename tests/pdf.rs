@@ -205,6 +205,16 @@ fn every_demo_report_carries_its_property_its_flags_and_the_caution_once() {
             "{reference}: the caution once"
         );
         assert!(text.contains("Please note"));
+        if reference == "QL-001" {
+            // The figures as measured, the corrected one named as such: the same pair as the
+            // reason's "1.12 Ω as measured, 1.17 Ω at 20 °C" (the demo's ring, CU1/1).
+            assert!(
+                text.contains(
+                    "last reading 1.12 Ω as measured on 14 February 2026 (1.17 Ω corrected to 20 °C)"
+                ),
+                "{text}"
+            );
+        }
         assert_no_blank_page(&pdf, dir.path());
         assert_fonts_embedded(&pdf);
         // The charts are vectors: without a logo there is no raster image at all.

@@ -97,7 +97,7 @@ html{font-size:9.5pt}
 .page{max-width:none;padding:0}
 a{color:inherit;text-decoration:none}
 h2{break-after:avoid;page-break-after:avoid}
-h3,caption,.finding header{break-after:avoid;page-break-after:avoid}
+h3,caption,.finding header,.finding .sub{break-after:avoid;page-break-after:avoid}
 .verdict,.cautions,figure,tr,.part,.brief .circuit{break-inside:avoid;page-break-inside:avoid}
 .finding{break-inside:auto}
 .finding figure svg{max-width:72%;margin:0 auto}

@@ -196,6 +196,8 @@ pub struct FlaggedFinding {
     pub last_date: NaiveDate,
     /// The last reading as measured (`None` for a ring check, which has no series).
     pub last_measured: Option<f64>,
+    /// The date of that reading.
+    pub last_measured_date: Option<NaiveDate>,
     /// The last reading corrected to 20 °C, when it was corrected.
     pub last_at_20c: Option<f64>,
     /// The last reading is an over-range lower bound.
@@ -729,10 +731,9 @@ fn flagged(a: &PropertyAnalysis) -> Vec<FlaggedCircuit> {
                 .iter()
                 .find(|c| c.board == f.board && &c.circuit.number == n)
         });
-        // The reading at the finding's last date, as measured and as corrected.
-        let last_point = series
-            .and_then(|s| s.report.points.last())
-            .filter(|p| p.date == f.last_date);
+        // The series' last reading, as measured and as corrected, with its own date (a step's
+        // finding rests on an earlier visit).
+        let last_point = series.and_then(|s| s.report.points.last());
         let finding = FlaggedFinding {
             quantity: f.quantity,
             label: if ring_check {
@@ -746,6 +747,7 @@ fn flagged(a: &PropertyAnalysis) -> Vec<FlaggedCircuit> {
             last_value: f.last_value,
             last_date: f.last_date,
             last_measured: last_point.map(|p| p.raw),
+            last_measured_date: last_point.map(|p| p.date),
             last_at_20c: last_point.and_then(|p| p.ambient_c.map(|_| p.value)),
             last_over_range: last_point.is_some_and(|p| p.censored),
             unit: found.quantity.unit(),

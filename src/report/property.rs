@@ -372,23 +372,21 @@ fn finding_block(o: &mut String, name: &str, f: &FlaggedFinding, repeat: bool) {
 pub(super) fn finding_facts(f: &FlaggedFinding) -> Vec<String> {
     let mut facts = Vec::new();
     // Figures as measured first; a corrected figure is named as such.
+    let on = date_words(f.last_measured_date.unwrap_or(f.last_date));
     match (f.last_measured, f.last_at_20c) {
         _ if f.kind == "ring_check" => {}
         (Some(m), Some(c)) => facts.push(format!(
-            "last reading {} as measured on {} ({} corrected to 20 °C)",
+            "last reading {} as measured on {on} ({} corrected to 20 °C)",
             value_words(m, f.unit, f.last_over_range),
-            date_words(f.last_date),
             value_words(c, f.unit, f.last_over_range)
         )),
         (Some(m), None) => facts.push(format!(
-            "last reading {} as measured on {}",
-            value_words(m, f.unit, f.last_over_range),
-            date_words(f.last_date)
+            "last reading {} as measured on {on}",
+            value_words(m, f.unit, f.last_over_range)
         )),
         (None, _) => facts.push(format!(
-            "last value {} on {}",
-            value_words(f.last_value, f.unit, false),
-            date_words(f.last_date)
+            "last value {} on {on}",
+            value_words(f.last_value, f.unit, false)
         )),
     }
     if let (Some(l), Some(w)) = (f.limit, &f.limit_words) {
