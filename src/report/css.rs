@@ -93,22 +93,27 @@ td.circ{min-width:9.5rem}
 ol.first li{margin:.2rem 0}
 @page{size:A4;margin:14mm 12mm 16mm}
 @media print{
-html{font-size:9.5pt}
+html{font-size:9pt}
 .page{max-width:none;padding:0}
 a{color:inherit;text-decoration:none}
 h2{break-after:avoid;page-break-after:avoid}
 h3,caption,.finding header,.finding .sub{break-after:avoid;page-break-after:avoid}
 .verdict,.cautions,figure,tr,.part,.brief .circuit{break-inside:avoid;page-break-inside:avoid}
 .finding{break-inside:auto}
-.finding figure svg{max-width:72%;margin:0 auto}
+.finding figure svg{max-width:62%;margin:0 auto}
 .finding figcaption{text-align:center}
 .masthead{flex-wrap:nowrap}
 .tally{grid-template-columns:repeat(4,minmax(0,1fr))}
-h2{margin-top:1.1rem}
+h2{margin-top:.9rem;margin-bottom:.5rem}
+.method,.boards>p.small,.visits>p.small{font-size:.85rem}
+.method dt{margin-top:.35rem}
 .verdict{margin:.8rem 0 .7rem;padding:.6rem .9rem}
 .finding{padding:.6rem .8rem;margin-bottom:.7rem}
 .cautions{margin:1.2rem 0 .6rem}
-table{font-size:.8rem}
+table{font-size:.76rem}
+th,td{padding:.18rem .32rem}
+.facts{font-size:.82rem}
+p{margin:.3rem 0}
 td .m{white-space:normal}
 td.circ{min-width:8.5rem;width:22%}
 thead{display:table-header-group}
