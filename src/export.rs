@@ -48,6 +48,13 @@ pub fn record_cells(rec: &ExportRecord, changes: &[IngestChange]) -> Vec<Option<
             Column::LengthM => reg[6].clone(),
             Column::RcdType => reg[7].clone(),
             Column::RcdDelay => reg[8].clone(),
+            Column::Insulation => reg[9].clone(),
+            Column::WiringType => reg[10].clone(),
+            Column::RefMethod => reg[11].clone(),
+            Column::Points => reg[12].clone(),
+            Column::BreakingKa => reg[13].clone(),
+            Column::Afdd => reg[14].clone(),
+            Column::RcdId => reg[15].clone(),
             Column::VisitDate => Some(rec.visit_date.to_string()),
             Column::Inspector => rec.inspector.clone(),
             Column::Instrument => rec.instrument.clone(),
@@ -80,7 +87,7 @@ fn csv_cell(column: Column, value: Option<&str>) -> String {
     match value {
         None => String::new(),
         Some(v) => match column.kind() {
-            Kind::Text | Kind::Key => escape(v),
+            Kind::Text | Kind::Key | Kind::ShortCode => escape(v),
             // Typed values never start with a quote or read as "not recorded"; only a
             // negative temperature needs neutralising.
             _ if v.starts_with(['=', '+', '-', '@', '\t', '\r']) => format!("'{v}"),

@@ -128,7 +128,7 @@ bad! {
     us_order_date: "us_date.csv" => ["us_date.csv:2:4: visit_date: \"06/14/2023\" reads only month first (US order): write the day first (14/06/2023) or as ISO 2023-06-14"];
     impossible_date: "impossible_date.csv" => ["impossible_date.csv:2:4: visit_date: \"31/02/2023\" is not a date in the calendar"];
     short_year: "short_year.csv" => ["short_year.csv:2:4: visit_date: \"14/06/23\" has a two-digit year: write all four digits"];
-    unknown_column: "unknown_column.csv" => ["unknown_column.csv:1:5: unknown column \"colour\": expected one of property_ref, address, board, earthing, fed_from, circuit, description, ring, device, rcd_ma, rcd_type, rcd_delay, live_mm2, cpc_mm2, length_m, visit_date, inspector, instrument, ambient_c, ze_ohm, zdb_ohm, submain_r1r2_ohm, pfc_ka, u0_v, ra_ohm, bonding_csa_mm2, bonding_water, bonding_gas, bonding_other, report_ref, outcome, interval_months, extent, limitations, ring_r1_ohm, ring_rn_ohm, ring_r2_ohm, r1r2_ohm, r2_ohm, r1rn_ohm, zs_ohm, ir_ll_mohm, ir_le_mohm, rcd_ms, rcd_5x_ms, note (or pass --ignore-unknown)"];
+    unknown_column: "unknown_column.csv" => ["unknown_column.csv:1:5: unknown column \"colour\": expected one of property_ref, address, board, earthing, fed_from, circuit, description, ring, device, rcd_ma, rcd_type, rcd_delay, live_mm2, cpc_mm2, length_m, insulation, wiring_type, ref_method, points, breaking_ka, afdd, rcd_id, visit_date, inspector, instrument, ambient_c, ze_ohm, zdb_ohm, submain_r1r2_ohm, pfc_ka, u0_v, ra_ohm, bonding_csa_mm2, bonding_water, bonding_gas, bonding_other, report_ref, outcome, interval_months, extent, limitations, ring_r1_ohm, ring_rn_ohm, ring_r2_ohm, r1r2_ohm, r2_ohm, r1rn_ohm, zs_ohm, polarity, ir_test_v, ir_ll_mohm, ir_le_mohm, rcd_ms, rcd_5x_ms, rcd_button, note (or pass --ignore-unknown)"];
     missing_required_column: "missing_required.csv" => ["missing_required.csv:1:1: missing required column visit_date: a visit file needs property_ref, board, circuit, visit_date"];
     unknown_device: "unknown_device.csv" => ["unknown_device.csv:2:5: device: unknown protective device \"X32\": expected a breaker curve and rating such as B16, C32, D6 or RCBO B20, an older breaker such as BS 3871 type 2 30A, or a fuse standard and rating such as BS 88-3 32A, BS 88-2 32A, BS 1361 30A, BS 3036 15A, BS 1362 13A"];
     non_standard_rating: "non_standard_rating.csv" => ["non_standard_rating.csv:2:5: device: B33 is not a standard rating: known ratings are 3, 6, 10, 16, 20, 25, 32, 40, 50, 63, 80, 100, 125 A"];
@@ -163,7 +163,7 @@ bad! {
         "bad_schedule_values.csv:2:7: bonding_gas: unknown bonding continuity \"maybe\": expected yes (confirmed), no (not confirmed) or none (no such service)",
         "bad_schedule_values.csv:2:8: interval_months: interval \"five years\" is not an interval: expected whole months or years, such as 60, 60 months or 5 years",
         "bad_schedule_values.csv:2:9: u0_v: U0 0 V is out of range: expected a nominal voltage to earth such as 230 V (1 to 1000 V)",
-        "bad_schedule_values.csv:2:10: pfc_ka: \"2 kV\" is not a number: expected a prospective fault current in kA such as 1.6",
+        "bad_schedule_values.csv:2:10: pfc_ka: \"2 kV\" is not a number: expected a current in kA such as 1.6 (a fault current) or 6 (a breaking capacity)",
         "bad_schedule_values.csv:2:11: ra_ohm: LIM (a limitation) is kept with a circuit's readings, not the board's or the visit's: write the visit's limitations in the limitations column",
         "bad_schedule_values.csv:3:3: fed_from: board DB2 cannot be fed from itself: expected the designation of the board feeding it, or empty at the origin",
     ];
@@ -177,6 +177,14 @@ bad! {
         "out_of_range_readings.csv:2:6: ir_le_mohm: \">0\" is an over-range mark with no range: expected the instrument's top of range, such as >200",
         "out_of_range_readings.csv:3:4: visit_date: \"1899-12-30\" is before 1950-01-01: expected the date of an inspection and test, which no record in use predates",
         "out_of_range_readings.csv:3:7: rcd_ms: \"99999\" is out of range: expected at most 5000 ms for a reading",
+    ];
+    schedule_values_refused_each_in_place: "schedule_values.csv" => [
+        "schedule_values.csv:2:5: polarity: unknown polarity \"yes\": expected correct or incorrect (or ✓ / ✗)",
+        "schedule_values.csv:2:6: ir_test_v: 400 V is not an insulation test voltage: expected 250, 500 or 1000 V (BS 7671 Table 64)",
+        "schedule_values.csv:2:7: rcd_button: unknown RCD test button result \"ok\": expected operates or failed (or ✓ / ✗)",
+        "schedule_values.csv:2:8: ref_method: unknown reference method \"H\": expected one of A, B, C, D, E, F, G, 100, 101, 102, 103 (BS 7671 Appendix 4)",
+        "schedule_values.csv:2:9: points: \"8.5\" is not a number: expected a whole number of points such as 8",
+        "schedule_values.csv:2:10: afdd: \"maybe\" is not yes or no",
     ];
     observation_code: "observation_bad_code.csv" => ["observation_bad_code.csv:2:3: code: unknown observation code \"C4\": expected C1, C2, C3 or FI as recorded"];
     observation_unknown_board: "observation_unknown_board.csv" => ["observation_unknown_board.csv:2:3: board: board \"DB7\" not found at property SMP-001: import its visit file first"];
@@ -285,7 +293,7 @@ fn unbounded_input_is_refused_at_a_limit() {
         dir.path(),
         "wide_name.csv",
         &[&format!(
-            "wide_name.csv:1:5: unknown column \"{}\"… (5000 bytes long): expected one of property_ref, address, board, earthing, fed_from, circuit, description, ring, device, rcd_ma, rcd_type, rcd_delay, live_mm2, cpc_mm2, length_m, visit_date, inspector, instrument, ambient_c, ze_ohm, zdb_ohm, submain_r1r2_ohm, pfc_ka, u0_v, ra_ohm, bonding_csa_mm2, bonding_water, bonding_gas, bonding_other, report_ref, outcome, interval_months, extent, limitations, ring_r1_ohm, ring_rn_ohm, ring_r2_ohm, r1r2_ohm, r2_ohm, r1rn_ohm, zs_ohm, ir_ll_mohm, ir_le_mohm, rcd_ms, rcd_5x_ms, note (or pass --ignore-unknown)",
+            "wide_name.csv:1:5: unknown column \"{}\"… (5000 bytes long): expected one of property_ref, address, board, earthing, fed_from, circuit, description, ring, device, rcd_ma, rcd_type, rcd_delay, live_mm2, cpc_mm2, length_m, insulation, wiring_type, ref_method, points, breaking_ka, afdd, rcd_id, visit_date, inspector, instrument, ambient_c, ze_ohm, zdb_ohm, submain_r1r2_ohm, pfc_ka, u0_v, ra_ohm, bonding_csa_mm2, bonding_water, bonding_gas, bonding_other, report_ref, outcome, interval_months, extent, limitations, ring_r1_ohm, ring_rn_ohm, ring_r2_ohm, r1r2_ohm, r2_ohm, r1rn_ohm, zs_ohm, polarity, ir_test_v, ir_ll_mohm, ir_le_mohm, rcd_ms, rcd_5x_ms, rcd_button, note (or pass --ignore-unknown)",
             "z".repeat(60)
         )],
     );
@@ -298,7 +306,7 @@ fn unbounded_input_is_refused_at_a_limit() {
         dir.path(),
         "wide_header.csv",
         &[
-            "wide_header.csv:1:257: the header has 30004 columns: expected at most 256 (a visit file has 46 known columns)",
+            "wide_header.csv:1:257: the header has 30004 columns: expected at most 256 (a visit file has 56 known columns)",
         ],
     );
 }
@@ -404,6 +412,17 @@ fn summary_lists_register_changes_and_json_has_counts() {
 fn export_then_import_reproduces_the_records() {
     let dir = TempDir::new().unwrap();
     let db = baseline(&dir);
+    // A later visit that gives the rest of the schedule: register details (changes from the
+    // register as it stood) and the visit's recorded results.
+    let later = dir.path().join("later.csv");
+    std::fs::write(
+        &later,
+        "property_ref,board,circuit,visit_date,insulation,wiring_type,ref_method,points,breaking_ka,afdd,rcd_id,polarity,ir_test_v,ir_le_mohm,rcd_ms,rcd_button\n\
+         SMP-001,DB1,1,2025-03-04,thermoplastic70,A,C,9,6 kA,no,RCD1,✓,500 V,>200,21,operates\n\
+         SMP-001,DB1,2,2025-03-04,,'-,101,6,6,yes,rcd1,incorrect,250,180,22,✗\n",
+    )
+    .unwrap();
+    bin(&db).arg("import").arg(&later).assert().success();
     let a = dir.path().join("a.csv");
     bin(&db).args(["export", "-o"]).arg(&a).assert().success();
     let copy = dir.path().join("copy.db");
@@ -433,6 +452,39 @@ fn export_then_import_reproduces_the_records() {
     assert_eq!(
         notes[1].as_deref(),
         Some("-ve terminal discoloured; retest due")
+    );
+    // The new columns went out and came back (a wiring type that reads as a not-recorded mark
+    // with its protecting quote), and both circuits name the one RCD.
+    assert!(text.contains(",'-,101,6,6,yes,RCD1,"), "{text}");
+    let c1 = store.find_circuit("SMP-001", "DB1", "1").unwrap();
+    let c2 = store.find_circuit("SMP-001", "DB1", "2").unwrap();
+    assert_eq!(c2.wiring_type.as_deref(), Some("-"));
+    assert_eq!(
+        (c1.rcd_id.as_deref(), c2.rcd_id.as_deref()),
+        (Some("RCD1"), Some("RCD1"))
+    );
+    assert_eq!((c1.points, c2.afdd), (Some(9), Some(true)));
+    let last = store
+        .circuit_records(c2.id)
+        .unwrap()
+        .pop()
+        .unwrap()
+        .1
+        .readings;
+    assert_eq!(
+        (last.polarity, last.ir_test_v, last.rcd_button),
+        (
+            Some(ohmtrail::model::Polarity::Incorrect),
+            Some(250),
+            Some(ohmtrail::model::ButtonTest::Failed)
+        )
+    );
+    // Earlier visits keep the register as it stood: no RCD named before 2025.
+    assert!(
+        text.lines().any(|l| l.starts_with("SMP-001,")
+            && l.contains(",2019-04-11,")
+            && !l.contains("RCD1")),
+        "{text}"
     );
 }
 

@@ -820,6 +820,58 @@ fn an_over_range_insulation_reading_after_an_over_range_one_agrees() {
     );
 }
 
+#[test]
+fn line_mode_records_polarity_the_test_voltage_and_the_test_button() {
+    // Facts, not readings (polarity: BS 7671:2018 Regulation 643.6, from memory; the test
+    // voltage from Table 64; the test button: common practice, no source): stored as given
+    // and judged when the visit is history.
+    let e = Env::with_history();
+    let out = e.ok(
+        &["record", "P-9", "--date", "2025-03-01", "--temp", "14"],
+        "CU,1,r1r2,0.53\nCU,1,polarity,✗\nCU,1,ir_test_v,500 V\nCU,1,rcd_button,operates\n",
+    );
+    assert!(out.contains("CU/1 polarity: recorded incorrect"), "{out}");
+    assert!(out.contains("CU/1 ir_test_v: recorded 500 V"), "{out}");
+    let s = e.store();
+    let visit = s
+        .property_visits(s.property("P-9").unwrap().id)
+        .unwrap()
+        .into_iter()
+        .find(|v| v.date.to_string() == "2025-03-01")
+        .unwrap();
+    let r = readings(&s, visit.id, "1");
+    assert_eq!(
+        (r.polarity, r.ir_test_v, r.rcd_button),
+        (
+            Some(ohmtrail::model::Polarity::Incorrect),
+            Some(500),
+            Some(ohmtrail::model::ButtonTest::Operates)
+        )
+    );
+    let flags = e.ok(&["flags", "--property", "P-9"], "");
+    assert!(
+        flags.contains("Polarity was recorded incorrect at the visit of 2025-03-01"),
+        "{flags}"
+    );
+    // A value the visit file would refuse is refused here, naming the line, and stores nothing.
+    let e = Env::with_history();
+    e.cmd(
+        &["record", "P-9", "--date", "2025-03-01", "--temp", "14"],
+        "CU,1,ir_test_v,400\n",
+    )
+    .failure()
+    .stderr(predicates::str::contains(
+        "line 1: ir_test_v: 400 V is not an insulation test voltage",
+    ));
+    let s = e.store();
+    let v = pending(&s);
+    assert!(
+        s.test_record(v.id, s.find_circuit("P-9", "CU", "1").unwrap().id)
+            .unwrap()
+            .is_none()
+    );
+}
+
 /// The circuits in service on board CU of P-9, by number.
 fn cu_numbers(store: &Store) -> Vec<String> {
     let p = store.property("P-9").unwrap();

@@ -205,6 +205,17 @@ fn every_demo_report_carries_its_property_its_flags_and_the_caution_once() {
             "{reference}: the caution once"
         );
         assert!(text.contains("Please note"));
+        // The schedule section, and every visit's report reference from the JSON (the older
+        // ones appear only in the visit history's column).
+        assert!(
+            text.contains("The inspector's report, the supply and main bonding"),
+            "{reference}: no schedule section"
+        );
+        for v in json["visits"].as_array().unwrap() {
+            if let Some(r) = v["report"]["report_ref"].as_str() {
+                assert!(text.contains(r), "{reference}: visit report {r} missing");
+            }
+        }
         if reference == "QL-001" {
             // The figures as measured, the corrected one named as such: the same pair as the
             // reason's "1.12 Ω as measured, 1.17 Ω at 20 °C" (the demo's ring, CU1/1).

@@ -680,3 +680,73 @@ fn a_bad_rcd_marking_is_refused_with_the_known_values() {
     assert!(e.circuits_json().as_array().unwrap().is_empty());
     assert_eq!(e.db_bytes(), before);
 }
+
+#[test]
+fn circuit_add_and_edit_take_the_rest_of_the_schedule_line() {
+    let e = Env::with_board();
+    e.ok(&[
+        "circuit",
+        "add",
+        "P-1",
+        "DB1",
+        "1",
+        "--device",
+        "B6",
+        "--rcd",
+        "30",
+        "--rcd-id",
+        "RCD1",
+        "--wiring-type",
+        "A",
+        "--ref-method",
+        "101",
+        "--points",
+        "8",
+        "--breaking-ka",
+        "6",
+        "--afdd",
+        "no",
+    ]);
+    e.ok(&["circuit", "add", "P-1", "DB1", "2", "--rcd-id", "rcd1"]);
+    let c = e.circuits_json();
+    assert_eq!(c[0]["ref_method"], "101");
+    assert_eq!(c[0]["points"], 8);
+    assert_eq!(c[0]["breaking_ka"], 6.0);
+    assert_eq!(c[0]["afdd"], false);
+    assert_eq!(c[0]["wiring_type"], "A");
+    // One RCD: the second circuit names the first's in another case.
+    assert_eq!(c[1]["rcd_id"], "RCD1");
+    let table = e.ok(&["property", "show", "P-1"]);
+    assert!(table.contains("30 mA (RCD1)"), "{table}");
+    let out = e.ok(&[
+        "circuit",
+        "edit",
+        "P-1",
+        "DB1",
+        "1",
+        "--afdd",
+        "yes",
+        "--ref-method",
+        "C",
+        "--date",
+        "2025-06-14",
+    ]);
+    assert!(
+        out.contains("101 -> C (register_corrected, from 2025-06-14)"),
+        "{out}"
+    );
+    assert!(
+        out.contains("no -> yes (device_changed, from 2025-06-14)"),
+        "{out}"
+    );
+    // BS 7671 Appendix 4 has no reference method H (from memory); a usage error, nothing
+    // written.
+    let before = e.db_bytes();
+    e.cmd(&["circuit", "edit", "P-1", "DB1", "1", "--ref-method", "H"])
+        .code(2)
+        .stderr(predicate::str::contains("100, 101, 102, 103"));
+    e.cmd(&["circuit", "edit", "P-1", "DB1", "1", "--breaking-ka", "0"])
+        .code(1)
+        .stderr(predicate::str::contains("breaking capacity"));
+    assert_eq!(e.db_bytes(), before);
+}

@@ -941,6 +941,98 @@ fn assert_pretty(text: &str) {
     }
 }
 
+#[test]
+fn the_schedule_details_and_recorded_faults_are_shown_where_they_belong() {
+    use ohmtrail::model::{ButtonTest, Polarity, RefMethod};
+    let store = Store::open_in_memory().unwrap();
+    fixture(&store, REF, "4 Invented Row");
+    let c = store.find_circuit(REF, "CU1", "2").unwrap();
+    store
+        .edit_circuit(
+            c.id,
+            &CircuitDetails {
+                wiring_type: Some("A".into()),
+                ref_method: Some(RefMethod::M101),
+                points: Some(7),
+                breaking_ka: Some(6.0),
+                afdd: Some(false),
+                rcd_id: Some("RCD1".into()),
+                ..Default::default()
+            },
+            d("2024-06-18"),
+            None,
+            None,
+            None,
+        )
+        .unwrap();
+    // The last visit recorded lighting circuit 2's polarity incorrect and its RCD's test
+    // button failed, with its other readings as they were.
+    let p = store.property(REF).unwrap();
+    let v = store.visit_on(p.id, d("2024-06-18")).unwrap().unwrap();
+    let mut r = store.test_record(v.id, c.id).unwrap().unwrap().readings;
+    r.polarity = Some(Polarity::Incorrect);
+    r.ir_test_v = Some(500);
+    r.rcd_button = Some(ButtonTest::Failed);
+    store.put_test_record(v.id, c.id, &r).unwrap();
+
+    let settings = settings("2024-07-01");
+    let html = report::property_html(&store, REF, &settings).unwrap();
+    let text = strip_tags(&html);
+    assert!(
+        text.contains(
+            "wiring A · ref. method 101 · 7 points · 6 kA · no AFDD · on RCD1 · polarity incorrect · IR at 500 V · test button failed"
+        ),
+        "{text}"
+    );
+    assert!(
+        text.contains(
+            "Polarity was recorded incorrect at the visit of 2024-06-18, the latest visit to record it"
+        ),
+        "{text}"
+    );
+    assert!(
+        text.contains("RCD test button recorded as failed at the visit of 2024-06-18"),
+        "{text}"
+    );
+    assert!(text.contains("protective device B6; on RCD1"), "{text}");
+    // A recorded fact has no reading to show, only its source.
+    let block = &html[html.find("Polarity was recorded incorrect").unwrap()..];
+    let sub = &block[block.find("<p class=\"sub\">").unwrap()..];
+    let sub = &sub[..sub.find("</p>").unwrap()];
+    assert_eq!(sub, "<p class=\"sub\">source BS 7671:2018 Regulation 643.6");
+    let model = report::property_report(&store, REF, &settings).unwrap();
+    let json = serde_json::to_value(&model).unwrap();
+    let row = json["boards"][0]["circuits"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|c| c["circuit"] == "2")
+        .unwrap()
+        .clone();
+    assert_eq!(row["schedule"]["ref_method"], "101");
+    assert_eq!(row["schedule"]["polarity"], "incorrect");
+    assert_eq!(row["schedule"]["rcd_id"], "RCD1");
+    // A circuit with nothing more recorded carries no schedule object.
+    let other = json["boards"][0]["circuits"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|c| c["circuit"] == "3")
+        .unwrap()
+        .clone();
+    assert!(other.get("schedule").is_none(), "{other}");
+    let flagged = json["flagged"].as_array().unwrap();
+    let two = flagged.iter().find(|f| f["circuit"] == "2").unwrap();
+    let labels: Vec<&str> = two["findings"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|f| f["label"].as_str().unwrap())
+        .collect();
+    assert!(labels.contains(&"polarity"), "{labels:?}");
+    assert!(labels.contains(&"RCD test button"), "{labels:?}");
+}
+
 /// Every command that writes files says what it wrote on standard error, and leaves standard
 /// output empty, so a pipe never gets a status line mixed into data: report, brief, export
 /// and import's rejected rows alike.

@@ -6,6 +6,7 @@ use std::rc::Rc;
 
 use chrono::NaiveDate;
 
+use super::rcd_devices::RcdVisit;
 use super::{CircuitAnalysis, Flag, SeriesAnalysis, Settings, make_flag, note_limits_error};
 use crate::limits::{
     self, CircuitFacts, CircuitUse, DisconnectionChoice, FaultPathInputs, IrCircuit, MeasuredRule,
@@ -126,10 +127,10 @@ fn event_words(
 
 /// Lookups over one property's history, built once and shared by its circuits.
 pub(super) struct Index<'a> {
-    by_id: HashMap<i64, &'a Circuit>,
+    pub(super) by_id: HashMap<i64, &'a Circuit>,
     boards: HashMap<i64, &'a Board>,
-    visits: HashMap<i64, &'a Visit>,
-    records: HashMap<i64, Vec<&'a TestRecord>>,
+    pub(super) visits: HashMap<i64, &'a Visit>,
+    pub(super) records: HashMap<i64, Vec<&'a TestRecord>>,
     /// What was measured at a board at a visit: (visit_id, board_id) → the board test.
     board_tests: HashMap<(i64, i64), &'a BoardTest>,
     /// A property's boards by designation, for the board feeding a sub-board.
@@ -407,6 +408,8 @@ pub(super) struct PropertyContext<'a> {
     pub horizon: NaiveDate,
     pub settings: &'a Settings,
     pub detail: super::Detail,
+    /// The RCDs the register names, shared by several circuits.
+    pub rcds: &'a super::rcd_devices::RecordedRcds,
 }
 
 pub(super) fn circuit_analysis(
@@ -421,6 +424,7 @@ pub(super) fn circuit_analysis(
         horizon,
         settings,
         detail,
+        rcds,
     } = ctx;
     // What only a report shows (words, report-only figures, series with nothing to say) is
     // not worked out for the worklist.
@@ -734,7 +738,15 @@ pub(super) fn circuit_analysis(
             &mut notes,
         );
     }
-    let ir_min = limits::ir_minimum(IrCircuit::UpTo500V);
+    // Judged against Table 64's minimum at the test voltage the latest reading recorded, where
+    // it did; a circuit up to 500 V otherwise, at 500 V.
+    let ir_min = rows
+        .iter()
+        .rev()
+        .filter(|r| r.readings.ir_ll.is_some() || r.readings.ir_le.is_some())
+        .find_map(|r| r.readings.ir_test_v)
+        .and_then(|v| limits::ir_minimum_tested_at(IrCircuit::UpTo500V, v).ok())
+        .unwrap_or_else(|| limits::ir_minimum(IrCircuit::UpTo500V));
     for (q, key, label, get) in [
         (
             Quantity::IrLl,
@@ -771,25 +783,39 @@ pub(super) fn circuit_analysis(
     // RCD: the test at 1 × IΔn decides and is trended (BS 7671:2018+A2:2022 Reg 643.8). The
     // 5 × IΔn test, where recorded, is supplementary: judged against its own maximum, never
     // trended, and it never hides a 1 × IΔn reading.
+    // An RCD the register names as protecting several circuits is one device: its results are
+    // gathered from all of them and judged once, on the first.
+    let shared = rcds.shared(c.id);
+    let own = rows.iter().map(|r| RcdVisit::of(r.visit.date, r.readings));
+    let rcd_visits = super::rcd_devices::device_visits(c, shared, own, idx, &mut notes);
     let timing = RcdTiming::of(c.rcd_delay.unwrap_or(crate::model::RcdDelay::General));
     for (test, label, get) in [
         (
             RcdTest::AtRated,
             "RCD trip time at 1 × IΔn",
-            (|r: &Readings| r.rcd_ms) as fn(&Readings) -> Option<f64>,
+            (|r: &RcdVisit| r.rated_ms) as fn(&RcdVisit) -> Option<f64>,
         ),
-        (RcdTest::AtFive, RCD_FIVE_LABEL, |r: &Readings| r.rcd_5x_ms),
+        (RcdTest::AtFive, RCD_FIVE_LABEL, |r: &RcdVisit| r.five_ms),
     ] {
-        let points: Vec<Point> = rows
+        let points: Vec<Point> = rcd_visits
             .iter()
-            .filter_map(|r| get(r.readings).map(|v| Point::raw(r.visit.date, v)))
+            .filter_map(|r| get(r).map(|v| Point::raw(r.date, v)))
             .collect();
         let rcd_max = limits::rcd_max_ms(timing, test);
         run(
             Quantity::Rcd,
             "rcd",
             label,
-            full.then(|| format!("as measured at {}", test.as_str()).into()),
+            full.then(|| match shared {
+                Some(rcd) => format!(
+                    "as measured at {}; at each visit the slowest time recorded against circuits {}, which {} protects",
+                    test.as_str(),
+                    super::rcd_devices::list_words(&rcd.numbers()),
+                    rcd.designation
+                )
+                .into(),
+                None => format!("as measured at {}", test.as_str()).into(),
+            }),
             points,
             Some(Limit::max(rcd_max.max_ms)),
             full.then(|| rcd_max.words().into()),
@@ -948,6 +974,18 @@ pub(super) fn circuit_analysis(
             .then(b.last_date.cmp(&a.last_date))
     });
     flags.dedup_by(|later, earlier| later.quantity == earlier.quantity);
+    flags.extend(super::facts::polarity(
+        &h.property,
+        &board_name,
+        c,
+        rows.iter().map(|r| (r.visit.date, r.readings.polarity)),
+    ));
+    flags.extend(super::facts::button(
+        &h.property,
+        &board_name,
+        c,
+        rcd_visits.iter().map(|r| (r.date, r.button)),
+    ));
     super::rank_flags(&mut flags);
 
     CircuitAnalysis {

@@ -4,7 +4,9 @@ use anyhow::Result;
 use chrono::NaiveDate;
 use clap::{Args, Subcommand};
 
-use ohmtrail::model::{ChangeKind, CircuitKind, Device, Insulation, RcdDelay, RcdMarking};
+use ohmtrail::model::{
+    ChangeKind, CircuitKind, Device, Insulation, RcdDelay, RcdMarking, RefMethod,
+};
 use ohmtrail::store::CircuitDetails;
 
 use super::{Context, parse_date, today};
@@ -45,6 +47,34 @@ pub struct Details {
     /// Maximum disconnection time in seconds, when not the default for the circuit
     #[arg(long, value_name = "S", allow_negative_numbers = true)]
     pub disconnect: Option<f64>,
+    /// Wiring type as recorded on the schedule (a short code or text)
+    #[arg(long, value_name = "TEXT")]
+    pub wiring_type: Option<String>,
+    /// Reference method (BS 7671 Appendix 4): A to G, or 100 to 103 for cable in thermal insulation
+    #[arg(long, value_name = "METHOD", value_parser = |s: &str| s.parse::<RefMethod>())]
+    pub ref_method: Option<RefMethod>,
+    /// Number of points served
+    #[arg(long, value_name = "N")]
+    pub points: Option<u32>,
+    /// Breaking capacity of the protective device in kA
+    #[arg(long, value_name = "KA", allow_negative_numbers = true)]
+    pub breaking_ka: Option<f64>,
+    /// Whether an arc fault detection device protects the circuit: yes or no
+    #[arg(long, value_name = "YES|NO", value_parser = parse_yes_no)]
+    pub afdd: Option<bool>,
+    /// The RCD protecting the circuit, by its identifier on the board (e.g. RCD1); circuits
+    /// naming the same identifier share one RCD
+    #[arg(long, value_name = "ID")]
+    pub rcd_id: Option<String>,
+}
+
+/// `yes` or `no` (also `y`/`n`, `true`/`false`).
+pub(super) fn parse_yes_no(s: &str) -> Result<bool, String> {
+    match s.trim().to_ascii_lowercase().as_str() {
+        "yes" | "y" | "true" => Ok(true),
+        "no" | "n" | "false" => Ok(false),
+        _ => Err(format!("expected yes or no, not {s:?}")),
+    }
 }
 
 impl Details {
@@ -77,6 +107,12 @@ impl Details {
             rcd_delay,
             insulation: self.insulation,
             disconnect_s: self.disconnect,
+            wiring_type: self.wiring_type.clone(),
+            ref_method: self.ref_method,
+            points: self.points,
+            breaking_ka: self.breaking_ka,
+            afdd: self.afdd,
+            rcd_id: self.rcd_id.clone(),
         })
     }
 }

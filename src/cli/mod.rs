@@ -61,7 +61,7 @@ pub enum Command {
     Board(board::Cmd),
     /// Add, edit, retire and replace circuits on a board
     #[command(subcommand)]
-    Circuit(circuit::Cmd),
+    Circuit(Box<circuit::Cmd>),
     /// Add and list test instruments and their calibration dates
     #[command(subcommand)]
     Instrument(instrument::Cmd),

@@ -200,8 +200,8 @@ pub fn run(cmd: &Cmd, ctx: &Context, out: &mut dyn Write) -> Result<()> {
     Ok(())
 }
 
-/// The RCD as the register holds it: IΔn, waveform type and delay S, each where recorded,
-/// e.g. "100 mA A S".
+/// The RCD as the register holds it: IΔn, waveform type, delay S and the RCD's identifier on
+/// the board, each where recorded, e.g. "100 mA A S (RCD1)".
 fn rcd_cell(c: &ohmtrail::model::Circuit) -> String {
     let parts: Vec<String> = [
         c.rcd_ma.map(|m| format!("{m} mA")),
@@ -210,6 +210,7 @@ fn rcd_cell(c: &ohmtrail::model::Circuit) -> String {
     ]
     .into_iter()
     .flatten()
+    .chain(c.rcd_id.as_ref().map(|r| format!("({r})")))
     .collect();
     if parts.is_empty() {
         "-".to_string()

@@ -27,7 +27,9 @@ ring_rn_ohm, ring_r2_ohm, zs_ohm, ir_ll_mohm, ir_le_mohm, rcd_5x_ms, rcd_ms) or 
 names without the unit as the worklist prints them (ze, r1r2, zs, ir_le, rcd, rcd_5x, ...), plus `device` \
 (the device fitted), `cable` (live/cpc mm² fitted) and `add`, which adds a circuit the register does not \
 have, as the interactive session asks for one: `board,circuit,add,what it supplies[,device[,RCD mA]]`, \
-e.g. `CU,7,add,\"Sockets, garage\",B20,30`; its readings follow on lines of their own. Values as in the visit file: a number with \
+e.g. `CU,7,add,\"Sockets, garage\",B20,30`; its readings follow on lines of their own; and the facts \
+`polarity` (correct or incorrect), `ir_test_v` (250, 500 or 1000) and `rcd_button` (operates or failed). \
+Values as in the visit file: a number with \
 an optional matching unit, >200 or 200+ (over range), LIM, N/A. Each value is stored at once; the visit is completed \
 at the end of the input unless a line was refused or --no-finish is given."
 )]
@@ -903,6 +905,17 @@ fn apply_line(
             }
             store.update_reading(visit.id, c.circuit_id, |rd| f.apply(rd, &entry))?;
             writeln!(out, "{at} {}: {}", f.column(), judge(e, &entry).sentence)?;
+            Ok(Applied::Stored)
+        }
+        (LineWhat::Fact(fact), Some(c)) => {
+            // Checked before anything is stored: a refused value leaves the record as it was.
+            let words = fact
+                .apply(&mut Default::default(), &line.value)
+                .map_err(|e| anyhow::anyhow!("{}: {e}", fact.column()))?;
+            store.update_reading(visit.id, c.circuit_id, |rd| {
+                let _ = fact.apply(rd, &line.value);
+            })?;
+            writeln!(out, "{at} {}: {words}", fact.column())?;
             Ok(Applied::Stored)
         }
         (LineWhat::Device, Some(c)) => {

@@ -170,7 +170,13 @@ impl Importer<'_> {
         debug_assert_eq!(b.id, board_id);
         let row_details = row_register_details(&row.register);
         if !b.circuits.contains_key(&row.circuit) {
-            let id = self.inserts.circuit(board_id, &row.circuit, &row_details)?;
+            let rcd_device = match row_details.rcd_id.as_deref() {
+                Some(r) => Some(self.store.ingest_rcd_device(board_id, r)?.0),
+                None => None,
+            };
+            let id = self
+                .inserts
+                .circuit(board_id, &row.circuit, &row_details, rcd_device)?;
             eff.circuits += 1;
             eff.wrote = true;
             let mut details = row_details.clone();
@@ -207,7 +213,11 @@ impl Importer<'_> {
                 break;
             }
             let Some(new) = &row_texts[i] else { continue };
-            if then[i].as_ref() == Some(new) {
+            // An RCD's identifier matches without regard to case, as the register keeps it.
+            if then[i]
+                .as_ref()
+                .is_some_and(|t| t == new || (*col == Column::RcdId && t.eq_ignore_ascii_case(new)))
+            {
                 continue;
             }
             let later_change = c
@@ -439,6 +449,13 @@ impl Importer<'_> {
                     Column::CpcMm2 => d.cpc_mm2 = row_details.cpc_mm2,
                     Column::RcdType => d.rcd_type = row_details.rcd_type,
                     Column::RcdDelay => d.rcd_delay = row_details.rcd_delay,
+                    Column::Insulation => d.insulation = row_details.insulation,
+                    Column::WiringType => d.wiring_type = row_details.wiring_type.clone(),
+                    Column::RefMethod => d.ref_method = row_details.ref_method,
+                    Column::Points => d.points = row_details.points,
+                    Column::BreakingKa => d.breaking_ka = row_details.breaking_ka,
+                    Column::Afdd => d.afdd = row_details.afdd,
+                    Column::RcdId => d.rcd_id = row_details.rcd_id.clone(),
                     _ => d.length_m = row_details.length_m,
                 }
             }

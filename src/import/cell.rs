@@ -8,8 +8,10 @@ use std::borrow::Cow;
 use chrono::{Datelike, NaiveDate};
 
 use crate::model::{
-    Bonding, CircuitKind, Device, Earthing, ObservationCode, RcdDelay, RcdMarking,
-    parse_interval_months, validate_csa, validate_length, validate_rcd_ma, validate_u0,
+    Bonding, ButtonTest, CircuitKind, Device, Earthing, Insulation, MAX_POINTS, ObservationCode,
+    Polarity, RcdDelay, RcdMarking, RefMethod, parse_interval_months, validate_breaking_ka,
+    validate_code, validate_csa, validate_ir_test_v, validate_length, validate_points,
+    validate_rcd_ma, validate_u0,
 };
 
 /// Longest cell accepted, in bytes. A longer cell is almost certainly a broken file.
@@ -32,6 +34,13 @@ pub enum Column {
     LiveMm2,
     CpcMm2,
     LengthM,
+    Insulation,
+    WiringType,
+    RefMethod,
+    Points,
+    BreakingKa,
+    Afdd,
+    RcdId,
     VisitDate,
     Inspector,
     Instrument,
@@ -44,10 +53,13 @@ pub enum Column {
     R2Ohm,
     R1rnOhm,
     ZsOhm,
+    Polarity,
+    IrTestV,
     IrLlMohm,
     IrLeMohm,
     RcdMs,
     Rcd5xMs,
+    RcdButton,
     Note,
     Code,
     Text,
@@ -91,8 +103,22 @@ pub enum Kind {
     Megohms,
     Millis,
     Code,
+    Insulation,
+    RefMethod,
+    /// A whole number of things (points).
+    Count,
     /// Prospective fault current in kA.
     KiloAmps,
+    /// A device's breaking capacity in kA.
+    BreakingKa,
+    /// yes or no.
+    YesNo,
+    /// A short code as recorded (a wiring type, an RCD's identifier): trimmed and checked.
+    ShortCode,
+    Polarity,
+    /// An insulation test voltage: 250, 500 or 1000 V.
+    TestVolts,
+    Button,
     /// A nominal voltage in V.
     Volts,
     /// Main bonding continuity: yes, no or none.
@@ -103,7 +129,7 @@ pub enum Kind {
 
 impl Column {
     /// Visit-file columns, in the order export writes them.
-    pub const VISIT: [Column; 46] = [
+    pub const VISIT: [Column; 56] = [
         Column::PropertyRef,
         Column::Address,
         Column::Board,
@@ -119,6 +145,13 @@ impl Column {
         Column::LiveMm2,
         Column::CpcMm2,
         Column::LengthM,
+        Column::Insulation,
+        Column::WiringType,
+        Column::RefMethod,
+        Column::Points,
+        Column::BreakingKa,
+        Column::Afdd,
+        Column::RcdId,
         Column::VisitDate,
         Column::Inspector,
         Column::Instrument,
@@ -145,10 +178,13 @@ impl Column {
         Column::R2Ohm,
         Column::R1rnOhm,
         Column::ZsOhm,
+        Column::Polarity,
+        Column::IrTestV,
         Column::IrLlMohm,
         Column::IrLeMohm,
         Column::RcdMs,
         Column::Rcd5xMs,
+        Column::RcdButton,
         Column::Note,
     ];
 
@@ -192,6 +228,13 @@ impl Column {
             Column::LiveMm2 => "live_mm2",
             Column::CpcMm2 => "cpc_mm2",
             Column::LengthM => "length_m",
+            Column::Insulation => "insulation",
+            Column::WiringType => "wiring_type",
+            Column::RefMethod => "ref_method",
+            Column::Points => "points",
+            Column::BreakingKa => "breaking_ka",
+            Column::Afdd => "afdd",
+            Column::RcdId => "rcd_id",
             Column::VisitDate => "visit_date",
             Column::Inspector => "inspector",
             Column::Instrument => "instrument",
@@ -204,10 +247,13 @@ impl Column {
             Column::R2Ohm => "r2_ohm",
             Column::R1rnOhm => "r1rn_ohm",
             Column::ZsOhm => "zs_ohm",
+            Column::Polarity => "polarity",
+            Column::IrTestV => "ir_test_v",
             Column::IrLlMohm => "ir_ll_mohm",
             Column::IrLeMohm => "ir_le_mohm",
             Column::RcdMs => "rcd_ms",
             Column::Rcd5xMs => "rcd_5x_ms",
+            Column::RcdButton => "rcd_button",
             Column::Note => "note",
             Column::Code => "code",
             Column::Text => "text",
@@ -282,6 +328,15 @@ impl Column {
             Column::IrLlMohm | Column::IrLeMohm => Kind::Megohms,
             Column::RcdMs | Column::Rcd5xMs => Kind::Millis,
             Column::Code => Kind::Code,
+            Column::Insulation => Kind::Insulation,
+            Column::WiringType | Column::RcdId => Kind::ShortCode,
+            Column::RefMethod => Kind::RefMethod,
+            Column::Points => Kind::Count,
+            Column::BreakingKa => Kind::BreakingKa,
+            Column::Afdd => Kind::YesNo,
+            Column::Polarity => Kind::Polarity,
+            Column::IrTestV => Kind::TestVolts,
+            Column::RcdButton => Kind::Button,
         }
     }
 
@@ -349,6 +404,13 @@ pub enum Cell {
     Ring(CircuitKind),
     Earthing(Earthing),
     Code(ObservationCode),
+    Insulation(Insulation),
+    RefMethod(RefMethod),
+    Count(u32),
+    YesNo(bool),
+    Polarity(Polarity),
+    Volts(u16),
+    Button(ButtonTest),
     Bonding(Bonding),
     /// An inspection interval in months.
     Months(u32),
@@ -469,6 +531,18 @@ pub fn parse_cell(column: Column, text: &str, opts: &ParseOptions) -> Result<Cel
         }
         return Ok(Cell::Text(unescape(text).to_string()));
     }
+    if kind == Kind::ShortCode {
+        // As free text: a not-recorded mark is missing, and export's quote before a code that
+        // would read as one is taken off again.
+        let raw = text.trim();
+        if is_missing_mark(raw) {
+            return Ok(Cell::Missing);
+        }
+        let t = unescape(raw).trim();
+        return validate_code(column.name(), t)
+            .map(|()| Cell::Text(t.to_string()))
+            .map_err(CellError::Value);
+    }
     let t = unescape(text.trim()).trim();
     if kind == Kind::Key {
         if t.is_empty() {
@@ -521,6 +595,44 @@ pub fn parse_cell(column: Column, text: &str, opts: &ParseOptions) -> Result<Cel
             .parse::<ObservationCode>()
             .map(Cell::Code)
             .map_err(CellError::Value),
+        Kind::Insulation => t
+            .parse::<Insulation>()
+            .map(Cell::Insulation)
+            .map_err(CellError::Value),
+        Kind::RefMethod => t
+            .parse::<RefMethod>()
+            .map(Cell::RefMethod)
+            .map_err(CellError::Value),
+        Kind::Polarity => t
+            .parse::<Polarity>()
+            .map(Cell::Polarity)
+            .map_err(CellError::Value),
+        Kind::Button => t
+            .parse::<ButtonTest>()
+            .map(Cell::Button)
+            .map_err(CellError::Value),
+        Kind::YesNo => match t.to_ascii_lowercase().as_str() {
+            "yes" | "y" => Ok(Cell::YesNo(true)),
+            "no" | "n" => Ok(Cell::YesNo(false)),
+            _ => Err(CellError::Value(format!("{t:?} is not yes or no"))),
+        },
+        Kind::ShortCode => unreachable!("handled above"),
+        Kind::Count => {
+            if !t.bytes().all(|b| b.is_ascii_digit()) {
+                return Err(CellError::NotANumber {
+                    text: t.to_string(),
+                    expected: "a whole number of points such as 8".into(),
+                });
+            }
+            t.parse::<u32>()
+                .map_err(|_| {
+                    CellError::Value(format!(
+                        "{t:?} is out of range: expected at most {MAX_POINTS}"
+                    ))
+                })
+                .and_then(|n| validate_points(n).map_err(CellError::Value))
+                .map(Cell::Count)
+        }
         Kind::Bonding => t
             .parse::<Bonding>()
             .map(Cell::Bonding)
@@ -528,8 +640,8 @@ pub fn parse_cell(column: Column, text: &str, opts: &ParseOptions) -> Result<Cel
         Kind::Interval => parse_interval_months(t)
             .map(Cell::Months)
             .map_err(CellError::Value),
-        Kind::KiloAmps | Kind::Volts => {
-            let unit = if kind == Kind::KiloAmps {
+        Kind::KiloAmps | Kind::BreakingKa | Kind::Volts | Kind::TestVolts => {
+            let unit = if matches!(kind, Kind::KiloAmps | Kind::BreakingKa) {
                 Unit::KiloAmps
             } else {
                 Unit::Volts
@@ -541,17 +653,32 @@ pub fn parse_cell(column: Column, text: &str, opts: &ParseOptions) -> Result<Cel
             if n.over {
                 return Err(CellError::OverRangeNotAllowed(t.to_string()));
             }
-            if kind == Kind::Volts {
-                return validate_u0(n.value)
+            match kind {
+                Kind::BreakingKa => validate_breaking_ka(n.value)
                     .map(Cell::Number)
-                    .map_err(CellError::Value);
+                    .map_err(CellError::Value),
+                Kind::Volts => validate_u0(n.value)
+                    .map(Cell::Number)
+                    .map_err(CellError::Value),
+                Kind::TestVolts => {
+                    if n.value.fract() != 0.0 || n.value > f64::from(u16::MAX) {
+                        return Err(CellError::Value(format!(
+                            "{t:?} is not an insulation test voltage: expected 250, 500 or 1000 V (BS 7671 Table 64)"
+                        )));
+                    }
+                    validate_ir_test_v(n.value as u16)
+                        .map(Cell::Volts)
+                        .map_err(CellError::Value)
+                }
+                _ => {
+                    if n.value > MAX_KILOAMPS {
+                        return Err(CellError::Value(format!(
+                            "{t:?} is out of range: expected at most {MAX_KILOAMPS} kA for a prospective fault current"
+                        )));
+                    }
+                    Ok(Cell::Number(n.value))
+                }
             }
-            if n.value > MAX_KILOAMPS {
-                return Err(CellError::Value(format!(
-                    "{t:?} is out of range: expected at most {MAX_KILOAMPS} kA for a prospective fault current"
-                )));
-            }
-            Ok(Cell::Number(n.value))
         }
         Kind::RcdMa => {
             let n = parse_quantity(t, Unit::MilliAmps, opts)?;
@@ -671,8 +798,10 @@ impl Unit {
             Unit::SquareMm => "a conductor size in mm² such as 2.5",
             Unit::Metres => "a length in metres such as 24",
             Unit::MilliAmps => "a residual current in mA such as 30",
-            Unit::KiloAmps => "a prospective fault current in kA such as 1.6",
-            Unit::Volts => "a nominal voltage in V such as 230",
+            Unit::KiloAmps => {
+                "a current in kA such as 1.6 (a fault current) or 6 (a breaking capacity)"
+            }
+            Unit::Volts => "a voltage in V such as 230 (U0) or 500 (an insulation test)",
         }
     }
 }
@@ -949,15 +1078,73 @@ mod tests {
             p(Column::ZsOhm, "350 mΩ"),
             Err(CellError::WrongUnit { .. })
         ));
-        // Volts are a unit now (u0_v), so in an ohm column they are the wrong one.
-        assert!(matches!(
-            p(Column::ZsOhm, "0.35 V"),
-            Err(CellError::WrongUnit { .. })
-        ));
         assert!(matches!(
             p(Column::ZsOhm, "0.35 kV"),
             Err(CellError::NotANumber { .. })
         ));
+        // Volts are a unit (u0_v, ir_test_v), so in an ohm column they are the wrong one.
+        assert!(matches!(
+            p(Column::ZsOhm, "0.35 V"),
+            Err(CellError::WrongUnit { .. })
+        ));
+    }
+
+    #[test]
+    fn the_schedule_columns_read_as_the_trade_writes_them() {
+        // BS 7671:2018 Table 64: 250, 500 or 1000 V d.c.; a unit may be written.
+        assert_eq!(p(Column::IrTestV, "500"), Ok(Cell::Volts(500)));
+        assert_eq!(p(Column::IrTestV, "250 V"), Ok(Cell::Volts(250)));
+        assert_eq!(p(Column::IrTestV, "1000v"), Ok(Cell::Volts(1000)));
+        for bad in ["400", "500.5", ">500", "-500", "500 ms"] {
+            assert!(p(Column::IrTestV, bad).is_err(), "{bad}");
+        }
+        assert!(
+            p(Column::IrTestV, "400")
+                .unwrap_err()
+                .to_string()
+                .contains("250, 500 or 1000")
+        );
+        // Polarity and the test button: the plain words, or a tick and a cross (common
+        // practice, no source).
+        assert_eq!(
+            p(Column::Polarity, "✓"),
+            Ok(Cell::Polarity(Polarity::Correct))
+        );
+        assert_eq!(
+            p(Column::Polarity, " incorrect "),
+            Ok(Cell::Polarity(Polarity::Incorrect))
+        );
+        assert!(p(Column::Polarity, "ok").is_err());
+        assert_eq!(
+            p(Column::RcdButton, "✗"),
+            Ok(Cell::Button(ButtonTest::Failed))
+        );
+        assert_eq!(p(Column::Polarity, "N/A"), Ok(Cell::Missing));
+        // BS 7671 Appendix 4 reference methods (from memory).
+        assert_eq!(p(Column::RefMethod, "c"), Ok(Cell::RefMethod(RefMethod::C)));
+        assert_eq!(
+            p(Column::RefMethod, "103"),
+            Ok(Cell::RefMethod(RefMethod::M103))
+        );
+        assert!(p(Column::RefMethod, "104").is_err());
+        assert_eq!(p(Column::Points, "08"), Ok(Cell::Count(8)));
+        for bad in ["8.5", "-1", "1000", "eight", "99999999999"] {
+            assert!(p(Column::Points, bad).is_err(), "{bad}");
+        }
+        assert_eq!(p(Column::BreakingKa, "6kA"), Ok(Cell::Number(6.0)));
+        assert!(p(Column::BreakingKa, "0").is_err());
+        assert!(p(Column::BreakingKa, "6 mA").is_err());
+        assert_eq!(p(Column::Afdd, "Yes"), Ok(Cell::YesNo(true)));
+        assert!(p(Column::Afdd, "maybe").is_err());
+        assert_eq!(
+            p(Column::Insulation, "XLPE"),
+            Ok(Cell::Insulation(Insulation::Thermosetting90))
+        );
+        // Short codes are trimmed; a not-recorded mark is missing, export's quote comes off.
+        assert_eq!(p(Column::RcdId, " RCD1 "), Ok(Cell::Text("RCD1".into())));
+        assert_eq!(p(Column::RcdId, "-"), Ok(Cell::Missing));
+        assert_eq!(p(Column::WiringType, "'-"), Ok(Cell::Text("-".into())));
+        assert!(p(Column::RcdId, &"R".repeat(41)).is_err());
     }
 
     #[test]

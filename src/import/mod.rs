@@ -159,7 +159,7 @@ impl Summary {
 }
 
 /// Reading columns stored in a test record, in export order.
-pub const READING_COLUMNS: [Column; 13] = [
+pub const READING_COLUMNS: [Column; 16] = [
     Column::ZeOhm,
     Column::RingR1Ohm,
     Column::RingRnOhm,
@@ -168,10 +168,13 @@ pub const READING_COLUMNS: [Column; 13] = [
     Column::R2Ohm,
     Column::R1rnOhm,
     Column::ZsOhm,
+    Column::Polarity,
+    Column::IrTestV,
     Column::IrLlMohm,
     Column::IrLeMohm,
     Column::RcdMs,
     Column::Rcd5xMs,
+    Column::RcdButton,
     Column::Note,
 ];
 

@@ -33,6 +33,9 @@ pub fn reading_text(r: &Readings, c: Column) -> Option<String> {
         Column::RcdMs => num(r.rcd_ms),
         Column::Rcd5xMs => num(r.rcd_5x_ms),
         Column::Note => r.note.clone(),
+        Column::Polarity => r.polarity.map(|p| p.as_str().to_string()),
+        Column::IrTestV => r.ir_test_v.map(|v| v.to_string()),
+        Column::RcdButton => r.rcd_button.map(|b| b.as_str().to_string()),
         _ => None,
     }
 }
@@ -58,6 +61,9 @@ pub(super) fn same_reading(a: &Readings, b: &Readings, c: Column) -> bool {
             Column::RcdMs => bits(a.rcd_ms) == bits(b.rcd_ms),
             Column::Rcd5xMs => bits(a.rcd_5x_ms) == bits(b.rcd_5x_ms),
             Column::Note => a.note == b.note,
+            Column::Polarity => a.polarity == b.polarity,
+            Column::IrTestV => a.ir_test_v == b.ir_test_v,
+            Column::RcdButton => a.rcd_button == b.rcd_button,
             _ => true,
         };
     identical || reading_text(a, c) == reading_text(b, c)
@@ -78,6 +84,9 @@ pub(super) fn copy_reading(dst: &mut Readings, src: &Readings, c: Column) {
         Column::RcdMs => dst.rcd_ms = src.rcd_ms,
         Column::Rcd5xMs => dst.rcd_5x_ms = src.rcd_5x_ms,
         Column::Note => dst.note = src.note.clone(),
+        Column::Polarity => dst.polarity = src.polarity,
+        Column::IrTestV => dst.ir_test_v = src.ir_test_v,
+        Column::RcdButton => dst.rcd_button = src.rcd_button,
         _ => {}
     }
     dst.limitations.retain(|l| l != c.name());

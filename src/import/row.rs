@@ -4,8 +4,8 @@ use chrono::NaiveDate;
 
 use super::cell::{Cell, CellError, Column, ParseOptions, parse_cell};
 use crate::model::{
-    CircuitKind, Device, Earthing, Megohms, ObservationCode, RcdDelay, RcdType, Readings,
-    SupplyRecord, VisitReport,
+    CircuitKind, Device, Earthing, Insulation, Megohms, ObservationCode, RcdDelay, RcdType,
+    Readings, RefMethod, SupplyRecord, VisitReport,
 };
 
 /// The two kinds of file, told apart by their header.
@@ -220,6 +220,13 @@ pub struct RowRegister {
     pub live_mm2: Option<f64>,
     pub cpc_mm2: Option<f64>,
     pub length_m: Option<f64>,
+    pub insulation: Option<Insulation>,
+    pub wiring_type: Option<String>,
+    pub ref_method: Option<RefMethod>,
+    pub points: Option<u32>,
+    pub breaking_ka: Option<f64>,
+    pub afdd: Option<bool>,
+    pub rcd_id: Option<String>,
 }
 
 /// What a row says about its board at the visit: the board feeding it, and Zdb, the
@@ -439,6 +446,44 @@ pub fn parse_visit_row(
             Column::IrLeMohm => r.ir_le = mohm,
             Column::RcdMs => r.rcd_ms = num,
             Column::Rcd5xMs => r.rcd_5x_ms = num,
+            Column::Insulation => {
+                if let Cell::Insulation(i) = cell {
+                    row.register.insulation = Some(i);
+                }
+            }
+            Column::WiringType => row.register.wiring_type = text(),
+            Column::RcdId => row.register.rcd_id = text(),
+            Column::RefMethod => {
+                if let Cell::RefMethod(m) = cell {
+                    row.register.ref_method = Some(m);
+                }
+            }
+            Column::Points => {
+                if let Cell::Count(n) = cell {
+                    row.register.points = Some(n);
+                }
+            }
+            Column::BreakingKa => row.register.breaking_ka = num,
+            Column::Afdd => {
+                if let Cell::YesNo(a) = cell {
+                    row.register.afdd = Some(a);
+                }
+            }
+            Column::Polarity => {
+                if let Cell::Polarity(p) = cell {
+                    r.polarity = Some(p);
+                }
+            }
+            Column::IrTestV => {
+                if let Cell::Volts(v) = cell {
+                    r.ir_test_v = Some(v);
+                }
+            }
+            Column::RcdButton => {
+                if let Cell::Button(b) = cell {
+                    r.rcd_button = Some(b);
+                }
+            }
             Column::FedFrom => row.board_test.fed_from = text().map(|t| t.trim().to_string()),
             Column::ZdbOhm => row.board_test.zdb_ohm = num,
             Column::SubmainR1r2Ohm => row.board_test.submain_r1r2_ohm = num,

@@ -16,7 +16,7 @@ pub(super) struct CircuitState {
     /// The register now, typed for the common case of a row that agrees with it.
     pub(super) details: CircuitDetails,
     /// The register now as text, made when a row first disagrees with `details`.
-    pub(super) current: Option<[Option<String>; 9]>,
+    pub(super) current: Option<[Option<String>; 16]>,
     pub(super) changes: Vec<IngestChange>,
     /// The date of the circuit's latest test record, once looked up: only a row that
     /// disagrees with the register needs it, so most rows never ask.

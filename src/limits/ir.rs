@@ -85,6 +85,51 @@ pub fn ir_minimum(circuit: IrCircuit) -> IrMinimum {
     }
 }
 
+/// The minimum for a circuit of `circuit`'s band whose insulation was tested at `test_v` volts
+/// d.c., as recorded. At the band's own test voltage it is Table 64's row. A circuit up to
+/// 500 V tested at 250 V (Regulation 643.3.3 allows the lower voltage where surge protective
+/// devices or connected equipment would affect the test or be damaged) must still show the
+/// band's 1.0 MΩ, not the 0.5 MΩ of the SELV and PELV row (from memory for the regulation);
+/// tested at a higher voltage than its band's, it keeps its band's minimum (common practice,
+/// no source). A test voltage Table 64 does not list is an error.
+pub fn ir_minimum_tested_at(circuit: IrCircuit, test_v: u16) -> Result<IrMinimum, LimitsError> {
+    if !crate::model::IR_TEST_VOLTAGES.contains(&test_v) {
+        return Err(LimitsError::BadValue {
+            what: "insulation test voltage V",
+            value: f64::from(test_v),
+            expected: "250, 500 or 1000 V d.c. (Table 64)",
+        });
+    }
+    let band = ir_minimum(circuit);
+    if test_v == band.test_voltage_v {
+        return Ok(band);
+    }
+    let min = band.minimum_mohm;
+    let (status, rule) = if test_v < band.test_voltage_v {
+        (
+            SourceStatus::FromMemory,
+            format!(
+                "tested at {test_v} V d.c. instead of {} V (Regulation 643.3.3, where equipment would affect the test): still at least {min:.1} MΩ, the minimum of the circuit's own row",
+                band.test_voltage_v
+            ),
+        )
+    } else {
+        (
+            SourceStatus::CommonPractice,
+            format!(
+                "tested at {test_v} V d.c., above the {} V of the circuit's own row: at least {min:.1} MΩ, that row's minimum",
+                band.test_voltage_v
+            ),
+        )
+    };
+    Ok(IrMinimum {
+        circuit,
+        test_voltage_v: test_v,
+        minimum_mohm: min,
+        source: Source::new("BS 7671:2018 Table 64 (Regulation 643.3)", status, "").with_rule(rule),
+    })
+}
+
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, Serialize, Deserialize)]
 #[serde(rename_all = "snake_case")]
 pub enum IrOutcome {
@@ -155,6 +200,28 @@ mod tests {
             assert_eq!((min.test_voltage_v, min.minimum_mohm), (v, m), "{c}");
             assert_eq!(c.as_str().parse::<IrCircuit>(), Ok(c));
         }
+    }
+
+    #[test]
+    fn the_minimum_follows_the_recorded_test_voltage() {
+        // BS 7671:2018 Table 64: a 230 V circuit is tested at 500 V and must show 1.0 MΩ.
+        let at = |v| ir_minimum_tested_at(IrCircuit::UpTo500V, v);
+        let m = at(500).unwrap();
+        assert_eq!((m.test_voltage_v, m.minimum_mohm), (500, 1.0));
+        assert_eq!(m.source.status, SourceStatus::Published);
+        // Tested at 250 V where equipment would be affected (Regulation 643.3.3, from memory),
+        // the circuit must still show 1.0 MΩ, not the SELV row's 0.5 MΩ.
+        let m = at(250).unwrap();
+        assert_eq!((m.test_voltage_v, m.minimum_mohm), (250, 1.0));
+        assert_eq!(m.source.status, SourceStatus::FromMemory);
+        // Tested at 1000 V it keeps its row's 1.0 MΩ (common practice, no source).
+        let m = at(1000).unwrap();
+        assert_eq!((m.test_voltage_v, m.minimum_mohm), (1000, 1.0));
+        // A SELV circuit at its own 250 V: 0.5 MΩ (Table 64).
+        let m = ir_minimum_tested_at(IrCircuit::SelvPelv, 250).unwrap();
+        assert_eq!(m.minimum_mohm, 0.5);
+        // Table 64 lists no 400 V test.
+        assert!(at(400).is_err());
     }
 
     #[test]

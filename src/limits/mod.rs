@@ -32,7 +32,9 @@ pub use conductors::{
 pub use fault::{
     FaultPath, FaultPathInputs, FaultPathReport, PathOutcome, PathResult, evaluate_fault_paths,
 };
-pub use ir::{IrCircuit, IrJudgement, IrMinimum, IrOutcome, ir_minimum, judge_ir};
+pub use ir::{
+    IrCircuit, IrJudgement, IrMinimum, IrOutcome, ir_minimum, ir_minimum_tested_at, judge_ir,
+};
 pub use measured::{
     DEFAULT_ASSUMED_INSULATION, LimitsConfig, MeasuredLimit, MeasuredRule, TestConditions,
     hot_factor, insulation_words, measured_limit, measured_loop_limit,

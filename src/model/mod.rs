@@ -4,6 +4,7 @@
 //! trade has one (R1+R2, Zs, Ze, IR, RCD); our own names otherwise.
 
 pub mod device;
+pub mod schedule;
 
 use std::fmt;
 use std::str::FromStr;
@@ -12,6 +13,10 @@ use chrono::NaiveDate;
 use serde::{Deserialize, Serialize};
 
 pub use device::{BreakerStandard, Bs3871Type, Curve, Device, DeviceError, FuseStandard};
+pub use schedule::{
+    ButtonTest, IR_TEST_VOLTAGES, MAX_CODE_LEN, MAX_POINTS, Polarity, RefMethod,
+    validate_breaking_ka, validate_code, validate_ir_test_v, validate_points,
+};
 
 /// A landlord or managing agent.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -315,6 +320,18 @@ pub struct Circuit {
     pub insulation: Option<Insulation>,
     /// Maximum disconnection time in seconds when it is not the default for the circuit.
     pub disconnect_s: Option<f64>,
+    /// Wiring type as recorded on the schedule (a short code or text).
+    pub wiring_type: Option<String>,
+    pub ref_method: Option<RefMethod>,
+    /// Number of points served.
+    pub points: Option<u32>,
+    /// Breaking capacity of the protective device, kA.
+    pub breaking_ka: Option<f64>,
+    /// Whether an arc fault detection device protects the circuit.
+    pub afdd: Option<bool>,
+    /// The RCD protecting the circuit, by its identifier on the board (`RCD1`): circuits of
+    /// one board with the same identifier share one device.
+    pub rcd_id: Option<String>,
     pub status: Status,
     /// The circuit this one replaced, so its history carries on.
     pub replaces: Option<i64>,
@@ -526,6 +543,11 @@ pub struct Readings {
     pub ir_le: Option<Megohms>,
     pub rcd_ms: Option<f64>,
     pub rcd_5x_ms: Option<f64>,
+    pub polarity: Option<Polarity>,
+    /// The d.c. test voltage of the insulation readings, V (250, 500 or 1000).
+    pub ir_test_v: Option<u16>,
+    /// Whether the RCD operated on its own test button.
+    pub rcd_button: Option<ButtonTest>,
     /// Quantities recorded as a limitation (`LIM`), by their visit-file column name.
     pub limitations: Vec<String>,
     pub note: Option<String>,

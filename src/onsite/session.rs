@@ -193,11 +193,71 @@ pub fn parse_cable(text: &str) -> Result<(f64, f64), FittedError> {
     Ok((l, c))
 }
 
+/// A fact a visit records about a circuit rather than a reading: no band and no limit to
+/// compare it with at once, stored as given.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Fact {
+    Polarity,
+    IrTestV,
+    RcdButton,
+}
+
+impl Fact {
+    pub const ALL: [Fact; 3] = [Fact::Polarity, Fact::IrTestV, Fact::RcdButton];
+
+    /// The visit-file column.
+    pub fn column(self) -> &'static str {
+        match self {
+            Fact::Polarity => "polarity",
+            Fact::IrTestV => "ir_test_v",
+            Fact::RcdButton => "rcd_button",
+        }
+    }
+
+    /// Read `value` as the visit file reads the column and put it into the readings (`N/A` or
+    /// `-` clears it); the words stored, or why the value was refused.
+    pub fn apply(self, r: &mut crate::model::Readings, value: &str) -> Result<String, String> {
+        use crate::import::cell::{Cell, Column, ParseOptions, parse_cell};
+        let column = Column::from_name(self.column()).expect("a visit-file column");
+        let opts = ParseOptions {
+            decimal_comma: false,
+            today: chrono::NaiveDate::MAX,
+        };
+        let cell = parse_cell(column, value, &opts).map_err(|e| e.to_string())?;
+        let words = match (self, cell) {
+            (Fact::Polarity, Cell::Polarity(p)) => {
+                r.polarity = Some(p);
+                format!("recorded {}", p.as_str())
+            }
+            (Fact::IrTestV, Cell::Volts(v)) => {
+                r.ir_test_v = Some(v);
+                format!("recorded {v} V")
+            }
+            (Fact::RcdButton, Cell::Button(b)) => {
+                r.rcd_button = Some(b);
+                format!("recorded {}", b.as_str())
+            }
+            (_, Cell::Missing) => {
+                match self {
+                    Fact::Polarity => r.polarity = None,
+                    Fact::IrTestV => r.ir_test_v = None,
+                    Fact::RcdButton => r.rcd_button = None,
+                }
+                "cleared".to_string()
+            }
+            _ => return Err(format!("{value:?} cannot be recorded as {}", self.column())),
+        };
+        Ok(words)
+    }
+}
+
 /// What a line of the non-interactive mode sets.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub enum LineWhat {
     /// A reading (Ze when the circuit is empty).
     Value(Field),
+    /// A recorded fact: polarity, the insulation test voltage, the RCD's test button.
+    Fact(Fact),
     /// The device fitted, recorded as a device change when it differs from the register.
     Device,
     /// The cable fitted, as live/cpc, recorded as a cable replacement when it differs.
@@ -258,6 +318,7 @@ pub fn line_quantities() -> Vec<&'static str> {
     std::iter::once(Field::Ze)
         .chain(Field::CIRCUIT)
         .map(|f| f.column())
+        .chain(Fact::ALL.map(Fact::column))
         .chain(["device", "cable", "add"])
         .collect()
 }
@@ -317,6 +378,7 @@ pub fn parse_line(number: usize, fields: &[&str]) -> Result<Option<Line>, LineEr
         "device" => LineWhat::Device,
         "cable" => LineWhat::Cable,
         "add" => LineWhat::Add,
+        _ if let Some(f) = Fact::ALL.into_iter().find(|f| f.column() == q) => LineWhat::Fact(f),
         _ => match Field::from_column(q) {
             Some(f) => LineWhat::Value(f),
             None => {

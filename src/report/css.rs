@@ -112,8 +112,11 @@ h2{margin-top:.9rem;margin-bottom:.5rem}
 .cautions{margin:1.2rem 0 .6rem}
 table{font-size:.76rem}
 th,td{padding:.18rem .32rem}
-.facts{font-size:.82rem}
+.facts{font-size:.82rem;gap:.1rem 1rem}
 p{margin:.3rem 0}
+footer{margin-top:.8rem;padding-top:.3rem}
+.visits td:nth-child(3){white-space:nowrap}
+.visits td:nth-child(6){width:31%}
 td .m{white-space:normal}
 td.circ{min-width:8.5rem;width:22%}
 thead{display:table-header-group}

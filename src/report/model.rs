@@ -174,6 +174,9 @@ pub struct FlaggedCircuit {
     pub circuit: Option<String>,
     pub description: Option<String>,
     pub device: Option<String>,
+    /// The RCD protecting the circuit, by its identifier on the board, where recorded.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub rcd_id: Option<String>,
     /// Where the history came from, oldest first, when the circuit moved or was replaced.
     pub lineage: Vec<String>,
     /// The worst severity among the findings.
@@ -280,8 +283,82 @@ pub struct CircuitRow {
     pub severity: Option<&'static str>,
     /// Readings at the last visit, keyed by the column label.
     pub cells: BTreeMap<&'static str, Cell>,
+    /// The rest of the circuit's line on the schedule; left out when nothing is recorded.
+    #[serde(skip_serializing_if = "ScheduleDetails::is_empty")]
+    pub schedule: ScheduleDetails,
     /// Why something could not be judged.
     pub notes: Vec<String>,
+}
+
+/// The rest of a circuit's line on the schedule of test results: its register details, and
+/// what its last visit recorded besides the readings. Each is `None` when not recorded.
+#[derive(Debug, Clone, Default, PartialEq, Serialize)]
+pub struct ScheduleDetails {
+    /// `thermoplastic70` or `thermosetting90`, as recorded (not the assumed insulation).
+    pub insulation: Option<&'static str>,
+    pub wiring_type: Option<String>,
+    /// BS 7671 Appendix 4 reference method: A to G, 100 to 103.
+    pub ref_method: Option<&'static str>,
+    pub points: Option<u32>,
+    /// The protective device's breaking capacity, kA.
+    pub breaking_ka: Option<f64>,
+    pub afdd: Option<bool>,
+    /// The RCD protecting the circuit, by its identifier on the board.
+    pub rcd_id: Option<String>,
+    /// At the last visit: `correct` or `incorrect`.
+    pub polarity: Option<&'static str>,
+    /// At the last visit: the insulation test voltage, V.
+    pub ir_test_v: Option<u16>,
+    /// At the last visit: `operates` or `failed`.
+    pub rcd_button: Option<&'static str>,
+}
+
+impl ScheduleDetails {
+    pub fn is_empty(&self) -> bool {
+        *self == ScheduleDetails::default()
+    }
+
+    /// Each recorded detail as a few plain words, for a compact line under the circuit.
+    pub fn words(&self) -> Vec<String> {
+        let mut out = Vec::new();
+        if let Some(i) = self.insulation {
+            out.push(
+                match i {
+                    "thermosetting90" => "90 °C thermosetting",
+                    _ => "70 °C thermoplastic",
+                }
+                .to_string(),
+            );
+        }
+        if let Some(w) = &self.wiring_type {
+            out.push(format!("wiring {w}"));
+        }
+        if let Some(m) = self.ref_method {
+            out.push(format!("ref. method {m}"));
+        }
+        if let Some(n) = self.points {
+            out.push(crate::report::html::count(n as usize, "point", "points"));
+        }
+        if let Some(ka) = self.breaking_ka {
+            out.push(format!("{} kA", crate::store::fmt_num(ka)));
+        }
+        if let Some(a) = self.afdd {
+            out.push(if a { "AFDD" } else { "no AFDD" }.to_string());
+        }
+        if let Some(r) = &self.rcd_id {
+            out.push(format!("on {r}"));
+        }
+        if let Some(p) = self.polarity {
+            out.push(format!("polarity {p}"));
+        }
+        if let Some(v) = self.ir_test_v {
+            out.push(format!("IR at {v} V"));
+        }
+        if let Some(b) = self.rcd_button {
+            out.push(format!("test button {b}"));
+        }
+        out
+    }
 }
 
 /// A last reading and its margin to the limit.
@@ -709,7 +786,7 @@ fn p_interval_words(months: u32) -> String {
 /// The worklist rows of a circuit or the supply: those with trend findings behind them (an
 /// overdue inspection is in the summary's own lines instead).
 pub(super) fn trend_rows(a: &PropertyAnalysis) -> impl Iterator<Item = &Flag> {
-    a.flags.iter().filter(|r| r.finding().is_some())
+    a.flags.iter().filter(|r| r.quantity != "inspection")
 }
 
 /// Every finding by circuit, most urgent circuit first (the rows arrive ranked, each with its
@@ -717,9 +794,12 @@ pub(super) fn trend_rows(a: &PropertyAnalysis) -> impl Iterator<Item = &Flag> {
 fn flagged(a: &PropertyAnalysis) -> Vec<FlaggedCircuit> {
     let mut out: Vec<FlaggedCircuit> = Vec::new();
     for f in trend_rows(a).flat_map(|r| &r.findings) {
-        let Some(found) = f.finding() else {
+        // A recorded fact (polarity, test button) has no series behind it.
+        let fact = crate::analysis::facts::label(f.quantity);
+        let found = f.finding();
+        if found.is_none() && fact.is_none() {
             continue;
-        };
+        }
         let pos = out
             .iter()
             .position(|g| g.board == f.board && g.circuit == f.circuit);
@@ -736,10 +816,10 @@ fn flagged(a: &PropertyAnalysis) -> Vec<FlaggedCircuit> {
         let last_point = series.and_then(|s| s.report.points.last());
         let finding = FlaggedFinding {
             quantity: f.quantity,
-            label: if ring_check {
-                "ring check"
-            } else {
-                found.label
+            label: match (ring_check, found, fact) {
+                (true, _, _) => "ring check",
+                (false, Some(found), _) => found.label,
+                (false, None, fact) => fact.unwrap_or_default(),
             },
             severity: f.severity,
             kind: f.kind,
@@ -750,7 +830,7 @@ fn flagged(a: &PropertyAnalysis) -> Vec<FlaggedCircuit> {
             last_measured_date: last_point.map(|p| p.date),
             last_at_20c: last_point.and_then(|p| p.ambient_c.map(|_| p.value)),
             last_over_range: last_point.is_some_and(|p| p.censored),
-            unit: found.quantity.unit(),
+            unit: found.map_or("", |x| x.quantity.unit()),
             limit: f.limit,
             limit_words: if ring_check {
                 Some("tolerance between the ring's end-to-end readings and R1+R2".into())
@@ -761,6 +841,8 @@ fn flagged(a: &PropertyAnalysis) -> Vec<FlaggedCircuit> {
                 circuit
                     .and_then(|c| c.ring_check.as_ref())
                     .map(|rc| rc.source.clone())
+            } else if found.is_none() {
+                crate::analysis::facts::source(f.quantity)
             } else {
                 series.and_then(|s| s.limit_source.clone())
             },
@@ -786,6 +868,7 @@ fn flagged(a: &PropertyAnalysis) -> Vec<FlaggedCircuit> {
                 circuit: f.circuit.clone(),
                 description: f.description.clone(),
                 device: circuit.and_then(|c| c.circuit.device.map(|d| d.to_string())),
+                rcd_id: circuit.and_then(|c| c.circuit.rcd_id.clone()),
                 lineage: circuit
                     .map(|c| c.lineage.clone())
                     .filter(|l| l.len() > 1)
@@ -902,6 +985,23 @@ const COLUMNS: [Quantity; 10] = [
     Quantity::Rcd,
 ];
 
+fn schedule_details(c: &crate::analysis::CircuitAnalysis) -> ScheduleDetails {
+    let x = &c.circuit;
+    let last = c.last_readings.as_ref();
+    ScheduleDetails {
+        insulation: x.insulation.map(|i| i.as_str()),
+        wiring_type: x.wiring_type.clone(),
+        ref_method: x.ref_method.map(|m| m.as_str()),
+        points: x.points,
+        breaking_ka: x.breaking_ka,
+        afdd: x.afdd,
+        rcd_id: x.rcd_id.clone(),
+        polarity: last.and_then(|r| r.polarity).map(|p| p.as_str()),
+        ir_test_v: last.and_then(|r| r.ir_test_v),
+        rcd_button: last.and_then(|r| r.rcd_button).map(|b| b.as_str()),
+    }
+}
+
 fn boards(a: &PropertyAnalysis) -> Vec<BoardTable> {
     let mut out = Vec::new();
     for b in a
@@ -948,6 +1048,7 @@ fn boards(a: &PropertyAnalysis) -> Vec<BoardTable> {
                 last_visit: c.last_visit,
                 severity: worst(c.flags.iter().map(|f| f.severity)),
                 cells,
+                schedule: schedule_details(c),
                 notes: c.notes.clone(),
             });
         }

@@ -320,6 +320,9 @@ fn flagged_circuit(o: &mut String, i: usize, f: &FlaggedCircuit) {
     if let Some(d) = &f.device {
         sub.push(format!("protective device {}", esc(d)));
     }
+    if let Some(r) = &f.rcd_id {
+        sub.push(format!("on {}", esc(r)));
+    }
     if !f.lineage.is_empty() {
         sub.push(format!(
             "history carried through {}",
@@ -371,10 +374,12 @@ fn finding_block(o: &mut String, name: &str, f: &FlaggedFinding, repeat: bool) {
 /// electrician) and the projection.
 pub(super) fn finding_facts(f: &FlaggedFinding) -> Vec<String> {
     let mut facts = Vec::new();
-    // Figures as measured first; a corrected figure is named as such.
+    // Figures as measured first; a corrected figure is named as such. A recorded fact
+    // (polarity, test button) has no reading: its sentence gives the visit.
+    let recorded = crate::analysis::facts::label(f.quantity).is_some();
     let on = date_words(f.last_measured_date.unwrap_or(f.last_date));
     match (f.last_measured, f.last_at_20c) {
-        _ if f.kind == "ring_check" => {}
+        _ if f.kind == "ring_check" || recorded => {}
         (Some(m), Some(c)) => facts.push(format!(
             "last reading {} as measured on {on} ({} corrected to 20 °C)",
             value_words(m, f.unit, f.last_over_range),
@@ -495,7 +500,7 @@ pub(super) fn board_caption(b: &BoardTable) -> String {
 }
 
 /// The lines under a circuit's number in the board table: its description, its kind and
-/// device, and when it was read.
+/// device, the rest of its schedule line where recorded, and when it was read.
 pub(super) fn circuit_lines(row: &CircuitRow) -> Vec<String> {
     let mut lines = Vec::new();
     if let Some(d) = &row.description {
@@ -506,6 +511,10 @@ pub(super) fn circuit_lines(row: &CircuitRow) -> Vec<String> {
         meta.push(d.clone());
     }
     lines.push(meta.join(", "));
+    let schedule = row.schedule.words();
+    if !schedule.is_empty() {
+        lines.push(schedule.join(" · "));
+    }
     lines.push(match row.last_visit {
         Some(d) => format!("read {}", d.format("%Y-%m-%d")),
         None => "no readings".into(),
@@ -697,36 +706,53 @@ fn visits(o: &mut String, visits: &[VisitEntry]) {
 }
 
 /// A visit's report in the inspector's words: outcome, reference, interval, extent and
-/// limitations, each as recorded.
-fn recorded_report(r: &crate::model::VisitReport) -> String {
-    let mut parts: Vec<String> = Vec::new();
+/// limitations, each as recorded; `true` marks the parts shown small.
+pub(super) fn report_lines(r: &crate::model::VisitReport) -> Vec<(String, bool)> {
+    let mut parts = Vec::new();
     if let Some(out) = &r.outcome {
-        parts.push(format!(
-            "<strong>{}</strong> <span class=\"small\">({})</span>",
-            esc(out),
-            super::schedule::OUTCOME_LABEL
-        ));
+        parts.push((out.clone(), false));
+        parts.push((format!("({})", super::schedule::OUTCOME_LABEL), true));
     }
     if let Some(x) = &r.report_ref {
-        parts.push(format!("report {}", esc(x)));
+        parts.push((format!("report {x}"), false));
     }
     if let Some(m) = r.interval_months {
-        parts.push(format!("next in {m} months"));
+        parts.push((format!("next in {m} months"), false));
     }
     if let Some(x) = &r.extent {
-        parts.push(format!("<span class=\"small\">extent: {}</span>", esc(x)));
+        parts.push((format!("extent: {x}"), true));
     }
     if let Some(x) = &r.limitations {
-        parts.push(format!(
-            "<span class=\"small\">limitations: {}</span>",
-            esc(x)
-        ));
+        parts.push((format!("limitations: {x}"), true));
     }
-    if parts.is_empty() {
-        "<span class=\"small\">not recorded</span>".into()
-    } else {
-        parts.join("<br>")
+    parts
+}
+
+fn recorded_report(r: &crate::model::VisitReport) -> String {
+    let lines = report_lines(r);
+    if lines.is_empty() {
+        return "<span class=\"small\">not recorded</span>".into();
     }
+    let mut out = String::new();
+    let mut first = true;
+    for (i, (t, small)) in lines.iter().enumerate() {
+        // The outcome and its label share a line, as before.
+        let label = i == 1 && r.outcome.is_some();
+        if !first {
+            out.push_str(if label { " " } else { "<br>" });
+        }
+        first = false;
+        match (small, i == 0 && r.outcome.is_some()) {
+            (true, _) => {
+                let _ = write!(out, "<span class=\"small\">{}</span>", esc(t));
+            }
+            (false, true) => {
+                let _ = write!(out, "<strong>{}</strong>", esc(t));
+            }
+            (false, false) => out.push_str(&esc(t)),
+        }
+    }
+    out
 }
 
 fn method(o: &mut String, r: &PropertyReport) {

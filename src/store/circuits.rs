@@ -8,7 +8,11 @@ impl Store {
     pub(super) const CIRCUIT_COLS: &'static str =
         "id, board_id, number, description, kind, live_mm2, cpc_mm2,
         length_m, device, rcd_ma, rcd_type, insulation, disconnect_s, status, replaces_circuit_id,
-        rcd_delay";
+        rcd_delay, wiring_type, ref_method, points, breaking_ka, afdd,
+        (SELECT r.designation FROM rcd_device r WHERE r.id = rcd_device_id)";
+
+    /// How many columns [`Self::CIRCUIT_COLS`] names.
+    pub(super) const CIRCUIT_COL_COUNT: usize = 22;
 
     pub(super) fn circuit_from_row(r: &Row) -> rusqlite::Result<Circuit> {
         // The coded columns are read in place rather than copied out first.
@@ -43,7 +47,43 @@ impl Store {
             disconnect_s: r.get(12)?,
             status: status.parse().unwrap_or(Status::InService),
             replaces: r.get(14)?,
+            wiring_type: r.get(16)?,
+            ref_method: text(17)?.and_then(|t| t.parse().ok()),
+            points: r.get(18)?,
+            breaking_ka: r.get(19)?,
+            afdd: r.get::<_, Option<i64>>(20)?.map(|v| v != 0),
+            rcd_id: r.get(21)?,
         })
+    }
+
+    /// The RCD known by `designation` on a board (without regard to case), added on first
+    /// sight: its id and its designation as stored.
+    pub(super) fn rcd_device(&self, board_id: i64, designation: &str) -> Result<(i64, String)> {
+        let designation = designation.trim();
+        let mut find = self.conn.prepare_cached(
+            "SELECT id, designation FROM rcd_device WHERE board_id = ?1 AND designation = ?2",
+        )?;
+        if let Some(found) = find
+            .query_row(params![board_id, designation], |r| {
+                Ok((r.get(0)?, r.get(1)?))
+            })
+            .optional()?
+        {
+            return Ok(found);
+        }
+        let mut ins = self
+            .conn
+            .prepare_cached("INSERT INTO rcd_device (board_id, designation) VALUES (?1, ?2)")?;
+        ins.execute(params![board_id, designation])?;
+        Ok((self.conn.last_insert_rowid(), designation.to_string()))
+    }
+
+    /// The id of the RCD a circuit's details name on a board, added on first sight.
+    pub(super) fn rcd_device_id(&self, board_id: i64, d: &CircuitDetails) -> Result<Option<i64>> {
+        d.rcd_id
+            .as_deref()
+            .map(|r| self.rcd_device(board_id, r).map(|(id, _)| id))
+            .transpose()
     }
 
     pub fn circuit_by_id(&self, id: i64) -> Result<Circuit> {
@@ -124,10 +164,13 @@ impl Store {
                 board.designation
             )));
         }
+        let rcd_device_id = self.rcd_device_id(board.id, d)?;
         self.conn.execute(
             "INSERT INTO circuit (board_id, number, description, kind, live_mm2, cpc_mm2, length_m,
-                 device, rcd_ma, rcd_type, insulation, disconnect_s, replaces_circuit_id, rcd_delay)
-             VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11, ?12, ?13, ?14)",
+                 device, rcd_ma, rcd_type, insulation, disconnect_s, replaces_circuit_id, rcd_delay,
+                 wiring_type, ref_method, points, breaking_ka, afdd, rcd_device_id)
+             VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11, ?12, ?13, ?14, ?15, ?16, ?17,
+                 ?18, ?19, ?20)",
             params![
                 board.id,
                 number,
@@ -143,6 +186,12 @@ impl Store {
                 d.disconnect_s,
                 replaces,
                 d.rcd_delay.map(|t| t.as_str()),
+                d.wiring_type.as_deref().map(str::trim),
+                d.ref_method.map(|m| m.as_str()),
+                d.points,
+                d.breaking_ka,
+                d.afdd,
+                rcd_device_id,
             ],
         )?;
         self.circuit_by_id(self.conn.last_insert_rowid())
@@ -290,6 +339,67 @@ impl Store {
                 real(new.disconnect_s),
                 ChangeKind::RegisterCorrected,
             )?;
+            let wiring = new.wiring_type.as_deref().map(|w| w.trim().to_string());
+            diff(
+                "wiring_type",
+                "wiring_type",
+                old.wiring_type.clone(),
+                wiring.clone(),
+                text(wiring),
+                ChangeKind::RegisterCorrected,
+            )?;
+            diff(
+                "ref_method",
+                "ref_method",
+                old.ref_method.map(|m| m.as_str().into()),
+                new.ref_method.map(|m| m.as_str().into()),
+                text(new.ref_method.map(|m| m.as_str().into())),
+                ChangeKind::RegisterCorrected,
+            )?;
+            diff(
+                "points",
+                "points",
+                old.points.map(|n| n.to_string()),
+                new.points.map(|n| n.to_string()),
+                new.points
+                    .map(|n| Value::Integer(n.into()))
+                    .unwrap_or(Value::Null),
+                ChangeKind::RegisterCorrected,
+            )?;
+            diff(
+                "breaking_ka",
+                "breaking_ka",
+                num(old.breaking_ka),
+                num(new.breaking_ka),
+                real(new.breaking_ka),
+                ChangeKind::DeviceChanged,
+            )?;
+            diff(
+                "afdd",
+                "afdd",
+                old.afdd.map(|a| yes_no(a).into()),
+                new.afdd.map(|a| yes_no(a).into()),
+                new.afdd
+                    .map(|a| Value::Integer(a.into()))
+                    .unwrap_or(Value::Null),
+                ChangeKind::DeviceChanged,
+            )?;
+            // The RCD by its identifier as stored, so that rcd1 names the board's RCD1 and is
+            // no change.
+            let rcd = match new.rcd_id.as_deref() {
+                Some(r) => Some(s.rcd_device(old.board_id, r)?),
+                None => None,
+            };
+            diff(
+                "rcd_id",
+                "rcd_device_id",
+                old.rcd_id.clone(),
+                rcd.as_ref().map(|(_, d)| d.clone()),
+                rcd.as_ref()
+                    .map(|(id, _)| Value::Integer(*id))
+                    .unwrap_or(Value::Null),
+                ChangeKind::RegisterCorrected,
+            )?;
             // Dated before what the history already holds, the change would alter what a
             // later visit shows (the register at a date is the register now with later
             // changes undone): refused, as import and `record` refuse it.
@@ -424,6 +534,17 @@ impl Store {
                 rcd_delay: details.rcd_delay.or(old.rcd_delay),
                 insulation: details.insulation.or(old.insulation),
                 disconnect_s: details.disconnect_s.or(old.disconnect_s),
+                wiring_type: details.wiring_type.clone().or(old.wiring_type.clone()),
+                ref_method: details.ref_method.or(old.ref_method),
+                points: details.points.or(old.points),
+                breaking_ka: details.breaking_ka.or(old.breaking_ka),
+                afdd: details.afdd.or(old.afdd),
+                // An RCD belongs to its board: carried over only when the board stays.
+                rcd_id: details.rcd_id.clone().or_else(|| {
+                    (new_board.id == old.board_id)
+                        .then(|| old.rcd_id.clone())
+                        .flatten()
+                }),
             };
             s.conn.execute(
                 "UPDATE circuit SET status = 'retired' WHERE id = ?1",
@@ -558,4 +679,9 @@ impl Store {
         })?;
         Ok(rows.collect::<rusqlite::Result<_>>()?)
     }
+}
+
+/// A yes/no register value as a change records it.
+pub(crate) fn yes_no(v: bool) -> &'static str {
+    if v { "yes" } else { "no" }
 }

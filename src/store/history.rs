@@ -310,9 +310,19 @@ impl Store {
         )?;
         let filter = (filter, run);
         let mut boards = stream(&mut st_b, filter, 1, Store::board_from_row)?;
-        let mut circuits = stream(&mut st_c, filter, 16, Store::circuit_from_row)?;
+        let mut circuits = stream(
+            &mut st_c,
+            filter,
+            Store::CIRCUIT_COL_COUNT,
+            Store::circuit_from_row,
+        )?;
         let mut visits = stream(&mut st_v, filter, 1, Store::visit_from_row)?;
-        let mut records = stream(&mut st_r, filter, 18, Store::record_from_row)?;
+        let mut records = stream(
+            &mut st_r,
+            filter,
+            Store::RECORD_COL_COUNT,
+            Store::record_from_row,
+        )?;
         let mut tests = stream(&mut st_t, filter, 6, |r| {
             Ok(BoardTest {
                 visit_id: r.get(0)?,

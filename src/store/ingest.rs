@@ -7,10 +7,19 @@ use chrono::NaiveDate;
 use rusqlite::config::DbConfig;
 use rusqlite::{OptionalExtension, Row, Statement, params};
 
-use super::record::{RECORD_VALUES, execute_record, readings_at};
+use super::record::{RECORD_VALUE_COUNT, RECORD_VALUES, execute_record, readings_at};
 use super::{CircuitDetails, Store};
 use crate::error::Result;
 use crate::model::Readings;
+
+/// The register columns of a circuit `c` that [`details_at`] decodes, in order.
+macro_rules! details_cols {
+    () => {
+        "c.description, c.kind, c.live_mm2, c.cpc_mm2, c.length_m, c.device, c.rcd_ma,
+         c.rcd_type, c.rcd_delay, c.insulation, c.wiring_type, c.ref_method, c.points,
+         c.breaking_ka, c.afdd, (SELECT r.designation FROM rcd_device r WHERE r.id = c.rcd_device_id)"
+    };
+}
 
 /// What a register change dated earlier would alter in a circuit's history.
 #[derive(Debug, Clone, PartialEq, Eq)]
@@ -117,8 +126,15 @@ impl HeldInserts<'_> {
         execute_record(&mut self.record, visit_id, circuit_id, r)
     }
 
-    /// Add a circuit to a board; returns its id.
-    pub fn circuit(&mut self, board_id: i64, number: &str, d: &CircuitDetails) -> Result<i64> {
+    /// Add a circuit to a board; returns its id. `rcd_device_id` is the id of the RCD the
+    /// details name ([`Store::ingest_rcd_device`]).
+    pub fn circuit(
+        &mut self,
+        board_id: i64,
+        number: &str,
+        d: &CircuitDetails,
+        rcd_device_id: Option<i64>,
+    ) -> Result<i64> {
         d.validate()?;
         Ok(self.circuit.insert(params![
             board_id,
@@ -132,6 +148,13 @@ impl HeldInserts<'_> {
             d.rcd_ma,
             d.rcd_type.map(|t| t.as_str()),
             d.rcd_delay.map(|t| t.as_str()),
+            d.insulation.map(|i| i.as_str()),
+            d.wiring_type.as_deref().map(str::trim),
+            d.ref_method.map(|m| m.as_str()),
+            d.points,
+            d.breaking_ka,
+            d.afdd,
+            rcd_device_id,
         ])?)
     }
 }
@@ -143,12 +166,16 @@ impl Store {
             record: self.conn.prepare(concat!(
                 "INSERT INTO test_record (visit_id, circuit_id, ",
                 record_values!(),
-                ") VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11, ?12, ?13, ?14, ?15, ?16, ?17)"
+                ") VALUES (",
+                record_placeholders!(),
+                ")"
             ))?,
             circuit: self.conn.prepare(
                 "INSERT INTO circuit (board_id, number, description, kind, live_mm2, cpc_mm2, length_m,
-                     device, rcd_ma, rcd_type, rcd_delay)
-                 VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11)",
+                     device, rcd_ma, rcd_type, rcd_delay, insulation, wiring_type, ref_method,
+                     points, breaking_ka, afdd, rcd_device_id)
+                 VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11, ?12, ?13, ?14, ?15, ?16,
+                     ?17, ?18)",
             )?,
         })
     }
@@ -236,20 +263,31 @@ impl Store {
         Ok(())
     }
 
+    /// The id of the RCD known by `designation` on a board (without regard to case), added on
+    /// first sight, and its designation as stored.
+    pub fn ingest_rcd_device(&self, board_id: i64, designation: &str) -> Result<(i64, String)> {
+        self.rcd_device(board_id, designation)
+    }
+
     /// Every circuit in service on a board, with its number, id, register details and whether
     /// any change is recorded on it: one query for a board's circuits instead of two for each.
     pub fn ingest_board_circuits(
         &self,
         board_id: i64,
     ) -> Result<Vec<(String, i64, CircuitDetails, bool)>> {
-        let mut st = self.conn.prepare_cached(
-            "SELECT c.number, c.id, c.description, c.kind, c.live_mm2, c.cpc_mm2, c.length_m,
-                    c.device, c.rcd_ma, c.rcd_type, c.rcd_delay,
-                    EXISTS (SELECT 1 FROM circuit_change ch WHERE ch.circuit_id = c.id)
-             FROM circuit c WHERE c.board_id = ?1 AND c.status = 'in_service' ORDER BY c.id",
-        )?;
+        let mut st = self.conn.prepare_cached(concat!(
+            "SELECT c.number, c.id, ",
+            details_cols!(),
+            ", EXISTS (SELECT 1 FROM circuit_change ch WHERE ch.circuit_id = c.id)
+             FROM circuit c WHERE c.board_id = ?1 AND c.status = 'in_service' ORDER BY c.id"
+        ))?;
         let rows = st.query_map([board_id], |r| {
-            Ok((r.get(0)?, r.get(1)?, details_at(r, 2)?, r.get(11)?))
+            Ok((
+                r.get(0)?,
+                r.get(1)?,
+                details_at(r, 2)?,
+                r.get(2 + DETAILS_COLS)?,
+            ))
         })?;
         Ok(rows.collect::<rusqlite::Result<_>>()?)
     }
@@ -419,7 +457,9 @@ impl Store {
             concat!(
                 "INSERT OR REPLACE INTO test_record (visit_id, circuit_id, ",
                 record_values!(),
-                ") VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11, ?12, ?13, ?14, ?15, ?16, ?17)"
+                ") VALUES (",
+                record_placeholders!(),
+                ")"
             ),
             visit_id,
             circuit_id,
@@ -450,10 +490,11 @@ impl Store {
 
     /// Rows in each table, for a summary or to show that nothing was written.
     pub fn row_counts(&self) -> Result<Vec<(&'static str, i64)>> {
-        const TABLES: [&str; 10] = [
+        const TABLES: [&str; 11] = [
             "client",
             "property",
             "board",
+            "rcd_device",
             "circuit",
             "instrument",
             "visit",
@@ -501,8 +542,7 @@ impl Store {
         let property_ref = canonical.as_ref().map(|p| p.reference.as_str());
         let sql = format!(
             "SELECT p.ref, p.address, b.designation, b.earthing, c.id, c.number,
-                    c.description, c.kind, c.live_mm2, c.cpc_mm2, c.length_m, c.device, c.rcd_ma,
-                    c.rcd_type, c.rcd_delay, v.date, v.inspector, i.serial, v.ambient_c, bt.ze_ohm,
+                    {}, v.date, v.inspector, i.serial, v.ambient_c, bt.ze_ohm,
                     {},
                     (SELECT f.designation FROM board f WHERE f.id = b.fed_from_board_id),
                     bt.zdb_ohm, bt.submain_r1r2_ohm, bt.pfc_ka, v.report_ref, v.outcome,
@@ -517,12 +557,15 @@ impl Store {
              LEFT JOIN board_test bt ON bt.visit_id = v.id AND bt.board_id = b.id
              WHERE ?1 IS NULL OR p.ref = ?1
              ORDER BY p.ref, v.date, b.designation, CAST(c.number AS INTEGER), c.number, c.id",
+            details_cols!(),
             RECORD_VALUES
                 .split(',')
                 .map(|c| format!("t.{}", c.trim()))
                 .collect::<Vec<_>>()
                 .join(", ")
         );
+        // The board and visit columns that follow the test record's values.
+        const AFTER: usize = 11 + DETAILS_COLS + RECORD_VALUE_COUNT;
         let mut st = self.conn.prepare(&sql)?;
         let mut rows = st.query([property_ref])?;
         while let Some(r) = rows.next()? {
@@ -534,33 +577,33 @@ impl Store {
                 circuit_id: r.get(4)?,
                 circuit: r.get(5)?,
                 details: details_at(r, 6)?,
-                visit_date: r.get(15)?,
-                inspector: r.get(16)?,
-                instrument: r.get(17)?,
-                ambient_c: r.get(18)?,
-                ze_ohm: r.get(19)?,
-                readings: readings_at(r, 20)?,
-                fed_from: r.get(35)?,
+                visit_date: r.get(6 + DETAILS_COLS)?,
+                inspector: r.get(7 + DETAILS_COLS)?,
+                instrument: r.get(8 + DETAILS_COLS)?,
+                ambient_c: r.get(9 + DETAILS_COLS)?,
+                ze_ohm: r.get(10 + DETAILS_COLS)?,
+                readings: readings_at(r, 11 + DETAILS_COLS)?,
+                fed_from: r.get(AFTER)?,
                 board_test: crate::model::BoardTest {
-                    zdb_ohm: r.get(36)?,
-                    submain_r1r2_ohm: r.get(37)?,
-                    pfc_ka: r.get(38)?,
+                    zdb_ohm: r.get(AFTER + 1)?,
+                    submain_r1r2_ohm: r.get(AFTER + 2)?,
+                    pfc_ka: r.get(AFTER + 3)?,
                     ..Default::default()
                 },
                 report: crate::model::VisitReport {
-                    report_ref: r.get(39)?,
-                    outcome: r.get(40)?,
-                    interval_months: r.get(41)?,
-                    extent: r.get(42)?,
-                    limitations: r.get(43)?,
+                    report_ref: r.get(AFTER + 4)?,
+                    outcome: r.get(AFTER + 5)?,
+                    interval_months: r.get(AFTER + 6)?,
+                    extent: r.get(AFTER + 7)?,
+                    limitations: r.get(AFTER + 8)?,
                 },
                 supply: crate::model::SupplyRecord {
-                    u0_v: r.get(44)?,
-                    ra_ohm: r.get(45)?,
-                    bonding_csa_mm2: r.get(46)?,
-                    bonding_water: bonding_text(r.get(47)?),
-                    bonding_gas: bonding_text(r.get(48)?),
-                    bonding_other: bonding_text(r.get(49)?),
+                    u0_v: r.get(AFTER + 9)?,
+                    ra_ohm: r.get(AFTER + 10)?,
+                    bonding_csa_mm2: r.get(AFTER + 11)?,
+                    bonding_water: bonding_text(r.get(AFTER + 12)?),
+                    bonding_gas: bonding_text(r.get(AFTER + 13)?),
+                    bonding_other: bonding_text(r.get(AFTER + 14)?),
                 },
             };
             f(rec)?;
@@ -596,12 +639,16 @@ impl Store {
     }
 }
 
-/// Decode description, kind, live, cpc, length, device, rcd_ma, rcd_type, rcd_delay starting
-/// at `o`. A type 'S' from before migration 008 is read as the delay.
+/// A main bond's recorded state, as stored; a value this build does not know reads as none.
 fn bonding_text(t: Option<String>) -> Option<crate::model::Bonding> {
     t.and_then(|t| t.parse().ok())
 }
 
+/// How many columns [`details_cols`] names.
+const DETAILS_COLS: usize = 16;
+
+/// Decode the [`details_cols`] starting at `o`. A type 'S' from before migration 008 is read
+/// as the delay.
 fn details_at(r: &Row, o: usize) -> rusqlite::Result<CircuitDetails> {
     let kind: String = r.get(o + 1)?;
     let device: Option<String> = r.get(o + 5)?;
@@ -610,6 +657,7 @@ fn details_at(r: &Row, o: usize) -> rusqlite::Result<CircuitDetails> {
         .and_then(|t| t.parse::<crate::model::RcdMarking>().ok())
         .unwrap_or_default();
     let delay: Option<String> = r.get(o + 8)?;
+    let parsed = |i: usize| -> rusqlite::Result<Option<String>> { r.get(o + i) };
     Ok(CircuitDetails {
         rcd_type: marking.waveform,
         rcd_delay: delay.and_then(|t| t.parse().ok()).or(marking.delay),
@@ -620,7 +668,14 @@ fn details_at(r: &Row, o: usize) -> rusqlite::Result<CircuitDetails> {
         length_m: r.get(o + 4)?,
         device: device.and_then(|d| d.parse().ok()),
         rcd_ma: r.get(o + 6)?,
-        ..Default::default()
+        insulation: parsed(9)?.and_then(|t| t.parse().ok()),
+        disconnect_s: None,
+        wiring_type: r.get(o + 10)?,
+        ref_method: parsed(11)?.and_then(|t| t.parse().ok()),
+        points: r.get(o + 12)?,
+        breaking_ka: r.get(o + 13)?,
+        afdd: r.get::<_, Option<i64>>(o + 14)?.map(|v| v != 0),
+        rcd_id: r.get(o + 15)?,
     })
 }
 
@@ -666,8 +721,12 @@ mod tests {
         let p = s.ingest_insert_property("P-1", None).unwrap();
         let b = s.ingest_insert_board(p, "DB1", None).unwrap();
         let mut ins = s.ingest_inserts().unwrap();
-        let c1 = ins.circuit(b, "1", &CircuitDetails::default()).unwrap();
-        let c2 = ins.circuit(b, "2", &CircuitDetails::default()).unwrap();
+        let c1 = ins
+            .circuit(b, "1", &CircuitDetails::default(), None)
+            .unwrap();
+        let c2 = ins
+            .circuit(b, "2", &CircuitDetails::default(), None)
+            .unwrap();
         let day = |d: &str| d.parse::<NaiveDate>().unwrap();
         let visit = |d: &str| {
             let v = IngestVisit {

@@ -38,6 +38,10 @@ pub const MIGRATIONS: &[(&str, &str)] = &[
         "009_visit_report_supply",
         include_str!("../../schema/009_visit_report_supply.sql"),
     ),
+    (
+        "010_circuit_schedule",
+        include_str!("../../schema/010_circuit_schedule.sql"),
+    ),
 ];
 
 /// The last version whose databases carry no application id: an unmarked database at a
@@ -325,26 +329,35 @@ mod tests {
                 "006_application_id",
                 "007_property_ref_nocase_index",
                 "008_rcd_delay",
-                "009_visit_report_supply"
+                "009_visit_report_supply",
+                "010_circuit_schedule"
             ]
         );
         assert_eq!(user_version(&conn).unwrap(), latest_version());
         for (t, rows) in tables.iter().zip(&before) {
-            // 008 adds rcd_delay as the circuit's last column, NULL for these rows.
+            // 008 adds rcd_delay as the circuit's last column and 010 six more, NULL for these
+            // rows; 010 adds three to test records.
+            let added = match *t {
+                "circuit" => 7,
+                "test_record" => 3,
+                _ => 0,
+            };
             let mut after = dump(&conn, &format!("SELECT * FROM {t} ORDER BY id"));
-            if *t == "circuit" {
-                for row in &mut after {
+            for row in &mut after {
+                for _ in 0..added {
                     *row = row.strip_suffix("|Null").unwrap().to_string();
                 }
             }
             assert_eq!(&after, rows, "{t}");
         }
-        // Every index is kept; 007 adds one.
+        // Every index is kept; 007 adds one, 010 the unique index of its RCD table.
         let mut expected = indexes_before.clone();
-        expected.push(format!(
-            "{:?}",
-            rusqlite::types::ValueRef::Text(b"property_ref_nocase")
-        ));
+        for name in ["property_ref_nocase", "sqlite_autoindex_rcd_device_1"] {
+            expected.push(format!(
+                "{:?}",
+                rusqlite::types::ValueRef::Text(name.as_bytes())
+            ));
+        }
         expected.sort();
         let mut after = dump(&conn, indexes);
         after.sort();
@@ -436,6 +449,72 @@ mod tests {
             "SELECT name FROM sqlite_schema WHERE name LIKE '%_004'",
         );
         assert!(tables.is_empty(), "{tables:?}");
+    }
+
+    #[test]
+    fn the_schedule_columns_take_only_what_the_schedule_allows() {
+        let mut conn = at_version_3();
+        apply(&mut conn).unwrap();
+        let refuses = |sql: &str| conn.execute(sql, []).is_err();
+        // BS 7671:2018 Appendix 4: reference methods A to G, and 100 to 103 for cable in
+        // thermal insulation (from memory).
+        for m in ["A", "C", "G", "100", "103"] {
+            assert!(!refuses(&format!(
+                "UPDATE circuit SET ref_method = '{m}' WHERE id = 1"
+            )));
+        }
+        for m in ["H", "c", "104", "99", ""] {
+            assert!(
+                refuses(&format!(
+                    "UPDATE circuit SET ref_method = '{m}' WHERE id = 1"
+                )),
+                "{m}"
+            );
+        }
+        // BS 7671:2018 Table 64: test voltages 250, 500 and 1000 V d.c.
+        for v in [250, 500, 1000] {
+            assert!(!refuses(&format!(
+                "UPDATE test_record SET ir_test_v = {v} WHERE id = 1"
+            )));
+        }
+        assert!(refuses(
+            "UPDATE test_record SET ir_test_v = 400 WHERE id = 1"
+        ));
+        assert!(refuses(
+            "UPDATE test_record SET polarity = 'ok' WHERE id = 1"
+        ));
+        assert!(!refuses(
+            "UPDATE test_record SET polarity = 'incorrect' WHERE id = 1"
+        ));
+        assert!(refuses(
+            "UPDATE test_record SET rcd_button = 'yes' WHERE id = 1"
+        ));
+        assert!(!refuses(
+            "UPDATE test_record SET rcd_button = 'failed' WHERE id = 1"
+        ));
+        assert!(refuses("UPDATE circuit SET afdd = 2 WHERE id = 1"));
+        assert!(refuses("UPDATE circuit SET points = -1 WHERE id = 1"));
+        assert!(refuses("UPDATE circuit SET breaking_ka = 0 WHERE id = 1"));
+        assert!(refuses("UPDATE circuit SET wiring_type = ' ' WHERE id = 1"));
+        // An RCD belongs to a board; its identifier is unique there without regard to case.
+        assert!(!refuses(
+            "INSERT INTO rcd_device (board_id, designation) VALUES (1, 'RCD1')"
+        ));
+        assert!(refuses(
+            "INSERT INTO rcd_device (board_id, designation) VALUES (1, 'rcd1')"
+        ));
+        assert!(!refuses(
+            "INSERT INTO rcd_device (board_id, designation) VALUES (2, 'RCD1')"
+        ));
+        assert!(refuses(
+            "INSERT INTO rcd_device (board_id, designation) VALUES (9, 'RCD2')"
+        ));
+        assert!(refuses(
+            "UPDATE circuit SET rcd_device_id = 99 WHERE id = 1"
+        ));
+        assert!(!refuses(
+            "UPDATE circuit SET rcd_device_id = 1 WHERE id = 1"
+        ));
     }
 
     #[test]

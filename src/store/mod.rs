@@ -35,8 +35,8 @@ use serde::Serialize;
 use crate::error::{Error, Result};
 use crate::model::{
     Board, ChangeKind, Circuit, CircuitChange, CircuitKind, Device, Earthing, Instrument,
-    Insulation, Property, RcdDelay, RcdMarking, RcdType, Status, validate_csa, validate_length,
-    validate_rcd_ma,
+    Insulation, Property, RcdDelay, RcdMarking, RcdType, RefMethod, Status, validate_breaking_ka,
+    validate_code, validate_csa, validate_length, validate_points, validate_rcd_ma,
 };
 
 /// How long a writer waits for another process's transaction before giving up.
@@ -96,6 +96,13 @@ pub struct CircuitDetails {
     pub rcd_delay: Option<RcdDelay>,
     pub insulation: Option<Insulation>,
     pub disconnect_s: Option<f64>,
+    pub wiring_type: Option<String>,
+    pub ref_method: Option<RefMethod>,
+    pub points: Option<u32>,
+    pub breaking_ka: Option<f64>,
+    pub afdd: Option<bool>,
+    /// The identifier of the RCD protecting the circuit on its board (`RCD1`).
+    pub rcd_id: Option<String>,
 }
 
 impl CircuitDetails {
@@ -129,6 +136,26 @@ impl CircuitDetails {
             return bad(format!(
                 "disconnection time {t} s is out of range: expected 0.2, 0.4, 1 or 5 s"
             ));
+        }
+        if let Some(w) = &self.wiring_type
+            && let Err(m) = validate_code("wiring type", w)
+        {
+            return bad(m);
+        }
+        if let Some(r) = &self.rcd_id
+            && let Err(m) = validate_code("RCD identifier", r)
+        {
+            return bad(m);
+        }
+        if let Some(n) = self.points
+            && let Err(m) = validate_points(n)
+        {
+            return bad(m);
+        }
+        if let Some(ka) = self.breaking_ka
+            && let Err(m) = validate_breaking_ka(ka)
+        {
+            return bad(m);
         }
         Ok(())
     }

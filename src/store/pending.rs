@@ -207,20 +207,38 @@ impl Store {
             )?;
             return Ok(());
         }
+        let mut column = field;
         let value = match (field, old) {
+            ("rcd_id", old) => {
+                column = "rcd_device_id";
+                match old {
+                    Some(t) => {
+                        let board: i64 = self.conn.query_row(
+                            "SELECT board_id FROM circuit WHERE id = ?1",
+                            [circuit_id],
+                            |r| r.get(0),
+                        )?;
+                        Value::Integer(self.rcd_device(board, t)?.0)
+                    }
+                    None => Value::Null,
+                }
+            }
             (_, None) => Value::Null,
             (
-                "description" | "kind" | "device" | "rcd_type" | "rcd_delay" | "insulation",
+                "description" | "kind" | "device" | "rcd_type" | "rcd_delay" | "insulation"
+                | "wiring_type" | "ref_method",
                 Some(t),
             ) => Value::Text(t.to_string()),
-            ("live_mm2" | "cpc_mm2" | "length_m" | "disconnect_s", Some(t)) => {
+            ("live_mm2" | "cpc_mm2" | "length_m" | "disconnect_s" | "breaking_ka", Some(t)) => {
                 Value::Real(t.parse().map_err(|_| bad())?)
             }
-            ("rcd_ma", Some(t)) => Value::Integer(t.parse().map_err(|_| bad())?),
+            ("rcd_ma" | "points", Some(t)) => Value::Integer(t.parse().map_err(|_| bad())?),
+            ("afdd", Some("yes")) => Value::Integer(1),
+            ("afdd", Some("no")) => Value::Integer(0),
             _ => return Err(bad()),
         };
         self.conn.execute(
-            &format!("UPDATE circuit SET {field} = ?1 WHERE id = ?2"),
+            &format!("UPDATE circuit SET {column} = ?1 WHERE id = ?2"),
             params![value, circuit_id],
         )?;
         Ok(())

@@ -13,7 +13,8 @@ use crate::model::{Megohms, Readings, TestRecord};
 macro_rules! record_values {
     () => {
         "r1r2_ohm, r2_ohm, r1rn_ohm, ring_r1_ohm, ring_rn_ohm, ring_r2_ohm,
-    zs_ohm, ir_ll_mohm, ir_ll_over, ir_le_mohm, ir_le_over, rcd_ms, rcd_5x_ms, limitations, note"
+    zs_ohm, ir_ll_mohm, ir_ll_over, ir_le_mohm, ir_le_over, rcd_ms, rcd_5x_ms, limitations, note,
+    polarity, ir_test_v, rcd_button"
     };
 }
 pub(super) const RECORD_VALUES: &str = record_values!();
@@ -63,11 +64,23 @@ pub(super) fn readings_at(r: &Row, o: usize) -> rusqlite::Result<Readings> {
             .map(String::from)
             .collect(),
         note: r.get(o + 14)?,
+        polarity: match r.get_ref(o + 15)?.as_str_or_null()? {
+            Some(t) => t.parse().ok(),
+            None => None,
+        },
+        ir_test_v: r.get(o + 16)?,
+        rcd_button: match r.get_ref(o + 17)?.as_str_or_null()? {
+            Some(t) => t.parse().ok(),
+            None => None,
+        },
     })
 }
 
+/// How many columns [`RECORD_VALUES`] names.
+pub(super) const RECORD_VALUE_COUNT: usize = RECORD_VALUE_NAMES.len();
+
 /// The [`RECORD_VALUES`] one by one, for error messages.
-const RECORD_VALUE_NAMES: [&str; 15] = [
+const RECORD_VALUE_NAMES: [&str; 18] = [
     "r1r2_ohm",
     "r2_ohm",
     "r1rn_ohm",
@@ -83,12 +96,18 @@ const RECORD_VALUE_NAMES: [&str; 15] = [
     "rcd_5x_ms",
     "limitations",
     "note",
+    "polarity",
+    "ir_test_v",
+    "rcd_button",
 ];
 
 impl Store {
     /// A stored test record's columns: its keys, then the [`RECORD_VALUES`].
     pub(super) const RECORD_COLS: &'static str =
         concat!("id, visit_id, circuit_id, ", record_values!());
+
+    /// How many columns [`Self::RECORD_COLS`] names.
+    pub(super) const RECORD_COL_COUNT: usize = 3 + RECORD_VALUE_NAMES.len();
 
     /// Decode a test record from the columns of [`Self::RECORD_COLS`], in order.
     pub(super) fn record_from_row(r: &Row) -> rusqlite::Result<TestRecord> {
@@ -112,6 +131,13 @@ impl Store {
         let mut st = self.conn.prepare_cached(sql)?;
         execute_record(&mut st, visit_id, circuit_id, r)
     }
+}
+
+/// The placeholders of an insert of (visit, circuit, the [`RECORD_VALUES`]).
+macro_rules! record_placeholders {
+    () => {
+        "?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11, ?12, ?13, ?14, ?15, ?16, ?17, ?18, ?19, ?20"
+    };
 }
 
 /// Run `st`, an insert whose parameters are (visit, circuit, the [`RECORD_VALUES`] in order),
@@ -147,6 +173,9 @@ pub(super) fn execute_record(
         r.rcd_5x_ms,
         r.limitations.join(","),
         r.note,
+        r.polarity.map(|p| p.as_str()),
+        r.ir_test_v,
+        r.rcd_button.map(|b| b.as_str()),
     ])?;
     Ok(())
 }

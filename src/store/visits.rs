@@ -408,7 +408,9 @@ impl Store {
             concat!(
                 "INSERT INTO test_record (visit_id, circuit_id, ",
                 record_values!(),
-                ") VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11, ?12, ?13, ?14, ?15, ?16, ?17)
+                ") VALUES (",
+                record_placeholders!(),
+                ")
                  ON CONFLICT (visit_id, circuit_id) DO UPDATE SET
                  r1r2_ohm = excluded.r1r2_ohm, r2_ohm = excluded.r2_ohm, r1rn_ohm = excluded.r1rn_ohm,
                  ring_r1_ohm = excluded.ring_r1_ohm, ring_rn_ohm = excluded.ring_rn_ohm,
@@ -416,7 +418,9 @@ impl Store {
                  ir_ll_mohm = excluded.ir_ll_mohm, ir_ll_over = excluded.ir_ll_over,
                  ir_le_mohm = excluded.ir_le_mohm, ir_le_over = excluded.ir_le_over,
                  rcd_ms = excluded.rcd_ms, rcd_5x_ms = excluded.rcd_5x_ms,
-                 limitations = excluded.limitations, note = excluded.note"
+                 limitations = excluded.limitations, note = excluded.note,
+                 polarity = excluded.polarity, ir_test_v = excluded.ir_test_v,
+                 rcd_button = excluded.rcd_button"
             ),
             visit_id,
             circuit_id,
@@ -515,6 +519,9 @@ pub fn validate_readings(r: &Readings) -> Result<()> {
         ("rcd_ms", r.rcd_ms),
         ("rcd_5x_ms", r.rcd_5x_ms),
     ];
+    if let Some(v) = r.ir_test_v {
+        crate::model::validate_ir_test_v(v).map_err(Error::Invalid)?;
+    }
     for (name, v) in all {
         if let Some(v) = v
             && !(v.is_finite() && v >= 0.0)

@@ -167,6 +167,10 @@ pub enum Block {
     Dl {
         items: Vec<(String, Vec<String>)>,
     },
+    /// Terms and their values side by side, one line each where they fit.
+    Facts {
+        items: Vec<(String, String)>,
+    },
     Cautions {
         title: String,
         items: Vec<String>,

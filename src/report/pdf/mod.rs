@@ -11,6 +11,7 @@ mod brief;
 pub mod doc;
 mod portfolio;
 mod property;
+mod schedule;
 mod world;
 
 use doc::{Contractor as DocContractor, Doc};

@@ -8,8 +8,9 @@ use crate::report::model::{
 };
 use crate::report::property::{
     SEE_THE_NOTES, board_caption, boards_words, caption, cell_words, chart_spec, circuit_lines,
-    finding_facts, instrument_words, recommended_words,
+    finding_facts, instrument_words, recommended_words, report_lines,
 };
+use crate::report::schedule::OUTCOME_LABEL;
 
 /// The chart's drawing size: the HTML's, a little flatter so two fit on a page with words.
 const CHART_W: u32 = 720;
@@ -47,10 +48,12 @@ pub fn blocks(r: &PropertyReport) -> Doc {
     // The HTML's footer sentence; the page footer names the version and the date.
     d.push(Block::Small {
         spans: text(format!(
-            "Made by ohmtrail from the test history of {}. The figures come from the readings              recorded at each visit; nothing here was measured by ohmtrail.",
+            "Made by ohmtrail from the test history of {}. The figures come from the readings \
+             recorded at each visit; nothing here was measured by ohmtrail.",
             h.property_ref
         )),
     });
+    super::schedule::blocks(&mut d, &r.schedule);
     boards(&mut d, r);
     visits(&mut d, &r.visits);
     method(&mut d, r);
@@ -373,6 +376,15 @@ fn visits(d: &mut Doc, visits: &[VisitEntry]) {
                     Line::styled(note, if lapsed { "past" } else { "m" }),
                 ],
             };
+            let report: Cell = match report_lines(&v.report) {
+                lines if lines.is_empty() => vec![Line::styled("not recorded", "m")],
+                // The column's heading says the report is the inspector's, once.
+                lines => lines
+                    .into_iter()
+                    .filter(|(t, _)| *t != format!("({OUTCOME_LABEL})"))
+                    .map(|(t, small)| Line::styled(t, if small { "m" } else { "" }))
+                    .collect(),
+            };
             let obs: Cell = if v.observations.is_empty() {
                 vec![Line::styled("none recorded", "m")]
             } else {
@@ -404,6 +416,7 @@ fn visits(d: &mut Doc, visits: &[VisitEntry]) {
                         .map(|z| format!("{z:.2}"))
                         .unwrap_or_else(|| "–".into()),
                 )],
+                report,
                 obs,
             ]
         })
@@ -416,12 +429,13 @@ fn visits(d: &mut Doc, visits: &[VisitEntry]) {
             "Instrument",
             "Ambient °C",
             "Ze Ω",
+            "Report as recorded by the inspector",
             "Observations as recorded",
         ]
         .map(String::from)
         .to_vec(),
-        aligns: vec!["l", "l", "l", "r", "r", "l"],
-        widths: vec![1.3, 1.3, 1.5, 0.9, 0.7, 3.6],
+        aligns: vec!["l", "l", "l", "r", "r", "l", "l"],
+        widths: vec![1.2, 1.2, 1.4, 0.8, 0.6, 1.9, 2.9],
         rows,
         size: 7.2,
     });
