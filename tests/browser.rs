@@ -1,11 +1,14 @@
 //! Reports rendered in headless Chromium (Debian's `chromium` package, installed by `.ci/run`):
-//! they load without console messages, the screenshot is not blank, and they print to a sane
-//! number of A4 pages.
+//! they load without console messages, the screenshot is not blank, and they print to A4
+//! within the print targets: a 4-circuit home on at most 4 pages, a 30-circuit home on at
+//! most 10, the brief of a 4-circuit home on at most 4.
 
 use std::path::{Path, PathBuf};
 use std::process::Command as Process;
 
 use assert_cmd::Command;
+
+mod common;
 
 fn chromium() -> PathBuf {
     for p in ["/usr/bin/chromium", "/usr/bin/chromium-browser"] {
@@ -144,12 +147,69 @@ fn portfolio_index_renders_in_chromium_without_console_messages() {
 }
 
 #[test]
-fn report_prints_to_a_sane_number_of_pages() {
+fn reports_print_within_the_page_targets() {
     let dir = tempfile::tempdir().unwrap();
     let (reports, index) = demo_files(dir.path());
-    let pages = pdf_pages(&reports[0], &dir.path().join("report.pdf"));
-    assert!((1..=30).contains(&pages), "{pages} pages");
+    let db = dir.path().join("demo.db");
+    for report in &reports {
+        // The demo's homes: two 4-circuit ones and one with two boards (6 circuits).
+        let json = dir.path().join("r.json");
+        let reference = report
+            .file_stem()
+            .and_then(|s| s.to_str())
+            .and_then(|s| s.strip_prefix("report-"))
+            .unwrap()
+            .to_string();
+        Command::cargo_bin("ohmtrail")
+            .unwrap()
+            .env_remove("OHMTRAIL_DB")
+            .arg("--db")
+            .arg(&db)
+            .args(["report", &reference, "--format", "json", "-o"])
+            .arg(&json)
+            .assert()
+            .success();
+        let v: serde_json::Value = serde_json::from_slice(&std::fs::read(&json).unwrap()).unwrap();
+        let circuits = v["summary"]["circuits"].as_u64().unwrap();
+        let pages = pdf_pages(report, &dir.path().join("report.pdf"));
+        let most = if circuits <= 4 { 4 } else { 10 };
+        assert!(
+            (1..=most).contains(&pages),
+            "{reference}: {circuits} circuits on {pages} pages"
+        );
+    }
     // The index of a three-property demo fits on a page or two.
     let pages = pdf_pages(&index, &dir.path().join("index.pdf"));
     assert!((1..=2).contains(&pages), "index: {pages} pages");
+    // The brief of the 4-circuit flat, in the report's design.
+    let brief = dir.path().join("brief.html");
+    Command::cargo_bin("ohmtrail")
+        .unwrap()
+        .env_remove("OHMTRAIL_DB")
+        .arg("--db")
+        .arg(&db)
+        .args(["brief", "QL-001", "--temp", "12", "-o"])
+        .arg(&brief)
+        .assert()
+        .success();
+    let pages = pdf_pages(&brief, &dir.path().join("brief.pdf"));
+    assert!((1..=4).contains(&pages), "brief: {pages} pages");
+}
+
+#[test]
+fn a_thirty_circuit_home_prints_on_at_most_ten_pages() {
+    let dir = tempfile::tempdir().unwrap();
+    let (db, reference) = common::thirty_circuit_home(dir.path());
+    let html = dir.path().join("thirty.html");
+    Command::cargo_bin("ohmtrail")
+        .unwrap()
+        .env_remove("OHMTRAIL_DB")
+        .arg("--db")
+        .arg(&db)
+        .args(["report", &reference, "-o"])
+        .arg(&html)
+        .assert()
+        .success();
+    let pages = pdf_pages(&html, &dir.path().join("thirty.pdf"));
+    assert!((2..=10).contains(&pages), "30 circuits on {pages} pages");
 }

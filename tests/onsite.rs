@@ -221,10 +221,10 @@ fn line_mode_builds_history_and_the_brief_projects_it() {
     assert!(!html.contains("<kitchen>"));
 
     // An unknown output kind is refused with what is expected.
-    e.cmd(&["brief", "P-9", "-o", "x.pdf"], "")
+    e.cmd(&["brief", "P-9", "-o", "x.docx"], "")
         .failure()
         .stderr(predicates::str::contains(
-            "expected a file name ending .html or .csv",
+            "expected a file name ending .html, .pdf or .csv",
         ));
 }
 

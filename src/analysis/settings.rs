@@ -1,5 +1,5 @@
 //! Per-database choices: the measured-value rule, the insulation assumed where none is
-//! recorded, and the noise floors. Built-in defaults,
+//! recorded, the noise floors, and the contractor's details printed on reports. Built-in defaults,
 //! overridden by what `ohmtrail settings set` stored in the database.
 
 use chrono::NaiveDate;
@@ -17,6 +17,28 @@ pub struct Settings {
     pub trend: TrendConfig,
     /// The date the analysis is made on (reports print it; nothing is dated after it).
     pub today: NaiveDate,
+    /// Who made the report: printed on the report, the portfolio index and the brief.
+    pub contractor: ContractorSettings,
+}
+
+/// The contractor's details as set (`contractor.*`); all optional, none by default.
+#[derive(Debug, Clone, Default, PartialEq, Serialize)]
+pub struct ContractorSettings {
+    pub name: Option<String>,
+    pub address: Option<String>,
+    pub registration: Option<String>,
+    /// A PNG or SVG file, read and embedded each time a report is made.
+    pub logo: Option<String>,
+}
+
+impl ContractorSettings {
+    /// Whether any detail is set.
+    pub fn is_set(&self) -> bool {
+        self.name.is_some()
+            || self.address.is_some()
+            || self.registration.is_some()
+            || self.logo.is_some()
+    }
 }
 
 /// Where a setting lives in [`Settings`].
@@ -26,6 +48,10 @@ enum Slot {
     AssumedInsulation,
     /// A number of zero or more inside the trend configuration.
     Number(fn(&mut TrendConfig) -> &mut f64),
+    /// One line of text about the contractor.
+    Text(fn(&mut ContractorSettings) -> &mut Option<String>),
+    /// The contractor's logo: a file name ending .png or .svg.
+    Logo,
 }
 
 /// A setting's key, what it means, and where its value lives.
@@ -104,7 +130,30 @@ pub const KEYS: &[Key] = &[
         help: "change in a TT installation's Ze that counts, in decades (log10), beyond seasonal swing",
         slot: Slot::Number(|t| &mut t.ze_tt_log10.absolute),
     },
+    Key {
+        key: "contractor.name",
+        help: "the contractor's name, printed at the top of every report, index and brief",
+        slot: Slot::Text(|c| &mut c.name),
+    },
+    Key {
+        key: "contractor.address",
+        help: "the contractor's address, on one line",
+        slot: Slot::Text(|c| &mut c.address),
+    },
+    Key {
+        key: "contractor.registration",
+        help: "the contractor's registration number with its scheme, e.g. \"Scheme 12345\"",
+        slot: Slot::Text(|c| &mut c.registration),
+    },
+    Key {
+        key: "contractor.logo",
+        help: "a PNG or SVG file with the contractor's logo, read and embedded when a report is made",
+        slot: Slot::Logo,
+    },
 ];
+
+/// The longest contractor detail accepted, in characters.
+const MAX_TEXT: usize = 200;
 
 /// The setting with this name, or an error listing the known ones.
 pub fn key(name: &str) -> Result<&'static Key> {
@@ -123,6 +172,7 @@ impl Settings {
             limits: LimitsConfig::default(),
             trend: TrendConfig::default(),
             today,
+            contractor: ContractorSettings::default(),
         }
     }
 
@@ -165,6 +215,17 @@ impl Settings {
                         ))
                     })?
             }
+            Slot::Text(at) => *at(&mut next.contractor) = Some(text_value(name, value)?),
+            Slot::Logo => {
+                let v = text_value(name, value)?;
+                let lower = v.to_ascii_lowercase();
+                if !(lower.ends_with(".png") || lower.ends_with(".svg")) {
+                    return Err(Error::invalid(format!(
+                        "setting {name}: {v:?} is not a PNG or SVG file: expected a file name ending .png or .svg"
+                    )));
+                }
+                next.contractor.logo = Some(v);
+            }
         }
         next.trend
             .validate()
@@ -186,8 +247,35 @@ impl Settings {
                 let mut trend = self.trend;
                 at(&mut trend).to_string()
             }
+            Slot::Text(at) => {
+                let mut c = self.contractor.clone();
+                at(&mut c).clone().unwrap_or_default()
+            }
+            Slot::Logo => self.contractor.logo.clone().unwrap_or_default(),
         }
     }
+}
+
+/// A contractor detail: one line of text, not empty, at most [`MAX_TEXT`] characters.
+fn text_value(name: &str, value: &str) -> Result<String> {
+    let v = value.trim();
+    if v.is_empty() {
+        return Err(Error::invalid(format!(
+            "setting {name}: the value is empty: give the text, or `settings reset {name}` to remove it"
+        )));
+    }
+    if v.chars().any(char::is_control) {
+        return Err(Error::invalid(format!(
+            "setting {name}: {v:?} holds a line break or a control character: expected one line"
+        )));
+    }
+    if v.chars().count() > MAX_TEXT {
+        return Err(Error::invalid(format!(
+            "setting {name}: the value is {} characters long: expected at most {MAX_TEXT}",
+            v.chars().count()
+        )));
+    }
+    Ok(v.to_string())
 }
 
 #[cfg(test)]
@@ -217,10 +305,30 @@ mod tests {
             crate::model::Insulation::Thermosetting90
         );
         assert!(s.apply("limits.assumed_insulation", "rubber").is_err());
-        for k in KEYS {
+        for k in KEYS.iter().filter(|k| !k.key.starts_with("contractor.")) {
             assert!(s.value(k.key).is_some(), "{}", k.key);
             let mut t = s.clone();
             t.apply(k.key, &k.default_value()).unwrap();
         }
+    }
+
+    #[test]
+    fn contractor_details_are_one_line_and_the_logo_a_png_or_svg() {
+        let mut s = Settings::defaults(NaiveDate::from_ymd_opt(2026, 1, 1).unwrap());
+        assert!(!s.contractor.is_set());
+        s.apply("contractor.name", "  Example Electrical Ltd ")
+            .unwrap();
+        assert_eq!(s.contractor.name.as_deref(), Some("Example Electrical Ltd"));
+        assert!(s.contractor.is_set());
+        assert!(s.apply("contractor.address", "").is_err());
+        assert!(s.apply("contractor.address", "1 Road\nTown").is_err());
+        assert!(s.apply("contractor.address", &"x".repeat(201)).is_err());
+        s.apply("contractor.logo", "/tmp/logo.SVG").unwrap();
+        let e = s
+            .apply("contractor.logo", "logo.jpg")
+            .unwrap_err()
+            .to_string();
+        assert!(e.contains("logo.jpg") && e.contains(".png or .svg"), "{e}");
+        assert_eq!(s.value("contractor.logo").as_deref(), Some("/tmp/logo.SVG"));
     }
 }

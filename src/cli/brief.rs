@@ -23,7 +23,7 @@ pub struct Args {
     /// Expected ambient temperature on site, °C [default: 15, stated in the brief]
     #[arg(long, value_name = "C", allow_negative_numbers = true, value_parser = parse_temp)]
     pub temp: Option<f64>,
-    /// Write the brief to FILE: .html (printable A4) or .csv; without it, print a text table
+    /// Write the brief to FILE: .html (printable A4), .pdf or .csv; without it, print a text table
     #[arg(short = 'o', long = "output", value_name = "FILE")]
     pub output: Option<PathBuf>,
 }
@@ -59,15 +59,19 @@ pub fn run(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
                 .extension()
                 .and_then(|e| e.to_str())
                 .map(|e| e.to_ascii_lowercase());
+            let contractor = || ohmtrail::report::contractor(&settings);
             let body = match ext.as_deref() {
-                Some("html" | "htm") => ohmtrail::report::brief::brief_html(&b),
-                Some("csv") => csv_text(&b)?,
+                Some("html" | "htm") => {
+                    ohmtrail::report::brief::brief_html(&b, contractor()?.as_ref()).into_bytes()
+                }
+                Some("pdf") => ohmtrail::report::pdf::brief(&b, contractor()?.as_ref())?,
+                Some("csv") => csv_text(&b)?.into_bytes(),
                 _ => bail!(
-                    "{}: unknown output kind: expected a file name ending .html or .csv",
+                    "{}: unknown output kind: expected a file name ending .html, .pdf or .csv",
                     path.display()
                 ),
             };
-            write_atomic(path, body.as_bytes())?;
+            write_atomic(path, &body)?;
             status(
                 out,
                 format_args!(

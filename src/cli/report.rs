@@ -1,7 +1,8 @@
 //! `ohmtrail report`: one property's trend report, or the portfolio index with every
 //! property's report beside it.
 //!
-//! File names: a property's report is `report-REF.html` (`.json` with `--format json`), REF
+//! File names: a property's report is `report-REF.html` (`.pdf` with `--format pdf`, `.json`
+//! with `--format json`), REF
 //! made safe for file names (anything but letters, digits, `-`, `_` and `.` becomes `_`, and
 //! a short hash of the reference is then appended so that names never collide). Without `-o`
 //! a property's report goes to that name in the current directory and the index to
@@ -25,6 +26,8 @@ use super::{CAUTION, Context, today};
 pub enum Format {
     /// A self-contained HTML page (inline CSS and SVG, no script)
     Html,
+    /// The same content as an A4 PDF (fonts embedded, charts as vectors)
+    Pdf,
     /// The same content as JSON
     Json,
 }
@@ -33,6 +36,7 @@ impl Format {
     fn ext(self) -> &'static str {
         match self {
             Format::Html => "html",
+            Format::Pdf => "pdf",
             Format::Json => "json",
         }
     }
@@ -49,7 +53,7 @@ pub struct Args {
     /// File to write, or - for standard output [default: a property's JSON to standard output; its HTML to report-REF.html, the portfolio to portfolio.html or .json, in the current directory]
     #[arg(short = 'o', long = "output", value_name = "FILE")]
     pub output: Option<PathBuf>,
-    /// html, or json for the same content as data
+    /// html, pdf for an A4 document to send or print, or json for the same content as data
     #[arg(long, value_enum, default_value_t = Format::Html)]
     pub format: Format,
     /// With --portfolio: write only the index, not the property reports it links to
@@ -109,6 +113,7 @@ pub fn run(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
             let path = dir.join(report::property_file_name(&r.header.property_ref, ext));
             let body = match args.format {
                 Format::Html => property::render(r).into_bytes(),
+                Format::Pdf => report::pdf::property(r)?,
                 Format::Json => {
                     json_bytes(r).map_err(|e| ohmtrail::Error::invalid(e.to_string()))?
                 }
@@ -119,6 +124,7 @@ pub fn run(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
         })?;
         let body = match args.format {
             Format::Html => portfolio::render(&index).into_bytes(),
+            Format::Pdf => report::pdf::portfolio(&index)?,
             Format::Json => json_bytes(&index)?,
         };
         write_atomic(&target, &body)?;
@@ -145,6 +151,7 @@ pub fn run(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result<()> {
         let r = report::property_report(&store, reference, &settings)?;
         let body = match args.format {
             Format::Html => property::render(&r).into_bytes(),
+            Format::Pdf => report::pdf::property(&r)?,
             Format::Json => json_bytes(&r)?,
         };
         write_atomic(&target, &body)?;
@@ -174,6 +181,7 @@ fn to_standard_output(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result
         )?;
         match args.format {
             Format::Html => portfolio::render(&index).into_bytes(),
+            Format::Pdf => report::pdf::portfolio(&index)?,
             Format::Json => json_bytes(&index)?,
         }
     } else {
@@ -184,6 +192,7 @@ fn to_standard_output(args: &Args, ctx: &Context, out: &mut dyn Write) -> Result
         let r = report::property_report(&store, reference, &settings)?;
         match args.format {
             Format::Html => property::render(&r).into_bytes(),
+            Format::Pdf => report::pdf::property(&r)?,
             Format::Json => json_bytes(&r)?,
         }
     };

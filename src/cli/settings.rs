@@ -69,8 +69,19 @@ pub fn run(cmd: &Cmd, ctx: &Context, out: &mut dyn Write) -> Result<()> {
             // Check the value against the rules before storing it.
             let mut s = Settings::load(&store, today())?;
             s.apply(key, value)?;
-            store.set_setting(key, value.trim())?;
-            writeln!(out, "{key} = {}", value.trim())?;
+            // The logo is kept by its full path, so reports made from any directory find it,
+            // and checked now as it will be when a report is made.
+            let value = if key == "contractor.logo" {
+                let path = std::fs::canonicalize(value.trim()).map_err(|e| {
+                    anyhow::anyhow!("cannot find the logo file {} ({e})", value.trim())
+                })?;
+                ohmtrail::report::load_logo(&path)?;
+                path.to_string_lossy().into_owned()
+            } else {
+                value.trim().to_string()
+            };
+            store.set_setting(key, &value)?;
+            writeln!(out, "{key} = {value}")?;
         }
         Cmd::Reset { key } => {
             ohmtrail::analysis::settings::key(key)?;

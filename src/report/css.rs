@@ -72,7 +72,7 @@ tr{break-inside:avoid}
 .method dl{margin:0}
 .method dt{font-weight:700;margin-top:.6rem}
 .method dd{margin:.1rem 0 0}
-.cautions{border:2px solid var(--ink);border-radius:6px;padding:.8rem 1.1rem;margin-top:2rem;break-inside:avoid}
+.cautions{border:2px solid var(--ink);border-radius:6px;padding:.8rem 1.1rem;margin:2rem 0 1rem;break-inside:avoid}
 .cautions h2{border:0;margin:0 0 .4rem;padding:0}
 .cautions ul{margin:0;padding-left:1.2rem}
 footer{margin-top:2rem;font-size:.8rem;color:var(--muted);border-top:1px solid var(--rule);padding-top:.6rem}
@@ -80,15 +80,46 @@ footer{margin-top:2rem;font-size:.8rem;color:var(--muted);border-top:1px solid v
 .rank{font-weight:700;color:var(--muted)}
 td.prop{min-width:13rem}
 td.next-date{min-width:7.5rem}
+td.circ{min-width:9.5rem}
+.part{break-inside:avoid}
+.letterhead{display:flex;gap:.4rem 1rem;align-items:center;margin:0 0 .8rem}
+.letterhead img.logo{max-height:3.2rem;max-width:12rem}
+.letterhead p{margin:0;font-size:.85rem;color:var(--muted)}
+.letterhead p.name{font-size:1.05rem;font-weight:700;color:var(--ink)}
+.brief .flag{margin:.15rem 0;padding-left:.4rem;border-left:4px solid var(--exceeds);font-weight:600}
+.brief .circuit{break-inside:avoid;margin-bottom:.6rem}
+.brief td.basis{font-size:.78rem;color:var(--muted)}
+.brief td.box{min-width:22mm;border:1px solid var(--ink)}
+ol.first li{margin:.2rem 0}
 @page{size:A4;margin:14mm 12mm 16mm}
 @media print{
-html{font-size:10.5pt}
+html{font-size:8.6pt}
 .page{max-width:none;padding:0}
 a{color:inherit;text-decoration:none}
 h2{break-after:avoid;page-break-after:avoid}
-h3{break-after:avoid;page-break-after:avoid}
-.finding,.verdict,.cautions,figure,tr{break-inside:avoid;page-break-inside:avoid}
-section.boards,section.visits,section.method{break-before:page;page-break-before:always}
+h3,caption,.finding header,.finding .sub{break-after:avoid;page-break-after:avoid}
+.verdict,.cautions,figure,tr,.part,.brief .circuit{break-inside:avoid;page-break-inside:avoid}
+.finding{break-inside:auto}
+.finding figure svg{max-width:56%;margin:0 auto}
+.finding figcaption{text-align:center}
+.masthead{flex-wrap:nowrap}
+.tally{grid-template-columns:repeat(4,minmax(0,1fr))}
+h2{margin-top:.9rem;margin-bottom:.5rem}
+.method,.boards>p.small,.visits>p.small,.remedials>p.small{font-size:.8rem}
+.method table{font-size:.7rem}
+.method dt{margin-top:.35rem}
+.verdict{margin:.8rem 0 .7rem;padding:.6rem .9rem}
+.finding{padding:.6rem .8rem;margin-bottom:.7rem}
+.cautions{margin:1.2rem 0 .6rem}
+table{font-size:.76rem}
+th,td{padding:.18rem .32rem}
+.facts{font-size:.82rem;gap:.1rem 1rem}
+p{margin:.3rem 0}
+footer{margin-top:.8rem;padding-top:.3rem}
+.visits td:nth-child(3){white-space:nowrap}
+.visits td:nth-child(6){width:31%}
+td .m{white-space:normal}
+td.circ{min-width:8.5rem;width:22%}
 thead{display:table-header-group}
 .verdict,.badge,.tally li{-webkit-print-color-adjust:exact;print-color-adjust:exact}
 }

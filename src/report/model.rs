@@ -36,6 +36,8 @@ pub struct PropertyReport {
     /// The date the report was made (the analysis date).
     pub generated: NaiveDate,
     pub ohmtrail_version: &'static str,
+    /// Who made the report, from the `contractor.*` settings; `None` when none is set.
+    pub contractor: Option<Contractor>,
     pub header: Header,
     pub summary: Summary,
     /// Remedial work still to do on observations coded C1, C2 or FI (open or made safe, and
@@ -51,6 +53,51 @@ pub struct PropertyReport {
     pub visits: Vec<VisitEntry>,
     pub method: Method,
     pub cautions: Vec<String>,
+}
+
+/// The contractor's details as set, printed at the top of every document.
+#[derive(Debug, Clone, Serialize)]
+pub struct Contractor {
+    pub name: Option<String>,
+    pub address: Option<String>,
+    pub registration: Option<String>,
+    /// The logo file as set.
+    pub logo_file: Option<String>,
+    /// The logo's contents, read when the document is made ([`super::load_logo`]).
+    #[serde(skip)]
+    pub logo: Option<std::sync::Arc<Logo>>,
+}
+
+/// A logo image to embed.
+#[derive(Debug, Clone)]
+pub struct Logo {
+    pub bytes: Vec<u8>,
+    pub svg: bool,
+}
+
+impl Contractor {
+    /// The details from the settings, without the logo's contents; `None` when none is set.
+    pub fn from_settings(c: &crate::analysis::settings::ContractorSettings) -> Option<Contractor> {
+        c.is_set().then(|| Contractor {
+            name: c.name.clone(),
+            address: c.address.clone(),
+            registration: c.registration.clone(),
+            logo_file: c.logo.clone(),
+            logo: None,
+        })
+    }
+
+    /// The lines under the name: address, then registration.
+    pub fn lines(&self) -> Vec<String> {
+        let mut v = Vec::new();
+        if let Some(a) = &self.address {
+            v.push(a.clone());
+        }
+        if let Some(r) = &self.registration {
+            v.push(format!("Registration {r}"));
+        }
+        v
+    }
 }
 
 #[derive(Debug, Clone, Serialize)]
@@ -150,8 +197,17 @@ pub struct FlaggedFinding {
     pub kind: &'static str,
     /// One sentence with the figures.
     pub reason: String,
+    /// The last value the finding judged: corrected to 20 °C where the ambient was recorded.
     pub last_value: f64,
     pub last_date: NaiveDate,
+    /// The last reading as measured (`None` for a ring check, which has no series).
+    pub last_measured: Option<f64>,
+    /// The date of that reading.
+    pub last_measured_date: Option<NaiveDate>,
+    /// The last reading corrected to 20 °C, when it was corrected.
+    pub last_at_20c: Option<f64>,
+    /// The last reading is an over-range lower bound.
+    pub last_over_range: bool,
     pub unit: &'static str,
     pub limit: Option<f64>,
     pub limit_words: Option<String>,
@@ -450,6 +506,7 @@ pub fn build(a: &PropertyAnalysis) -> PropertyReport {
     PropertyReport {
         generated: today,
         ohmtrail_version: env!("CARGO_PKG_VERSION"),
+        contractor: Contractor::from_settings(&a.settings.contractor),
         header,
         summary,
         open_remedials: open_remedials(a),
@@ -799,6 +856,9 @@ fn flagged(a: &PropertyAnalysis) -> Vec<FlaggedCircuit> {
                 .iter()
                 .find(|c| c.board == f.board && &c.circuit.number == n)
         });
+        // The series' last reading, as measured and as corrected, with its own date (a step's
+        // finding rests on an earlier visit).
+        let last_point = series.and_then(|s| s.report.points.last());
         let finding = FlaggedFinding {
             quantity: f.quantity,
             label: match (ring_check, found, fact) {
@@ -811,6 +871,10 @@ fn flagged(a: &PropertyAnalysis) -> Vec<FlaggedCircuit> {
             reason: f.reason.clone(),
             last_value: f.last_value,
             last_date: f.last_date,
+            last_measured: last_point.map(|p| p.raw),
+            last_measured_date: last_point.map(|p| p.date),
+            last_at_20c: last_point.and_then(|p| p.ambient_c.map(|_| p.value)),
+            last_over_range: last_point.is_some_and(|p| p.censored),
             unit: found.map_or("", |x| x.quantity.unit()),
             limit: f.limit,
             limit_words: if ring_check {

@@ -9,8 +9,8 @@ use serde::Serialize;
 
 use super::css::CSS;
 use super::html::{PAGE_END, attr, count, esc, page_start, property_file_name, time};
-use super::model::{CAUTIONS, PropertyReport, SEVERITIES};
-use super::property::{badge, cautions};
+use super::model::{CAUTIONS, Contractor, PropertyReport, SEVERITIES};
+use super::property::{badge, cautions, letterhead};
 use crate::analysis::PropertyAnalysis;
 use crate::trend::{Finding, compare_urgency};
 
@@ -20,6 +20,8 @@ pub struct PortfolioReport {
     pub ohmtrail_version: &'static str,
     /// The client whose properties these are, as stored; `None` for the whole register.
     pub client: Option<String>,
+    /// Who made the index, from the `contractor.*` settings.
+    pub contractor: Option<Contractor>,
     pub properties: usize,
     /// Properties by their worst state.
     pub with_exceeds: usize,
@@ -121,6 +123,7 @@ pub fn assemble(mut entries: Vec<PortfolioEntry>, generated: NaiveDate) -> Portf
         generated,
         ohmtrail_version: env!("CARGO_PKG_VERSION"),
         client: None,
+        contractor: None,
         properties: entries.len(),
         with_exceeds: with("exceeds"),
         with_approaching: with("approaching"),
@@ -138,7 +141,9 @@ pub fn assemble(mut entries: Vec<PortfolioEntry>, generated: NaiveDate) -> Portf
 /// Render the index as HTML.
 pub fn render(p: &PortfolioReport) -> String {
     let mut o = page_start("Portfolio · wiring trend index", CSS);
-    o.push_str("<div class=\"page\">\n<header class=\"masthead\">\n<div>\n");
+    o.push_str("<div class=\"page\">\n");
+    letterhead(&mut o, p.contractor.as_ref());
+    o.push_str("<header class=\"masthead\">\n<div>\n");
     o.push_str("<p class=\"what\">Wiring condition over time</p>\n<h1>Portfolio index</h1>\n");
     let whose = p
         .client

@@ -6,9 +6,10 @@ use super::chart::{self, ChartSpec};
 use super::css::CSS;
 use super::html::{PAGE_END, attr, count, date_words, esc, page_start, reading, time, time_or};
 use super::model::{
-    BoardTable, Chart, FlaggedCircuit, FlaggedFinding, PropertyReport, VisitEntry, severity_words,
-    value_words,
+    BoardTable, Cell, Chart, CircuitRow, Contractor, FlaggedCircuit, FlaggedFinding, Header,
+    PropertyReport, Summary, VisitEntry, severity_words, value_words,
 };
+use chrono::NaiveDate;
 
 /// The chart's drawing size in pixels; CSS scales it to the column.
 const CHART_W: u32 = 720;
@@ -46,15 +47,17 @@ pub fn render(r: &PropertyReport) -> String {
     summary(&mut o, r);
     remedials(&mut o, r);
     findings(&mut o, r);
-    super::schedule::render(&mut o, &r.schedule);
-    boards(&mut o, r);
-    visits(&mut o, &r.visits);
-    method(&mut o, r);
-    // The general caution is in the summary, on the first page; the list gives the rest.
+    // The notes close the landlord's part; the figures for an electrician follow them, so
+    // the notes are never left alone on a last page. The general caution is in the summary,
+    // on the first page; the list gives the rest.
     cautions(
         &mut o,
         r.cautions.iter().filter(|c| c.as_str() != crate::CAUTION),
     );
+    super::schedule::render(&mut o, &r.schedule);
+    boards(&mut o, r);
+    visits(&mut o, &r.visits);
+    method(&mut o, r);
     o.push_str("</main>\n");
     let _ = writeln!(
         o,
@@ -69,8 +72,39 @@ pub fn render(r: &PropertyReport) -> String {
     o
 }
 
+/// The contractor's name, address, registration and logo above the masthead, when set.
+/// The logo is embedded as a data URL, so the page stays one self-contained file.
+pub(super) fn letterhead(o: &mut String, c: Option<&Contractor>) {
+    use base64::Engine as _;
+    let Some(c) = c else {
+        return;
+    };
+    o.push_str("<div class=\"letterhead\">");
+    if let Some(logo) = &c.logo {
+        let _ = write!(
+            o,
+            "<img class=\"logo\" alt=\"\" src=\"data:{};base64,{}\">",
+            if logo.svg {
+                "image/svg+xml"
+            } else {
+                "image/png"
+            },
+            base64::engine::general_purpose::STANDARD.encode(&logo.bytes)
+        );
+    }
+    o.push_str("<div>");
+    if let Some(n) = &c.name {
+        let _ = write!(o, "<p class=\"name\">{}</p>", esc(n));
+    }
+    for l in c.lines() {
+        let _ = write!(o, "<p>{}</p>", esc(&l));
+    }
+    o.push_str("</div></div>\n");
+}
+
 fn masthead(o: &mut String, r: &PropertyReport) {
     let h = &r.header;
+    letterhead(o, r.contractor.as_ref());
     o.push_str("<header class=\"masthead\">\n<div>\n");
     o.push_str("<p class=\"what\">Wiring condition over time</p>\n");
     let _ = writeln!(
@@ -88,32 +122,7 @@ fn masthead(o: &mut String, r: &PropertyReport) {
         "Client",
         esc(h.client.as_deref().unwrap_or("not recorded")),
     );
-    let boards: Vec<String> = h
-        .boards
-        .iter()
-        .filter(|b| b.in_service)
-        .map(|b| {
-            let mut s = esc(&b.designation);
-            let extra: Vec<String> = [b.location.as_deref(), b.earthing.as_deref()]
-                .into_iter()
-                .flatten()
-                .map(esc)
-                .collect();
-            if !extra.is_empty() {
-                let _ = write!(s, " ({})", extra.join(", "));
-            }
-            s
-        })
-        .collect();
-    fact(
-        o,
-        "Boards",
-        if boards.is_empty() {
-            "none recorded".into()
-        } else {
-            boards.join("; ")
-        },
-    );
+    fact(o, "Boards", esc(&boards_words(h)));
     fact(o, "Last visit", time_or(h.last_visit, "none yet"));
     if let Some(full) = h
         .last_full_inspection
@@ -153,17 +162,52 @@ fn masthead(o: &mut String, r: &PropertyReport) {
             ),
         );
     }
-    let s = &r.summary;
-    let recommended = match s.next_inspection {
-        Some(d) if s.next_inspection_overdue => format!("{} (now due)", time(d)),
-        Some(d) if s.next_inspection_shortened => format!("{} (brought forward)", time(d)),
-        Some(d) => time(d),
-        None => "arrange one".into(),
-    };
-    fact(o, "Next inspection recommended", recommended);
+    fact(
+        o,
+        "Next inspection recommended",
+        recommended_words(&r.summary, time),
+    );
     fact(o, "Report made", time(r.generated));
     fact(o, "ohmtrail", esc(r.ohmtrail_version));
     o.push_str("</dl>\n</header>\n");
+}
+
+/// After the caution in the summary: where the other notes are.
+pub(super) const SEE_THE_NOTES: &str = "See also “Please note” after the findings.";
+
+/// The recommended date of the next inspection in words, each date written by `date`.
+pub(super) fn recommended_words(s: &Summary, date: impl Fn(NaiveDate) -> String) -> String {
+    match s.next_inspection {
+        Some(d) if s.next_inspection_overdue => format!("{} (now due)", date(d)),
+        Some(d) if s.next_inspection_shortened => format!("{} (brought forward)", date(d)),
+        Some(d) => date(d),
+        None => "arrange one".into(),
+    }
+}
+
+/// The board facts beside the masthead: "CU1 (Hall cupboard, TN-C-S)", plain text.
+pub(super) fn boards_words(h: &Header) -> String {
+    let boards: Vec<String> = h
+        .boards
+        .iter()
+        .filter(|b| b.in_service)
+        .map(|b| {
+            let extra: Vec<&str> = [b.location.as_deref(), b.earthing.as_deref()]
+                .into_iter()
+                .flatten()
+                .collect();
+            if extra.is_empty() {
+                b.designation.clone()
+            } else {
+                format!("{} ({})", b.designation, extra.join(", "))
+            }
+        })
+        .collect();
+    if boards.is_empty() {
+        "none recorded".into()
+    } else {
+        boards.join("; ")
+    }
 }
 
 fn summary(o: &mut String, r: &PropertyReport) {
@@ -211,8 +255,9 @@ fn summary(o: &mut String, r: &PropertyReport) {
     o.push_str("</ol>\n");
     let _ = writeln!(
         o,
-        "<p class=\"small\"><strong>{}</strong> See “Please note” at the end.</p>",
-        esc(super::model::CAUTIONS[0])
+        "<p class=\"small\"><strong>{}</strong> {}</p>",
+        esc(crate::CAUTION),
+        esc(SEE_THE_NOTES)
     );
     let _ = writeln!(
         o,
@@ -299,6 +344,8 @@ fn flagged_circuit(o: &mut String, i: usize, f: &FlaggedCircuit) {
 }
 
 fn finding_block(o: &mut String, name: &str, f: &FlaggedFinding, repeat: bool) {
+    // A reason, its figures and its chart are one unit: printing never parts them.
+    o.push_str("<div class=\"part\">");
     let _ = writeln!(
         o,
         "<p class=\"reason\"><strong>{}:</strong> {}</p>",
@@ -306,39 +353,10 @@ fn finding_block(o: &mut String, name: &str, f: &FlaggedFinding, repeat: bool) {
         esc(&f.reason)
     );
     if repeat {
+        o.push_str("</div>\n");
         return;
     }
-    let mut facts = Vec::new();
-    // A recorded fact (polarity, test button) has no reading: its sentence gives the visit.
-    let recorded = crate::analysis::facts::label(f.quantity).is_some();
-    if f.kind != "ring_check" && !recorded {
-        facts.push(format!(
-            "last reading {} on {}",
-            esc(&value_words(f.last_value, f.unit, false)),
-            date_words(f.last_date)
-        ));
-    }
-    if let (Some(l), Some(w)) = (f.limit, &f.limit_words) {
-        facts.push(format!(
-            "limit {}: {}",
-            esc(&value_words(l, f.unit, false)),
-            esc(w)
-        ));
-    }
-    // The landlord's part cites the standard plainly; how sure each figure is (published,
-    // derived, from memory) is in the method section, for the electrician.
-    if let Some(s) = &f.limit_source {
-        facts.push(format!("source {}", esc(&s.citation)));
-    }
-    if let Some(d) = f.projected_date {
-        facts.push(format!(
-            "projected to reach the limit around {}{}",
-            d.format("%B %Y"),
-            f.projected_earliest
-                .map(|e| format!(", possibly as early as {}", e.format("%B %Y")))
-                .unwrap_or_default()
-        ));
-    }
+    let facts: Vec<String> = finding_facts(f).iter().map(|x| esc(x)).collect();
     let _ = writeln!(o, "<p class=\"sub\">{}</p>", facts.join(" · "));
     if let Some(c) = &f.chart {
         let title = format!("{name}: {} over the visits", c.title);
@@ -349,9 +367,53 @@ fn finding_block(o: &mut String, name: &str, f: &FlaggedFinding, repeat: bool) {
             esc(&caption(c))
         );
     }
+    o.push_str("</div>\n");
 }
 
-fn chart_spec(title: &str, c: &Chart) -> ChartSpec {
+/// A finding's figures as plain phrases: the last reading, the limit, the standard it comes
+/// from (cited plainly: how sure each figure is stays in the method section, for the
+/// electrician) and the projection.
+pub(super) fn finding_facts(f: &FlaggedFinding) -> Vec<String> {
+    let mut facts = Vec::new();
+    // Figures as measured first; a corrected figure is named as such. A recorded fact
+    // (polarity, test button) has no reading: its sentence gives the visit.
+    let recorded = crate::analysis::facts::label(f.quantity).is_some();
+    let on = date_words(f.last_measured_date.unwrap_or(f.last_date));
+    match (f.last_measured, f.last_at_20c) {
+        _ if f.kind == "ring_check" || recorded => {}
+        (Some(m), Some(c)) => facts.push(format!(
+            "last reading {} as measured on {on} ({} corrected to 20 °C)",
+            value_words(m, f.unit, f.last_over_range),
+            value_words(c, f.unit, f.last_over_range)
+        )),
+        (Some(m), None) => facts.push(format!(
+            "last reading {} as measured on {on}",
+            value_words(m, f.unit, f.last_over_range)
+        )),
+        (None, _) => facts.push(format!(
+            "last value {} on {on}",
+            value_words(f.last_value, f.unit, false)
+        )),
+    }
+    if let (Some(l), Some(w)) = (f.limit, &f.limit_words) {
+        facts.push(format!("limit {}: {w}", value_words(l, f.unit, false)));
+    }
+    if let Some(s) = &f.limit_source {
+        facts.push(format!("source {}", s.citation));
+    }
+    if let Some(d) = f.projected_date {
+        facts.push(format!(
+            "projected to reach the limit around {}{}",
+            d.format("%B %Y"),
+            f.projected_earliest
+                .map(|e| format!(", possibly as early as {}", e.format("%B %Y")))
+                .unwrap_or_default()
+        ));
+    }
+    facts
+}
+
+pub(super) fn chart_spec(title: &str, c: &Chart) -> ChartSpec {
     ChartSpec {
         title: title.to_string(),
         unit: c.unit.to_string(),
@@ -388,7 +450,7 @@ fn chart_spec(title: &str, c: &Chart) -> ChartSpec {
     }
 }
 
-fn caption(c: &Chart) -> String {
+pub(super) fn caption(c: &Chart) -> String {
     let mut parts = Vec::new();
     if let Some(b) = &c.basis {
         parts.push(capitalise(b));
@@ -426,16 +488,83 @@ fn boards(o: &mut String, r: &PropertyReport) {
     o.push_str("</section>\n");
 }
 
-fn board_table(o: &mut String, b: &BoardTable) {
-    let mut cap = format!("Board {}", esc(&b.designation));
-    let extra: Vec<String> = [b.location.as_deref(), b.earthing.as_deref()]
+/// "Board CU1 · Hall cupboard · TN-C-S", plain text.
+pub(super) fn board_caption(b: &BoardTable) -> String {
+    let mut cap = format!("Board {}", b.designation);
+    for extra in [b.location.as_deref(), b.earthing.as_deref()]
         .into_iter()
         .flatten()
-        .map(esc)
-        .collect();
-    if !extra.is_empty() {
-        let _ = write!(cap, " · {}", extra.join(" · "));
+    {
+        let _ = write!(cap, " · {extra}");
     }
+    cap
+}
+
+/// The lines under a circuit's number in the board table: its description, its kind and
+/// device, the rest of its schedule line where recorded, and when it was read.
+pub(super) fn circuit_lines(row: &CircuitRow) -> Vec<String> {
+    let mut lines = Vec::new();
+    if let Some(d) = &row.description {
+        lines.push(d.clone());
+    }
+    let mut meta = vec![row.kind.to_string()];
+    if let Some(d) = &row.device {
+        meta.push(d.clone());
+    }
+    lines.push(meta.join(", "));
+    let schedule = row.schedule.words();
+    if !schedule.is_empty() {
+        lines.push(schedule.join(" · "));
+    }
+    lines.push(match row.last_visit {
+        Some(d) => format!("read {}", d.format("%Y-%m-%d")),
+        None => "no readings".into(),
+    });
+    lines
+}
+
+/// A last reading as the board table shows it, and its margin to the limit with whether it
+/// is past: ("0.45", "39 % of max 1.16"), (">200", "200× min 1.0").
+pub(super) fn cell_words(c: &Cell) -> (String, Option<(String, bool)>) {
+    let mut v = if c.over_range {
+        format!(">{}", reading(c.raw, c.unit))
+    } else {
+        reading(c.raw, c.unit)
+    };
+    if c.calculated {
+        v.push_str(" calc.");
+    }
+    let margin = match (c.limit, c.share_of_limit_pct) {
+        (Some(l), Some(pct)) => {
+            let past = pct >= 100.0;
+            let text = if c.limit_kind == Some("min") {
+                // A minimum reads better as a multiple: "200× min 1.0".
+                let times = 100.0 / pct;
+                format!(
+                    "{}{}× min {}",
+                    if c.over_range { "≥" } else { "" },
+                    if times >= 10.0 {
+                        format!("{times:.0}")
+                    } else {
+                        format!("{times:.1}")
+                    },
+                    reading(l, c.unit)
+                )
+            } else {
+                format!("{pct:.0} % of max {}", reading(l, c.unit))
+            };
+            Some((
+                format!("{}{text}", if past { "▲ past: " } else { "" }),
+                past,
+            ))
+        }
+        _ => None,
+    };
+    (v, margin)
+}
+
+fn board_table(o: &mut String, b: &BoardTable) {
+    let cap = esc(&board_caption(b));
     let _ = writeln!(
         o,
         "<table>\n<caption>{cap}</caption>\n<thead><tr><th scope=\"col\">Circuit</th>"
@@ -451,63 +580,24 @@ fn board_table(o: &mut String, b: &BoardTable) {
     o.push_str("<th scope=\"col\">State</th></tr></thead>\n<tbody>\n");
     for row in &b.circuits {
         let mut circ = format!("<b>{}</b>", esc(&row.circuit));
-        if let Some(d) = &row.description {
-            let _ = write!(circ, "<span>{}</span>", esc(d));
-        }
-        let mut meta = vec![row.kind.to_string()];
-        if let Some(d) = &row.device {
-            meta.push(d.clone());
-        }
-        let _ = write!(circ, "<span>{}</span>", esc(&meta.join(", ")));
-        let schedule = row.schedule.words();
-        if !schedule.is_empty() {
-            let _ = write!(circ, "<span>{}</span>", esc(&schedule.join(" · ")));
-        }
-        match row.last_visit {
-            Some(d) => {
-                let _ = write!(circ, "<span>read {}</span>", d.format("%Y-%m-%d"));
-            }
-            None => circ.push_str("<span>no readings</span>"),
+        for line in circuit_lines(row) {
+            let _ = write!(circ, "<span>{}</span>", esc(&line));
         }
         let _ = write!(o, "<tr><td class=\"circ\">{circ}</td>");
         for col in &b.columns {
             match row.cells.get(col.label) {
                 None => o.push_str("<td class=\"num\">–</td>"),
                 Some(c) => {
-                    let v = if c.over_range {
-                        format!("&gt;{}", reading(c.raw, c.unit))
-                    } else {
-                        reading(c.raw, c.unit)
+                    let (v, margin) = cell_words(c);
+                    let margin = match margin {
+                        Some((text, past)) => format!(
+                            "<span class=\"m{}\">{}</span>",
+                            if past { " past" } else { "" },
+                            esc(&text)
+                        ),
+                        None => String::new(),
                     };
-                    let calc = if c.calculated { " calc." } else { "" };
-                    let margin = match (c.limit, c.share_of_limit_pct) {
-                        (Some(l), Some(pct)) => {
-                            let past = pct >= 100.0;
-                            let text = if c.limit_kind == Some("min") {
-                                // A minimum reads better as a multiple: "200× min 1.0".
-                                let times = 100.0 / pct;
-                                format!(
-                                    "{}{}× min {}",
-                                    if c.over_range { "≥" } else { "" },
-                                    if times >= 10.0 {
-                                        format!("{times:.0}")
-                                    } else {
-                                        format!("{times:.1}")
-                                    },
-                                    reading(l, c.unit)
-                                )
-                            } else {
-                                format!("{pct:.0} % of max {}", reading(l, c.unit))
-                            };
-                            format!(
-                                "<span class=\"m{}\">{}{text}</span>",
-                                if past { " past" } else { "" },
-                                if past { "▲ past: " } else { "" },
-                            )
-                        }
-                        _ => String::new(),
-                    };
-                    let _ = write!(o, "<td class=\"num\">{v}{calc}{margin}</td>");
+                    let _ = write!(o, "<td class=\"num\">{}{margin}</td>", esc(&v));
                 }
             }
         }
@@ -537,6 +627,44 @@ fn board_table(o: &mut String, b: &BoardTable) {
     }
 }
 
+/// The note under the remedial table: where the due date comes from and what making safe
+/// leaves to do. Shared by the HTML and the PDF.
+pub(super) const REMEDIAL_BASIS: &str = "Due: 28 days starting with the inspection date, or the \
+    shorter period the report gives (The Electrical Safety Standards in the Private Rented \
+    Sector (England) Regulations 2020, regulation 3(4)). Making safe does not end the duty: the \
+    remedial work or investigation itself is required.";
+
+/// One open remedial item in words, as plain text: where, the time left or overdue (and
+/// whether it is overdue), and its status. Shared by the HTML and the PDF.
+pub(super) fn remedial_words(
+    i: &crate::analysis::remedial::RemedialItem,
+) -> (String, Option<(String, bool)>, String) {
+    let place = match (&i.board, &i.circuit) {
+        (Some(b), Some(c)) => format!("{b}/{c}: "),
+        (Some(b), None) => format!("{b}: "),
+        _ => String::new(),
+    };
+    let days = match i.days_left {
+        Some(n) if n < 0 => Some((
+            format!("▲ {} overdue", count((-n) as usize, "day", "days")),
+            true,
+        )),
+        Some(0) => Some(("due today".into(), false)),
+        Some(n) => Some((format!("{} left", count(n as usize, "day", "days")), false)),
+        None => None,
+    };
+    let status = match i.work_events().last() {
+        Some(e) => format!(
+            "made safe on {} by {}; the {} is still required",
+            e.date.map(date_words).unwrap_or_default(),
+            e.by.as_deref().unwrap_or(""),
+            i.work_words()
+        ),
+        None => "open".into(),
+    };
+    (place, days, status)
+}
+
 /// Remedial work still to do, with its due date: only when there is some.
 fn remedials(o: &mut String, r: &PropertyReport) {
     if r.open_remedials.is_empty() {
@@ -550,47 +678,42 @@ fn remedials(o: &mut String, r: &PropertyReport) {
          <th scope=\"col\">Status</th></tr></thead>\n<tbody>\n",
     );
     for i in &r.open_remedials {
-        let place = match (&i.board, &i.circuit) {
-            (Some(b), Some(c)) => format!("{}/{}: ", esc(b), esc(c)),
-            (Some(b), None) => format!("{}: ", esc(b)),
-            _ => String::new(),
-        };
-        let days = match i.days_left {
-            Some(n) if n < 0 => format!(
-                "<strong>▲ {} overdue</strong>",
-                count((-n) as usize, "day", "days")
-            ),
-            Some(0) => "due today".into(),
-            Some(n) => format!("{} left", count(n as usize, "day", "days")),
+        let (place, days, status) = remedial_words(i);
+        let days = match days {
+            Some((t, true)) => format!("<strong>{}</strong>", esc(&t)),
+            Some((t, false)) => esc(&t),
             None => String::new(),
-        };
-        let status = match i.work_events().last() {
-            Some(e) => format!(
-                "made safe on {} by {}; the {} is still required",
-                e.date.map(time).unwrap_or_default(),
-                esc(e.by.as_deref().unwrap_or("")),
-                i.work_words()
-            ),
-            None => "open".into(),
         };
         let _ = writeln!(
             o,
-            "<tr><td>{}</td><td>{}</td><td><span class=\"code\">{}</span> {place}{}</td>\
-             <td>{}<br><span class=\"small\">{days}</span></td><td>{status}</td></tr>",
+            "<tr><td>{}</td><td>{}</td><td><span class=\"code\">{}</span> {}{}</td>\
+             <td>{}<br><span class=\"small\">{days}</span></td><td>{}</td></tr>",
             i.observation,
             time(i.inspected),
             i.code.as_str(),
+            esc(&place),
             esc(&i.text),
             time(i.due),
+            esc(&status),
         );
     }
     o.push_str("</tbody>\n</table>\n");
-    o.push_str(
-        "<p class=\"small\">Due: 28 days starting with the inspection date, or the shorter \
-         period the report gives (The Electrical Safety Standards in the Private Rented Sector \
-         (England) Regulations 2020, regulation 3(4)). Making safe does not end the duty: the \
-         remedial work or investigation itself is required.</p>\n</section>\n",
+    let _ = writeln!(
+        o,
+        "<p class=\"small\">{}</p>\n</section>",
+        esc(REMEDIAL_BASIS)
     );
+}
+
+/// A visit's instrument, what is known of its calibration, and whether it had lapsed; `None`
+/// when no instrument was recorded.
+pub(super) fn instrument_words(v: &VisitEntry) -> Option<(String, &'static str, bool)> {
+    let i = v.instrument.clone()?;
+    Some(match v.instrument_in_calibration {
+        Some(true) => (i, "in calibration", false),
+        Some(false) => (i, "▲ calibration had lapsed", true),
+        None => (i, "calibration not recorded", false),
+    })
 }
 
 fn visits(o: &mut String, visits: &[VisitEntry]) {
@@ -607,18 +730,16 @@ fn visits(o: &mut String, visits: &[VisitEntry]) {
          <th scope=\"col\">Observations as recorded</th></tr></thead>\n<tbody>\n",
     );
     for v in visits.iter().rev() {
-        let instrument = match (&v.instrument, v.instrument_in_calibration) {
-            (None, _) => "not recorded".to_string(),
-            (Some(i), Some(true)) => {
-                format!("{}<br><span class=\"small\">in calibration</span>", esc(i))
-            }
-            (Some(i), Some(false)) => format!(
-                "{}<br><span class=\"small\"><strong>▲ calibration had lapsed</strong></span>",
-                esc(i)
-            ),
-            (Some(i), None) => format!(
-                "{}<br><span class=\"small\">calibration not recorded</span>",
-                esc(i)
+        let instrument = match instrument_words(v) {
+            None => "not recorded".to_string(),
+            Some((name, note, lapsed)) => format!(
+                "{}<br><span class=\"small\">{}</span>",
+                esc(&name),
+                if lapsed {
+                    format!("<strong>{}</strong>", esc(note))
+                } else {
+                    esc(note)
+                }
             ),
         };
         let obs = if v.observations.is_empty() {
@@ -664,36 +785,53 @@ fn visits(o: &mut String, visits: &[VisitEntry]) {
 }
 
 /// A visit's report in the inspector's words: outcome, reference, interval, extent and
-/// limitations, each as recorded.
-fn recorded_report(r: &crate::model::VisitReport) -> String {
-    let mut parts: Vec<String> = Vec::new();
+/// limitations, each as recorded; `true` marks the parts shown small.
+pub(super) fn report_lines(r: &crate::model::VisitReport) -> Vec<(String, bool)> {
+    let mut parts = Vec::new();
     if let Some(out) = &r.outcome {
-        parts.push(format!(
-            "<strong>{}</strong> <span class=\"small\">({})</span>",
-            esc(out),
-            super::schedule::OUTCOME_LABEL
-        ));
+        parts.push((out.clone(), false));
+        parts.push((format!("({})", super::schedule::OUTCOME_LABEL), true));
     }
     if let Some(x) = &r.report_ref {
-        parts.push(format!("report {}", esc(x)));
+        parts.push((format!("report {x}"), false));
     }
     if let Some(m) = r.interval_months {
-        parts.push(format!("next in {m} months"));
+        parts.push((format!("next in {m} months"), false));
     }
     if let Some(x) = &r.extent {
-        parts.push(format!("<span class=\"small\">extent: {}</span>", esc(x)));
+        parts.push((format!("extent: {x}"), true));
     }
     if let Some(x) = &r.limitations {
-        parts.push(format!(
-            "<span class=\"small\">limitations: {}</span>",
-            esc(x)
-        ));
+        parts.push((format!("limitations: {x}"), true));
     }
-    if parts.is_empty() {
-        "<span class=\"small\">not recorded</span>".into()
-    } else {
-        parts.join("<br>")
+    parts
+}
+
+fn recorded_report(r: &crate::model::VisitReport) -> String {
+    let lines = report_lines(r);
+    if lines.is_empty() {
+        return "<span class=\"small\">not recorded</span>".into();
     }
+    let mut out = String::new();
+    let mut first = true;
+    for (i, (t, small)) in lines.iter().enumerate() {
+        // The outcome and its label share a line, as before.
+        let label = i == 1 && r.outcome.is_some();
+        if !first {
+            out.push_str(if label { " " } else { "<br>" });
+        }
+        first = false;
+        match (small, i == 0 && r.outcome.is_some()) {
+            (true, _) => {
+                let _ = write!(out, "<span class=\"small\">{}</span>", esc(t));
+            }
+            (false, true) => {
+                let _ = write!(out, "<strong>{}</strong>", esc(t));
+            }
+            (false, false) => out.push_str(&esc(t)),
+        }
+    }
+    out
 }
 
 fn method(o: &mut String, r: &PropertyReport) {

@@ -287,6 +287,37 @@ fn supply_series(a: &PropertyAnalysis, visits: &[&Visit]) -> SupplySeries {
     }
 }
 
+/// The latest report's parts as recorded, each with what it is; the outcome and interval
+/// labelled as the inspector's.
+pub(super) fn report_facts(r: &RecordedReport) -> Vec<Fact> {
+    let mut facts = vec![];
+    let text = |what: &'static str, v: &Option<String>| {
+        v.as_ref().map(|t| Fact {
+            what,
+            value: t.clone(),
+            date: None,
+        })
+    };
+    facts.extend(text("Report reference", &r.report_ref));
+    if let Some(out) = &r.outcome {
+        facts.push(Fact {
+            what: "Overall outcome",
+            value: format!("{out} ({})", r.outcome_label),
+            date: None,
+        });
+    }
+    if let Some(m) = r.interval_months {
+        facts.push(Fact {
+            what: "Interval recommended",
+            value: format!("{m} months ({})", r.outcome_label),
+            date: None,
+        });
+    }
+    facts.extend(text("Extent covered", &r.extent));
+    facts.extend(text("Agreed limitations", &r.limitations));
+    facts
+}
+
 fn facts_dl(o: &mut String, facts: &[Fact]) {
     o.push_str("<dl class=\"facts\">\n");
     for f in facts {
@@ -308,31 +339,7 @@ pub(super) fn render(o: &mut String, s: &ScheduleSection) {
             "<p>No visit on record gives its report's reference, outcome or interval.</p>\n",
         ),
         Some(r) => {
-            let mut facts = vec![];
-            let text = |what: &'static str, v: &Option<String>| {
-                v.as_ref().map(|t| Fact {
-                    what,
-                    value: t.clone(),
-                    date: None,
-                })
-            };
-            facts.extend(text("Report reference", &r.report_ref));
-            if let Some(out) = &r.outcome {
-                facts.push(Fact {
-                    what: "Overall outcome",
-                    value: format!("{out} ({})", r.outcome_label),
-                    date: None,
-                });
-            }
-            if let Some(m) = r.interval_months {
-                facts.push(Fact {
-                    what: "Interval recommended",
-                    value: format!("{m} months ({})", r.outcome_label),
-                    date: None,
-                });
-            }
-            facts.extend(text("Extent covered", &r.extent));
-            facts.extend(text("Agreed limitations", &r.limitations));
+            let facts = report_facts(r);
             let _ = writeln!(
                 o,
                 "<p>The latest report recorded, at the visit of {}:</p>",
